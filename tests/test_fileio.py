@@ -1,0 +1,74 @@
+"""Reading input files safely and writing outputs atomically."""
+
+from __future__ import annotations
+
+import os
+
+import pytest
+
+from vascplan.errors import InputError
+from vascplan.fileio import atomic_write_text, output_inside, read_document
+
+
+def _err(tmp_path, name: str, content: bytes) -> str:
+    p = tmp_path / name
+    p.write_bytes(content)
+    with pytest.raises(InputError) as exc:
+        read_document(p)
+    return str(exc.value).replace(str(p), name)
+
+
+def test_yaml_syntax_error_names_line(tmp_path):
+    assert _err(tmp_path, "c.yaml", b"a: 1\nb: [1, 2\n") .startswith("c.yaml: line ")
+
+
+def test_duplicate_key(tmp_path):
+    msg = _err(tmp_path, "c.yaml", b"a: 1\na: 2\n")
+    assert msg == "c.yaml: line 2: YAML error: duplicate key 'a' (first on line 1)"
+
+
+def test_duplicate_key_json(tmp_path):
+    assert _err(tmp_path, "c.json", b'{"a": 1, "a": 2}') == "c.json: JSON error: duplicate key 'a'"
+
+
+def test_empty_file(tmp_path):
+    assert _err(tmp_path, "c.yaml", b"  \n") == "c.yaml: file is empty"
+
+
+def test_not_utf8(tmp_path):
+    msg = _err(tmp_path, "c.yaml", b"ref: caf\xe9\n")
+    assert msg == "c.yaml: not UTF-8 text (byte 8 cannot be decoded); save the file as UTF-8"
+
+
+def test_too_large(tmp_path):
+    msg = _err(tmp_path, "c.yaml", b"#" * 2_000_001)
+    assert msg == "c.yaml: file is 2,000,001 bytes, far too large (at most 2,000,000 bytes)"
+
+
+def test_yaml_tags_refused(tmp_path):
+    msg = _err(tmp_path, "c.yaml", b"a: !!python/object/apply:os.system ['true']\n")
+    assert msg.startswith("c.yaml: line 1: YAML error:")
+
+
+def test_timestamps_stay_strings(tmp_path):
+    p = tmp_path / "u.yaml"
+    p.write_text("t: 2026-12-01T14:20\n")
+    assert read_document(p) == {"t": "2026-12-01T14:20"}
+
+
+def test_atomic_write_leaves_old_file_on_failure(tmp_path, monkeypatch):
+    target = tmp_path / "out.txt"
+    atomic_write_text(target, "old")
+
+    def boom(*_a):
+        raise OSError("disk full")
+
+    monkeypatch.setattr(os, "replace", boom)
+    with pytest.raises(OSError):
+        atomic_write_text(target, "new")
+    assert target.read_text() == "old"
+    assert [p.name for p in tmp_path.iterdir()] == ["out.txt"]
+
+
+def test_output_inside_cannot_escape(tmp_path):
+    assert output_inside(tmp_path, "../../x.pdf").parent == tmp_path.resolve()

@@ -1,0 +1,3 @@
+from vascplan.cli import main
+
+main()

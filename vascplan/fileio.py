@@ -1,0 +1,238 @@
+"""Reading case, unit and protocol files safely, and writing outputs atomically.
+
+One place for what every input file needs: a size cap, UTF-8, YAML through a safe
+loader that refuses duplicate keys, JSON likewise, and turning a pydantic
+``ValidationError`` into one :class:`~vascplan.errors.InputError` line.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+import re
+import tempfile
+from collections.abc import Iterable
+from pathlib import Path
+from typing import Any, TypeVar
+
+import yaml
+from pydantic import BaseModel, ValidationError
+
+from vascplan.errors import InputError
+
+MAX_INPUT_BYTES = 2_000_000
+"""A case or unit file larger than this is refused (a real one is a few kB)."""
+
+M = TypeVar("M", bound=BaseModel)
+
+
+class _UniqueKeyLoader(yaml.SafeLoader):
+    """A safe YAML loader that refuses a mapping with the same key twice."""
+
+
+def _construct_mapping(loader: _UniqueKeyLoader, node: yaml.MappingNode, deep: bool = False) -> dict:
+    seen: dict[Any, int] = {}
+    for key_node, _ in node.value:
+        key = loader.construct_object(key_node, deep=deep)
+        if key in seen:
+            raise yaml.constructor.ConstructorError(
+                None,
+                None,
+                f"duplicate key {key!r} (first on line {seen[key] + 1})",
+                key_node.start_mark,
+            )
+        seen[key] = key_node.start_mark.line
+    return yaml.SafeLoader.construct_mapping(loader, node, deep=deep)
+
+
+_UniqueKeyLoader.add_constructor(
+    yaml.resolver.BaseResolver.DEFAULT_MAPPING_TAG, _construct_mapping
+)
+# Timestamps stay strings: the models parse them with the unit's time zone.
+_UniqueKeyLoader.yaml_implicit_resolvers = {
+    first: [(tag, rx) for tag, rx in resolvers if tag != "tag:yaml.org,2002:timestamp"]
+    for first, resolvers in yaml.SafeLoader.yaml_implicit_resolvers.items()
+}
+
+
+def _json_pairs(pairs: list[tuple[str, Any]]) -> dict:
+    out: dict[str, Any] = {}
+    for key, value in pairs:
+        if key in out:
+            raise ValueError(f"duplicate key {key!r}")
+        out[key] = value
+    return out
+
+
+def read_document(path: str | os.PathLike[str], *, max_bytes: int = MAX_INPUT_BYTES) -> Any:
+    """Read a YAML or JSON file into plain Python data.
+
+    Parameters
+    ----------
+    path : path-like
+        ``.json`` files are read as JSON; anything else as YAML (JSON is valid YAML).
+    max_bytes : int
+        Files larger than this are refused without being read whole.
+
+    Raises
+    ------
+    InputError
+        Missing, too large, not UTF-8, empty, a syntax error (with its line) or a
+        duplicate key.
+    """
+    p = Path(path)
+    src = str(path)
+    try:
+        size = p.stat().st_size
+    except FileNotFoundError:
+        raise InputError(src, "", "file not found") from None
+    except OSError as exc:
+        raise InputError(src, "", f"cannot read file ({exc.strerror})") from None
+    if p.is_dir():
+        raise InputError(src, "", "is a folder, expected a YAML or JSON file")
+    if size > max_bytes:
+        raise InputError(
+            src, "", f"file is {size:,} bytes, far too large (at most {max_bytes:,} bytes)"
+        )
+    raw = p.read_bytes()
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise InputError(
+            src, "", f"not UTF-8 text (byte {exc.start} cannot be decoded); save the file as UTF-8"
+        ) from None
+    if text.startswith("\ufeff"):
+        text = text[1:]
+    if not text.strip():
+        raise InputError(src, "", "file is empty")
+    if p.suffix.lower() == ".json":
+        try:
+            data = json.loads(text, object_pairs_hook=_json_pairs)
+        except json.JSONDecodeError as exc:
+            raise InputError(src, f"line {exc.lineno}", f"JSON syntax error: {exc.msg}") from None
+        except ValueError as exc:
+            raise InputError(src, "", f"JSON error: {exc}") from None
+    else:
+        try:
+            data = yaml.load(text, Loader=_UniqueKeyLoader)  # noqa: S506 - safe loader subclass
+        except yaml.MarkedYAMLError as exc:
+            mark = exc.problem_mark or exc.context_mark
+            line = f"line {mark.line + 1}" if mark is not None else ""
+            problem = exc.problem or exc.context or "syntax error"
+            raise InputError(src, line, f"YAML error: {problem}") from None
+        except yaml.YAMLError as exc:
+            raise InputError(src, "", f"YAML error: {exc}") from None
+    if data is None:
+        raise InputError(src, "", "file holds no data")
+    return data
+
+
+def field_path(loc: Iterable[Any]) -> str:
+    """Join a pydantic error location into a dotted path (``lesions.0.start_cm``)."""
+    return ".".join(str(part) for part in loc)
+
+
+def input_error_from_validation(source: str, exc: ValidationError) -> InputError:
+    """Turn the first error of a pydantic ``ValidationError`` into one clear line."""
+    err = exc.errors(include_url=False)[0]
+    loc = [p for p in err.get("loc", ()) if not (isinstance(p, str) and p.startswith("function-"))]
+    msg = err.get("msg", "invalid value")
+    if msg.startswith("Value error, "):
+        msg = msg[len("Value error, ") :]
+    if err.get("type") == "extra_forbidden":
+        msg = "unknown field"
+        ctx = err.get("ctx") or {}
+        if "suggest" in ctx:
+            msg += f" (did you mean {ctx['suggest']!r}?)"
+    elif err.get("type") == "missing":
+        msg = "required field is missing"
+    value = err.get("input")
+    if err.get("type") not in ("missing", "extra_forbidden") and isinstance(
+        value, str | int | float | bool
+    ):
+        msg = f"{msg} (got {value!r})"
+    return InputError(source, field_path(loc), msg)
+
+
+def load_model(path: str | os.PathLike[str], model: type[M], **context: Any) -> M:
+    """Read ``path`` and validate it as ``model``; every failure is an InputError."""
+    data = read_document(path)
+    return validate_data(str(path), data, model, **context)
+
+
+def validate_data(source: str, data: Any, model: type[M], **context: Any) -> M:
+    """Validate already-read data as ``model``; every failure is an InputError."""
+    if not isinstance(data, dict):
+        raise InputError(source, "", f"expected a mapping of fields at the top, got {type(data).__name__}")
+    try:
+        return model.model_validate(data, context={"source": source, **context})
+    except ValidationError as exc:
+        raise input_error_from_validation(source, exc) from None
+
+
+def did_you_mean(word: str, choices: Iterable[str]) -> str:
+    """Return `` (did you mean 'X'?)`` for the closest choice, or an empty string."""
+    import difflib
+
+    close = difflib.get_close_matches(word, list(choices), n=1, cutoff=0.5)
+    return f" (did you mean {close[0]!r}?)" if close else ""
+
+
+# ---------------------------------------------------------------------------
+# Output
+
+
+def atomic_write_bytes(path: str | os.PathLike[str], data: bytes, mode: int = 0o644) -> Path:
+    """Write ``data`` to ``path`` through a temporary file renamed into place.
+
+    A failure part-way leaves the previous file (or none), never a half-written one.
+    """
+    target = Path(path)
+    target.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent)
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.chmod(tmp, mode)
+        os.replace(tmp, target)
+    except BaseException:
+        try:
+            os.unlink(tmp)
+        except FileNotFoundError:
+            pass
+        raise
+    return target
+
+
+def atomic_write_text(path: str | os.PathLike[str], text: str, mode: int = 0o644) -> Path:
+    """Write UTF-8 text atomically (see :func:`atomic_write_bytes`)."""
+    return atomic_write_bytes(path, text.encode("utf-8"), mode)
+
+
+_UNSAFE = re.compile(r"[^A-Za-z0-9._-]+")
+
+
+def safe_filename(text: str, default: str = "unnamed") -> str:
+    """Turn user text (a patient ref) into a file name that stays in its folder.
+
+    >>> safe_filename("DEMO-07")
+    'DEMO-07'
+    >>> safe_filename("../../etc/passwd")
+    'etc_passwd'
+    >>> safe_filename("<b>&</b>")
+    'b_b'
+    """
+    name = _UNSAFE.sub("_", text).strip("._-")
+    name = re.sub(r"\.{2,}", ".", name)
+    return name[:80] or default
+
+
+def output_inside(folder: str | os.PathLike[str], name: str) -> Path:
+    """Return ``folder/name`` after checking that it cannot escape ``folder``."""
+    base = Path(folder).resolve()
+    target = (base / safe_filename(name)).resolve()
+    if base != target.parent:
+        raise InputError(str(folder), "", f"output name {name!r} would leave the folder")
+    return target
