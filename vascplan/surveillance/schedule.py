@@ -70,7 +70,9 @@ def _aware(value: datetime, name: str) -> datetime:
     return value.astimezone(UTC)
 
 
-def _events(patient: Patient, protocol: Protocol, until: datetime) -> list[tuple[datetime, int, str, str]]:
+def _events(
+    patient: Patient, protocol: Protocol, until: datetime
+) -> list[tuple[datetime, int, str, str]]:
     """Phase-changing moments after insertion: (utc, order, kind, tier)."""
     dev = patient.device
     out: list[tuple[datetime, int, str, str]] = []
