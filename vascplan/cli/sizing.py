@@ -29,9 +29,7 @@ class _Positive(click.ParamType):
         except (TypeError, ValueError):
             number = math.nan
         if not math.isfinite(number) or number <= 0.0:
-            raise InputError(
-                option, "", f"must be a positive number of {self.unit}, got {value!r}"
-            )
+            raise InputError(option, "", f"must be a positive number of {self.unit}, got {value!r}")
         return number
 
 
@@ -43,18 +41,38 @@ EPILOG = (
 
 
 @click.command("sheath-flow", epilog=EPILOG)
-@click.option("--vessel-mm", type=_Positive("mm"), help="Minimal lumen diameter of the artery the device occupies [mm].")
+@click.option(
+    "--vessel-mm",
+    type=_Positive("mm"),
+    help="Minimal lumen diameter of the artery the device occupies [mm].",
+)
 @click.option("--device-fr", type=_Positive("Fr"), help="Device size label [Fr].")
 @click.option(
     "--label",
     type=click.Choice(["outer", "inner"]),
     help="outer: catheter or cannula (labelled by outer size); inner: introducer sheath.",
 )
-@click.option("--occupied-cm", type=_Positive("cm"), help="Length of artery the device occupies [cm].")
-@click.option("--outer-mm", type=_Positive("mm"), default=None, help="Measured outer diameter of the device [mm]; overrides the label.")
-@click.option("--dpc-fr", type=_Positive("Fr"), default=None, help="Distal perfusion cannula size [Fr].")
-@click.option("--dpc-cm", type=_Positive("cm"), default=None, help="Distal perfusion cannula length [cm].")
-@click.option("--driving-mmhg", type=_Positive("mmHg"), default=None, help="Pressure driving the cannula flow: return line minus distal artery [mmHg].")
+@click.option(
+    "--occupied-cm", type=_Positive("cm"), help="Length of artery the device occupies [cm]."
+)
+@click.option(
+    "--outer-mm",
+    type=_Positive("mm"),
+    default=None,
+    help="Measured outer diameter of the device [mm]; overrides the label.",
+)
+@click.option(
+    "--dpc-fr", type=_Positive("Fr"), default=None, help="Distal perfusion cannula size [Fr]."
+)
+@click.option(
+    "--dpc-cm", type=_Positive("cm"), default=None, help="Distal perfusion cannula length [cm]."
+)
+@click.option(
+    "--driving-mmhg",
+    type=_Positive("mmHg"),
+    default=None,
+    help="Pressure driving the cannula flow: return line minus distal artery [mmHg].",
+)
 @click.option(
     "--dpc-label",
     type=click.Choice(["outer", "inner"]),
@@ -62,10 +80,27 @@ EPILOG = (
     show_default=True,
     help="inner when a sheath serves as the perfusion line.",
 )
-@click.option("--limb-flow-ml-min", type=_Positive("mL/min"), default=None, help="Resting limb flow [mL/min]; default from data/sizing/limb_defaults.yaml.")
-@click.option("--perfusion-mmhg", type=_Positive("mmHg"), default=None, help="Perfusion pressure across the leg [mmHg]; default likewise.")
-@click.option("--viscosity-mpa-s", type=_Positive("mPa s"), default=None, help="Blood viscosity [mPa s]; default 3.5.")
-@click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
+@click.option(
+    "--limb-flow-ml-min",
+    type=_Positive("mL/min"),
+    default=None,
+    help="Resting limb flow [mL/min]; default from data/sizing/limb_defaults.yaml.",
+)
+@click.option(
+    "--perfusion-mmhg",
+    type=_Positive("mmHg"),
+    default=None,
+    help="Perfusion pressure across the leg [mmHg]; default likewise.",
+)
+@click.option(
+    "--viscosity-mpa-s",
+    type=_Positive("mPa s"),
+    default=None,
+    help="Blood viscosity [mPa s]; default 3.5.",
+)
+@click.option(
+    "--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True
+)
 def sheath_flow(
     vessel_mm: float | None,
     device_fr: float | None,
@@ -103,15 +138,24 @@ def sheath_flow(
     if given and len(given) < 3:
         missing = [k for k in dpc if k not in given]
         raise InputError(
-            missing[0], "", f"is needed with {' and '.join(given)} (give all three cannula options or none)"
+            missing[0],
+            "",
+            f"is needed with {' and '.join(given)} (give all three cannula options or none)",
         )
     assert vessel_mm is not None and device_fr is not None and occupied_cm is not None
     try:
         result = assess_sheath_flow(
-            vessel_mm, device_fr, label, occupied_cm,  # type: ignore[arg-type]
-            outer_mm=outer_mm, dpc_fr=dpc_fr, dpc_cm=dpc_cm, driving_mmhg=driving_mmhg,
+            vessel_mm,
+            device_fr,
+            label,
+            occupied_cm,  # type: ignore[arg-type]
+            outer_mm=outer_mm,
+            dpc_fr=dpc_fr,
+            dpc_cm=dpc_cm,
+            driving_mmhg=driving_mmhg,
             dpc_label=dpc_label,  # type: ignore[arg-type]
-            limb_flow_ml_min=limb_flow_ml_min, perfusion_mmhg=perfusion_mmhg,
+            limb_flow_ml_min=limb_flow_ml_min,
+            perfusion_mmhg=perfusion_mmhg,
             viscosity_pa_s=None if viscosity_mpa_s is None else viscosity_mpa_s / 1000.0,
         )
     except ValueError as exc:
@@ -127,9 +171,11 @@ def render_table(result: Any) -> str:
     limb = result.limb
     th = result.sar_threshold
     side = "at or above" if result.sar_at_or_above_threshold else "below"
-    od_note = {"measured": "measured", "label": "from the label", "wall-allowance": f"assumed {REFERENCE_MARK}"}[
-        result.device_od.source
-    ]
+    od_note = {
+        "measured": "measured",
+        "label": "from the label",
+        "wall-allowance": f"assumed {REFERENCE_MARK}",
+    }[result.device_od.source]
     open_mm2 = math.pi * result.vessel_mm**2 / 4.0
     lines = [
         f"Device {result.device_fr:g} Fr ({result.label} label) in a {result.vessel_mm:.2f} mm "
@@ -152,7 +198,9 @@ def render_table(result: Any) -> str:
             f"{d.velocity_m_s:.2f} m/s, Re {d.reynolds:.0f}, {d.regime})"
         )
     else:
-        lines.append("  perfusion cannula      not described (give --dpc-fr, --dpc-cm, --driving-mmhg)")
+        lines.append(
+            "  perfusion cannula      not described (give --dpc-fr, --dpc-cm, --driving-mmhg)"
+        )
     lines += ["", "Assumptions:"]
     lines += [f"  - {a}" for a in result.assumptions]
     lines += ["", f"Caution: {CAUTION}"]

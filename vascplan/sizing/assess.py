@@ -189,8 +189,12 @@ def assess_sheath_flow(
             "(1 Fr = 1/3 mm)."
         )
     limb = limb_flow_with_device(
-        vessel_mm, od.mm, occupied_cm, limb_flow_ml_min=limb_flow_ml_min,
-        perfusion_mmhg=perfusion_mmhg, viscosity_pa_s=viscosity_pa_s,
+        vessel_mm,
+        od.mm,
+        occupied_cm,
+        limb_flow_ml_min=limb_flow_ml_min,
+        perfusion_mmhg=perfusion_mmhg,
+        viscosity_pa_s=viscosity_pa_s,
     )
     assumptions.extend(limb.assumptions)
     dpc = None

@@ -241,10 +241,18 @@ def cannula_flow(
     rel = rough / d_mm
 
     def residual(q: float) -> float:
-        return flow.pipe_pressure_drop(
-            q, d, length, density_kg_m3=rho, viscosity_pa_s=mu,
-            relative_roughness=rel, minor_k=k,
-        ) - dp
+        return (
+            flow.pipe_pressure_drop(
+                q,
+                d,
+                length,
+                density_kg_m3=rho,
+                viscosity_pa_s=mu,
+                relative_roughness=rel,
+                minor_k=k,
+            )
+            - dp
+        )
 
     # Upper bound: the laminar friction alone is never larger than the true loss.
     q_high = dp / flow.tube_resistance(d, length, mu) * 1.01

@@ -43,8 +43,9 @@ Fluid Flow*, section on the eccentric annulus (from memory).
 """
 
 
-def _axis_hit(px: np.ndarray, py: np.ndarray, dx: float, dy: float, cx: float, r: float,
-              inside: bool) -> np.ndarray:
+def _axis_hit(
+    px: np.ndarray, py: np.ndarray, dx: float, dy: float, cx: float, r: float, inside: bool
+) -> np.ndarray:
     """Distance along (dx, dy) from points to the circle (cx, 0, r); inf when missed.
 
     ``inside`` says whether the points lie inside the circle (the ray then always
@@ -274,7 +275,7 @@ def touching_annulus_factor(kappa: float) -> float:
         return 1.0
     if kappa == 1.0:
         return 0.0
-    return float(_touching_interpolant()(kappa)) * (1.0 - kappa) ** 3
+    return min(1.0, float(_touching_interpolant()(kappa)) * (1.0 - kappa) ** 3)
 
 
 @lru_cache(maxsize=512)

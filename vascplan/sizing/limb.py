@@ -169,8 +169,19 @@ def limb_flow_with_device(
             "artery would have to stretch for the device to fit at all."
         )
         return LimbFlowEstimate(
-            vessel_mm, device_od_mm, occupied_cm, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0,
-            q_base_ml_min, p_mmhg, 0.0, assumptions,
+            vessel_mm,
+            device_od_mm,
+            occupied_cm,
+            0.0,
+            0.0,
+            0.0,
+            0.0,
+            0.0,
+            0.0,
+            q_base_ml_min,
+            p_mmhg,
+            0.0,
+            assumptions,
         )
 
     left_mm2 = open_mm2 - math.pi * device_od_mm**2 / 4.0
