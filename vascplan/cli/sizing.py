@@ -4,12 +4,13 @@ from __future__ import annotations
 
 import json
 import math
-from typing import Any
+from typing import Any, cast
 
 import click
 
 from vascplan.errors import InputError
 from vascplan.safety import CAUTION, REFERENCE_MARK
+from vascplan.sizing.french import Label
 
 
 class _Positive(click.ParamType):
@@ -142,18 +143,17 @@ def sheath_flow(
             "",
             f"is needed with {' and '.join(given)} (give all three cannula options or none)",
         )
-    assert vessel_mm is not None and device_fr is not None and occupied_cm is not None
     try:
         result = assess_sheath_flow(
-            vessel_mm,
-            device_fr,
-            label,
-            occupied_cm,  # type: ignore[arg-type]
+            cast(float, vessel_mm),
+            cast(float, device_fr),
+            cast(Label, label),
+            cast(float, occupied_cm),
             outer_mm=outer_mm,
             dpc_fr=dpc_fr,
             dpc_cm=dpc_cm,
             driving_mmhg=driving_mmhg,
-            dpc_label=dpc_label,  # type: ignore[arg-type]
+            dpc_label=cast(Label, dpc_label),
             limb_flow_ml_min=limb_flow_ml_min,
             perfusion_mmhg=perfusion_mmhg,
             viscosity_pa_s=None if viscosity_mpa_s is None else viscosity_mpa_s / 1000.0,

@@ -6,9 +6,8 @@ mode reports: the same functions, one result object, one JSON shape.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
-from typing import Any, Literal
+from typing import Any, Literal, cast
 
 from vascplan.safety import CAUTION
 from vascplan.sizing._tables import threshold
@@ -199,13 +198,14 @@ def assess_sheath_flow(
     assumptions.extend(limb.assumptions)
     dpc = None
     if len(given) == 3:
-        assert dpc_fr is not None and dpc_cm is not None and driving_mmhg is not None
         dpc = cannula_flow(
-            dpc_fr, dpc_cm, driving_mmhg, label=dpc_label, viscosity_pa_s=viscosity_pa_s
+            cast(float, dpc_fr),
+            cast(float, dpc_cm),
+            cast(float, driving_mmhg),
+            label=dpc_label,
+            viscosity_pa_s=viscosity_pa_s,
         )
         assumptions.extend(a for a in dpc.assumptions if a not in assumptions)
-    if not math.isfinite(ratio):  # pragma: no cover - guarded by the size checks
-        raise ValueError("SAR is not finite")
     return SheathFlowAssessment(
         vessel_mm=float(vessel_mm),
         device_fr=float(device_fr),

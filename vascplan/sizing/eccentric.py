@@ -25,6 +25,7 @@ from __future__ import annotations
 import csv
 import math
 from functools import lru_cache
+from typing import Any
 
 import numpy as np
 
@@ -224,7 +225,7 @@ def build_touching_table(path: str | None = None) -> list[tuple[float, float, in
 
 
 @lru_cache(maxsize=1)
-def _touching_interpolant():
+def _touching_interpolant() -> Any:
     """PCHIP of ``factor / (1 - kappa)**3`` over kappa (monotone between table points)."""
     from scipy.interpolate import PchipInterpolator
 
