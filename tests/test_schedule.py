@@ -5,7 +5,7 @@ from __future__ import annotations
 from datetime import UTC, datetime, timedelta
 
 import pytest
-from hypothesis import given, settings
+from hypothesis import example, given, settings
 from hypothesis import strategies as st
 
 from tests.surv_factory import PROTOCOL, make_unit, sheath_patient
@@ -188,6 +188,9 @@ CHANGES = [_utc(t) for t in ("2026-03-29T01:00Z", "2026-10-25T01:00Z", "2026-03-
     rem_counts=st.tuples(st.integers(1, 6), st.integers(1, 6), st.integers(1, 6)),
     removed_after=st.one_of(st.none(), st.integers(30, 900)),
 )
+# Found by hypothesis: a phase ending after a removal that falls before its next check.
+@example(zone="Europe/London", change=CHANGES[0], offset_min=0, every=[7, 27, 7, 7, 7, 7],
+         ins_len=(20, 20), rem_counts=(1, 1, 1), removed_after=30)
 def test_no_check_lost_or_doubled(zone, change, offset_min, every, ins_len, rem_counts,
                                   removed_after):
     lengths = [("for_min", ins_len[0]), ("for_min", ins_len[1]), ("open", 0),
