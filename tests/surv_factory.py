@@ -36,7 +36,8 @@ def make_unit(
     data = {
         "format": "vascplan-unit/1",
         "unit": {"name": "Test unit", "timezone": tz},
-        "shifts": shifts or [{"name": "day", "start": "07:30"}, {"name": "night", "start": "19:30"}],
+        "shifts": shifts
+        or [{"name": "day", "start": "07:30"}, {"name": "night", "start": "19:30"}],
         "protocol": "standard",
         "staff": staff or [],
         "patients": patients,

@@ -96,7 +96,8 @@ def test_rota_errors_are_one_line():
 
 def test_unit_with_unknown_protocol(tmp_path):
     unit = tmp_path / "unit.yaml"
-    unit.write_text(open(DEMO).read().replace("protocol: standard", "protocol: standrd"))
+    text = (examples_dir() / "unit-demo.yaml").read_text()
+    unit.write_text(text.replace("protocol: standard", "protocol: standrd"))
     res = _run("risk", str(unit), "--at", "2026-12-02T13:00")
     assert res.exit_code == 2
     assert res.output.strip() == (

@@ -41,7 +41,7 @@ def test_standard_without_factors():
 
 
 def test_femoral_va_ecmo_cites_cheng_2014():
-    # Cheng et al., Ann Thorac Surg 2014: limb ischaemia 16.9% (95% CI 12.5-22.6) on femoral VA-ECMO.
+    # Cheng et al., Ann Thorac Surg 2014: limb ischaemia 16.9% (95% CI 12.5-22.6), femoral VA-ECMO.
     a = assess_patient(_ecmo(), PROTOCOL, AT)
     assert a.tier == "raised"
     assert "16.9% (95% CI 12.5-22.6)" in a.reasons[0] and "Cheng" in a.reasons[0]

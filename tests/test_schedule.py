@@ -9,9 +9,8 @@ from hypothesis import example, given, settings
 from hypothesis import strategies as st
 
 from tests.surv_factory import PROTOCOL, make_unit, sheath_patient
-from vascplan.fileio import validate_data
+from vascplan.fileio import read_document, validate_data
 from vascplan.paths import data_dir
-from vascplan.fileio import read_document
 from vascplan.surveillance.protocol import Protocol
 from vascplan.surveillance.schedule import patient_schedule
 
@@ -121,8 +120,9 @@ def test_window_does_not_change_times():
     unit = make_unit("Europe/London", [sheath_patient(1, "2026-12-01T08:00")])
     long = _run(unit, "2026-12-01T00:00Z", "2026-12-02T00:00Z")
     short = _run(unit, "2026-12-01T12:00Z", "2026-12-01T13:30Z")
-    assert [c.due for c in short] == [c.due for c in long if
-                                      _utc("2026-12-01T12:00Z") <= c.due < _utc("2026-12-01T13:30Z")]
+    lo, hi = _utc("2026-12-01T12:00Z"), _utc("2026-12-01T13:30Z")
+    assert [c.due for c in short] == [c.due for c in long if lo <= c.due < hi]
+    assert len(short) == 2  # 12:00 and 13:00
 
 
 # -- property: no check lost or doubled -------------------------------------------------

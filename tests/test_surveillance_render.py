@@ -1,4 +1,4 @@
-"""Renderers: the iCalendar file parses back with the same events; JSON and CSV carry the caution."""
+"""Renderers: the iCalendar file parses back with the same events; all carry the caution."""
 
 from __future__ import annotations
 
