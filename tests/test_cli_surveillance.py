@@ -119,3 +119,29 @@ def test_demo_surveillance(tmp_path):
     assert {p.name for p in paths} >= {"surveillance-risk.json", "surveillance-rota.ics"}
     assert all(p.is_file() and p.parent == tmp_path for p in paths)
     icalendar.Calendar.from_ical(paths[-1].read_bytes())
+
+
+def test_unit_file_from_the_readme(tmp_path):
+    readme = (examples_dir().parent / "README.md").read_text()
+    block = readme.split("### The unit file", 1)[1].split("```yaml\n", 1)[1].split("```", 1)[0]
+    unit = tmp_path / "my-unit.yaml"
+    unit.write_text(block)
+    res = _run("risk", str(unit), "--at", "2026-12-02T13:00", "--format", "json")
+    assert res.exit_code == 0, res.output
+    assert json.loads(res.output)["patients"][0]["tier"] == "high"  # the README's tier event
+    res = _run("rota", str(unit), "--from", "2026-12-02T07:30", "--hours", "24", "--format", "ics")
+    assert res.exit_code == 0, res.output
+    assert len(list(icalendar.Calendar.from_ical(res.output).walk("VEVENT"))) > 24
+
+
+def test_unit_protocol_path_relative_to_unit_file(tmp_path):
+    from vascplan.paths import data_dir
+
+    proto = (data_dir() / "protocols" / "standard.yaml").read_text()
+    (tmp_path / "ours.yaml").write_text(proto.replace("name: standard", "name: ours", 1))
+    text = (examples_dir() / "unit-demo.yaml").read_text()
+    (tmp_path / "unit.yaml").write_text(text.replace("protocol: standard", "protocol: ours.yaml"))
+    res = _run("rota", str(tmp_path / "unit.yaml"), "--from", "2026-12-02T07:30", "--hours", "1",
+               "--format", "json")
+    assert res.exit_code == 0, res.output
+    assert json.loads(res.output)["protocol"] == "ours"

@@ -131,7 +131,7 @@ def patient_schedule(
     dev = patient.device
     inserted = dev.inserted.astimezone(UTC)
     tiers = tier_changes(patient, protocol, end)
-    tier = tiers[0][1] if tiers else "standard"
+    tier: str = tiers[0][1] if tiers else "standard"
     events = _events(patient, protocol, end)
     nirs = bool(patient.baseline.nirs)
     dpc = patient.dpc

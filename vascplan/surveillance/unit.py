@@ -220,7 +220,7 @@ class Unit(_Strict):
                     raise InputError(source, f"{base}.dpc.removed", "removal must come after insertion")
                 object.__setattr__(p.dpc, "inserted", d_in)
                 object.__setattr__(p.dpc, "removed", d_out)
-            previous = inserted
+            previous = p.device.inserted
             for k, ev in enumerate(p.events):
                 field = f"{base}.events.{k}.at"
                 at = _localise(ev.at, tz, source, field)
