@@ -124,3 +124,15 @@ def test_dpc_in_place_reported_and_clinician_event():
     before = assess_patient(_ecmo(dpc=dpc, events=events), PROTOCOL,
                             datetime(2026, 12, 2, 8, 30, tzinfo=UTC))
     assert before.tier == "raised" and not before.dpc_in_place and before.dpc_advised
+
+
+def test_rule_table_refuses_unknown_test(tmp_path):
+    from vascplan.errors import InputError
+    from vascplan.paths import data_dir
+
+    text = (data_dir() / "surveillance" / "risk_rules.yaml").read_text()
+    bad = tmp_path / "rules.yaml"
+    bad.write_text(text.replace("test: pad\n", "test: padd\n", 1))
+    with pytest.raises(InputError) as exc:
+        load_rules(str(bad))
+    assert str(exc.value).startswith(f"{bad}: factors.3.test: unknown test 'padd' (did you mean")

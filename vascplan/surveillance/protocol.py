@@ -145,6 +145,16 @@ class Review(_Strict):
                 )
         return self
 
+    def values(self) -> dict[str, float]:
+        """The thresholds by name (``nirs_relative_fall_pct`` -> 20.0 ...).
+
+        >>> load_protocol("standard", "u").review.values()["capillary_refill_slow_s"]
+        3.0
+        """
+        names = ("nirs_relative_fall_pct", "nirs_limb_difference_pct",
+                 "nirs_absolute_floor_pct", "capillary_refill_slow_s")
+        return {n: float(getattr(self, n).value) for n in names}
+
 
 class Protocol(_Strict):
     """A validated surveillance protocol."""
