@@ -390,5 +390,5 @@ def _add_graft(tree: ArterialTree, graft: Graft) -> None:
         g.add_edge(node_id, graft.to_segment, **outflow)
     tree._assumptions.append(
         f"{node_id} length is an estimate ({length_cm:.1f} cm: the distance between its ends "
-        "along the native arteries, an upper estimate; common practice)"
+        "along the native arteries, an upper estimate: a rule of this tool, not a measurement)"
     )
