@@ -122,3 +122,34 @@ def test_help_has_an_example(command):
     result = run(command, "--help")
     assert result.exit_code == 0
     assert f"Example: vascplan {command}" in result.stdout
+
+
+def test_tree_shows_graft_with_estimated_length():
+    path = examples_dir() / "case-DEMO-21-graft-and-pedal.yaml"
+    result = run("tree", str(path))
+    assert result.exit_code == 0, result.output
+    row = next(line for line in result.stdout.splitlines() if line.startswith("GRAFT:fem-pop"))
+    tree = build_tree(load_case(path))
+    assert f"{tree.segment('GRAFT:fem-pop')['length_cm']:.1f}~" in row
+    assert "patent" in row
+
+
+def test_json_case_file_is_accepted(tmp_path):
+    from vascplan.fileio import read_document
+
+    data = read_document(DEMO_07)
+    path = tmp_path / "case.json"
+    path.write_text(json.dumps(data))
+    result = run("validate", str(path))
+    assert result.exit_code == 0
+    assert result.stdout.splitlines()[0] == f"ok: {path} (DEMO-07)"
+
+
+def test_tree_assumptions_lists_each_reference_value():
+    result = run("tree", "--assumptions", str(DEMO_07))
+    assert result.exit_code == 0
+    listed = [line for line in result.stdout.splitlines() if line.startswith("Assumption: ")]
+    assert len(listed) == len(build_tree(load_case(DEMO_07)).assumptions())
+    assert any(
+        line.startswith("Assumption: R-EIA diameter is a reference value") for line in listed
+    )
