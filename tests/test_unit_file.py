@@ -73,7 +73,8 @@ def test_unknown_field(tmp_path):
 def test_unknown_shift_in_staff(tmp_path):
     msg = _message(_variant(tmp_path, "shifts: [day]", "shifts: [dya]"))
     assert msg == (
-        "unit.yaml: staff.0.shifts.0: unknown shift 'dya' (did you mean 'day'?); shifts are day, night"
+        "unit.yaml: staff.0.shifts.0: unknown shift 'dya' (did you mean 'day'?); "
+        "shifts are day, night"
     )
 
 
