@@ -1,0 +1,1 @@
+"""Limb-perfusion surveillance: unit files, risk, check schedules and the unit rota."""

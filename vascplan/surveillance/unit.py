@@ -1,0 +1,300 @@
+"""The unit file: a unit's patients on large-bore support, its shifts and its staff.
+
+Field names are part of the interface (``format: vascplan-unit/1``). Times written
+without a UTC offset are local to the unit's time zone; a local time that a clock
+change makes ambiguous or non-existent is refused with the field named, never guessed.
+"""
+
+from __future__ import annotations
+
+import os
+import re
+from datetime import datetime, time, timedelta
+from typing import Any, Literal
+from zoneinfo import ZoneInfo, ZoneInfoNotFoundError, available_timezones
+
+from pydantic import BaseModel, ConfigDict, Field, ValidationInfo, field_validator, model_validator
+
+from vascplan.errors import InputError
+from vascplan.fileio import did_you_mean, load_model
+
+UNIT_FORMAT = "vascplan-unit/1"
+
+DeviceKind = Literal["va-ecmo-arterial", "microaxial-pump", "balloon-pump", "large-bore-sheath"]
+Side = Literal["L", "R"]
+Sex = Literal["female", "male", "unspecified"]
+Signal = Literal["present", "absent"]
+PulseGrade = Literal["palpable", "doppler", "absent"]
+
+ACCESS_VESSELS = ("CFA", "EIA", "SFA", "AXA", "SCA")
+"""Vessels a large-bore device may sit in (common practice: femoral and axillary routes)."""
+
+_PEDAL_SITE = re.compile(r"^[LR]-(DPA|PTA|PER|ATA|POP)$")
+
+HEIGHT_RANGE_CM = (100.0, 230.0)
+"""Plausible adult height, as for case files (common practice)."""
+
+
+class _Strict(BaseModel):
+    model_config = ConfigDict(extra="forbid", frozen=True, str_strip_whitespace=True)
+
+
+class UnitInfo(_Strict):
+    name: str = Field(min_length=1, max_length=200)
+    timezone: str
+
+    @field_validator("timezone")
+    @classmethod
+    def _zone(cls, value: str) -> str:
+        try:
+            ZoneInfo(value)
+        except (ZoneInfoNotFoundError, ValueError):
+            hint = did_you_mean(value, available_timezones())
+            raise ValueError(
+                f"unknown time zone {value!r}{hint}; use an IANA name such as Europe/London"
+            ) from None
+        return value
+
+    @property
+    def tz(self) -> ZoneInfo:
+        return ZoneInfo(self.timezone)
+
+
+class Shift(_Strict):
+    name: str = Field(min_length=1, max_length=40, pattern=r"^[A-Za-z0-9_-]+$")
+    start: time
+
+    @field_validator("start", mode="before")
+    @classmethod
+    def _hhmm(cls, value: Any) -> Any:
+        if isinstance(value, int):  # YAML 1.1 reads 07:30 unquoted as a base-60 integer
+            value = f"{value // 60:02d}:{value % 60:02d}"
+        if isinstance(value, str) and not re.fullmatch(r"\d{2}:\d{2}", value):
+            raise ValueError("shift start must be HH:MM in local time, e.g. \"07:30\"")
+        return value
+
+
+class StaffAssignment(_Strict):
+    nurse: str = Field(min_length=1, max_length=60)
+    beds: list[int] = Field(min_length=1)
+    shifts: list[str] = Field(min_length=1)
+
+
+class Device(_Strict):
+    kind: DeviceKind
+    side: Side
+    vessel: str = "CFA"
+    size_fr: float = Field(gt=0, le=30)
+    label: Literal["outer", "inner"]
+    outer_mm: float | None = Field(default=None, gt=0, le=12)
+    inserted: datetime
+    removed: datetime | None = None
+
+    @field_validator("vessel")
+    @classmethod
+    def _vessel(cls, value: str) -> str:
+        if value not in ACCESS_VESSELS:
+            raise ValueError(
+                f"unknown access vessel {value!r}{did_you_mean(value, ACCESS_VESSELS)}; "
+                f"one of {', '.join(ACCESS_VESSELS)}"
+            )
+        return value
+
+
+class DistalCannula(_Strict):
+    size_fr: float = Field(gt=0, le=12)
+    inserted: datetime
+    removed: datetime | None = None
+
+
+class Baseline(_Strict):
+    nirs: dict[Side, float] = Field(default_factory=dict)
+    doppler: dict[str, Signal] = Field(default_factory=dict)
+    pulses: dict[str, PulseGrade] = Field(default_factory=dict)
+
+    @field_validator("nirs")
+    @classmethod
+    def _nirs(cls, value: dict[str, float]) -> dict[str, float]:
+        for side, pct in value.items():
+            if not 0 <= pct <= 100:
+                raise ValueError(f"tissue oxygen saturation for {side} must be 0-100 %")
+        return value
+
+    @field_validator("doppler", "pulses")
+    @classmethod
+    def _sites(cls, value: dict[str, str]) -> dict[str, str]:
+        for site in value:
+            if not _PEDAL_SITE.match(site):
+                raise ValueError(
+                    f"unknown artery {site!r}; use a side and an artery id such as R-DPA, L-PTA "
+                    "(DPA, PTA, PER, ATA, POP)"
+                )
+        return value
+
+
+class Patient(_Strict):
+    ref: str = Field(min_length=1, max_length=60)
+    bed: int = Field(ge=1, le=999)
+    sex: Sex = "unspecified"
+    height_cm: float | None = None
+    pad: bool = False
+    diabetes: bool = False
+    device: Device
+    vessel_mm: float | None = Field(default=None, gt=0, le=15)
+    dpc: DistalCannula | None = None
+    baseline: Baseline = Field(default_factory=Baseline)
+
+    @field_validator("height_cm")
+    @classmethod
+    def _height(cls, value: float | None) -> float | None:
+        lo, hi = HEIGHT_RANGE_CM
+        if value is not None and not lo <= value <= hi:
+            raise ValueError(f"height must be {lo:g}-{hi:g} cm")
+        return value
+
+
+class Unit(_Strict):
+    """A validated unit file; every datetime in it is time-zone aware."""
+
+    format: Literal["vascplan-unit/1"]
+    unit: UnitInfo
+    shifts: list[Shift] = Field(min_length=1)
+    protocol: str = "standard"
+    staff: list[StaffAssignment] = Field(default_factory=list)
+    patients: list[Patient] = Field(default_factory=list)
+
+    @model_validator(mode="after")
+    def _cross_checks(self, info: ValidationInfo) -> Unit:
+        source = (info.context or {}).get("source", "<unit>")
+        names = [s.name for s in self.shifts]
+        for i, shift in enumerate(self.shifts):
+            if names.index(shift.name) != i:
+                raise InputError(source, f"shifts.{i}.name", f"shift {shift.name!r} is named twice")
+            if [s.start for s in self.shifts].index(shift.start) != i:
+                raise InputError(source, f"shifts.{i}.start", "two shifts start at the same time")
+        beds = [p.bed for p in self.patients]
+        refs = [p.ref for p in self.patients]
+        for i, p in enumerate(self.patients):
+            if beds.index(p.bed) != i:
+                raise InputError(source, f"patients.{i}.bed", f"bed {p.bed} holds two patients")
+            if refs.index(p.ref) != i:
+                raise InputError(source, f"patients.{i}.ref", f"ref {p.ref!r} appears twice")
+        for i, a in enumerate(self.staff):
+            for j, s in enumerate(a.shifts):
+                if s not in names:
+                    raise InputError(
+                        source,
+                        f"staff.{i}.shifts.{j}",
+                        f"unknown shift {s!r}{did_you_mean(s, names)}; shifts are {', '.join(names)}",
+                    )
+        tz = self.unit.tz
+        for i, p in enumerate(self.patients):
+            base = f"patients.{i}"
+            inserted = _localise(p.device.inserted, tz, source, f"{base}.device.inserted")
+            removed = _localise(p.device.removed, tz, source, f"{base}.device.removed")
+            if removed is not None and removed <= inserted:
+                raise InputError(source, f"{base}.device.removed", "removal must come after insertion")
+            object.__setattr__(p.device, "inserted", inserted)
+            object.__setattr__(p.device, "removed", removed)
+            if p.dpc is not None:
+                d_in = _localise(p.dpc.inserted, tz, source, f"{base}.dpc.inserted")
+                d_out = _localise(p.dpc.removed, tz, source, f"{base}.dpc.removed")
+                if d_in < inserted:
+                    raise InputError(
+                        source, f"{base}.dpc.inserted", "the distal cannula cannot precede the device"
+                    )
+                if d_out is not None and d_out <= d_in:
+                    raise InputError(source, f"{base}.dpc.removed", "removal must come after insertion")
+                object.__setattr__(p.dpc, "inserted", d_in)
+                object.__setattr__(p.dpc, "removed", d_out)
+        return self
+
+    def patient_at_bed(self, bed: int, source: str = "--bed") -> Patient:
+        for p in self.patients:
+            if p.bed == bed:
+                return p
+        beds = ", ".join(str(p.bed) for p in self.patients) or "none"
+        raise InputError(source, "", f"no patient in bed {bed}; occupied beds: {beds}")
+
+    def shift_named(self, name: str, source: str = "--shift") -> Shift:
+        for s in self.shifts:
+            if s.name == name:
+                return s
+        names = [s.name for s in self.shifts]
+        raise InputError(source, "", f"unknown shift {name!r}{did_you_mean(name, names)}; shifts are {', '.join(names)}")
+
+    def nurse_for(self, bed: int, shift: str) -> str | None:
+        """The nurse who has ``bed`` on ``shift``, or None when the file does not say."""
+        for a in self.staff:
+            if bed in a.beds and shift in a.shifts:
+                return a.nurse
+        return None
+
+
+def _localise(value: datetime | None, tz: ZoneInfo, source: str, field: str) -> datetime | None:
+    """Attach the unit's zone to a naive local time, refusing clock-change gaps and overlaps."""
+    if value is None:
+        return None
+    if value.tzinfo is not None:
+        return value.astimezone(tz)
+    first = value.replace(tzinfo=tz, fold=0)
+    second = value.replace(tzinfo=tz, fold=1)
+    if first.utcoffset() != second.utcoffset():
+        roundtrip = first.astimezone(ZoneInfo("UTC")).astimezone(tz).replace(tzinfo=None)
+        if roundtrip != value:
+            raise InputError(
+                source,
+                field,
+                f"{value:%Y-%m-%d %H:%M} does not exist in {tz.key} (clocks go forward); "
+                "give the time with its UTC offset",
+            )
+        raise InputError(
+            source,
+            field,
+            f"{value:%Y-%m-%d %H:%M} happens twice in {tz.key} (clocks go back); "
+            "give the time with its UTC offset, e.g. +01:00",
+        )
+    return first
+
+
+def parse_local_time(text: str, tz: ZoneInfo, source: str) -> datetime:
+    """Parse an ISO 8601 option value; naive times are local to ``tz`` (checked as above).
+
+    >>> from zoneinfo import ZoneInfo
+    >>> parse_local_time("2026-12-01T07:30", ZoneInfo("Europe/London"), "--from").isoformat()
+    '2026-12-01T07:30:00+00:00'
+    """
+    try:
+        value = datetime.fromisoformat(text)
+    except ValueError:
+        raise InputError(source, "", f"{text!r} is not an ISO 8601 time such as 2026-12-01T07:30") from None
+    out = _localise(value, tz, source, "")
+    assert out is not None
+    return out
+
+
+def shift_window(unit: Unit, shift: Shift, day: datetime) -> tuple[datetime, datetime]:
+    """Start and end (aware) of ``shift`` beginning on the local date of ``day``.
+
+    A shift runs to the next shift's start in the unit's list order (wrapping to the
+    next day); across a clock change its real length differs from its wall-clock length.
+    """
+    tz = unit.unit.tz
+    starts = sorted(s.start for s in unit.shifts)
+    idx = starts.index(shift.start)
+    nxt = starts[(idx + 1) % len(starts)]
+    start = datetime.combine(day.date(), shift.start).replace(tzinfo=tz)
+    end_date = day.date() + timedelta(days=1) if nxt <= shift.start else day.date()
+    end = datetime.combine(end_date, nxt).replace(tzinfo=tz)
+    return start, end
+
+
+def load_unit(path: str | os.PathLike[str]) -> Unit:
+    """Read and validate a unit file (YAML or JSON).
+
+    Raises
+    ------
+    InputError
+        One line naming the file, the field and what is allowed.
+    """
+    return load_model(path, Unit)
