@@ -8,7 +8,8 @@ can flag what was assumed.
 Node attributes
 ---------------
 ``kind`` ("segment" | "graft"), ``name``, ``side`` (L | R | midline), ``parent``,
-``diameter_mm``, ``diameter_source``, ``length_cm``, ``length_source``,
+``diameter_mm``, ``diameter_source``, ``diameter_sd_mm`` (the reference SD when the
+diameter is a reference value, else None), ``length_cm``, ``length_source``,
 ``calcification`` (none | mild | moderate | severe, the vessel's own),
 ``calcification_source``, ``lesions`` (list of :class:`~vascplan.case.model.Lesion`,
 by start), ``stents`` (list of :class:`~vascplan.case.model.Stent`), ``avoid`` (list
@@ -325,6 +326,7 @@ def build_tree(case: Case) -> ArterialTree:
             "parent": r.parent,
             "diameter_mm": r.diameter_mean_mm(sex) if m_diameter is None else m_diameter,
             "diameter_source": REFERENCE if m_diameter is None else MEASURED,
+            "diameter_sd_mm": r.diameter_sd_mm(sex) if m_diameter is None else None,
             "length_cm": lengths[seg_id],
             "length_source": REFERENCE if m_length is None else MEASURED,
             "calcification": m_calcium or "none",
@@ -393,6 +395,7 @@ def _add_graft(tree: ArterialTree, graft: Graft) -> None:
         "parent": graft.from_segment,
         "diameter_mm": graft.diameter_mm,
         "diameter_source": MEASURED,
+        "diameter_sd_mm": None,
         "length_cm": length_cm,
         "length_source": "estimate",
         "calcification": "none",

@@ -42,6 +42,7 @@ def _node(tree: ArterialTree, node_id: str) -> dict[str, Any]:
         "parent": n["parent"],
         "diameter_mm": _r(n["diameter_mm"]),
         "diameter_source": n["diameter_source"],
+        "diameter_sd_mm": None if n["diameter_sd_mm"] is None else _r(n["diameter_sd_mm"]),
         "length_cm": _r(n["length_cm"], 1),
         "length_source": n["length_source"],
         "mld_mm": _r(tree.mld(node_id)),
