@@ -25,12 +25,15 @@ def test_risk_json_contract():
     doc = json.loads(res.output)
     assert doc["caution"] == CAUTION
     by_ref = {p["ref"]: p for p in doc["patients"]}
-    assert set(by_ref) == {"DEMO-11", "DEMO-12", "DEMO-13", "DEMO-14", "DEMO-15"}
+    assert set(by_ref) == {"DEMO-11", "DEMO-12", "DEMO-13", "DEMO-14", "DEMO-15", "DEMO-16"}
     for p in doc["patients"]:
         assert {"ref", "bed", "tier", "sar", "dpc_advised", "reasons"} <= set(p)
         assert p["tier"] in ("standard", "raised", "high")
-    # DEMO-12: 14 Fr sheath (5.65 mm outer, wall table) in a 5.2 mm CFA: SAR >= 1.05.
-    assert by_ref["DEMO-12"]["sar"] >= 1.05 and by_ref["DEMO-12"]["dpc_advised"] is True
+    # DEMO-16: 14 Fr sheath (5.65 mm outer, wall table) in a 5.2 mm CFA: SAR >= 1.05.
+    assert by_ref["DEMO-16"]["sar"] >= 1.05 and by_ref["DEMO-16"]["dpc_advised"] is True
+    # DEMO-12: measured 5.7 mm outer diameter in a 9.1 mm CFA (as in its case file).
+    assert by_ref["DEMO-12"]["sar"] == round(5.7 / 9.1, 3)
+    assert by_ref["DEMO-12"]["dpc_advised"] is False
     # DEMO-15: femoral VA-ECMO without a distal cannula: advised (Marbach 2022 and others).
     assert by_ref["DEMO-15"]["dpc_advised"] is True
     # DEMO-13 has no measured vessel: the reference value is an assumption.
