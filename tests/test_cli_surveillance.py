@@ -148,3 +148,14 @@ def test_unit_protocol_path_relative_to_unit_file(tmp_path):
                "--format", "json")
     assert res.exit_code == 0, res.output
     assert json.loads(res.output)["protocol"] == "ours"
+
+
+def test_demo_step_with_the_demo_runner(tmp_path):
+    from vascplan.demo import run_demo
+    from vascplan.surveillance.demo import step_surveillance
+
+    lines: list[str] = []
+    written = run_demo(tmp_path, echo=lines.append,
+                       steps=[("limb surveillance", step_surveillance)])
+    assert [p.name for p in written][-1] == "surveillance-rota.ics"
+    assert lines[0] == "[1/1] limb surveillance"
