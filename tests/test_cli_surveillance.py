@@ -61,13 +61,26 @@ def test_rota_json_contract():
 
 def test_rota_nurse_ics_to_file(tmp_path):
     out = tmp_path / "rn-a.ics"
-    res = _run("rota", DEMO, "--from", "2026-12-02T07:30", "--hours", "12", "--nurse", "RN-A",
-               "--format", "ics", "-o", str(out))
+    res = _run(
+        "rota",
+        DEMO,
+        "--from",
+        "2026-12-02T07:30",
+        "--hours",
+        "12",
+        "--nurse",
+        "RN-A",
+        "--format",
+        "ics",
+        "-o",
+        str(out),
+    )
     assert res.exit_code == 0, res.output
     cal = icalendar.Calendar.from_ical(out.read_bytes())
     events = list(cal.walk("VEVENT"))
-    assert events and all("bed 1" in str(e["SUMMARY"]) or "bed 2" in str(e["SUMMARY"])
-                          for e in events)
+    assert events and all(
+        "bed 1" in str(e["SUMMARY"]) or "bed 2" in str(e["SUMMARY"]) for e in events
+    )
     assert not list(tmp_path.glob(".*.tmp"))
 
 
@@ -144,8 +157,16 @@ def test_unit_protocol_path_relative_to_unit_file(tmp_path):
     (tmp_path / "ours.yaml").write_text(proto.replace("name: standard", "name: ours", 1))
     text = (examples_dir() / "unit-demo.yaml").read_text()
     (tmp_path / "unit.yaml").write_text(text.replace("protocol: standard", "protocol: ours.yaml"))
-    res = _run("rota", str(tmp_path / "unit.yaml"), "--from", "2026-12-02T07:30", "--hours", "1",
-               "--format", "json")
+    res = _run(
+        "rota",
+        str(tmp_path / "unit.yaml"),
+        "--from",
+        "2026-12-02T07:30",
+        "--hours",
+        "1",
+        "--format",
+        "json",
+    )
     assert res.exit_code == 0, res.output
     assert json.loads(res.output)["protocol"] == "ours"
 
@@ -155,7 +176,8 @@ def test_demo_step_with_the_demo_runner(tmp_path):
     from vascplan.surveillance.demo import step_surveillance
 
     lines: list[str] = []
-    written = run_demo(tmp_path, echo=lines.append,
-                       steps=[("limb surveillance", step_surveillance)])
+    written = run_demo(
+        tmp_path, echo=lines.append, steps=[("limb surveillance", step_surveillance)]
+    )
     assert [p.name for p in written][-1] == "surveillance-rota.ics"
     assert lines[0] == "[1/1] limb surveillance"

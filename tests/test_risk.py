@@ -102,8 +102,9 @@ def test_dpc_advised_on_femoral_ecmo_with_sources():
 
 def test_dpc_not_advised_when_in_place_or_not_femoral():
     assert dpc_advice("va-ecmo-arterial", 0.8, False, "male", 9.0, True)[0] is False
-    advised, basis = dpc_advice("va-ecmo-arterial", 0.8, False, "male", 9.0, False,
-                                access_vessel="AXA")
+    advised, basis = dpc_advice(
+        "va-ecmo-arterial", 0.8, False, "male", 9.0, False, access_vessel="AXA"
+    )
     assert advised is False and "AXA" in basis[0]
 
 
@@ -121,8 +122,9 @@ def test_dpc_in_place_reported_and_clinician_event():
     a = assess_patient(_ecmo(dpc=dpc, events=events), PROTOCOL, AT)
     assert a.dpc_in_place and not a.dpc_advised
     assert a.tier == "high" and "cold foot" in a.reasons[-1]
-    before = assess_patient(_ecmo(dpc=dpc, events=events), PROTOCOL,
-                            datetime(2026, 12, 2, 8, 30, tzinfo=UTC))
+    before = assess_patient(
+        _ecmo(dpc=dpc, events=events), PROTOCOL, datetime(2026, 12, 2, 8, 30, tzinfo=UTC)
+    )
     assert before.tier == "raised" and not before.dpc_in_place and before.dpc_advised
 
 
