@@ -100,7 +100,10 @@ def step_tree(ctx: DemoContext) -> None:
 DEMO_STEPS: list[tuple[str, DemoStep | str]] = [
     ("validate the example cases", step_validate),
     ("annotated arterial trees", step_tree),
-    ("limb surveillance: risk and rota of the demo unit", "vascplan.surveillance.demo:step_surveillance"),
+    (
+        "limb surveillance: risk and rota of the demo unit",
+        "vascplan.surveillance.demo:step_surveillance",
+    ),
 ]
 """(title, step) in running order. A step is a function of :class:`DemoContext`, or
 ``"module:function"`` imported only when the demo reaches it."""
