@@ -87,9 +87,11 @@ def _route(view: VesselView, facts: RouteFacts, blocks: list[Block], factors: li
     assumed: list[str] = []
     limiting = facts.min_lumen[1] if facts.min_lumen else None
     if limiting and view.node(limiting).get("diameter_source") != "measured":
-        assumed += ["min_lumen_mm", "sar"]
+        assumed.append("min_lumen_mm")
     if devices.sheath_od_assumed:
         assumed.append("sheath_od_mm")
+    if "min_lumen_mm" in assumed or "sheath_od_mm" in assumed:
+        assumed.append("sar")
     if path is not None and any(view.node(n).get("length_source") != "measured" for n in nodes):
         assumed.append("length_cm")
     limit = sar_limit(facts, limit_ctx)[0] if path is not None else None
@@ -115,9 +117,12 @@ def _route(view: VesselView, facts: RouteFacts, blocks: list[Block], factors: li
     )
 
 
-def _assumptions(tree: Any, view: VesselView, routes: list[Route], devices: Devices,
-                 extra: list[str]) -> list[str]:
+def _assumptions(tree: Any, routes: list[Route], devices: Devices, extra: list[str],
+                 top: int | None) -> list[str]:
+    """The tree's assumptions about the nodes of the routes shown, and the planner's own."""
     shown = [r for r in routes if r.feasible] or routes[:3]
+    if top is not None:
+        shown = routes[:top]
     used = {n for r in shown for n in r.path}
     all_nodes = set(tree.graph.nodes)
     out: list[str] = []
@@ -227,7 +232,7 @@ def plan_case(case: Any, *, top: int | None = None, weights: Mapping[str, float]
         routes=routes[:top] if top is not None else routes,
         routes_total=len(routes),
         pairs=pairs,
-        assumptions=_assumptions(tree, view, routes, devices, extra),
+        assumptions=_assumptions(tree, routes, devices, extra, top),
         weights=w,
         limits=lim,
         support=support,

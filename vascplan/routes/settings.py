@@ -12,7 +12,7 @@ from __future__ import annotations
 import math
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
-from functools import lru_cache
+from functools import cache
 
 from vascplan.errors import InputError
 from vascplan.fileio import did_you_mean, read_document
@@ -45,7 +45,7 @@ class Setting:
     basis: str
 
 
-@lru_cache(maxsize=None)
+@cache
 def load_table(file_name: str) -> dict[str, Setting]:
     """Read one of the bundled tables of ``data/access``.
 
@@ -74,7 +74,8 @@ def load_table(file_name: str) -> dict[str, Setting]:
         value = entry["value"]
         if isinstance(value, bool) or not isinstance(value, int | float):
             raise InputError(str(path), f"{name}.value", "must be a number")
-        out[str(name)] = Setting(str(name), float(value), str(entry.get("unit", "")), str(entry["basis"]))
+        unit = str(entry.get("unit", ""))
+        out[str(name)] = Setting(str(name), float(value), unit, str(entry["basis"]))
     return out
 
 
@@ -160,7 +161,9 @@ def resolve(
             if not math.isfinite(value) or value < 0:
                 raise InputError(source, where, f"must be a number at least 0 (got {value!r})")
             old = out[name]
-            out[name] = Setting(name, value, old.unit, f"set to {value:g} by {source} (default {table[name].value:g}: {table[name].basis})")
+            default = table[name]
+            basis = f"set to {value:g} by {source} (default {default.value:g}: {default.basis})"
+            out[name] = Setting(name, value, old.unit, basis)
     return out
 
 

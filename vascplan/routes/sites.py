@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import csv
 from dataclasses import dataclass
-from functools import lru_cache
+from functools import cache
 
 from vascplan.errors import InputError
 from vascplan.paths import data_dir
@@ -83,7 +83,7 @@ def _number(path: str, row: int, column: str, raw: str) -> float:
         raise InputError(path, f"row {row}.{column}", f"must be a number (got {raw!r})") from None
 
 
-@lru_cache(maxsize=None)
+@cache
 def load_sites() -> dict[str, AccessSite]:
     """Read the catalogue.
 
@@ -132,7 +132,8 @@ def load_sites() -> dict[str, AccessSite]:
             compressible=row["compressible"].strip().lower() == "yes",
             position=row["position"],
             upper_sheath_fr=_number(src, i, "upper_sheath_fr", row["upper_sheath_fr"]),
-            complication_relative=_number(src, i, "complication_relative", row["complication_relative"]),
+            complication_relative=_number(src, i, "complication_relative",
+                                          row["complication_relative"]),
             bleeding_relative=_number(src, i, "bleeding_relative", row["bleeding_relative"]),
             sources=sources,
             notes=row.get("notes", ""),
