@@ -176,6 +176,11 @@ class PointGraph:
                 self.graph.add_edge((node, x), (node, y), w=y - x)
         for u, v in junctions:
             self.graph.add_edge(u, v, w=0.0)
+        # Edges on a cycle (pedal loop, graft): only a path using one can have rivals.
+        self.cyclic_edges: set[frozenset] = set()
+        for block in nx.biconnected_component_edges(self.graph):
+            if len(block) > 1:
+                self.cyclic_edges.update(frozenset(e) for e in block)
 
     def _place(self, node: str, cm: float, direction: str | None) -> float:
         """Clamp a point inside its node and off every existing junction point."""
@@ -242,22 +247,30 @@ class PointGraph:
         added: list[tuple[Any, Any]] = []
         removed: list[tuple[Any, Any, dict]] = []
 
+        cyclic = set(self.cyclic_edges)
+
         def split(node: str, cm: float, key: Any, lower: bool, upper: bool) -> None:
             lo, hi = self._neighbours(node, cm)
+            was_cyclic = False
             if lo is not None and hi is not None and g.has_edge((node, lo), (node, hi)):
                 removed.append(((node, lo), (node, hi), dict(g.edges[(node, lo), (node, hi)])))
                 g.remove_edge((node, lo), (node, hi))
+                was_cyclic = frozenset(((node, lo), (node, hi))) in cyclic
             if lower and lo is not None:
                 g.add_edge(key, (node, lo), w=cm - lo)
                 added.append((key, (node, lo)))
+                if was_cyclic:
+                    cyclic.add(frozenset((key, (node, lo))))
             if upper and hi is not None:
                 g.add_edge((node, hi), key, w=hi - cm)
                 added.append(((node, hi), key))
+                if was_cyclic:
+                    cyclic.add(frozenset(((node, hi), key)))
 
         try:
             split(segment, p, _SRC, direction == "retrograde", direction == "antegrade")
             split(target_segment, t, _DST, True, True)
-            return self._k_best(segment, p, target_segment, t, k)
+            return self._k_best(segment, p, target_segment, t, k, cyclic)
         finally:
             for node in (_SRC, _DST):
                 if node in g:
@@ -266,7 +279,7 @@ class PointGraph:
                 g.add_edge(u, v, **attrs)
 
     def _k_best(self, segment: str, p: float, target_segment: str, t: float,
-                k: int) -> list[CatheterPath]:
+                k: int, cyclic: set[frozenset]) -> list[CatheterPath]:
         if _SRC not in self.graph or _DST not in self.graph:
             return []
         out: list[CatheterPath] = []
@@ -274,12 +287,15 @@ class PointGraph:
             candidates: Iterator[list[Any]] = nx.shortest_simple_paths(
                 self.graph, _SRC, _DST, weight="w"
             )
-            for points in itertools.islice(candidates, k * _CANDIDATES_PER_PATH):
+            for n, points in enumerate(itertools.islice(candidates, k * _CANDIDATES_PER_PATH)):
                 path = _to_path(points, segment, p, target_segment, t)
                 if path is not None:
                     out.append(path)
                 if len(out) >= k:
                     break
+                if n == 0 and not any(frozenset(e) in cyclic
+                                      for e in itertools.pairwise(points)):
+                    break  # the shortest path touches no cycle: it is the only one
         except nx.NetworkXNoPath:
             return out
         return out
