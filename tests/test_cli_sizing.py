@@ -44,6 +44,8 @@ def test_json_contract_matches_the_library():
     assert data["caution"] == CAUTION
     assert data["sar_threshold"]["value"] == 1.05
     assert data["assumptions"] == lib.assumptions
+    assert "limb_flow_ml_min" in data["reference_defaults_used"]
+    assert data["dpc"]["inner_assumed"] is True
 
 
 def test_json_without_cannula_has_null_dpc():
@@ -55,11 +57,12 @@ def test_table_shows_figures_units_threshold_and_caution():
     res = run([*BASE, *DPC])
     assert res.exit_code == 0, res.output
     out = res.output
-    assert "SAR                    0.872  (below the 1.05 threshold: Hayashida" in out
+    assert "SAR                    0.872  (below the 1.05 threshold: Hayashida et al. 2011)" in out
     assert "mm2" in out and "% of the open" in out
     assert "% of the resting flow" in out and "mL/min" in out
     assert "perfusion cannula" in out and "Re " in out
     assert "Assumptions:" in out
+    assert "* rests on reference values, not measurements" in out
     assert f"Caution: {CAUTION}" in out
 
 
@@ -106,6 +109,9 @@ def test_device_larger_than_artery_gives_zero_flow():
          "(give all three cannula options or none)"),
         ([*BASE, *DPC[:-1], "nan"],
          "error: --driving-mmhg: must be a positive number of mmHg, got 'nan'"),
+        ([*BASE[:-4], "--label", "outr", *BASE[-2:]],
+         "error: --label: must be outer or inner, got 'outr' (did you mean 'outer'?)"),
+        ([*BASE, "--format", "yaml"], "error: --format: must be table or json, got 'yaml'"),
         ([*BASE, "--dpc-fr", "1", "--dpc-cm", "15", "--driving-mmhg", "150"],
          "error: sheath-flow: a 1 Fr cannula has no lumen with a 0.20 mm wall"),
     ],

@@ -251,3 +251,18 @@ def test_blood_defaults_are_sourced():
     assert blood["viscosity_pa_s"].value == 0.0035  # Hund et al., Fluids 2017
     assert blood["density_kg_m3"].value == 1060
     assert "Hund" in blood["viscosity_pa_s"].source
+
+
+def test_bundled_table_row_is_reproduced_by_the_solver():
+    # The touching table is the solver's own output at its recorded grid; recomputing a
+    # row guards against a stale table after a solver change (the accuracy itself is
+    # checked against the exact series above).
+    import csv
+
+    from vascplan.paths import data_dir
+
+    with open(data_dir() / "sizing" / "eccentric_annulus_factor.csv", encoding="utf-8") as fh:
+        rows = {row["kappa"]: row for row in csv.DictReader(fh)}
+    row = rows["0.300"]
+    fresh = solve_annulus_factor(0.3, 1.0, int(row["cells"]))
+    assert fresh == pytest.approx(float(row["factor_touching"]), rel=1e-8)

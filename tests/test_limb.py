@@ -98,3 +98,14 @@ def test_longer_occupied_stretch_never_leaves_more_flow(occ, more):
     long = limb_flow_with_device(6.5, 5.5, occ + more)
     assert long.distal_flow_pct_concentric <= short.distal_flow_pct_concentric
     assert long.distal_flow_pct_eccentric <= short.distal_flow_pct_eccentric
+
+
+def test_defaults_used_are_named():
+    assert limb_flow_with_device(8.0, 6.0, 10.0).defaults_used == (
+        "limb_flow_ml_min", "perfusion_mmhg", "viscosity_pa_s", "density_kg_m3"
+    )
+    est = limb_flow_with_device(
+        8.0, 6.0, 10.0, limb_flow_ml_min=300, perfusion_mmhg=70, viscosity_pa_s=0.004,
+        density_kg_m3=1050,
+    )
+    assert est.defaults_used == ()

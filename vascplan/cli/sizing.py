@@ -9,6 +9,7 @@ from typing import Any, cast
 import click
 
 from vascplan.errors import InputError
+from vascplan.fileio import did_you_mean
 from vascplan.safety import CAUTION, REFERENCE_MARK
 from vascplan.sizing.french import Label
 
@@ -34,6 +35,27 @@ class _Positive(click.ParamType):
         return number
 
 
+class _OneOf(click.ParamType):
+    """One of a few words; a wrong word is one InputError line with the nearest choice."""
+
+    name = "choice"
+
+    def __init__(self, *choices: str) -> None:
+        self.choices = choices
+
+    def get_metavar(self, param: click.Parameter, ctx: click.Context | None = None) -> str:
+        return "[" + "|".join(self.choices) + "]"
+
+    def convert(self, value: Any, param: click.Parameter | None, ctx: click.Context | None):
+        if value in self.choices:
+            return value
+        option = param.opts[0] if param is not None and param.opts else "value"
+        allowed = " or ".join(self.choices)
+        raise InputError(
+            option, "", f"must be {allowed}, got {value!r}{did_you_mean(str(value), self.choices)}"
+        )
+
+
 EPILOG = (
     "Example: vascplan sheath-flow --vessel-mm 6.5 --device-fr 17 --label outer "
     "--occupied-cm 15 --dpc-fr 7 --dpc-cm 15 --driving-mmhg 150\n\n"
@@ -50,7 +72,7 @@ EPILOG = (
 @click.option("--device-fr", type=_Positive("Fr"), help="Device size label [Fr].")
 @click.option(
     "--label",
-    type=click.Choice(["outer", "inner"]),
+    type=_OneOf("outer", "inner"),
     help="outer: catheter or cannula (labelled by outer size); inner: introducer sheath.",
 )
 @click.option(
@@ -76,7 +98,7 @@ EPILOG = (
 )
 @click.option(
     "--dpc-label",
-    type=click.Choice(["outer", "inner"]),
+    type=_OneOf("outer", "inner"),
     default="outer",
     show_default=True,
     help="inner when a sheath serves as the perfusion line.",
@@ -99,9 +121,7 @@ EPILOG = (
     default=None,
     help="Blood viscosity [mPa s]; default 3.5.",
 )
-@click.option(
-    "--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True
-)
+@click.option("--format", "fmt", type=_OneOf("table", "json"), default="table", show_default=True)
 def sheath_flow(
     vessel_mm: float | None,
     device_fr: float | None,
@@ -177,25 +197,28 @@ def render_table(result: Any) -> str:
         "wall-allowance": f"assumed {REFERENCE_MARK}",
     }[result.device_od.source]
     open_mm2 = math.pi * result.vessel_mm**2 / 4.0
+    flow_mark = f" {REFERENCE_MARK}" if limb.defaults_used else ""
     lines = [
         f"Device {result.device_fr:g} Fr ({result.label} label) in a {result.vessel_mm:.2f} mm "
         f"artery over {limb.occupied_cm:g} cm",
         "",
         f"  device outer diameter  {result.device_od.mm:.2f} mm ({od_note})",
         f"  SAR                    {result.sar:.3f}  ({side} the {th.value:g} threshold: "
-        f"{th.source}; {th.certainty})",
+        f"{th.short_source})",
         f"  lumen left             {limb.lumen_left_mm2:.2f} mm2 = {limb.lumen_left_pct:.1f} % "
         f"of the open {open_mm2:.2f} mm2",
         f"  distal flow            {limb.distal_flow_pct_concentric:.1f} .. "
         f"{limb.distal_flow_pct_eccentric:.1f} % of the resting flow "
         f"({limb.distal_flow_ml_min_concentric:.0f} .. {limb.distal_flow_ml_min_eccentric:.0f} "
-        f"of {limb.baseline_flow_ml_min:.0f} mL/min; device centred .. against the wall)",
+        f"of {limb.baseline_flow_ml_min:.0f} mL/min; device centred .. against the wall)"
+        f"{flow_mark}",
     ]
     if result.dpc is not None:
         d = result.dpc
         lines.append(
             f"  perfusion cannula      {d.flow_ml_min:.0f} mL/min (inner {d.inner_mm:.2f} mm, "
             f"{d.velocity_m_s:.2f} m/s, Re {d.reynolds:.0f}, {d.regime})"
+            f"{f' {REFERENCE_MARK}' if d.inner_assumed else ''}"
         )
     else:
         lines.append(
@@ -203,5 +226,11 @@ def render_table(result: Any) -> str:
         )
     lines += ["", "Assumptions:"]
     lines += [f"  - {a}" for a in result.assumptions]
+    if (
+        flow_mark
+        or (result.dpc is not None and result.dpc.inner_assumed)
+        or (result.device_od.source == "wall-allowance")
+    ):
+        lines.append(f"  {REFERENCE_MARK} rests on reference values, not measurements (see below)")
     lines += ["", f"Caution: {CAUTION}"]
     return "\n".join(lines)

@@ -25,6 +25,7 @@ class Threshold:
     meaning: str
     source: str
     certainty: str
+    short_source: str = ""
 
 
 @dataclass(frozen=True)
@@ -108,7 +109,9 @@ class SheathFlowAssessment:
                 "regime": self.dpc.regime,
                 "inner_mm": r(self.dpc.inner_mm),
                 "velocity_m_s": r(self.dpc.velocity_m_s),
+                "inner_assumed": self.dpc.inner_assumed,
             },
+            "reference_defaults_used": list(limb.defaults_used),
             "assumptions": list(self.assumptions),
             "caution": CAUTION,
         }
@@ -117,7 +120,9 @@ class SheathFlowAssessment:
 def sar_threshold() -> Threshold:
     """The SFAR threshold of ``data/sizing/thresholds.csv`` (1.05, Hayashida et al. 2011)."""
     value, row = threshold("sfar")
-    return Threshold("sfar", value, row["meaning"], row["source"], row["certainty"])
+    return Threshold(
+        "sfar", value, row["meaning"], row["source"], row["certainty"], row["short_source"]
+    )
 
 
 def assess_sheath_flow(
@@ -187,6 +192,12 @@ def assess_sheath_flow(
             f"{device_fr:g} Fr labelled by outer size: outer diameter {od.mm:.2f} mm "
             "(1 Fr = 1/3 mm)."
         )
+    th = sar_threshold()
+    assumptions.append(
+        f"SAR threshold {th.value:g}: {th.meaning} ({th.source}; {th.certainty}); derived "
+        "from transfemoral valve implantation, weaker with newer smaller devices (Front "
+        "Cardiovasc Med 2021, doi 10.3389/fcvm.2021.738854): a guide, not a limit."
+    )
     limb = limb_flow_with_device(
         vessel_mm,
         od.mm,
@@ -212,7 +223,7 @@ def assess_sheath_flow(
         label=label,
         device_od=od,
         sar=ratio,
-        sar_threshold=sar_threshold(),
+        sar_threshold=th,
         limb=limb,
         dpc=dpc,
         assumptions=assumptions,

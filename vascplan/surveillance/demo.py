@@ -48,7 +48,8 @@ def demo_surveillance(out_dir: Path) -> list[Path]:
     files = [
         atomic_write_text(out / "surveillance-risk.json",
                           json.dumps(doc, indent=2, ensure_ascii=False) + "\n"),
-        atomic_write_text(out / "surveillance-risk.txt", risk_table(assessments, at, unit.unit.name)),
+        atomic_write_text(out / "surveillance-risk.txt",
+                          risk_table(assessments, at, unit.unit.name)),
         atomic_write_text(out / "surveillance-rota.json", rota_json(rota)),
         atomic_write_text(out / "surveillance-rota.txt", rota_table(rota)),
         atomic_write_text(out / "surveillance-rota.csv", rota_csv(rota)),

@@ -177,6 +177,18 @@ def rota_csv(rota: Rota) -> str:
     return f"# {CAUTION}\n" + frame.to_csv(index=False, lineterminator="\n")
 
 
+def _ics_time(value: datetime) -> datetime:
+    """A time to write with its TZID, or in UTC where the local time is ambiguous.
+
+    RFC 5545 s3.3.5: a local time that occurs twice (clocks going back) "refers to the
+    first occurrence", so a check in the repeated hour is written in UTC instead.
+    """
+    other = value.replace(fold=1 - value.fold)
+    if other.utcoffset() != value.utcoffset():
+        return value.astimezone(UTC)
+    return value
+
+
 def rota_ics(
     rota: Rota,
     protocol: Protocol,
@@ -186,7 +198,8 @@ def rota_ics(
     """The rota as an iCalendar file (RFC 5545) written with the ``icalendar`` library.
 
     Each check is a VEVENT with a stable UID (unit, bed, ref, due time), DTSTAMP, DTSTART
-    with the unit's TZID (a VTIMEZONE is included), DTEND, a display VALARM
+    with the unit's TZID (a VTIMEZONE is included; in UTC inside a clock change's
+    repeated hour, where a TZID time would be read as the first occurrence), DTEND, a display VALARM
     :data:`ALARM_BEFORE_MIN` minutes before, and the caution in its description; the
     calendar carries the caution in X-WR-CALDESC.
     """
@@ -207,8 +220,9 @@ def rota_ics(
         due_utc = c.due.astimezone(UTC)
         ev.add("uid", f"{unit_key}-bed{c.bed}-{c.ref}-{due_utc:%Y%m%dT%H%M%SZ}@vascplan")
         ev.add("dtstamp", stamp)
-        ev.add("dtstart", c.time)
-        ev.add("dtend", c.time + length)
+        start = _ics_time(c.time)
+        ev.add("dtstart", start)
+        ev.add("dtend", (start.astimezone(UTC) + length).astimezone(start.tzinfo))
         ev.add("summary", f"Limb check bed {c.bed} {c.ref} ({c.phase})")
         items = "\n".join(f"- {protocol.item_text(i)}" for i in c.items)
         late = "" if c.time == c.due else f"\nDue {iso(c.due)}; staggered to {iso(c.time)}."

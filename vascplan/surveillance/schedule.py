@@ -148,7 +148,7 @@ def patient_schedule(
         over = (
             phase.for_min is not None and due > st.stage_start + timedelta(minutes=phase.for_min)
         ) or (phase.count is not None and st.count >= phase.count)
-        if over and (k >= len(events) or events[k][0] >= due):
+        if over:
             if st.stage + 1 >= len(st.phases):
                 break  # the after-removal phases are done
             if phase.for_min is not None:
