@@ -29,7 +29,7 @@ def test_every_weight_has_a_basis_and_a_factor_uses_it():
     from vascplan.routes import scoring
     src = inspect.getsource(scoring)
     for name in table:
-        assert f'"{name}"' in src or f"cap_{{cap}}" in src
+        assert f'"{name}"' in src or "cap_{cap}" in src
 
 
 def test_score_is_the_sum_of_points():

@@ -65,7 +65,8 @@ def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], device
         mld = view.mld_mm(leg.node, leg.lo_cm, leg.hi_cm)
         step = view.calcification_step(leg.node, leg.lo_cm, leg.hi_cm)
         calcified = step >= CALCIFICATION_GRADES.index("moderate")
-        limit = limits["sar_max_calcified"] if calcified else limits["sar_max"]
+        limit = min(limits["sar_max_calcified"], limits["sar_max"]) if calcified else limits[
+            "sar_max"]
         sar = od / mld if mld > 0 else None
         segments.append({
             "segment": leg.node,
