@@ -31,7 +31,7 @@ EPS_CM = 1e-6
 K_PATHS = 3
 """How many paths to keep per site and direction (the k of the k best)."""
 
-_CANDIDATES_PER_PATH = 4
+_CANDIDATES_PER_PATH = 2
 """Candidates drawn from Yen's algorithm per path kept, to allow for dropped ones."""
 
 _SRC = ("__puncture__", 0.0)
@@ -176,11 +176,15 @@ class PointGraph:
                 self.graph.add_edge((node, x), (node, y), w=y - x)
         for u, v in junctions:
             self.graph.add_edge(u, v, w=0.0)
-        # Edges on a cycle (pedal loop, graft): only a path using one can have rivals.
-        self.cyclic_edges: set[frozenset] = set()
+        # Edges on a cycle (pedal loop, graft), by block: only a path using one can have
+        # rivals, and every rival stays inside the cyclic blocks the shortest one uses.
+        self.block_of: dict[frozenset, int] = {}
+        self.block_nodes: list[set[Any]] = []
         for block in nx.biconnected_component_edges(self.graph):
             if len(block) > 1:
-                self.cyclic_edges.update(frozenset(e) for e in block)
+                self.block_nodes.append({n for e in block for n in e})
+                for e in block:
+                    self.block_of[frozenset(e)] = len(self.block_nodes) - 1
 
     def _place(self, node: str, cm: float, direction: str | None) -> float:
         """Clamp a point inside its node and off every existing junction point."""
@@ -247,30 +251,30 @@ class PointGraph:
         added: list[tuple[Any, Any]] = []
         removed: list[tuple[Any, Any, dict]] = []
 
-        cyclic = set(self.cyclic_edges)
+        block_of = dict(self.block_of)
 
         def split(node: str, cm: float, key: Any, lower: bool, upper: bool) -> None:
             lo, hi = self._neighbours(node, cm)
-            was_cyclic = False
+            block = None
             if lo is not None and hi is not None and g.has_edge((node, lo), (node, hi)):
                 removed.append(((node, lo), (node, hi), dict(g.edges[(node, lo), (node, hi)])))
                 g.remove_edge((node, lo), (node, hi))
-                was_cyclic = frozenset(((node, lo), (node, hi))) in cyclic
+                block = block_of.get(frozenset(((node, lo), (node, hi))))
             if lower and lo is not None:
                 g.add_edge(key, (node, lo), w=cm - lo)
                 added.append((key, (node, lo)))
-                if was_cyclic:
-                    cyclic.add(frozenset((key, (node, lo))))
+                if block is not None:
+                    block_of[frozenset((key, (node, lo)))] = block
             if upper and hi is not None:
                 g.add_edge((node, hi), key, w=hi - cm)
                 added.append(((node, hi), key))
-                if was_cyclic:
-                    cyclic.add(frozenset(((node, hi), key)))
+                if block is not None:
+                    block_of[frozenset(((node, hi), key))] = block
 
         try:
             split(segment, p, _SRC, direction == "retrograde", direction == "antegrade")
             split(target_segment, t, _DST, True, True)
-            return self._k_best(segment, p, target_segment, t, k, cyclic)
+            return self._k_best(segment, p, target_segment, t, k, block_of)
         finally:
             for node in (_SRC, _DST):
                 if node in g:
@@ -279,25 +283,32 @@ class PointGraph:
                 g.add_edge(u, v, **attrs)
 
     def _k_best(self, segment: str, p: float, target_segment: str, t: float,
-                k: int, cyclic: set[frozenset]) -> list[CatheterPath]:
-        if _SRC not in self.graph or _DST not in self.graph:
+                k: int, block_of: dict[frozenset, int]) -> list[CatheterPath]:
+        g = self.graph
+        if _SRC not in g or _DST not in g:
             return []
-        out: list[CatheterPath] = []
         try:
-            candidates: Iterator[list[Any]] = nx.shortest_simple_paths(
-                self.graph, _SRC, _DST, weight="w"
-            )
-            for n, points in enumerate(itertools.islice(candidates, k * _CANDIDATES_PER_PATH)):
-                path = _to_path(points, segment, p, target_segment, t)
-                if path is not None:
-                    out.append(path)
-                if len(out) >= k:
-                    break
-                if n == 0 and not any(frozenset(e) in cyclic
-                                      for e in itertools.pairwise(points)):
-                    break  # the shortest path touches no cycle: it is the only one
+            first = nx.dijkstra_path(g, _SRC, _DST, weight="w")
         except nx.NetworkXNoPath:
-            return out
+            return []
+        blocks = {block_of[e] for e in map(frozenset, itertools.pairwise(first))
+                  if e in block_of}
+        if not blocks:
+            # The shortest path touches no cycle: it is the only simple path.
+            path = _to_path(first, segment, p, target_segment, t)
+            return [path] if path is not None else []
+        # Every simple path runs through the same bridges and the same cyclic blocks:
+        # Yen's search on that small subgraph gives the same paths, much faster.
+        region = set(first).union(*(self.block_nodes[b] for b in blocks), {_SRC, _DST})
+        sub = g.subgraph(region).copy()
+        out: list[CatheterPath] = []
+        candidates: Iterator[list[Any]] = nx.shortest_simple_paths(sub, _SRC, _DST, weight="w")
+        for points in itertools.islice(candidates, k * _CANDIDATES_PER_PATH):
+            path = _to_path(points, segment, p, target_segment, t)
+            if path is not None:
+                out.append(path)
+            if len(out) >= k:
+                break
         return out
 
 
