@@ -169,7 +169,7 @@ def render_explain(plan: dict[str, Any], routes: list[dict[str, Any]]) -> str:
             f" (limit {_num(route['sar_limit'], '.2f', False)}); approach {route['approach']}; "
             f"position {route['position']}")
         lines.append("  hard limits:")
-        broken = {}
+        broken: dict[str, list[dict[str, Any]]] = {}
         for b in route["blocked_by"]:
             broken.setdefault(b["code"], []).append(b)
         for code, meaning in REASON_CODES.items():
