@@ -193,3 +193,51 @@ def test_arm_path_spans_forearm_and_upper_arm(height_cm):
     (route,) = routes_from(plan_case(case), "R-RAD-DIST")
     site = load_sites()["R-RAD-DIST"]
     assert route.length_cm - site.skin_depth_cm == pytest.approx(0.332 * height_cm, rel=0.10)
+
+
+def _brute_force_lengths(tree, segment, puncture_cm, direction, target, target_cm):
+    """Every simple path of the segment graph, its length worked from the junctions.
+
+    An independent method: networkx's enumeration of all simple paths on the tree's own
+    segment graph, lengths summed from ``tree.junction`` positions, against the planner's
+    k best on its point graph.
+    """
+    import networkx as nx
+
+    out = []
+    for nodes in nx.all_simple_paths(tree.graph, segment, target):
+        pos = puncture_cm
+        total = 0.0
+        first_exit = None
+        for a, b in zip(nodes, nodes[1:], strict=False):
+            exit_a, entry_b = tree.junction(a, b)
+            first_exit = exit_a if first_exit is None else first_exit
+            total += abs(exit_a - pos)
+            pos = entry_b
+        total += abs(target_cm - pos)
+        if (first_exit > puncture_cm) == (direction == "antegrade"):
+            out.append(total)
+    return sorted(out)
+
+
+@pytest.mark.parametrize(("site_id", "direction"), [("L-CFA", "antegrade"),
+                                                    ("R-CFA", "retrograde"),
+                                                    ("L-AXA", "retrograde")])
+def test_k_best_agrees_with_brute_force_enumeration(site_id, direction):
+    from vascplan.anatomy.graph import build_tree
+
+    # A graft and both pedal loops give several simple paths to a left posterior tibial
+    # target; the planner's k best lengths are the k smallest of the enumeration.
+    case = make_case(
+        grafts=[{"name": "fem-pop", "from": "L-CFA", "from_cm": 3, "to": "L-POP",
+                 "to_cm": 12, "diameter_mm": 6}],
+        procedure={"target": {"segment": "L-PTA", "at_cm": 12}},
+    )
+    tree = build_tree(case)
+    site = load_sites()[site_id]
+    puncture = site.puncture_cm(tree.graph.nodes[site.segment]["length_cm"])
+    expected = _brute_force_lengths(tree, site.segment, puncture, direction, "L-PTA", 12)
+    got = sorted(r.length_cm - site.skin_depth_cm
+                 for r in routes_from(plan_case(case), site_id, direction))
+    assert len(expected) >= 3
+    assert got == pytest.approx(expected[:3], abs=1e-3)

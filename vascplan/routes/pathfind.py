@@ -19,7 +19,6 @@ from __future__ import annotations
 
 import bisect
 import itertools
-from collections.abc import Iterator
 from dataclasses import dataclass
 from typing import Any
 
@@ -284,6 +283,7 @@ class PointGraph:
 
     def _k_best(self, segment: str, p: float, target_segment: str, t: float,
                 k: int, block_of: dict[frozenset, int]) -> list[CatheterPath]:
+        """The k shortest paths from the inserted puncture to the inserted target."""
         g = self.graph
         if _SRC not in g or _DST not in g:
             return []
@@ -297,19 +297,51 @@ class PointGraph:
             # The shortest path touches no cycle: it is the only simple path.
             path = _to_path(first, segment, p, target_segment, t)
             return [path] if path is not None else []
-        # Every simple path runs through the same bridges and the same cyclic blocks:
-        # Yen's search on that small subgraph gives the same paths, much faster.
-        region = set(first).union(*(self.block_nodes[b] for b in blocks), {_SRC, _DST})
-        sub = g.subgraph(region).copy()
+        # Every simple path runs through the same bridges and, within each cyclic block
+        # the shortest path crosses, between the same two points: the k best overall are
+        # the best combinations of each block's k best (Yen's search inside the block).
+        runs = _block_runs(first, block_of)
+        options: list[list[tuple[float, list[Any]]]] = []
+        for b, i, j in runs:
+            nodes = set(self.block_nodes[b]) | {n for e, blk in block_of.items() if blk == b
+                                                for n in e}
+            sub = g.subgraph(nodes)
+            inner = itertools.islice(
+                nx.shortest_simple_paths(sub, first[i], first[j], weight="w"),
+                k * _CANDIDATES_PER_PATH)
+            options.append([(nx.path_weight(sub, q, "w"), q) for q in inner])
+        combos = sorted(
+            (sum(c[0] for c in choice), choice) for choice in itertools.product(*options)
+        )
         out: list[CatheterPath] = []
-        candidates: Iterator[list[Any]] = nx.shortest_simple_paths(sub, _SRC, _DST, weight="w")
-        for points in itertools.islice(candidates, k * _CANDIDATES_PER_PATH):
+        for _cost, choice in combos:
+            points: list[Any] = []
+            last = 0
+            for (_b, i, j), (_w, inner_path) in zip(runs, choice, strict=True):
+                points.extend(first[last:i])
+                points.extend(inner_path)
+                last = j + 1
+            points.extend(first[last:])
             path = _to_path(points, segment, p, target_segment, t)
             if path is not None:
                 out.append(path)
             if len(out) >= k:
                 break
         return out
+
+
+def _block_runs(points: list[Any], block_of: dict[frozenset, int]) -> list[tuple[int, int, int]]:
+    """(block, first index, last index) of each stretch of a path inside one cyclic block."""
+    runs: list[tuple[int, int, int]] = []
+    for i, edge in enumerate(itertools.pairwise(points)):
+        b = block_of.get(frozenset(edge))
+        if b is None:
+            continue
+        if runs and runs[-1][0] == b and runs[-1][2] == i:
+            runs[-1] = (b, runs[-1][1], i + 1)
+        else:
+            runs.append((b, i, i + 1))
+    return runs
 
 
 def _to_path(points: list[Any], segment: str, p: float, target_segment: str,
