@@ -106,11 +106,6 @@ class Route:
         """Sum of the factors' points; lower is better."""
         return sum(f.points for f in self.factors)
 
-    @property
-    def key(self) -> str:
-        """``SITE direction`` (with the path when a site has several)."""
-        return f"{self.site} {self.direction}"
-
     def sort_key(self) -> tuple:
         """Feasible first (unreachable last), then lower score, shorter path, site id."""
         length = self.length_cm if self.length_cm is not None else float("inf")
