@@ -100,6 +100,7 @@ def step_tree(ctx: DemoContext) -> None:
 DEMO_STEPS: list[tuple[str, DemoStep | str]] = [
     ("validate the example cases", step_validate),
     ("annotated arterial trees", step_tree),
+    ("access route plans", "vascplan.routes.demo:step_plan"),
     (
         "limb surveillance: risk and rota of the demo unit",
         "vascplan.surveillance.demo:step_surveillance",
