@@ -191,7 +191,8 @@ def check_value(item: str, value: str) -> str:
     word = text.lower()
     if word not in spec.values:
         raise ValueError(
-            f"{item} value {text!r} is not allowed{did_you_mean(word, spec.values)}; "
+            # No "did you mean" here: a near spelling of a clinical grade may be the wrong grade.
+            f"{item} value {text!r} is not allowed; "
             f"use one of {', '.join(spec.values)}"
         )
     return word
