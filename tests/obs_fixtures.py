@@ -47,7 +47,10 @@ def db_url(request, tmp_path):  # type: ignore[no-untyped-def]
             conn.exec_driver_sql(f'CREATE SCHEMA "{schema}"')
     except sa.exc.OperationalError as exc:
         admin.dispose()
-        pytest.skip(f"PostgreSQL store tests skipped: the server in VASCPLAN_TEST_PG_URL cannot be reached ({exc.orig})")
+        pytest.skip(
+            "PostgreSQL store tests skipped: the server in VASCPLAN_TEST_PG_URL cannot be "
+            f"reached ({exc.orig})"
+        )
     sep = "&" if "?" in PG_URL else "?"
     yield f"{PG_URL}{sep}options={quote(f'-csearch_path={schema}')}"
     with admin.begin() as conn:

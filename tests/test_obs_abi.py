@@ -17,8 +17,14 @@ from vascplan.observations.abi import ankle_brachial_index, band_of
 
 # (index, band) at and either side of every boundary the 2016 guideline states.
 GUIDELINE_2016 = [
-    (0.50, "abnormal"), (0.90, "abnormal"), (0.91, "borderline"), (0.99, "borderline"),
-    (1.00, "normal"), (1.40, "normal"), (1.41, "noncompressible"), (2.00, "noncompressible"),
+    (0.50, "abnormal"),
+    (0.90, "abnormal"),
+    (0.91, "borderline"),
+    (0.99, "borderline"),
+    (1.00, "normal"),
+    (1.40, "normal"),
+    (1.41, "noncompressible"),
+    (2.00, "noncompressible"),
 ]
 
 
@@ -37,7 +43,9 @@ def test_higher_ankle_over_higher_arm():
 
 
 def test_two_decimals():
-    assert ankle_brachial_index({"DPA": 99}, {"R": 110, "L": 100}).index == 0.90  # 0.9 exactly: abnormal
+    assert (
+        ankle_brachial_index({"DPA": 99}, {"R": 110, "L": 100}).index == 0.90
+    )  # 0.9 exactly: abnormal
     assert ankle_brachial_index({"PTA": 146}, {"R": 104, "L": 100}).index == 1.40  # 1.4038: normal
 
 

@@ -17,24 +17,58 @@ from vascplan.observations.ali import CATEGORIES, category_names, classify_leg, 
 # arterial Doppler, venous Doppler (the standard's wording).
 RUTHERFORD_1997 = [
     ("I", "Viable", "None", "None", "Audible", "Audible"),
-    ("IIa", "Marginally threatened", "Minimal (toes) or none", "None", "(Often) inaudible", "Audible"),
-    ("IIb", "Immediately threatened", "More than toes, associated with rest pain", "Mild, moderate",
-     "(Usually) inaudible", "Audible"),
-    ("III", "Irreversible", "Profound, anesthetic", "Profound, paralysis (rigor)", "Inaudible", "Inaudible"),
+    (
+        "IIa",
+        "Marginally threatened",
+        "Minimal (toes) or none",
+        "None",
+        "(Often) inaudible",
+        "Audible",
+    ),
+    (
+        "IIb",
+        "Immediately threatened",
+        "More than toes, associated with rest pain",
+        "Mild, moderate",
+        "(Usually) inaudible",
+        "Audible",
+    ),
+    (
+        "III",
+        "Irreversible",
+        "Profound, anesthetic",
+        "Profound, paralysis (rigor)",
+        "Inaudible",
+        "Inaudible",
+    ),
 ]
 
 # How our bedside words stand for the standard's (the mapping under test).
-SENSORY = {"None": ["normal"], "Minimal (toes) or none": ["toes", "normal"],
-           "More than toes, associated with rest pain": ["beyond-toes"], "Profound, anesthetic": ["absent"]}
-MOTOR = {"None": ["normal"], "Mild, moderate": ["weak"], "Profound, paralysis (rigor)": ["paralysed"]}
-DOPPLER = {"Audible": ["audible"], "(Often) inaudible": ["inaudible"], "(Usually) inaudible": ["inaudible"],
-           "Inaudible": ["inaudible"]}
+SENSORY = {
+    "None": ["normal"],
+    "Minimal (toes) or none": ["toes", "normal"],
+    "More than toes, associated with rest pain": ["beyond-toes"],
+    "Profound, anesthetic": ["absent"],
+}
+MOTOR = {
+    "None": ["normal"],
+    "Mild, moderate": ["weak"],
+    "Profound, paralysis (rigor)": ["paralysed"],
+}
+DOPPLER = {
+    "Audible": ["audible"],
+    "(Often) inaudible": ["inaudible"],
+    "(Usually) inaudible": ["inaudible"],
+    "Inaudible": ["inaudible"],
+}
 
 
 @pytest.mark.parametrize("row", RUTHERFORD_1997, ids=[r[0] for r in RUTHERFORD_1997])
 def test_each_row_of_the_table_gives_its_category(row):
     category, name, sensory, motor, arterial, venous = row
-    for s, m, a, v in itertools.product(SENSORY[sensory], MOTOR[motor], DOPPLER[arterial], DOPPLER[venous]):
+    for s, m, a, v in itertools.product(
+        SENSORY[sensory], MOTOR[motor], DOPPLER[arterial], DOPPLER[venous]
+    ):
         result = classify_leg(s, m, a, v)
         assert result.category == category, (s, m, a, v)
         assert result.name == name
@@ -53,7 +87,7 @@ def test_venous_signal_lost_is_category_iii():
 def test_wording_in_data_is_the_standards():
     table = finding_table()
     words = {g.wording for g in table.values()}
-    for _, _, sensory, motor, arterial, venous in RUTHERFORD_1997:
+    for _, _, sensory, motor, _arterial, venous in RUTHERFORD_1997:
         assert {sensory, motor, venous} <= words
     assert "(Often) inaudible" in words
     assert all("J Vasc Surg 1997;26:517" in g.source for g in table.values())
@@ -67,8 +101,12 @@ def test_missing_required_finding_gives_no_category():
 
 
 def test_a_worse_finding_never_lowers_the_category():
-    order = {"sensation": ["normal", "toes", "beyond-toes", "absent"], "motor": ["normal", "weak", "paralysed"],
-             "arterial": ["audible", "inaudible"], "venous": ["audible", "inaudible"]}
+    order = {
+        "sensation": ["normal", "toes", "beyond-toes", "absent"],
+        "motor": ["normal", "weak", "paralysed"],
+        "arterial": ["audible", "inaudible"],
+        "venous": ["audible", "inaudible"],
+    }
     keys = list(order)
     for combo in itertools.product(*order.values()):
         base = CATEGORIES.index(classify_leg(*combo).category)

@@ -37,10 +37,39 @@ def test_fhir_bundle_validates_and_carries_codes(tmp_path, db_url):  # noqa: F81
         "2026-12-01T16:00,1,DEMO-11,RN-A,pressure,R-ARM,130\n"
     )
     assert run("obs", "import", p, "--unit", UNIT, "--db", db_url).exit_code == 0
-    assert run("obs", "correct", "--entry", 1, "--value", "61", "--by", "RN-B", "--reason", "misread",
-               "--db", db_url).exit_code == 0
-    assert run("obs", "correct", "--entry", 3, "--withdraw", "--by", "RN-B", "--reason", "wrong bed",
-               "--db", db_url).exit_code == 0
+    assert (
+        run(
+            "obs",
+            "correct",
+            "--entry",
+            1,
+            "--value",
+            "61",
+            "--by",
+            "RN-B",
+            "--reason",
+            "misread",
+            "--db",
+            db_url,
+        ).exit_code
+        == 0
+    )
+    assert (
+        run(
+            "obs",
+            "correct",
+            "--entry",
+            3,
+            "--withdraw",
+            "--by",
+            "RN-B",
+            "--reason",
+            "wrong bed",
+            "--db",
+            db_url,
+        ).exit_code
+        == 0
+    )
     out = tmp_path / "b.json"
     r = run("obs", "export", "--unit", UNIT, "--format", "fhir", "-o", out, "--db", db_url)
     assert r.exit_code == 0, r.output
@@ -57,7 +86,12 @@ def test_fhir_bundle_validates_and_carries_codes(tmp_path, db_url):  # noqa: F81
     # Standard codes, as confirmed (REFERENCES.md): capillary refill LOINC 44963-7,
     # pain severity 0-10 LOINC 72514-3, ankle brachial index SNOMED CT 446841001.
     (refill,) = by_code[("http://loinc.org", "44963-7")]
-    assert refill["valueQuantity"] == {"value": 3.0, "unit": "s", "system": "http://unitsofmeasure.org", "code": "s"}
+    assert refill["valueQuantity"] == {
+        "value": 3.0,
+        "unit": "s",
+        "system": "http://unitsofmeasure.org",
+        "code": "s",
+    }
     (pain,) = by_code[("http://loinc.org", "72514-3")]
     assert pain["status"] == "entered-in-error" and "valueInteger" not in pain
     (abi,) = by_code[("http://snomed.info/sct", "446841001")]
@@ -74,20 +108,31 @@ def test_fhir_bundle_validates_and_carries_codes(tmp_path, db_url):  # noqa: F81
     assert len({e["fullUrl"] for e in doc["entry"]}) == len(doc["entry"])
     # fhir.resources does not check value sets: the R4 ObservationStatus codes (FHIR R4,
     # valueset-observation-status) are checked here.
-    r4_status = {"registered", "preliminary", "final", "amended", "corrected", "cancelled",
-                 "entered-in-error", "unknown"}
+    r4_status = {
+        "registered",
+        "preliminary",
+        "final",
+        "amended",
+        "corrected",
+        "cancelled",
+        "entered-in-error",
+        "unknown",
+    }
     assert {o["status"] for o in obs} <= r4_status
 
 
-@pytest.mark.parametrize(("field", "bad"), [("effectiveDateTime", "yesterday"), ("valueCodeable", {}),
-                                            ("status", None)])
+@pytest.mark.parametrize(
+    ("field", "bad"), [("effectiveDateTime", "yesterday"), ("valueCodeable", {}), ("status", None)]
+)
 def test_fhir_validator_catches_a_broken_bundle(tmp_path, db_url, field, bad):  # noqa: F811
     # The validation above can fail: fhir.resources refuses a bad datatype, an unknown
     # element or a missing required one (it does not check value sets, hence the status test).
     p = tmp_path / "c.csv"
     p.write_text("time,bed,ref,by,item,site,value\n2026-12-01T16:00,1,DEMO-11,RN-A,nirs,R,64\n")
     assert run("obs", "import", p, "--unit", UNIT, "--db", db_url).exit_code == 0
-    doc = json.loads(run("obs", "export", "--unit", UNIT, "--format", "fhir", "--db", db_url).output)
+    doc = json.loads(
+        run("obs", "export", "--unit", UNIT, "--format", "fhir", "--db", db_url).output
+    )
     if bad is None:
         del doc["entry"][0]["resource"][field]
     else:

@@ -11,8 +11,6 @@ import time
 from datetime import datetime, timedelta
 from pathlib import Path
 
-import pytest
-
 from tests.obs_fixtures import UNIT, db_url  # noqa: F401 - fixture
 from vascplan.observations.store import open_store
 
@@ -52,7 +50,8 @@ PAUSING_IMPORT = textwrap.dedent("""
             Path(marker).write_text(str(sent))
             time.sleep(60)
     with open_store(db) as store:
-        store.record(findings, unit=unit.unit.name, kind="import", source=csv_path, progress=progress)
+        store.record(findings, unit=unit.unit.name, kind="import", source=csv_path,
+                     progress=progress)
 """)
 
 
@@ -70,14 +69,35 @@ def _wait_for(path: Path, proc: subprocess.Popen, timeout_s: float = 20) -> None
 def test_sigkill_mid_import_leaves_all_or_none(tmp_path, db_url):  # noqa: F811
     before = _csv(tmp_path / "before.csv", datetime(2026, 11, 20, 0, 0), 50)
     big = _csv(tmp_path / "big.csv", datetime(2026, 11, 21, 0, 0), BIG_ROWS)
-    r = subprocess.run([sys.executable, "-m", "vascplan", "obs", "import", str(before), "--unit", str(UNIT),
-                        "--db", db_url], env=_env(), capture_output=True, text=True, cwd=tmp_path)
+    r = subprocess.run(
+        [
+            sys.executable,
+            "-m",
+            "vascplan",
+            "obs",
+            "import",
+            str(before),
+            "--unit",
+            str(UNIT),
+            "--db",
+            db_url,
+        ],
+        env=_env(),
+        capture_output=True,
+        text=True,
+        cwd=tmp_path,
+    )
     assert r.returncode == 0, r.stderr
     # Killed at a known point inside the transaction, three times: nothing of it stays.
     for attempt in range(3):
         marker = tmp_path / f"marker{attempt}"
-        proc = subprocess.Popen([sys.executable, "-c", PAUSING_IMPORT, db_url, str(big), str(marker), str(UNIT)],
-                                env=_env(), stderr=subprocess.PIPE, text=True, cwd=tmp_path)
+        proc = subprocess.Popen(
+            [sys.executable, "-c", PAUSING_IMPORT, db_url, str(big), str(marker), str(UNIT)],
+            env=_env(),
+            stderr=subprocess.PIPE,
+            text=True,
+            cwd=tmp_path,
+        )
         _wait_for(marker, proc)
         os.kill(proc.pid, signal.SIGKILL)
         proc.wait()
@@ -85,9 +105,24 @@ def test_sigkill_mid_import_leaves_all_or_none(tmp_path, db_url):  # noqa: F811
             assert store.count(UNIT_NAME) == 50, f"attempt {attempt}"
             assert [e.value for e in store.entries(UNIT_NAME)][:3] == ["50", "51", "52"]
     # Killed through the real command at a moment of chance: all of it or none, never part.
-    proc = subprocess.Popen([sys.executable, "-m", "vascplan", "obs", "import", str(big), "--unit", str(UNIT),
-                             "--db", db_url], env=_env(), stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL,
-                            cwd=tmp_path)
+    proc = subprocess.Popen(
+        [
+            sys.executable,
+            "-m",
+            "vascplan",
+            "obs",
+            "import",
+            str(big),
+            "--unit",
+            str(UNIT),
+            "--db",
+            db_url,
+        ],
+        env=_env(),
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.DEVNULL,
+        cwd=tmp_path,
+    )
     time.sleep(0.9)
     os.kill(proc.pid, signal.SIGKILL)
     proc.wait()
@@ -121,13 +156,39 @@ WRITER = textwrap.dedent("""
 def test_two_writers_at_once_lose_nothing(tmp_path, db_url):  # noqa: F811
     n = 30
     # Both start on a store that does not exist yet: creating and migrating it races too.
-    procs = [subprocess.Popen([sys.executable, "-c", WRITER, db_url, site, str(n)], env=_env(),
-                              stderr=subprocess.PIPE, text=True, cwd=tmp_path) for site in ("L", "R")]
+    procs = [
+        subprocess.Popen(
+            [sys.executable, "-c", WRITER, db_url, site, str(n)],
+            env=_env(),
+            stderr=subprocess.PIPE,
+            text=True,
+            cwd=tmp_path,
+        )
+        for site in ("L", "R")
+    ]
     a = _csv(tmp_path / "a.csv", datetime(2026, 11, 26, 0, 0), 400, site="L")
     b = _csv(tmp_path / "b.csv", datetime(2026, 11, 26, 0, 0), 400, site="R")
-    imports = [subprocess.Popen([sys.executable, "-m", "vascplan", "obs", "import", str(p), "--unit", str(UNIT),
-                                 "--db", db_url], env=_env(), stderr=subprocess.PIPE, text=True, cwd=tmp_path)
-               for p in (a, b)]
+    imports = [
+        subprocess.Popen(
+            [
+                sys.executable,
+                "-m",
+                "vascplan",
+                "obs",
+                "import",
+                str(p),
+                "--unit",
+                str(UNIT),
+                "--db",
+                db_url,
+            ],
+            env=_env(),
+            stderr=subprocess.PIPE,
+            text=True,
+            cwd=tmp_path,
+        )
+        for p in (a, b)
+    ]
     for p in procs + imports:
         _, err = p.communicate(timeout=120)
         assert p.returncode == 0, err
@@ -136,6 +197,8 @@ def test_two_writers_at_once_lose_nothing(tmp_path, db_url):  # noqa: F811
         assert len(rows) == 2 * n
         assert {(e.site, e.time) for e in rows} == {
             (s, datetime(2026, 11, 25, tzinfo=rows[0].time.tzinfo) + timedelta(minutes=i))
-            for s in ("L", "R") for i in range(n)}
+            for s in ("L", "R")
+            for i in range(n)
+        }
         assert store.count(UNIT_NAME) == 800
         assert store.version() == 3

@@ -37,9 +37,17 @@ def test_trend_pages_and_marks(tmp_path):
     unit = _unit_two_beds(tmp_path)
     db = tmp_path / "o.db"
     rows = ["time,bed,ref,by,item,site,value"]
-    for hh, r_nirs, dpa in (("16:00", 66, "doppler"), ("17:00", 64, "doppler"), ("18:00", 48, "absent")):
-        rows += [f"2026-12-01T{hh},1,DEMO-11,RN-A,nirs,L,68", f"2026-12-01T{hh},1,DEMO-11,RN-A,nirs,R,{r_nirs}",
-                 f"2026-12-01T{hh},1,DEMO-11,RN-A,refill,R,2", f"2026-12-01T{hh},1,DEMO-11,RN-A,pulse,R-DPA,{dpa}"]
+    for hh, r_nirs, dpa in (
+        ("16:00", 66, "doppler"),
+        ("17:00", 64, "doppler"),
+        ("18:00", 48, "absent"),
+    ):
+        rows += [
+            f"2026-12-01T{hh},1,DEMO-11,RN-A,nirs,L,68",
+            f"2026-12-01T{hh},1,DEMO-11,RN-A,nirs,R,{r_nirs}",
+            f"2026-12-01T{hh},1,DEMO-11,RN-A,refill,R,2",
+            f"2026-12-01T{hh},1,DEMO-11,RN-A,pulse,R-DPA,{dpa}",
+        ]
     rows.append("2026-12-01T16:00,2,DEMO-<b>&12,RN-A,nirs,L,70")
     (tmp_path / "c.csv").write_text("\n".join(rows) + "\n")
     assert run("obs", "import", tmp_path / "c.csv", "--unit", unit, "--db", db).exit_code == 0
@@ -61,7 +69,19 @@ def test_trend_pages_and_marks(tmp_path):
 
 def test_trend_one_bed(tmp_path):
     out = tmp_path / "t.pdf"
-    r = run("obs", "trend", UNIT, "--bed", 1, "-o", out, "--at", "2026-12-01T18:00", "--db", tmp_path / "o.db")
+    r = run(
+        "obs",
+        "trend",
+        UNIT,
+        "--bed",
+        1,
+        "-o",
+        out,
+        "--at",
+        "2026-12-01T18:00",
+        "--db",
+        tmp_path / "o.db",
+    )
     assert r.exit_code == 0, r.output
     (page,) = _text(out)
     assert "0 checks recorded" in page and "Open now: check-overdue" in page

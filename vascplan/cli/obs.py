@@ -62,18 +62,30 @@ def _item_options(f):  # type: ignore[no-untyped-def]
     return f
 
 
-@obs.command("add", epilog=(
-    "Example: vascplan obs add --unit unit.yaml --bed 1 --time 2026-12-01T16:00 --by RN-A "
-    "--pulse R-DPA=doppler --pulse R-PTA=palpable --nirs L=68 --nirs R=64 --refill R=2 "
-    "--sensation R=normal --motor R=normal --calf R=soft --pain 2 --access R=dry --dpc ok"
-))
-@click.option("--unit", "unit_path", required=True, type=click.Path(dir_okay=False), help="Unit file.")
+@obs.command(
+    "add",
+    epilog=(
+        "Example: vascplan obs add --unit unit.yaml --bed 1 --time 2026-12-01T16:00 --by RN-A "
+        "--pulse R-DPA=doppler --pulse R-PTA=palpable --nirs L=68 --nirs R=64 --refill R=2 "
+        "--sensation R=normal --motor R=normal --calf R=soft --pain 2 --access R=dry --dpc ok"
+    ),
+)
+@click.option(
+    "--unit", "unit_path", required=True, type=click.Path(dir_okay=False), help="Unit file."
+)
 @click.option("--bed", type=int, required=True, help="Bed number.")
-@click.option("--time", "time_text", required=True, help="When the check was made (ISO 8601; local to the unit without an offset).")
+@click.option(
+    "--time",
+    "time_text",
+    required=True,
+    help="When the check was made (ISO 8601; local to the unit without an offset).",
+)
 @click.option("--by", "by", required=True, help="Who made the check (staff id).")
 @_item_options
 @_db_option
-def add(unit_path: str, bed: int, time_text: str, by: str, db: str | None, **items: tuple[str, ...]) -> None:
+def add(
+    unit_path: str, bed: int, time_text: str, by: str, db: str | None, **items: tuple[str, ...]
+) -> None:
     """Record one check: each item option is one finding (repeat an option for each site)."""
     from vascplan.observations.findings import make_finding, split_option
     from vascplan.observations.store import open_store
@@ -87,8 +99,16 @@ def add(unit_path: str, bed: int, time_text: str, by: str, db: str | None, **ite
         for text in items[name]:
             site, value = split_option(text)
             findings.append(
-                make_finding(time=moment, bed=bed, ref=patient.ref, by=by, item=name, site=site,
-                             value=value, source=f"--{name}")
+                make_finding(
+                    time=moment,
+                    bed=bed,
+                    ref=patient.ref,
+                    by=by,
+                    item=name,
+                    site=site,
+                    value=value,
+                    source=f"--{name}",
+                )
             )
     if not findings:
         raise InputError("add", "", "give at least one finding, e.g. --nirs L=64 (see --help)")
@@ -98,13 +118,17 @@ def add(unit_path: str, bed: int, time_text: str, by: str, db: str | None, **ite
             raise InputError(f"--{key[0]}", "", f"site {key[1] or '(none)'} is given twice")
     with open_store(db) as store:
         ids = store.record(findings, unit=unit.unit.name, kind="add", source="obs add")
-    click.echo(f"stored {len(ids)} findings for bed {bed} ({patient.ref}) at {moment.isoformat()}: "
-               f"entries {ids[0]}-{ids[-1]} in {store.shown}")
+    click.echo(
+        f"stored {len(ids)} findings for bed {bed} ({patient.ref}) at {moment.isoformat()}: "
+        f"entries {ids[0]}-{ids[-1]} in {store.shown}"
+    )
 
 
 @obs.command("import", epilog="Example: vascplan obs import night-checks.csv --unit unit.yaml")
 @click.argument("csv_path", metavar="FILE.csv", type=click.Path(dir_okay=False))
-@click.option("--unit", "unit_path", required=True, type=click.Path(dir_okay=False), help="Unit file.")
+@click.option(
+    "--unit", "unit_path", required=True, type=click.Path(dir_okay=False), help="Unit file."
+)
 @_db_option
 def import_(csv_path: str, unit_path: str, db: str | None) -> None:
     """Store a long-form CSV of findings: the whole file, or nothing when any row is bad."""
@@ -114,12 +138,20 @@ def import_(csv_path: str, unit_path: str, db: str | None) -> None:
     unit = _unit(unit_path)
     findings, lines = parse_csv(csv_path, unit)
     with open_store(db) as store:
-        ids = store.record(findings, unit=unit.unit.name, kind="import", source=csv_path, lines=lines)
+        ids = store.record(
+            findings, unit=unit.unit.name, kind="import", source=csv_path, lines=lines
+        )
     click.echo(f"stored {len(ids)} findings from {csv_path} in {store.shown}")
 
 
 @obs.command("template", epilog="Example: vascplan obs template -o checks.csv")
-@click.option("-o", "--output", type=click.Path(dir_okay=False), default=None, help="Write here instead of standard output.")
+@click.option(
+    "-o",
+    "--output",
+    type=click.Path(dir_okay=False),
+    default=None,
+    help="Write here instead of standard output.",
+)
 def template(output: str | None) -> None:
     """Write the CSV template for `obs import` (header and one example row per item)."""
     from vascplan.fileio import atomic_write_text
@@ -133,16 +165,28 @@ def template(output: str | None) -> None:
         click.echo(text, nl=False)
 
 
-@obs.command("correct", epilog=(
-    "Example: vascplan obs correct --entry 42 --value 61 --by RN-B --reason \"misread the monitor\""
-))
-@click.option("--entry", "entry_id", type=int, required=True, help="Entry id to correct (see `obs export --format csv`).")
+@obs.command(
+    "correct",
+    epilog=(
+        "Example: vascplan obs correct --entry 42 --value 61 --by RN-B "
+        '--reason "misread the monitor"'
+    ),
+)
+@click.option(
+    "--entry",
+    "entry_id",
+    type=int,
+    required=True,
+    help="Entry id to correct (see `obs export --format csv`).",
+)
 @click.option("--value", default=None, help="The right value (same vocabulary as the item).")
 @click.option("--withdraw", is_flag=True, help="Mark the finding as entered in error instead.")
 @click.option("--by", "by", required=True, help="Who makes the correction.")
 @click.option("--reason", required=True, help="Why.")
 @_db_option
-def correct(entry_id: int, value: str | None, withdraw: bool, by: str, reason: str, db: str | None) -> None:
+def correct(
+    entry_id: int, value: str | None, withdraw: bool, by: str, reason: str, db: str | None
+) -> None:
     """Correct a stored finding: a new entry pointing to it; the original is kept."""
     from vascplan.observations.store import open_store
 
@@ -153,13 +197,20 @@ def correct(entry_id: int, value: str | None, withdraw: bool, by: str, reason: s
     click.echo(f"stored correction {new_id} of entry {entry_id} in {store.shown}")
 
 
-@obs.command("review", epilog=(
-    "Exit status: 0 no alert open, 1 at least one alert open (an overdue check is an alert), "
-    "2 bad input.\n\nExample: vascplan obs review unit.yaml --at 2026-12-01T20:00 --format json"
-))
+@obs.command(
+    "review",
+    epilog=(
+        "Exit status: 0 no alert open, 1 at least one alert open (an overdue check is an alert), "
+        "2 bad input.\n\nExample: vascplan obs review unit.yaml --at 2026-12-01T20:00 --format json"
+    ),
+)
 @click.argument("unit_path", metavar="UNIT", type=click.Path(dir_okay=False))
-@click.option("--at", "at_text", default=None, help="Review as at this time (ISO 8601; default now).")
-@click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
+@click.option(
+    "--at", "at_text", default=None, help="Review as at this time (ISO 8601; default now)."
+)
+@click.option(
+    "--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True
+)
 @_db_option
 def review(unit_path: str, at_text: str | None, fmt: str, db: str | None) -> None:
     """Overdue checks and deterioration per patient, with the rule, source and whom to call."""
@@ -179,11 +230,17 @@ def review(unit_path: str, at_text: str | None, fmt: str, db: str | None) -> Non
 
 @obs.command("trend", epilog="Example: vascplan obs trend unit.yaml --bed 1 -o bed1-trend.pdf")
 @click.argument("unit_path", metavar="UNIT", type=click.Path(dir_okay=False))
-@click.option("--bed", "beds", type=int, multiple=True, help="Bed (repeat for several; default every bed).")
-@click.option("-o", "--output", type=click.Path(dir_okay=False), required=True, help="PDF file to write.")
+@click.option(
+    "--bed", "beds", type=int, multiple=True, help="Bed (repeat for several; default every bed)."
+)
+@click.option(
+    "-o", "--output", type=click.Path(dir_okay=False), required=True, help="PDF file to write."
+)
 @click.option("--at", "at_text", default=None, help="Plot up to this time (ISO 8601; default now).")
 @_db_option
-def trend(unit_path: str, beds: tuple[int, ...], output: str, at_text: str | None, db: str | None) -> None:
+def trend(
+    unit_path: str, beds: tuple[int, ...], output: str, at_text: str | None, db: str | None
+) -> None:
     """Trend PDF: each leg's NIRS, capillary refill and pedal signals, one page a patient."""
     from vascplan.observations.store import open_store
     from vascplan.observations.trend import write_trend_pdf
@@ -198,10 +255,20 @@ def trend(unit_path: str, beds: tuple[int, ...], output: str, at_text: str | Non
     click.echo(f"wrote {output} ({len(patients)} pages)")
 
 
-@obs.command("export", epilog="Example: vascplan obs export --unit unit.yaml --format fhir -o obs.json")
-@click.option("--unit", "unit_path", required=True, type=click.Path(dir_okay=False), help="Unit file.")
+@obs.command(
+    "export", epilog="Example: vascplan obs export --unit unit.yaml --format fhir -o obs.json"
+)
+@click.option(
+    "--unit", "unit_path", required=True, type=click.Path(dir_okay=False), help="Unit file."
+)
 @click.option("--format", "fmt", type=click.Choice(["fhir", "csv"]), required=True)
-@click.option("-o", "--output", type=click.Path(dir_okay=False), default=None, help="Write here instead of standard output.")
+@click.option(
+    "-o",
+    "--output",
+    type=click.Path(dir_okay=False),
+    default=None,
+    help="Write here instead of standard output.",
+)
 @_db_option
 def export(unit_path: str, fmt: str, output: str | None, db: str | None) -> None:
     """Export the unit's findings: an HL7 FHIR R4 Bundle, or the long-form CSV with corrections."""
@@ -218,7 +285,12 @@ def export(unit_path: str, fmt: str, output: str | None, db: str | None) -> None
     else:
         from vascplan.observations.fhir import bundle
 
-        text = json.dumps(bundle(unit, rows, generated=datetime.now(UTC)), indent=2, ensure_ascii=False) + "\n"
+        text = (
+            json.dumps(
+                bundle(unit, rows, generated=datetime.now(UTC)), indent=2, ensure_ascii=False
+            )
+            + "\n"
+        )
     if output:
         atomic_write_text(output, text, mode=0o600)
         click.echo(f"wrote {output} ({len(rows)} stored rows)")

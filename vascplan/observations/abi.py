@@ -85,9 +85,7 @@ def band_of(index: float) -> str:
     raise ValueError(f"ABI {index} falls in no band of data/observations/abi_bands.csv")
 
 
-def ankle_brachial_index(
-    ankle_mmhg: dict[str, float], arm_mmhg: dict[str, float]
-) -> AbiResult:
+def ankle_brachial_index(ankle_mmhg: dict[str, float], arm_mmhg: dict[str, float]) -> AbiResult:
     """One leg's ankle-brachial index (Aboyans et al. 2012).
 
     Parameters

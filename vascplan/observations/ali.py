@@ -44,9 +44,15 @@ def finding_table() -> dict[tuple[str, str], FindingGrade]:
     table = {}
     for r in rows:
         if r["category_at_least"] not in CATEGORIES:
-            raise ValueError(f"data/observations/ali_findings.csv: unknown category {r['category_at_least']!r}")
+            raise ValueError(
+                f"data/observations/ali_findings.csv: unknown category {r['category_at_least']!r}"
+            )
         table[(r["finding"], r["our_value"])] = FindingGrade(
-            r["finding"], r["our_value"], r["category_at_least"], r["reporting_standard_wording"], r["source"]
+            r["finding"],
+            r["our_value"],
+            r["category_at_least"],
+            r["reporting_standard_wording"],
+            r["source"],
         )
     return table
 
@@ -54,7 +60,9 @@ def finding_table() -> dict[tuple[str, str], FindingGrade]:
 @lru_cache(maxsize=1)
 def category_names() -> dict[str, str]:
     """``category -> "Viable"`` etc. from ``data/observations/ali_categories.csv``."""
-    with open(data_dir() / "observations" / "ali_categories.csv", newline="", encoding="utf-8") as fh:
+    with open(
+        data_dir() / "observations" / "ali_categories.csv", newline="", encoding="utf-8"
+    ) as fh:
         return {r["category"]: r["name"] for r in csv.DictReader(fh)}
 
 

@@ -67,17 +67,19 @@ def _read_text(path: str | os.PathLike[str]) -> str:
     if p.is_dir():
         raise InputError(src, "", "is a folder, expected a CSV file")
     if size > MAX_CSV_BYTES:
-        raise InputError(src, "", f"file is {size:,} bytes, larger than the {MAX_CSV_BYTES:,} allowed")
+        raise InputError(
+            src, "", f"file is {size:,} bytes, larger than the {MAX_CSV_BYTES:,} allowed"
+        )
     try:
         text = p.read_bytes().decode("utf-8")
     except UnicodeDecodeError as exc:
-        raise InputError(src, "", f"not UTF-8 text (byte {exc.start}); save the file as UTF-8") from None
+        raise InputError(
+            src, "", f"not UTF-8 text (byte {exc.start}); save the file as UTF-8"
+        ) from None
     return text.removeprefix("\ufeff")
 
 
-def parse_csv(
-    path: str | os.PathLike[str], unit: Unit
-) -> tuple[list[Finding], list[int]]:
+def parse_csv(path: str | os.PathLike[str], unit: Unit) -> tuple[list[Finding], list[int]]:
     """Read and validate an observation CSV against ``unit``; return findings and their lines.
 
     Every row is checked before anything is returned: times (naive times are local to
@@ -96,13 +98,17 @@ def parse_csv(
     try:
         header = next(reader)
     except StopIteration:
-        raise InputError(src, "", "file is empty; the first line must be " + ",".join(COLUMNS)) from None
+        raise InputError(
+            src, "", "file is empty; the first line must be " + ",".join(COLUMNS)
+        ) from None
     except csv.Error as exc:
         raise InputError(src, "line 1", f"CSV error: {exc}") from None
     header = [h.strip().lower() for h in header]
     if tuple(header) != COLUMNS:
         raise InputError(
-            src, "line 1", f"the header must be exactly {','.join(COLUMNS)} (got {','.join(header)})"
+            src,
+            "line 1",
+            f"the header must be exactly {','.join(COLUMNS)} (got {','.join(header)})",
         )
     tz = unit.unit.tz
     findings: list[Finding] = []
@@ -114,7 +120,9 @@ def parse_csv(
             if not any(cell.strip() for cell in row):
                 continue
             if len(row) != len(COLUMNS):
-                raise InputError(src, f"line {n}", f"expected {len(COLUMNS)} columns, got {len(row)}")
+                raise InputError(
+                    src, f"line {n}", f"expected {len(COLUMNS)} columns, got {len(row)}"
+                )
             cells = dict(zip(COLUMNS, (c.strip() for c in row), strict=True))
             findings.append(_row_finding(cells, unit, tz, src, n))
             lines.append(n)
@@ -122,8 +130,10 @@ def parse_csv(
             key = (f.bed, f.time, f.item, f.site)
             if key in seen:
                 raise InputError(
-                    src, f"line {n}",
-                    f"repeats {f.item} {f.site} for bed {f.bed} at the same time as line {seen[key]}",
+                    src,
+                    f"line {n}",
+                    f"repeats {f.item} {f.site} for bed {f.bed} at the same time as "
+                    f"line {seen[key]}",
                 )
             seen[key] = n
     except csv.Error as exc:
@@ -144,19 +154,29 @@ def _row_finding(cells: dict[str, str], unit: Unit, tz, src: str, n: int) -> Fin
     try:
         bed = int(cells["bed"])
     except ValueError:
-        raise InputError(src, f"{where}bed", f"must be a bed number, got {cells['bed']!r}") from None
+        raise InputError(
+            src, f"{where}bed", f"must be a bed number, got {cells['bed']!r}"
+        ) from None
     try:
         patient = unit.patient_at_bed(bed, src)
     except InputError as exc:
         raise InputError(src, f"{where}bed", exc.message) from None
     if cells["ref"] != patient.ref:
         raise InputError(
-            src, f"{where}ref",
+            src,
+            f"{where}ref",
             f"bed {bed} holds {patient.ref} in the unit file, not {cells['ref']!r}",
         )
     return make_finding(
-        time=moment, bed=bed, ref=patient.ref, by=cells["by"], item=cells["item"],
-        site=cells["site"], value=cells["value"], source=src, where=where,
+        time=moment,
+        bed=bed,
+        ref=patient.ref,
+        by=cells["by"],
+        item=cells["item"],
+        site=cells["site"],
+        value=cells["value"],
+        source=src,
+        where=where,
     )
 
 
@@ -176,8 +196,19 @@ def export_rows(rows: Sequence) -> str:  # Sequence[Entry]
     w.writerow(EXPORT_COLUMNS)
     for e in rows:
         w.writerow(
-            (e.time_local, e.bed, _safe_cell(e.ref), _safe_cell(e.by), e.item, e.site, e.value,
-             e.id, e.corrects or "", _safe_cell(e.reason or ""), latest.get(e.id, ""))
+            (
+                e.time_local,
+                e.bed,
+                _safe_cell(e.ref),
+                _safe_cell(e.by),
+                e.item,
+                e.site,
+                e.value,
+                e.id,
+                e.corrects or "",
+                _safe_cell(e.reason or ""),
+                latest.get(e.id, ""),
+            )
         )
     return out.getvalue()
 

@@ -29,7 +29,7 @@ SNOMED = "http://snomed.info/sct"
 UCUM = "http://unitsofmeasure.org"
 CATEGORY_SYSTEM = "http://terminology.hl7.org/CodeSystem/observation-category"
 LOCAL_ITEM = "urn:vascplan:obs"
-"""Local code system of our items (``nirs``, ``pulse``...): used where no standard code was confirmed."""
+"""Local code system of our items (``nirs``, ``pulse``...), where no standard code was confirmed."""
 LOCAL_VALUE = "urn:vascplan:obs-value"
 """Local code system of our categorical values (``doppler``, ``tense``...)."""
 LOCAL_SITE = "urn:vascplan:site"
@@ -45,7 +45,11 @@ STANDARD_CODES: dict[str, tuple[str, str, str]] = {
 }
 """Items with a confirmed standard code. ``pulse`` keeps a local code: LOINC 44974-4 is
 pulse intensity *by palpation*, and our grade ``doppler`` is not a palpation finding."""
-ABI_CODE = (SNOMED, "446841001", "ankle brachial pressure index, SNOMED CT 446841001 (REFERENCES.md, seen)")
+ABI_CODE = (
+    SNOMED,
+    "446841001",
+    "ankle brachial pressure index, SNOMED CT 446841001 (REFERENCES.md, seen)",
+)
 
 
 def _full_url(unit: str, key: str) -> str:
@@ -68,8 +72,17 @@ def _value(item: str, value: str) -> dict[str, Any]:
     if spec.numeric:
         if spec.integer:
             return {"valueInteger": int(float(value))}
-        return {"valueQuantity": {"value": float(value), "unit": spec.unit, "system": UCUM, "code": spec.unit}}
-    return {"valueCodeableConcept": {"coding": [{"system": LOCAL_VALUE, "code": value}], "text": value}}
+        return {
+            "valueQuantity": {
+                "value": float(value),
+                "unit": spec.unit,
+                "system": UCUM,
+                "code": spec.unit,
+            }
+        }
+    return {
+        "valueCodeableConcept": {"coding": [{"system": LOCAL_VALUE, "code": value}], "text": value}
+    }
 
 
 def _observation(unit: str, f: CurrentFinding) -> dict[str, Any]:
@@ -86,7 +99,10 @@ def _observation(unit: str, f: CurrentFinding) -> dict[str, Any]:
         "status": status,
         "category": [{"coding": [{"system": CATEGORY_SYSTEM, "code": "exam"}]}],
         "code": _code(e.item),
-        "subject": {"identifier": {"system": PATIENT_REF, "value": e.ref}, "display": f"{e.ref} (bed {e.bed})"},
+        "subject": {
+            "identifier": {"system": PATIENT_REF, "value": e.ref},
+            "display": f"{e.ref} (bed {e.bed})",
+        },
         "effectiveDateTime": e.time_local,
         "issued": (fix or e).entered_at.isoformat(),
         "performer": [{"identifier": {"system": STAFF_ID, "value": e.by}, "display": e.by}],
@@ -95,14 +111,19 @@ def _observation(unit: str, f: CurrentFinding) -> dict[str, Any]:
     if e.site:
         res["bodySite"] = {"coding": [{"system": LOCAL_SITE, "code": e.site}], "text": e.site}
     if fix is not None:
-        res["note"] = [{
-            "text": f"Corrected by {fix.by} at {fix.entered_at.isoformat()} (entry {fix.id}): {fix.reason}. "
-                    f"Original value {e.value!r} recorded by {e.by} (entry {e.id}).",
-        }]
+        res["note"] = [
+            {
+                "text": f"Corrected by {fix.by} at {fix.entered_at.isoformat()} (entry {fix.id}): "
+                f"{fix.reason}. "
+                f"Original value {e.value!r} recorded by {e.by} (entry {e.id}).",
+            }
+        ]
     return res
 
 
-def _abi_observations(unit: Unit, findings: list[CurrentFinding], urls: dict[int, str]) -> list[dict[str, Any]]:
+def _abi_observations(
+    unit: Unit, findings: list[CurrentFinding], urls: dict[int, str]
+) -> list[dict[str, Any]]:
     out = []
     by_ref: dict[str, list[CurrentFinding]] = {}
     for f in findings:
@@ -112,26 +133,41 @@ def _abi_observations(unit: Unit, findings: list[CurrentFinding], urls: dict[int
         latest = {f.site: f for f in rows}  # time order: the latest per site wins
         arms = {s[0]: float(latest[s].value) for s in ("L-ARM", "R-ARM") if s in latest}
         for side in SIDES:
-            ankle_rows = {a: latest[f"{side}-{a}"] for a in ("PTA", "DPA") if f"{side}-{a}" in latest}
+            ankle_rows = {
+                a: latest[f"{side}-{a}"] for a in ("PTA", "DPA") if f"{side}-{a}" in latest
+            }
             r = ankle_brachial_index({a: float(f.value) for a, f in ankle_rows.items()}, arms)
             if r.index is None:
                 continue
             used = list(ankle_rows.values()) + [latest[f"{s}-ARM"] for s in arms]
             when = max(f.time for f in used)
             system, code, _ = ABI_CODE
-            out.append({
-                "resourceType": "Observation",
-                "status": "final",
-                "category": [{"coding": [{"system": CATEGORY_SYSTEM, "code": "exam"}]}],
-                "code": {"coding": [{"system": system, "code": code}], "text": "ankle-brachial index"},
-                "subject": {"identifier": {"system": PATIENT_REF, "value": ref}, "display": ref},
-                "effectiveDateTime": when.astimezone(unit.unit.tz).isoformat(),
-                "bodySite": {"coding": [{"system": LOCAL_SITE, "code": side}], "text": side},
-                "valueQuantity": {"value": r.index, "unit": "1", "system": UCUM, "code": "1"},
-                "interpretation": [{"text": f"{r.band} (2016 AHA/ACC bands)"}],
-                "derivedFrom": [{"reference": urls[f.entry.id]} for f in used],
-                "note": [{"text": f"Computed per Aboyans et al., Circulation 2012;126:2890: {r.basis}."}],
-            })
+            out.append(
+                {
+                    "resourceType": "Observation",
+                    "status": "final",
+                    "category": [{"coding": [{"system": CATEGORY_SYSTEM, "code": "exam"}]}],
+                    "code": {
+                        "coding": [{"system": system, "code": code}],
+                        "text": "ankle-brachial index",
+                    },
+                    "subject": {
+                        "identifier": {"system": PATIENT_REF, "value": ref},
+                        "display": ref,
+                    },
+                    "effectiveDateTime": when.astimezone(unit.unit.tz).isoformat(),
+                    "bodySite": {"coding": [{"system": LOCAL_SITE, "code": side}], "text": side},
+                    "valueQuantity": {"value": r.index, "unit": "1", "system": UCUM, "code": "1"},
+                    "interpretation": [{"text": f"{r.band} (2016 AHA/ACC bands)"}],
+                    "derivedFrom": [{"reference": urls[f.entry.id]} for f in used],
+                    "note": [
+                        {
+                            "text": "Computed per Aboyans et al., Circulation 2012;126:2890: "
+                            f"{r.basis}."
+                        }
+                    ],
+                }
+            )
     return out
 
 
@@ -166,7 +202,11 @@ def bundle(unit: Unit, rows: Sequence[Entry], generated: datetime) -> dict[str, 
         entries.append({"fullUrl": _full_url(name, key), "resource": obs})
     return {
         "resourceType": "Bundle",
-        "meta": {"tag": [{"system": "urn:vascplan:notice", "code": "decision-support", "display": CAUTION}]},
+        "meta": {
+            "tag": [
+                {"system": "urn:vascplan:notice", "code": "decision-support", "display": CAUTION}
+            ]
+        },
         "type": "collection",
         "timestamp": generated.replace(microsecond=0).isoformat(),
         "entry": entries,

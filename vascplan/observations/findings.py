@@ -72,30 +72,69 @@ ITEMS: dict[str, ItemSpec] = {
     spec.name: spec
     for spec in (
         ItemSpec("pulse", "artery", PULSE_GRADES, meaning="pedal or leg pulse at one artery"),
-        ItemSpec("venous", "artery-or-side", ("present", "absent"), meaning="venous Doppler signal"),
+        ItemSpec(
+            "venous", "artery-or-side", ("present", "absent"), meaning="venous Doppler signal"
+        ),
         # 0-100: a saturation is a percentage.
-        ItemSpec("nirs", "side", number_range=(0, 100), unit="%",
-                 meaning="calf tissue oxygen saturation by NIRS, percent"),
+        ItemSpec(
+            "nirs",
+            "side",
+            number_range=(0, 100),
+            unit="%",
+            meaning="calf tissue oxygen saturation by NIRS, percent",
+        ),
         # 0-20 s: common practice, a range that catches slips (normal is under 2-3 s).
-        ItemSpec("refill", "side", number_range=(0, 20), unit="s",
-                 meaning="capillary refill time, seconds"),
+        ItemSpec(
+            "refill",
+            "side",
+            number_range=(0, 20),
+            unit="s",
+            meaning="capillary refill time, seconds",
+        ),
         ItemSpec("colour", "side", ("normal", "pale", "mottled", "blue"), meaning="skin colour"),
-        ItemSpec("temperature", "side", ("warm", "cool", "cold"),
-                 meaning="skin temperature to touch"),
-        ItemSpec("sensation", "side", ("normal", "toes", "beyond-toes", "absent"),
-                 meaning="sensation: normal, lost in the toes, lost beyond the toes, absent"),
-        ItemSpec("motor", "side", ("normal", "weak", "paralysed"), meaning="movement of foot and toes"),
+        ItemSpec(
+            "temperature", "side", ("warm", "cool", "cold"), meaning="skin temperature to touch"
+        ),
+        ItemSpec(
+            "sensation",
+            "side",
+            ("normal", "toes", "beyond-toes", "absent"),
+            meaning="sensation: normal, lost in the toes, lost beyond the toes, absent",
+        ),
+        ItemSpec(
+            "motor", "side", ("normal", "weak", "paralysed"), meaning="movement of foot and toes"
+        ),
         ItemSpec("calf", "side", ("soft", "tense"), meaning="calf tension"),
         # 0-10: the numeric pain rating scale.
-        ItemSpec("pain", "optional-side", number_range=(0, 10), integer=True, unit="{score}",
-                 meaning="pain score 0-10"),
-        ItemSpec("access", "optional-side", ("dry", "ooze", "bleeding", "haematoma"),
-                 meaning="access-site finding"),
-        ItemSpec("dpc", "optional-side", ("ok", "kinked", "no-flow"),
-                 meaning="distal perfusion cannula: connection and flow"),
+        ItemSpec(
+            "pain",
+            "optional-side",
+            number_range=(0, 10),
+            integer=True,
+            unit="{score}",
+            meaning="pain score 0-10",
+        ),
+        ItemSpec(
+            "access",
+            "optional-side",
+            ("dry", "ooze", "bleeding", "haematoma"),
+            meaning="access-site finding",
+        ),
+        ItemSpec(
+            "dpc",
+            "optional-side",
+            ("ok", "kinked", "no-flow"),
+            meaning="distal perfusion cannula: connection and flow",
+        ),
         # 0-300 mmHg: common practice, a range that catches slips.
-        ItemSpec("pressure", "artery-or-arm", number_range=(0, 300), integer=False, unit="mm[Hg]",
-                 meaning="systolic pressure at an ankle artery or an arm, mmHg"),
+        ItemSpec(
+            "pressure",
+            "artery-or-arm",
+            number_range=(0, 300),
+            integer=False,
+            unit="mm[Hg]",
+            meaning="systolic pressure at an ankle artery or an arm, mmHg",
+        ),
     )
 }
 
@@ -192,8 +231,7 @@ def check_value(item: str, value: str) -> str:
     if word not in spec.values:
         raise ValueError(
             # No "did you mean" here: a near spelling of a clinical grade may be the wrong grade.
-            f"{item} value {text!r} is not allowed; "
-            f"use one of {', '.join(spec.values)}"
+            f"{item} value {text!r} is not allowed; use one of {', '.join(spec.values)}"
         )
     return word
 
@@ -209,8 +247,16 @@ def check_item(item: str) -> str:
 
 
 def make_finding(
-    *, time: datetime, bed: int, ref: str, by: str, item: str, site: str, value: str,
-    source: str, where: str = "",
+    *,
+    time: datetime,
+    bed: int,
+    ref: str,
+    by: str,
+    item: str,
+    site: str,
+    value: str,
+    source: str,
+    where: str = "",
 ) -> Finding:
     """Validate one finding; every mistake is an :class:`InputError`.
 
@@ -235,7 +281,11 @@ def make_finding(
         raise InputError(source, f"{where}value", str(exc)) from None
     by = by.strip()
     if not by or len(by) > 60:
-        raise InputError(source, f"{where}by", "who made the check is required (a staff id, at most 60 characters)")
+        raise InputError(
+            source,
+            f"{where}by",
+            "who made the check is required (a staff id, at most 60 characters)",
+        )
     return Finding(time, bed, ref, by, word, canonical_site, canonical_value)
 
 

@@ -1,4 +1,4 @@
-"""Review of the record: overdue checks and deterioration, each alert with its rule and whom to call.
+"""Review of the record: overdue checks and deterioration, each alert with whom to call.
 
 For each patient of a unit, as at a moment ``at``:
 
@@ -30,7 +30,10 @@ from vascplan.surveillance.protocol import Protocol, load_protocol
 from vascplan.surveillance.schedule import patient_schedule
 from vascplan.surveillance.unit import Patient, Unit
 
-ALI_SOURCE = "Rutherford et al., J Vasc Surg 1997;26:517 (clinical categories of acute limb ischaemia)"
+NO_CALL = "the protocol names no one for this finding; follow local policy"
+ALI_SOURCE = (
+    "Rutherford et al., J Vasc Surg 1997;26:517 (clinical categories of acute limb ischaemia)"
+)
 ABI_SOURCE = (
     "ABI per Aboyans et al., Circulation 2012;126:2890 (AHA scientific statement); "
     "bands per the 2016 AHA/ACC lower-extremity PAD guideline"
@@ -50,23 +53,66 @@ class Rule:
 RULES: dict[str, Rule] = {
     r.id: r
     for r in (
-        Rule("check-overdue", (), "the protocol's schedule and tolerance", "a scheduled check was not recorded"),
-        Rule("nirs-fall", ("nirs-fall",), "protocol review threshold nirs_relative_fall_pct",
-             "calf NIRS fell from baseline by at least the threshold"),
-        Rule("nirs-limb-difference", ("nirs-fall",), "protocol review threshold nirs_limb_difference_pct",
-             "calf NIRS differs between the legs by at least the threshold"),
-        Rule("nirs-floor", ("nirs-fall",), "protocol review threshold nirs_absolute_floor_pct",
-             "calf NIRS below the absolute floor"),
-        Rule("refill-slow", (), "protocol review threshold capillary_refill_slow_s",
-             "capillary refill slower than the threshold"),
-        Rule("pedal-signal-lost", ("pulse-lost",), "common practice (a lost pedal signal that was present)",
-             "a pedal pulse or Doppler signal present at baseline or an earlier check is now absent"),
-        Rule("ali-category", ("ali-{category}",), ALI_SOURCE,
-             "acute limb ischaemia category IIa or worse"),
-        Rule("calf-tense", ("compartment",), "compartment syndrome signs (REFERENCES.md, seen)",
-             "a tense calf"),
-        Rule("access-bleeding", ("bleeding",), "common practice", "bleeding or haematoma at the access site"),
-        Rule("dpc-fault", ("dpc-fault",), "common practice", "distal perfusion cannula kinked or without flow"),
+        Rule(
+            "check-overdue",
+            (),
+            "the protocol's schedule and tolerance",
+            "a scheduled check was not recorded",
+        ),
+        Rule(
+            "nirs-fall",
+            ("nirs-fall",),
+            "protocol review threshold nirs_relative_fall_pct",
+            "calf NIRS fell from baseline by at least the threshold",
+        ),
+        Rule(
+            "nirs-limb-difference",
+            ("nirs-fall",),
+            "protocol review threshold nirs_limb_difference_pct",
+            "calf NIRS differs between the legs by at least the threshold",
+        ),
+        Rule(
+            "nirs-floor",
+            ("nirs-fall",),
+            "protocol review threshold nirs_absolute_floor_pct",
+            "calf NIRS below the absolute floor",
+        ),
+        Rule(
+            "refill-slow",
+            (),
+            "protocol review threshold capillary_refill_slow_s",
+            "capillary refill slower than the threshold",
+        ),
+        Rule(
+            "pedal-signal-lost",
+            ("pulse-lost",),
+            "common practice (a lost pedal signal that was present)",
+            "a pedal pulse or Doppler signal present at baseline or an earlier check is now absent",
+        ),
+        Rule(
+            "ali-category",
+            ("ali-{category}",),
+            ALI_SOURCE,
+            "acute limb ischaemia category IIa or worse",
+        ),
+        Rule(
+            "calf-tense",
+            ("compartment",),
+            "compartment syndrome signs (REFERENCES.md, seen)",
+            "a tense calf",
+        ),
+        Rule(
+            "access-bleeding",
+            ("bleeding",),
+            "common practice",
+            "bleeding or haematoma at the access site",
+        ),
+        Rule(
+            "dpc-fault",
+            ("dpc-fault",),
+            "common practice",
+            "distal perfusion cannula kinked or without flow",
+        ),
         Rule("abi-abnormal", (), ABI_SOURCE, "ankle-brachial index 0.90 or below"),
     )
 }
@@ -151,7 +197,9 @@ class UnitReview:
 # ---------------------------------------------------------------------------
 
 
-def _escalate(protocol: Protocol, rule: Rule, category: str | None = None) -> tuple[str | None, int | None, str | None, str]:
+def _escalate(
+    protocol: Protocol, rule: Rule, category: str | None = None
+) -> tuple[str | None, int | None, str | None, str]:
     ids: tuple[str, ...] = rule.escalation
     if category is not None:
         ids = _ALI_ESCALATION_FALLBACK.get(category, ())
@@ -159,13 +207,25 @@ def _escalate(protocol: Protocol, rule: Rule, category: str | None = None) -> tu
     for i, eid in enumerate(ids):
         if eid in known:
             e = known[eid]
-            note = "" if i == 0 else f" (the protocol has no {ids[0]} criterion; its {eid} criterion used)"
+            note = (
+                ""
+                if i == 0
+                else f" (the protocol has no {ids[0]} criterion; its {eid} criterion used)"
+            )
             return f"{e.call} (within {e.within_min} min){note}", e.within_min, e.id, e.source
     return None, None, None, ""
 
 
-def _alert(protocol: Protocol, rule_id: str, detail: str, *, side: str | None = None,
-           time: datetime | None = None, extra_source: str = "", category: str | None = None) -> Alert:
+def _alert(
+    protocol: Protocol,
+    rule_id: str,
+    detail: str,
+    *,
+    side: str | None = None,
+    time: datetime | None = None,
+    extra_source: str = "",
+    category: str | None = None,
+) -> Alert:
     rule = RULES[rule_id]
     call, within, eid, _ = _escalate(protocol, rule, category)
     source = rule.source + (f": {extra_source}" if extra_source else "")
@@ -218,12 +278,15 @@ def review_patient(
     out.overdue = overdue_checks(unit, patient, protocol, times, at)
     if out.overdue:
         first = out.overdue[0]
-        out.alerts.append(_alert(
-            protocol, "check-overdue",
-            f"{len(out.overdue)} scheduled check(s) not recorded; the first was due "
-            f"{_hm(first.due, tz)} ({first.minutes_late} min ago)",
-            extra_source=f"protocol {protocol.name!r}",
-        ))
+        out.alerts.append(
+            _alert(
+                protocol,
+                "check-overdue",
+                f"{len(out.overdue)} scheduled check(s) not recorded; the first was due "
+                f"{_hm(first.due, tz)} ({first.minutes_late} min ago)",
+                extra_source=f"protocol {protocol.name!r}",
+            )
+        )
     latest = _latest(findings)
     thresholds = protocol.review
     _nirs_rules(out, patient, protocol, findings, latest, tz)
@@ -232,11 +295,17 @@ def review_patient(
     for side in SIDES:
         f = latest.get(("refill", side))
         if f is not None and float(f.value) > slow.value:
-            out.alerts.append(_alert(
-                protocol, "refill-slow",
-                f"{side} capillary refill {f.value} s at {_hm(f.time, tz)} (slow above {slow.value:g} s)",
-                side=side, time=f.time, extra_source=slow.source,
-            ))
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "refill-slow",
+                    f"{side} capillary refill {f.value} s at {_hm(f.time, tz)} "
+                    f"(slow above {slow.value:g} s)",
+                    side=side,
+                    time=f.time,
+                    extra_source=slow.source,
+                )
+            )
 
     _pedal_rules(out, patient, protocol, findings, latest, tz)
 
@@ -244,45 +313,87 @@ def review_patient(
         sens = latest.get(("sensation", side))
         motor = latest.get(("motor", side))
         out.ali[side] = classify_leg(
-            sens.value if sens else None, motor.value if motor else None,
-            _arterial(latest, side), _venous(latest, side),
+            sens.value if sens else None,
+            motor.value if motor else None,
+            _arterial(latest, side),
+            _venous(latest, side),
         )
         cat = out.ali[side].category
         if cat in ("IIa", "IIb", "III"):
-            out.alerts.append(_alert(
-                protocol, "ali-category",
-                f"{side} leg category {cat} ({out.ali[side].name}): " + "; ".join(out.ali[side].basis),
-                side=side, category=cat,
-            ))
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "ali-category",
+                    f"{side} leg category {cat} ({out.ali[side].name}): "
+                    + "; ".join(out.ali[side].basis),
+                    side=side,
+                    category=cat,
+                )
+            )
 
     for side, word, rule in (("calf", "tense", "calf-tense"),):
         for leg in SIDES:
             f = latest.get((side, leg))
             if f is not None and f.value == word:
-                out.alerts.append(_alert(protocol, rule, f"{leg} calf tense at {_hm(f.time, tz)}",
-                                         side=leg, time=f.time))
+                out.alerts.append(
+                    _alert(
+                        protocol,
+                        rule,
+                        f"{leg} calf tense at {_hm(f.time, tz)}",
+                        side=leg,
+                        time=f.time,
+                    )
+                )
     for (item, site), f in latest.items():
         if item == "access" and f.value in ("bleeding", "haematoma"):
-            out.alerts.append(_alert(protocol, "access-bleeding",
-                                     f"access site {site or ''} {f.value} at {_hm(f.time, tz)}".replace("  ", " "),
-                                     side=site or None, time=f.time))
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "access-bleeding",
+                    f"access site {site or ''} {f.value} at {_hm(f.time, tz)}".replace("  ", " "),
+                    side=site or None,
+                    time=f.time,
+                )
+            )
         if item == "dpc" and f.value in ("kinked", "no-flow"):
-            out.alerts.append(_alert(protocol, "dpc-fault", f"distal perfusion cannula {f.value} at {_hm(f.time, tz)}",
-                                     side=site or None, time=f.time))
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "dpc-fault",
+                    f"distal perfusion cannula {f.value} at {_hm(f.time, tz)}",
+                    side=site or None,
+                    time=f.time,
+                )
+            )
 
-    arms = {s[0]: float(latest[("pressure", s)].value) for s in ("L-ARM", "R-ARM") if ("pressure", s) in latest}
+    arms = {
+        s[0]: float(latest[("pressure", s)].value)
+        for s in ("L-ARM", "R-ARM")
+        if ("pressure", s) in latest
+    }
     for side in SIDES:
-        ankle = {a: float(latest[("pressure", f"{side}-{a}")].value)
-                 for a in ("PTA", "DPA") if ("pressure", f"{side}-{a}") in latest}
+        ankle = {
+            a: float(latest[("pressure", f"{side}-{a}")].value)
+            for a in ("PTA", "DPA")
+            if ("pressure", f"{side}-{a}") in latest
+        }
         out.abi[side] = ankle_brachial_index(ankle, arms)
         r = out.abi[side]
         if r.band == "abnormal":
-            out.alerts.append(_alert(protocol, "abi-abnormal", f"{side} ABI {r.index:.2f} ({r.basis})", side=side))
+            out.alerts.append(
+                _alert(protocol, "abi-abnormal", f"{side} ABI {r.index:.2f} ({r.basis})", side=side)
+            )
     return out
 
 
-def _nirs_rules(out: PatientReview, patient: Patient, protocol: Protocol, findings: list[CurrentFinding],
-                latest: dict, tz) -> None:  # type: ignore[no-untyped-def]
+def _nirs_rules(
+    out: PatientReview,
+    patient: Patient,
+    protocol: Protocol,
+    findings: list[CurrentFinding],
+    latest: dict,
+    tz,
+) -> None:  # type: ignore[no-untyped-def]
     th = protocol.review
     for side in SIDES:
         f = latest.get(("nirs", side))
@@ -293,65 +404,114 @@ def _nirs_rules(out: PatientReview, patient: Patient, protocol: Protocol, findin
             base, basis = float(patient.baseline.nirs[side]), "baseline in the unit file"
         else:
             first = next(x for x in findings if x.item == "nirs" and x.site == side)
-            base, basis = float(first.value), f"first recorded value at {_hm(first.time, tz)} (no baseline in the unit file)"
+            base, basis = (
+                float(first.value),
+                f"first recorded value at {_hm(first.time, tz)} (no baseline in the unit file)",
+            )
             if first is f:
                 base = float("nan")
         if base == base and base > 0:
             fall = (base - value) / base * 100
             if fall >= th.nirs_relative_fall_pct.value:
-                out.alerts.append(_alert(
-                    protocol, "nirs-fall",
-                    f"{side} NIRS {value:g}% at {_hm(f.time, tz)} is {fall:.0f}% below {base:g}% ({basis}); "
-                    f"threshold {th.nirs_relative_fall_pct.value:g}% relative fall",
-                    side=side, time=f.time, extra_source=f"{th.nirs_relative_fall_pct.source}; {th.note}",
-                ))
+                out.alerts.append(
+                    _alert(
+                        protocol,
+                        "nirs-fall",
+                        f"{side} NIRS {value:g}% at {_hm(f.time, tz)} is {fall:.0f}% below "
+                        f"{base:g}% ({basis}); "
+                        f"threshold {th.nirs_relative_fall_pct.value:g}% relative fall",
+                        side=side,
+                        time=f.time,
+                        extra_source=f"{th.nirs_relative_fall_pct.source}; {th.note}",
+                    )
+                )
         floor = th.nirs_absolute_floor_pct.value
         if value < floor:
-            out.alerts.append(_alert(
-                protocol, "nirs-floor", f"{side} NIRS {value:g}% at {_hm(f.time, tz)} is below {floor:g}%",
-                side=side, time=f.time, extra_source=f"{th.nirs_absolute_floor_pct.source}; {th.note}",
-            ))
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "nirs-floor",
+                    f"{side} NIRS {value:g}% at {_hm(f.time, tz)} is below {floor:g}%",
+                    side=side,
+                    time=f.time,
+                    extra_source=f"{th.nirs_absolute_floor_pct.source}; {th.note}",
+                )
+            )
     left, right = latest.get(("nirs", "L")), latest.get(("nirs", "R"))
     if left is not None and right is not None and left.time == right.time:
         diff = abs(float(left.value) - float(right.value))
         limit = th.nirs_limb_difference_pct.value
         if diff >= limit:
             low = "L" if float(left.value) < float(right.value) else "R"
-            out.alerts.append(_alert(
-                protocol, "nirs-limb-difference",
-                f"NIRS L {left.value}% vs R {right.value}% at {_hm(left.time, tz)}: {diff:g} points apart "
-                f"(threshold {limit:g} points); {low} is lower",
-                side=low, time=left.time, extra_source=f"{th.nirs_limb_difference_pct.source}; {th.note}",
-            ))
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "nirs-limb-difference",
+                    f"NIRS L {left.value}% vs R {right.value}% at {_hm(left.time, tz)}: "
+                    f"{diff:g} points apart "
+                    f"(threshold {limit:g} points); {low} is lower",
+                    side=low,
+                    time=left.time,
+                    extra_source=f"{th.nirs_limb_difference_pct.source}; {th.note}",
+                )
+            )
 
 
-def _pedal_rules(out: PatientReview, patient: Patient, protocol: Protocol, findings: list[CurrentFinding],
-                 latest: dict, tz) -> None:  # type: ignore[no-untyped-def]
+def _pedal_rules(
+    out: PatientReview,
+    patient: Patient,
+    protocol: Protocol,
+    findings: list[CurrentFinding],
+    latest: dict,
+    tz,
+) -> None:  # type: ignore[no-untyped-def]
     for (item, site), f in sorted(latest.items()):
         if item != "pulse" or f.value != "absent" or site.split("-")[1] not in PEDAL_ARTERIES:
             continue
-        earlier = [x for x in findings if x.item == "pulse" and x.site == site and x.time < f.time
-                   and x.value in ("palpable", "doppler")]
-        base = patient.baseline.pulses.get(site) in ("palpable", "doppler") or \
-            patient.baseline.doppler.get(site) == "present"
+        earlier = [
+            x
+            for x in findings
+            if x.item == "pulse"
+            and x.site == site
+            and x.time < f.time
+            and x.value in ("palpable", "doppler")
+        ]
+        base = (
+            patient.baseline.pulses.get(site) in ("palpable", "doppler")
+            or patient.baseline.doppler.get(site) == "present"
+        )
         if earlier or base:
-            was = (f"{earlier[-1].value} at {_hm(earlier[-1].time, tz)}" if earlier
-                   else "present at baseline (unit file)")
-            out.alerts.append(_alert(
-                protocol, "pedal-signal-lost", f"{site} absent at {_hm(f.time, tz)}; was {was}",
-                side=site[0], time=f.time,
-            ))
+            was = (
+                f"{earlier[-1].value} at {_hm(earlier[-1].time, tz)}"
+                if earlier
+                else "present at baseline (unit file)"
+            )
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "pedal-signal-lost",
+                    f"{site} absent at {_hm(f.time, tz)}; was {was}",
+                    side=site[0],
+                    time=f.time,
+                )
+            )
 
 
 def _arterial(latest: dict, side: str) -> str | None:
-    grades = [latest[("pulse", f"{side}-{a}")].value for a in PEDAL_ARTERIES if ("pulse", f"{side}-{a}") in latest]
+    grades = [
+        latest[("pulse", f"{side}-{a}")].value
+        for a in PEDAL_ARTERIES
+        if ("pulse", f"{side}-{a}") in latest
+    ]
     if not grades:
         return None
     return "audible" if any(g in ("palpable", "doppler") for g in grades) else "inaudible"
 
 
 def _venous(latest: dict, side: str) -> str | None:
-    values = [f.value for (item, site), f in latest.items() if item == "venous" and site[:1] == side]
+    values = [
+        f.value for (item, site), f in latest.items() if item == "venous" and site[:1] == side
+    ]
     if not values:
         return None
     return "audible" if "present" in values else "inaudible"
@@ -363,7 +523,11 @@ def unit_protocol(unit: Unit, base_dir: Path | None = None, source: str = "unit 
 
 
 def review_unit(
-    unit: Unit, store: ObservationStore, at: datetime, *, protocol: Protocol | None = None,
+    unit: Unit,
+    store: ObservationStore,
+    at: datetime,
+    *,
+    protocol: Protocol | None = None,
     base_dir: Path | None = None,
 ) -> UnitReview:
     """Review every patient of ``unit`` from the store, as at ``at`` (aware).
@@ -407,8 +571,13 @@ def to_json(result: UnitReview) -> dict[str, Any]:
                 ],
                 "alerts": [
                     {
-                        "rule": a.rule, "detail": a.detail, "source": a.source, "call": a.call,
-                        "within_min": a.within_min, "escalation": a.escalation, "side": a.side,
+                        "rule": a.rule,
+                        "detail": a.detail,
+                        "source": a.source,
+                        "call": a.call,
+                        "within_min": a.within_min,
+                        "escalation": a.escalation,
+                        "side": a.side,
                         "time": a.time.astimezone(tz).isoformat() if a.time else None,
                     }
                     for a in p.alerts
@@ -419,7 +588,10 @@ def to_json(result: UnitReview) -> dict[str, Any]:
                     for s, r in p.ali.items()
                 },
                 "abi": {s: r.index for s, r in p.abi.items()},
-                "abi_detail": {s: {"index": r.index, "band": r.band, "basis": r.basis} for s, r in p.abi.items()},
+                "abi_detail": {
+                    s: {"index": r.index, "band": r.band, "basis": r.basis}
+                    for s, r in p.abi.items()
+                },
             }
             for p in result.patients
         ],
@@ -430,22 +602,33 @@ def to_json(result: UnitReview) -> dict[str, Any]:
 def render_table(result: UnitReview) -> str:
     """A readable review for the terminal."""
     lines = [
-        f"Observation review: {result.unit}, as at {result.at.isoformat()} (protocol {result.protocol})",
+        f"Observation review: {result.unit}, as at {result.at.isoformat()} "
+        f"(protocol {result.protocol})",
         f"NIRS thresholds: {result.review_note}",
         "",
     ]
     tz = result.at.tzinfo
     for p in result.patients:
-        last = p.last_check.astimezone(tz).strftime("%Y-%m-%d %H:%M") if p.last_check else "none recorded"
-        abi = ", ".join(
-            f"{s} {r.index:.2f} {r.band}" if r.index is not None else f"{s} -" for s, r in p.abi.items()
+        last = (
+            p.last_check.astimezone(tz).strftime("%Y-%m-%d %H:%M")
+            if p.last_check
+            else "none recorded"
         )
-        lines.append(f"Bed {p.bed}  {p.ref}  last check {last}  ALI category {p.ali_category or '-'}  ABI {abi}")
+        abi = ", ".join(
+            f"{s} {r.index:.2f} {r.band}" if r.index is not None else f"{s} -"
+            for s, r in p.abi.items()
+        )
+        lines.append(
+            f"Bed {p.bed}  {p.ref}  last check {last}  "
+            f"ALI category {p.ali_category or '-'}  ABI {abi}"
+        )
         for o in p.overdue:
-            lines.append(f"  overdue  due {o.due.strftime('%H:%M')} ({o.phase}), {o.minutes_late} min late")
+            lines.append(
+                f"  overdue  due {o.due.strftime('%H:%M')} ({o.phase}), {o.minutes_late} min late"
+            )
         for a in p.alerts:
             lines.append(f"  ALERT {a.rule}: {a.detail}")
-            lines.append(f"        call: {a.call or 'the protocol names no one for this finding; follow local policy'}")
+            lines.append(f"        call: {a.call or NO_CALL}")
             lines.append(f"        source: {a.source}")
         if not p.alerts:
             lines.append("  no alert open")

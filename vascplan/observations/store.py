@@ -157,7 +157,9 @@ def resolve_db(db: str | None) -> tuple[sa.URL, Path | None]:
             path = Path(url.database)
         else:
             raise InputError(
-                "--db", "", f"unsupported database {name!r}; give a file path or a postgresql:// URL"
+                "--db",
+                "",
+                f"unsupported database {name!r}; give a file path or a postgresql:// URL",
             )
     else:
         path = Path(db)
@@ -218,7 +220,9 @@ def open_store(db: str | None = None) -> ObservationStore:
         try:
             _create_private_file(path)
         except OSError as exc:
-            raise StoreError(f"cannot create the observation store {path}: {exc.strerror}") from None
+            raise StoreError(
+                f"cannot create the observation store {path}: {exc.strerror}"
+            ) from None
         engine = _sqlite_engine(url)
     else:
         engine = sa.create_engine(url, pool_pre_ping=False)
@@ -360,7 +364,9 @@ class ObservationStore:
                 metadata.create_all(conn, tables=[schema_version])
                 current = 0
             else:
-                current = conn.execute(sa.select(sa.func.max(schema_version.c.version))).scalar() or 0
+                current = (
+                    conn.execute(sa.select(sa.func.max(schema_version.c.version))).scalar() or 0
+                )
             if current > SCHEMA_VERSION:
                 raise StoreError(
                     f"the observation store {self.shown} has schema version {current}, newer than "
@@ -449,19 +455,32 @@ class ObservationStore:
                 conn.execute(sa.insert(entries), rows[start : start + CHUNK_ROWS])
                 if progress is not None:
                     progress(min(start + CHUNK_ROWS, len(rows)))
-            ids = conn.execute(
-                sa.select(entries.c.id).where(entries.c.batch_id == batch_id).order_by(entries.c.id)
-            ).scalars().all()
+            ids = (
+                conn.execute(
+                    sa.select(entries.c.id)
+                    .where(entries.c.batch_id == batch_id)
+                    .order_by(entries.c.id)
+                )
+                .scalars()
+                .all()
+            )
         return list(ids)
 
     def _refuse_stored(
-        self, conn: Connection, unit: str, rows: list[dict], source: str, lines: Sequence[int] | None
+        self,
+        conn: Connection,
+        unit: str,
+        rows: list[dict],
+        source: str,
+        lines: Sequence[int] | None,
     ) -> None:
         times = sorted({r["time_utc"] for r in rows})
         stored = {
             (r.bed, r.time_utc, r.item, r.site): r.id
             for r in conn.execute(
-                sa.select(entries.c.id, entries.c.bed, entries.c.time_utc, entries.c.item, entries.c.site)
+                sa.select(
+                    entries.c.id, entries.c.bed, entries.c.time_utc, entries.c.item, entries.c.site
+                )
                 .where(entries.c.unit == unit, entries.c.corrects.is_(None))
                 .where(entries.c.time_utc >= times[0], entries.c.time_utc <= times[-1])
             )
@@ -473,11 +492,15 @@ class ObservationStore:
                 raise InputError(
                     source,
                     where,
-                    f"{r['item']} {r['site'] or ''} for bed {r['bed']} at {r['time_local']} is already "
-                    f"stored (entry {hit}); use `vascplan obs correct` to change it; nothing was stored",
+                    f"{r['item']} {r['site'] or ''} for bed {r['bed']} at {r['time_local']} "
+                    "is already "
+                    f"stored (entry {hit}); use `vascplan obs correct` to change it; "
+                    "nothing was stored",
                 )
 
-    def correct(self, entry_id: int, value: str, *, by: str, reason: str, withdraw: bool = False) -> int:
+    def correct(
+        self, entry_id: int, value: str, *, by: str, reason: str, withdraw: bool = False
+    ) -> int:
         """Store a correction of entry ``entry_id``; return the new entry's id.
 
         The correction keeps the original's patient, time, item and site, points to the
@@ -508,7 +531,11 @@ class ObservationStore:
             now = _now_text()
             batch_id = conn.execute(
                 sa.insert(batches).values(
-                    kind="correct", source=f"correct {entry_id}", unit=row.unit, entered_at=now, rows=1
+                    kind="correct",
+                    source=f"correct {entry_id}",
+                    unit=row.unit,
+                    entered_at=now,
+                    rows=1,
                 )
             ).inserted_primary_key[0]
             new_id = conn.execute(
@@ -546,7 +573,11 @@ class ObservationStore:
             return [_entry(r) for r in conn.execute(q)]
 
     def current(
-        self, unit: str, *, ref: str | None = None, until: datetime | None = None,
+        self,
+        unit: str,
+        *,
+        ref: str | None = None,
+        until: datetime | None = None,
         include_withdrawn: bool = False,
     ) -> list[CurrentFinding]:
         """The findings as they stand after corrections, in time order.
@@ -563,7 +594,9 @@ class ObservationStore:
             return int(conn.execute(q).scalar() or 0)
 
 
-def current_findings(rows: Iterable[Entry], include_withdrawn: bool = False) -> list[CurrentFinding]:
+def current_findings(
+    rows: Iterable[Entry], include_withdrawn: bool = False
+) -> list[CurrentFinding]:
     """Apply corrections to stored rows: each original with its latest correction."""
     originals: dict[int, Entry] = {}
     latest: dict[int, Entry] = {}

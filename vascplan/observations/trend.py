@@ -41,8 +41,9 @@ class PatientTrend:
     nirs_baseline: dict[str, float]
 
 
-def patient_trend(unit: Unit, patient: Patient, protocol: Protocol, findings: list[CurrentFinding],
-                  at: datetime) -> PatientTrend:
+def patient_trend(
+    unit: Unit, patient: Patient, protocol: Protocol, findings: list[CurrentFinding], at: datetime
+) -> PatientTrend:
     """Alerts at each check (their onsets) and at ``at``, for one patient's page."""
     mine = [f for f in findings if f.time <= at]
     times = sorted({f.time for f in mine})
@@ -64,14 +65,26 @@ def patient_trend(unit: Unit, patient: Patient, protocol: Protocol, findings: li
 
 
 def write_trend_pdf(
-    unit: Unit, store: ObservationStore, patients: list[Patient], at: datetime,
-    path: str | os.PathLike[str], *, protocol: Protocol | None = None, base_dir: Path | None = None,
+    unit: Unit,
+    store: ObservationStore,
+    patients: list[Patient],
+    at: datetime,
+    path: str | os.PathLike[str],
+    *,
+    protocol: Protocol | None = None,
+    base_dir: Path | None = None,
 ) -> Path:
     """Write the trend PDF for ``patients`` (one page each) to ``path`` atomically."""
     protocol = protocol or unit_protocol(unit, base_dir)
     every = store.current(unit.unit.name, until=at)
     trends = [
-        patient_trend(unit, p, protocol, [f for f in every if f.entry.ref == p.ref and f.entry.bed == p.bed], at)
+        patient_trend(
+            unit,
+            p,
+            protocol,
+            [f for f in every if f.entry.ref == p.ref and f.entry.bed == p.bed],
+            at,
+        )
         for p in patients
     ]
     return atomic_write_bytes(path, render_trend_pdf(unit, protocol, trends, at))
@@ -81,7 +94,9 @@ def write_trend_pdf(
 # Drawing
 
 
-def render_trend_pdf(unit: Unit, protocol: Protocol, trends: list[PatientTrend], at: datetime) -> bytes:
+def render_trend_pdf(
+    unit: Unit, protocol: Protocol, trends: list[PatientTrend], at: datetime
+) -> bytes:
     """The PDF bytes: one page per :class:`PatientTrend`."""
     from reportlab.lib.pagesizes import A4
     from reportlab.pdfgen import canvas
@@ -111,8 +126,15 @@ def _fmt(moment: datetime, tz, span: timedelta) -> str:  # type: ignore[no-untyp
     return local.strftime("%d %b %H:%M") if span > timedelta(hours=20) else local.strftime("%H:%M")
 
 
-def _page(c, unit: Unit, protocol: Protocol, trend: PatientTrend, at: datetime, width: float,  # type: ignore[no-untyped-def]
-          height: float) -> None:
+def _page(
+    c,
+    unit: Unit,
+    protocol: Protocol,
+    trend: PatientTrend,
+    at: datetime,
+    width: float,  # type: ignore[no-untyped-def]
+    height: float,
+) -> None:
     tz = unit.unit.tz
     p = trend.patient
     dev = p.device
@@ -120,11 +142,21 @@ def _page(c, unit: Unit, protocol: Protocol, trend: PatientTrend, at: datetime, 
     c.setFont("Helvetica-Bold", 13)
     c.drawString(36, height - 44, f"Limb trend - bed {p.bed} - {p.ref}")
     c.setFont("Helvetica", 8)
-    dpc = f"distal perfusion cannula {p.dpc.size_fr:g} Fr" if p.dpc else "no distal perfusion cannula"
-    c.drawString(36, height - 58, f"{unit.unit.name}; {dev.kind} {dev.size_fr:g} Fr ({dev.label}) in {dev.side} "
-                                  f"{dev.vessel} since {dev.inserted.astimezone(tz):%Y-%m-%d %H:%M %z}; {dpc}")
-    c.drawString(36, height - 69, f"As at {at.astimezone(tz):%Y-%m-%d %H:%M %z}; protocol {protocol.name}; "
-                                  f"{len(trend.check_times)} checks recorded.")
+    dpc = (
+        f"distal perfusion cannula {p.dpc.size_fr:g} Fr" if p.dpc else "no distal perfusion cannula"
+    )
+    c.drawString(
+        36,
+        height - 58,
+        f"{unit.unit.name}; {dev.kind} {dev.size_fr:g} Fr ({dev.label}) in {dev.side} "
+        f"{dev.vessel} since {dev.inserted.astimezone(tz):%Y-%m-%d %H:%M %z}; {dpc}",
+    )
+    c.drawString(
+        36,
+        height - 69,
+        f"As at {at.astimezone(tz):%Y-%m-%d %H:%M %z}; protocol {protocol.name}; "
+        f"{len(trend.check_times)} checks recorded.",
+    )
     c.drawString(36, height - 80, f"Thresholds: {protocol.review.note}")
 
     if trend.check_times:
@@ -137,25 +169,64 @@ def _page(c, unit: Unit, protocol: Protocol, trend: PatientTrend, at: datetime, 
     th = protocol.review
 
     # NIRS panel
-    nirs = {s: [(f.time, float(f.value)) for f in trend.findings if f.item == "nirs" and f.site == s] for s in SIDES}
-    lines = [(f"floor {th.nirs_absolute_floor_pct.value:g}%", th.nirs_absolute_floor_pct.value, [1, 2])]
+    nirs = {
+        s: [(f.time, float(f.value)) for f in trend.findings if f.item == "nirs" and f.site == s]
+        for s in SIDES
+    }
+    lines = [
+        (f"floor {th.nirs_absolute_floor_pct.value:g}%", th.nirs_absolute_floor_pct.value, [1, 2])
+    ]
     for s, b in trend.nirs_baseline.items():
         limit = b * (1 - th.nirs_relative_fall_pct.value / 100)
-        lines.append((f"{s} {th.nirs_relative_fall_pct.value:g}% fall from {b:g}", limit, [6, 2, 1, 2]))
+        lines.append(
+            (f"{s} {th.nirs_relative_fall_pct.value:g}% fall from {b:g}", limit, [6, 2, 1, 2])
+        )
     values = [v for pts in nirs.values() for _, v in pts] + [v for _, v, _ in lines]
     lo = max(0.0, min(values, default=40) - 10)
     hi = min(100.0, max(values, default=80) + 10)
     top = height - 100
-    _panel(c, trend, "Calf tissue oxygen saturation (NIRS, %)", left, top - 185, right, top, t0, t1, lo, hi,
-           nirs, lines, tz, span)
+    _panel(
+        c,
+        trend,
+        "Calf tissue oxygen saturation (NIRS, %)",
+        left,
+        top - 185,
+        right,
+        top,
+        t0,
+        t1,
+        lo,
+        hi,
+        nirs,
+        lines,
+        tz,
+        span,
+    )
     # Capillary refill panel
-    refill = {s: [(f.time, float(f.value)) for f in trend.findings if f.item == "refill" and f.site == s]
-              for s in SIDES}
+    refill = {
+        s: [(f.time, float(f.value)) for f in trend.findings if f.item == "refill" and f.site == s]
+        for s in SIDES
+    }
     slow = th.capillary_refill_slow_s.value
     rv = [v for pts in refill.values() for _, v in pts]
     top2 = top - 215
-    _panel(c, trend, "Capillary refill (s)", left, top2 - 140, right, top2, t0, t1, 0, max([slow * 2, *rv]) + 1,
-           refill, [(f"slow above {slow:g} s", slow, [1, 2])], tz, span)
+    _panel(
+        c,
+        trend,
+        "Capillary refill (s)",
+        left,
+        top2 - 140,
+        right,
+        top2,
+        t0,
+        t1,
+        0,
+        max([slow * 2, *rv]) + 1,
+        refill,
+        [(f"slow above {slow:g} s", slow, [1, 2])],
+        tz,
+        span,
+    )
     # Pedal signals strip
     top3 = top2 - 170
     _pedal_strip(c, trend, left, top3 - 120, right, top3, t0, t1, tz, span)
@@ -221,7 +292,9 @@ def _marker(c, kind: str, x: float, y: float, size: float = 2.6) -> None:  # typ
         c.line(x - size, y + size, x + size, y - size)
 
 
-def _panel(c, trend, title, left, bottom, right, top, t0, t1, lo, hi, series, lines, tz, span) -> None:  # type: ignore[no-untyped-def]
+def _panel(
+    c, trend, title, left, bottom, right, top, t0, t1, lo, hi, series, lines, tz, span
+) -> None:  # type: ignore[no-untyped-def]
     _axes(c, trend, title, left, bottom, right, top, t0, t1, tz, span)
 
     def y(v: float) -> float:
@@ -271,14 +344,31 @@ def _panel(c, trend, title, left, bottom, right, top, t0, t1, lo, hi, series, li
 
 
 def _pedal_strip(c, trend, left, bottom, right, top, t0, t1, tz, span) -> None:  # type: ignore[no-untyped-def]
-    sites = sorted({f.site for f in trend.findings if f.item == "pulse" and f.site.split("-")[1] in PEDAL_ARTERIES})
+    sites = sorted(
+        {
+            f.site
+            for f in trend.findings
+            if f.item == "pulse" and f.site.split("-")[1] in PEDAL_ARTERIES
+        }
+    )
     for side in SIDES:
         for artery in ("DPA", "PTA"):
             if f"{side}-{artery}" not in sites:
                 sites.append(f"{side}-{artery}")
     sites = sorted(set(sites))
-    _axes(c, trend, "Pedal signals (filled circle palpable, open circle Doppler only, cross absent)",
-          left, bottom, right, top, t0, t1, tz, span)
+    _axes(
+        c,
+        trend,
+        "Pedal signals (filled circle palpable, open circle Doppler only, cross absent)",
+        left,
+        bottom,
+        right,
+        top,
+        t0,
+        t1,
+        tz,
+        span,
+    )
     row_h = (top - bottom - 12) / max(len(sites), 1)
     c.setFont("Helvetica", 7)
     for i, site in enumerate(sites):
@@ -303,7 +393,10 @@ def _alert_list(c, trend: PatientTrend, tz, top: float, width: float) -> None:  
     c.drawString(36, top, "Alerts (triangle = the check where each first opened)")
     c.setFont("Helvetica", 7)
     y = top - 12
-    rows = [f"{i}. {t.astimezone(tz):%d %b %H:%M} {a.rule}: {a.detail}" for i, (t, a) in enumerate(trend.onsets, 1)]
+    rows = [
+        f"{i}. {t.astimezone(tz):%d %b %H:%M} {a.rule}: {a.detail}"
+        for i, (t, a) in enumerate(trend.onsets, 1)
+    ]
     rows.append(f"Open now: {', '.join(sorted({a.rule for a in trend.open_alerts})) or 'none'}")
     for row in rows:
         for line in simpleSplit(row, "Helvetica", 7, width - 72):
