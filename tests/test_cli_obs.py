@@ -323,3 +323,19 @@ def test_obs_help_has_examples():
     for sub in ("add", "import", "template", "correct", "review", "trend", "export"):
         r = run("obs", sub, "--help")
         assert r.exit_code == 0 and "Example: vascplan obs" in r.output, sub
+
+
+def test_help_does_not_load_sqlalchemy_or_reportlab():
+    import subprocess
+    import sys
+
+    code = (
+        "import sys\n"
+        "from click.testing import CliRunner\n"
+        "from vascplan.cli import cli\n"
+        "for args in (['--help'], ['obs', '--help'], ['obs', 'review', '--help']):\n"
+        "    assert CliRunner().invoke(cli, args).exit_code == 0\n"
+        "print(sorted(m for m in ('sqlalchemy', 'reportlab', 'pandas') if m in sys.modules))\n"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == "[]"

@@ -20,7 +20,7 @@ DB_HELP = (
 )
 
 
-def _db_option(f):  # type: ignore[no-untyped-def]
+def _db_option(f):
     return click.option("--db", "db", metavar="PATH-OR-URL", default=None, help=DB_HELP)(f)
 
 
@@ -33,7 +33,7 @@ def obs() -> None:
     """
 
 
-def _unit(path: str):  # type: ignore[no-untyped-def]
+def _unit(path: str):
     from vascplan.surveillance.unit import load_unit
 
     return load_unit(path)
@@ -56,7 +56,7 @@ _ITEM_OPTIONS = [
 ]
 
 
-def _item_options(f):  # type: ignore[no-untyped-def]
+def _item_options(f):
     for name, metavar, text in reversed(_ITEM_OPTIONS):
         f = click.option(f"--{name}", name, metavar=metavar, multiple=True, help=text)(f)
     return f
@@ -298,7 +298,7 @@ def export(unit_path: str, fmt: str, output: str | None, db: str | None) -> None
         click.echo(text, nl=False)
 
 
-def _at(text: str | None, unit) -> datetime:  # type: ignore[no-untyped-def]
+def _at(text: str | None, unit) -> datetime:
     from vascplan.surveillance.unit import parse_local_time
 
     if text is None:
@@ -306,7 +306,7 @@ def _at(text: str | None, unit) -> datetime:  # type: ignore[no-untyped-def]
     return parse_local_time(text, unit.unit.tz, "--at")
 
 
-def _base_dir(unit_path: str):  # type: ignore[no-untyped-def]
+def _base_dir(unit_path: str):
     from pathlib import Path
 
     return Path(unit_path).resolve().parent

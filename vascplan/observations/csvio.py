@@ -143,7 +143,7 @@ def parse_csv(path: str | os.PathLike[str], unit: Unit) -> tuple[list[Finding], 
     return findings, lines
 
 
-def _row_finding(cells: dict[str, str], unit: Unit, tz, src: str, n: int) -> Finding:  # type: ignore[no-untyped-def]
+def _row_finding(cells: dict[str, str], unit: Unit, tz, src: str, n: int) -> Finding:
     where = f"line {n}: "
     if not cells["time"]:
         raise InputError(src, f"{where}time", "required, an ISO 8601 time such as 2026-12-01T16:00")

@@ -232,7 +232,7 @@ def _alert(
     return Alert(rule_id, detail, source, call, within, eid, side, time)
 
 
-def _hm(moment: datetime, tz) -> str:  # type: ignore[no-untyped-def]
+def _hm(moment: datetime, tz) -> str:
     return moment.astimezone(tz).strftime("%H:%M")
 
 
@@ -393,7 +393,7 @@ def _nirs_rules(
     findings: list[CurrentFinding],
     latest: dict,
     tz,
-) -> None:  # type: ignore[no-untyped-def]
+) -> None:
     th = protocol.review
     for side in SIDES:
         f = latest.get(("nirs", side))
@@ -464,7 +464,7 @@ def _pedal_rules(
     findings: list[CurrentFinding],
     latest: dict,
     tz,
-) -> None:  # type: ignore[no-untyped-def]
+) -> None:
     for (item, site), f in sorted(latest.items()):
         if item != "pulse" or f.value != "absent" or site.split("-")[1] not in PEDAL_ARTERIES:
             continue

@@ -183,7 +183,7 @@ def _sqlite_engine(url: sa.URL) -> Engine:
     engine = sa.create_engine(url, connect_args={"timeout": 60})
 
     @sa.event.listens_for(engine, "connect")
-    def _connect(dbapi_conn, _record) -> None:  # type: ignore[no-untyped-def]
+    def _connect(dbapi_conn, _record) -> None:
         dbapi_conn.isolation_level = None  # we issue BEGIN ourselves
         cur = dbapi_conn.cursor()
         cur.execute("PRAGMA foreign_keys = ON")
@@ -448,7 +448,7 @@ class ObservationStore:
                 sa.insert(batches).values(
                     kind=kind, source=source, unit=unit, entered_at=now, rows=len(rows)
                 )
-            ).inserted_primary_key[0]
+            ).inserted_primary_key[0]  # type: ignore[index]
             for row in rows:
                 row["batch_id"] = batch_id
             for start in range(0, len(rows), CHUNK_ROWS):
@@ -537,7 +537,7 @@ class ObservationStore:
                     entered_at=now,
                     rows=1,
                 )
-            ).inserted_primary_key[0]
+            ).inserted_primary_key[0]  # type: ignore[index]
             new_id = conn.execute(
                 sa.insert(entries).values(
                     batch_id=batch_id,
@@ -554,7 +554,7 @@ class ObservationStore:
                     reason=reason.strip(),
                     entered_at=now,
                 )
-            ).inserted_primary_key[0]
+            ).inserted_primary_key[0]  # type: ignore[index]
         return int(new_id)
 
     # -- reading

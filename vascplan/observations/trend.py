@@ -25,7 +25,10 @@ from vascplan.safety import CAUTION
 from vascplan.surveillance.protocol import Protocol
 from vascplan.surveillance.unit import Patient, Unit
 
-LEG_STYLE = {"L": {"dash": [], "marker": "circle"}, "R": {"dash": [4, 2], "marker": "square"}}
+LEG_DASH: dict[str, list[float]] = {"L": [], "R": [4, 2]}
+"""Line style per leg: left solid, right dashed."""
+LEG_MARKER = {"L": "circle", "R": "square"}
+"""Marker per leg: left filled circle, right open square."""
 GRADE_MARK = {"palpable": "filled", "doppler": "open", "absent": "cross"}
 
 
@@ -55,7 +58,7 @@ def patient_trend(
         onsets += [(t, a) for a in alerts if (a.rule, a.side) not in before]
         before = now
     final = review_patient(unit, patient, protocol, mine, at).alerts
-    base = {s: float(v) for s, v in patient.baseline.nirs.items()}
+    base: dict[str, float] = {s: float(v) for s, v in patient.baseline.nirs.items()}
     for side in SIDES:
         if side not in base:
             first = next((f for f in mine if f.item == "nirs" and f.site == side), None)
@@ -114,14 +117,14 @@ def render_trend_pdf(
     return buf.getvalue()
 
 
-def _footer(c, width: float, number: int, total: int) -> None:  # type: ignore[no-untyped-def]
+def _footer(c, width: float, number: int, total: int) -> None:
     c.setFont("Helvetica", 7)
     c.setFillGray(0)
     c.drawString(36, 26, f"Caution: {CAUTION}")
     c.drawRightString(width - 36, 14, f"Page {number} of {total}")
 
 
-def _fmt(moment: datetime, tz, span: timedelta) -> str:  # type: ignore[no-untyped-def]
+def _fmt(moment: datetime, tz, span: timedelta) -> str:
     local = moment.astimezone(tz)
     return local.strftime("%d %b %H:%M") if span > timedelta(hours=20) else local.strftime("%H:%M")
 
@@ -132,7 +135,7 @@ def _page(
     protocol: Protocol,
     trend: PatientTrend,
     at: datetime,
-    width: float,  # type: ignore[no-untyped-def]
+    width: float,
     height: float,
 ) -> None:
     tz = unit.unit.tz
@@ -238,7 +241,7 @@ def _x(t: datetime, t0: datetime, t1: datetime, left: float, right: float) -> fl
     return left + (right - left) * (t - t0).total_seconds() / total
 
 
-def _axes(c, trend: PatientTrend, title: str, left, bottom, right, top, t0, t1, tz, span) -> None:  # type: ignore[no-untyped-def]
+def _axes(c, trend: PatientTrend, title: str, left, bottom, right, top, t0, t1, tz, span) -> None:
     c.setStrokeGray(0)
     c.setLineWidth(0.6)
     c.setDash([])
@@ -277,7 +280,7 @@ def _axes(c, trend: PatientTrend, title: str, left, bottom, right, top, t0, t1, 
     c.setLineWidth(0.6)
 
 
-def _marker(c, kind: str, x: float, y: float, size: float = 2.6) -> None:  # type: ignore[no-untyped-def]
+def _marker(c, kind: str, x: float, y: float, size: float = 2.6) -> None:
     c.setDash([])
     if kind == "circle":
         c.circle(x, y, size, stroke=1, fill=1)
@@ -294,7 +297,7 @@ def _marker(c, kind: str, x: float, y: float, size: float = 2.6) -> None:  # typ
 
 def _panel(
     c, trend, title, left, bottom, right, top, t0, t1, lo, hi, series, lines, tz, span
-) -> None:  # type: ignore[no-untyped-def]
+) -> None:
     _axes(c, trend, title, left, bottom, right, top, t0, t1, tz, span)
 
     def y(v: float) -> float:
@@ -319,31 +322,29 @@ def _panel(
     c.setStrokeGray(0)
     c.setFillGray(0)
     for side, pts in series.items():
-        style = LEG_STYLE[side]
         pts = [(t, v) for t, v in pts if t0 <= t <= t1]
         c.setLineWidth(1.1)
-        c.setDash(style["dash"])
+        c.setDash(LEG_DASH[side])
         for (ta, va), (tb, vb) in zip(pts, pts[1:], strict=False):
             c.line(_x(ta, t0, t1, left, right), y(va), _x(tb, t0, t1, left, right), y(vb))
         for t, v in pts:
-            _marker(c, style["marker"], _x(t, t0, t1, left, right), y(v))
+            _marker(c, LEG_MARKER[side], _x(t, t0, t1, left, right), y(v))
     # Legend: line style and marker per leg.
     c.setLineWidth(1.1)
     lx = right - 120
     for i, side in enumerate(SIDES):
-        style = LEG_STYLE[side]
         yy = top + 6
         x0 = lx + i * 60
-        c.setDash(style["dash"])
+        c.setDash(LEG_DASH[side])
         c.line(x0, yy, x0 + 22, yy)
-        _marker(c, style["marker"], x0 + 11, yy)
+        _marker(c, LEG_MARKER[side], x0 + 11, yy)
         c.setFont("Helvetica", 7)
         c.drawString(x0 + 26, yy - 2.5, f"{side} leg")
     c.setDash([])
     c.setLineWidth(0.6)
 
 
-def _pedal_strip(c, trend, left, bottom, right, top, t0, t1, tz, span) -> None:  # type: ignore[no-untyped-def]
+def _pedal_strip(c, trend, left, bottom, right, top, t0, t1, tz, span) -> None:
     sites = sorted(
         {
             f.site
@@ -385,7 +386,7 @@ def _pedal_strip(c, trend, left, bottom, right, top, t0, t1, tz, span) -> None: 
     c.setDash([])
 
 
-def _alert_list(c, trend: PatientTrend, tz, top: float, width: float) -> None:  # type: ignore[no-untyped-def]
+def _alert_list(c, trend: PatientTrend, tz, top: float, width: float) -> None:
     from reportlab.lib.utils import simpleSplit
 
     c.setFillGray(0)
