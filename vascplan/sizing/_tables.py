@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import csv
 from dataclasses import dataclass
-from functools import lru_cache
+from functools import cache
 
 from vascplan.errors import InputError
 from vascplan.fileio import read_document
@@ -25,7 +25,7 @@ class ReferenceValue:
         return f"{self.source} ({self.certainty})"
 
 
-@lru_cache(maxsize=None)
+@cache
 def read_csv(name: str) -> tuple[dict[str, str], ...]:
     """Rows of ``data/sizing/<name>`` as dictionaries of strings."""
     path = data_dir() / "sizing" / name
@@ -36,7 +36,7 @@ def read_csv(name: str) -> tuple[dict[str, str], ...]:
         raise InputError(str(path), "", "reference table not found") from None
 
 
-@lru_cache(maxsize=None)
+@cache
 def read_values(name: str) -> dict[str, ReferenceValue]:
     """The reference values of ``data/sizing/<name>`` (YAML: value, unit, source, certainty)."""
     path = data_dir() / "sizing" / name

@@ -6,9 +6,8 @@ mode reports: the same functions, one result object, one JSON shape.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
-from typing import Any, Literal
+from typing import Any, Literal, cast
 
 from vascplan.safety import CAUTION
 from vascplan.sizing._tables import threshold
@@ -26,6 +25,7 @@ class Threshold:
     meaning: str
     source: str
     certainty: str
+    short_source: str = ""
 
 
 @dataclass(frozen=True)
@@ -109,7 +109,9 @@ class SheathFlowAssessment:
                 "regime": self.dpc.regime,
                 "inner_mm": r(self.dpc.inner_mm),
                 "velocity_m_s": r(self.dpc.velocity_m_s),
+                "inner_assumed": self.dpc.inner_assumed,
             },
+            "reference_defaults_used": list(limb.defaults_used),
             "assumptions": list(self.assumptions),
             "caution": CAUTION,
         }
@@ -118,7 +120,9 @@ class SheathFlowAssessment:
 def sar_threshold() -> Threshold:
     """The SFAR threshold of ``data/sizing/thresholds.csv`` (1.05, Hayashida et al. 2011)."""
     value, row = threshold("sfar")
-    return Threshold("sfar", value, row["meaning"], row["source"], row["certainty"])
+    return Threshold(
+        "sfar", value, row["meaning"], row["source"], row["certainty"], row["short_source"]
+    )
 
 
 def assess_sheath_flow(
@@ -188,27 +192,38 @@ def assess_sheath_flow(
             f"{device_fr:g} Fr labelled by outer size: outer diameter {od.mm:.2f} mm "
             "(1 Fr = 1/3 mm)."
         )
+    th = sar_threshold()
+    assumptions.append(
+        f"SAR threshold {th.value:g}: {th.meaning} ({th.source}; {th.certainty}); derived "
+        "from transfemoral valve implantation, weaker with newer smaller devices (Front "
+        "Cardiovasc Med 2021, doi 10.3389/fcvm.2021.738854): a guide, not a limit."
+    )
     limb = limb_flow_with_device(
-        vessel_mm, od.mm, occupied_cm, limb_flow_ml_min=limb_flow_ml_min,
-        perfusion_mmhg=perfusion_mmhg, viscosity_pa_s=viscosity_pa_s,
+        vessel_mm,
+        od.mm,
+        occupied_cm,
+        limb_flow_ml_min=limb_flow_ml_min,
+        perfusion_mmhg=perfusion_mmhg,
+        viscosity_pa_s=viscosity_pa_s,
     )
     assumptions.extend(limb.assumptions)
     dpc = None
     if len(given) == 3:
-        assert dpc_fr is not None and dpc_cm is not None and driving_mmhg is not None
         dpc = cannula_flow(
-            dpc_fr, dpc_cm, driving_mmhg, label=dpc_label, viscosity_pa_s=viscosity_pa_s
+            cast(float, dpc_fr),
+            cast(float, dpc_cm),
+            cast(float, driving_mmhg),
+            label=dpc_label,
+            viscosity_pa_s=viscosity_pa_s,
         )
         assumptions.extend(a for a in dpc.assumptions if a not in assumptions)
-    if not math.isfinite(ratio):  # pragma: no cover - guarded by the size checks
-        raise ValueError("SAR is not finite")
     return SheathFlowAssessment(
         vessel_mm=float(vessel_mm),
         device_fr=float(device_fr),
         label=label,
         device_od=od,
         sar=ratio,
-        sar_threshold=sar_threshold(),
+        sar_threshold=th,
         limb=limb,
         dpc=dpc,
         assumptions=assumptions,

@@ -47,6 +47,8 @@ class CannulaFlow:
         Darcy friction factor at that flow [-].
     assumptions : list of str
         Every assumption behind the figure.
+    inner_assumed : bool
+        True when the inner diameter is not a measurement (wall table or sheath label).
     """
 
     flow_ml_min: float
@@ -56,6 +58,7 @@ class CannulaFlow:
     velocity_m_s: float
     friction_factor: float
     assumptions: list[str] = field(default_factory=list)
+    inner_assumed: bool = False
 
 
 def cannula_defaults() -> dict[str, ReferenceValue]:
@@ -241,10 +244,18 @@ def cannula_flow(
     rel = rough / d_mm
 
     def residual(q: float) -> float:
-        return flow.pipe_pressure_drop(
-            q, d, length, density_kg_m3=rho, viscosity_pa_s=mu,
-            relative_roughness=rel, minor_k=k,
-        ) - dp
+        return (
+            flow.pipe_pressure_drop(
+                q,
+                d,
+                length,
+                density_kg_m3=rho,
+                viscosity_pa_s=mu,
+                relative_roughness=rel,
+                minor_k=k,
+            )
+            - dp
+        )
 
     # Upper bound: the laminar friction alone is never larger than the true loss.
     q_high = dp / flow.tube_resistance(d, length, mu) * 1.01
@@ -266,4 +277,5 @@ def cannula_flow(
         velocity_m_s=velocity,
         friction_factor=flow.darcy_friction(re, rel),
         assumptions=assumptions,
+        inner_assumed=inner_note is not None,
     )

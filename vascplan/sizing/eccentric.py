@@ -25,6 +25,7 @@ from __future__ import annotations
 import csv
 import math
 from functools import lru_cache
+from typing import Any
 
 import numpy as np
 
@@ -43,8 +44,9 @@ Fluid Flow*, section on the eccentric annulus (from memory).
 """
 
 
-def _axis_hit(px: np.ndarray, py: np.ndarray, dx: float, dy: float, cx: float, r: float,
-              inside: bool) -> np.ndarray:
+def _axis_hit(
+    px: np.ndarray, py: np.ndarray, dx: float, dy: float, cx: float, r: float, inside: bool
+) -> np.ndarray:
     """Distance along (dx, dy) from points to the circle (cx, 0, r); inf when missed.
 
     ``inside`` says whether the points lie inside the circle (the ray then always
@@ -223,7 +225,7 @@ def build_touching_table(path: str | None = None) -> list[tuple[float, float, in
 
 
 @lru_cache(maxsize=1)
-def _touching_interpolant():
+def _touching_interpolant() -> Any:
     """PCHIP of ``factor / (1 - kappa)**3`` over kappa (monotone between table points)."""
     from scipy.interpolate import PchipInterpolator
 
@@ -274,7 +276,7 @@ def touching_annulus_factor(kappa: float) -> float:
         return 1.0
     if kappa == 1.0:
         return 0.0
-    return float(_touching_interpolant()(kappa)) * (1.0 - kappa) ** 3
+    return min(1.0, float(_touching_interpolant()(kappa)) * (1.0 - kappa) ** 3)
 
 
 @lru_cache(maxsize=512)

@@ -82,9 +82,12 @@ def tube_resistance(diameter_m: float, length_m: float, viscosity_pa_s: float) -
     0.8913
     """
     d = _positive("diameter_m", diameter_m)
-    return 128.0 * _positive("viscosity_pa_s", viscosity_pa_s) * _positive(
-        "length_m", length_m
-    ) / (math.pi * d**4)
+    return (
+        128.0
+        * _positive("viscosity_pa_s", viscosity_pa_s)
+        * _positive("length_m", length_m)
+        / (math.pi * d**4)
+    )
 
 
 def concentric_annulus_factor(kappa: float) -> float:
@@ -114,9 +117,9 @@ def concentric_annulus_factor(kappa: float) -> float:
     if kappa == 1.0:
         return 0.0
     if kappa > 0.999:
-        # Series in the gap g = 1 - kappa avoids cancellation: (4/3) g**3 (1 - g/2 + ...).
+        # Series in the gap g = 1 - kappa avoids cancellation: (4/3) g**3 (1 - g/2 + g**2/60).
         g = 1.0 - kappa
-        return 4.0 / 3.0 * g**3 * (1.0 - g / 2.0 + g * g / 15.0)
+        return 4.0 / 3.0 * g**3 * (1.0 - g / 2.0 + g * g / 60.0)
     one_k2 = 1.0 - kappa * kappa
     return (1.0 - kappa**4) - one_k2 * one_k2 / math.log(1.0 / kappa)
 
@@ -178,8 +181,9 @@ def annulus_resistance(
     return tube_resistance(outer, length_m, viscosity_pa_s) / factor
 
 
-def reynolds(velocity_m_s: float, diameter_m: float, density_kg_m3: float,
-             viscosity_pa_s: float) -> float:
+def reynolds(
+    velocity_m_s: float, diameter_m: float, density_kg_m3: float, viscosity_pa_s: float
+) -> float:
     """Reynolds number ``rho V D / mu`` [-].
 
     Parameters

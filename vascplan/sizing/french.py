@@ -159,9 +159,7 @@ def sheath_outer_mm(inner_fr: float) -> tuple[float, str]:
     return outer, basis
 
 
-def device_outer_mm(
-    size_fr: float, label: Label, outer_mm: float | None = None
-) -> OuterDiameter:
+def device_outer_mm(size_fr: float, label: Label, outer_mm: float | None = None) -> OuterDiameter:
     """Outer diameter of a device from its French label.
 
     Parameters

@@ -52,6 +52,10 @@ class LimbFlowEstimate:
         diameter = lumen minus device) [-]; the model holds while it is laminar.
     assumptions : list of str
         Every assumption behind the figures, to show the user.
+    defaults_used : tuple of str
+        Names of the parameters taken from reference defaults instead of the caller
+        (``limb_flow_ml_min``, ``perfusion_mmhg``, ``viscosity_pa_s``, ``density_kg_m3``);
+        mark the flow figures as reference-based when it is not empty.
     """
 
     vessel_mm: float
@@ -67,6 +71,7 @@ class LimbFlowEstimate:
     perfusion_mmhg: float
     annulus_reynolds_max: float
     assumptions: list[str] = field(default_factory=list)
+    defaults_used: tuple[str, ...] = ()
 
 
 def _positive(name: str, value: float) -> float:
@@ -144,12 +149,16 @@ def limb_flow_with_device(
         "flow, unchanged by the device; the device's stretch is an annulus in series.",
         "Distal flow range: device centred in the artery (lower) to device lying "
         "against the wall (upper).",
+        "The occupied stretch is a uniform tube of the given lumen diameter, with and "
+        "without the device; entrance effects at its ends are neglected.",
     ]
+    defaults_used: list[str] = []
 
     def pick(value: float | None, name: str, table: dict[str, ReferenceValue], label: str):
         if value is not None:
             return _positive(name, value)
         ref = table[name]
+        defaults_used.append(name)
         assumptions.append(
             f"{label} {ref.value:g} {ref.unit} is a reference default, not a measurement: "
             f"{ref.cite()}."
@@ -169,8 +178,19 @@ def limb_flow_with_device(
             "artery would have to stretch for the device to fit at all."
         )
         return LimbFlowEstimate(
-            vessel_mm, device_od_mm, occupied_cm, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0,
-            q_base_ml_min, p_mmhg, 0.0, assumptions,
+            vessel_mm,
+            device_od_mm,
+            occupied_cm,
+            0.0,
+            0.0,
+            0.0,
+            0.0,
+            0.0,
+            0.0,
+            q_base_ml_min,
+            p_mmhg,
+            0.0,
+            assumptions,
         )
 
     left_mm2 = open_mm2 - math.pi * device_od_mm**2 / 4.0
@@ -210,4 +230,5 @@ def limb_flow_with_device(
         perfusion_mmhg=p_mmhg,
         annulus_reynolds_max=re,
         assumptions=assumptions,
+        defaults_used=tuple(defaults_used),
     )

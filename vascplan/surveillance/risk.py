@@ -23,7 +23,8 @@ from vascplan.errors import InputError
 from vascplan.fileio import did_you_mean, load_model
 from vascplan.paths import data_dir
 from vascplan.safety import REFERENCE_MARK
-from vascplan.sizing.french import device_outer_mm, sar as sheath_artery_ratio
+from vascplan.sizing.french import device_outer_mm
+from vascplan.sizing.french import sar as sheath_artery_ratio
 from vascplan.surveillance.protocol import DEVICE_KINDS, TIERS, Protocol
 from vascplan.surveillance.unit import Patient
 
@@ -366,7 +367,9 @@ def assess_patient(patient: Patient, protocol: Protocol, at: datetime) -> RiskAs
     )
 
 
-def tier_changes(patient: Patient, protocol: Protocol, until: datetime) -> list[tuple[datetime, Tier]]:
+def tier_changes(
+    patient: Patient, protocol: Protocol, until: datetime
+) -> list[tuple[datetime, Tier]]:
     """Moments at which the patient's tier changes, from insertion to ``until``.
 
     The first entry is the tier at insertion. Changes come from dwell-time rules

@@ -70,7 +70,9 @@ def _aware(value: datetime, name: str) -> datetime:
     return value.astimezone(UTC)
 
 
-def _events(patient: Patient, protocol: Protocol, until: datetime) -> list[tuple[datetime, int, str, str]]:
+def _events(
+    patient: Patient, protocol: Protocol, until: datetime
+) -> list[tuple[datetime, int, str, str]]:
     """Phase-changing moments after insertion: (utc, order, kind, tier)."""
     dev = patient.device
     out: list[tuple[datetime, int, str, str]] = []
@@ -129,7 +131,7 @@ def patient_schedule(
     dev = patient.device
     inserted = dev.inserted.astimezone(UTC)
     tiers = tier_changes(patient, protocol, end)
-    tier = tiers[0][1] if tiers else "standard"
+    tier: str = tiers[0][1] if tiers else "standard"
     events = _events(patient, protocol, end)
     nirs = bool(patient.baseline.nirs)
     dpc = patient.dpc
@@ -146,7 +148,7 @@ def patient_schedule(
         over = (
             phase.for_min is not None and due > st.stage_start + timedelta(minutes=phase.for_min)
         ) or (phase.count is not None and st.count >= phase.count)
-        if over and (k >= len(events) or events[k][0] >= due):
+        if over:
             if st.stage + 1 >= len(st.phases):
                 break  # the after-removal phases are done
             if phase.for_min is not None:

@@ -204,6 +204,7 @@ class Unit(_Strict):
         for i, p in enumerate(self.patients):
             base = f"patients.{i}"
             inserted = _localise(p.device.inserted, tz, source, f"{base}.device.inserted")
+            assert inserted is not None  # a required field
             removed = _localise(p.device.removed, tz, source, f"{base}.device.removed")
             if removed is not None and removed <= inserted:
                 raise InputError(source, f"{base}.device.removed", "removal must come after insertion")
@@ -211,6 +212,7 @@ class Unit(_Strict):
             object.__setattr__(p.device, "removed", removed)
             if p.dpc is not None:
                 d_in = _localise(p.dpc.inserted, tz, source, f"{base}.dpc.inserted")
+                assert d_in is not None  # a required field
                 d_out = _localise(p.dpc.removed, tz, source, f"{base}.dpc.removed")
                 if d_in < inserted:
                     raise InputError(
@@ -220,7 +222,7 @@ class Unit(_Strict):
                     raise InputError(source, f"{base}.dpc.removed", "removal must come after insertion")
                 object.__setattr__(p.dpc, "inserted", d_in)
                 object.__setattr__(p.dpc, "removed", d_out)
-            previous = inserted
+            previous = p.device.inserted
             for k, ev in enumerate(p.events):
                 field = f"{base}.events.{k}.at"
                 at = _localise(ev.at, tz, source, field)
