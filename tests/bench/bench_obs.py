@@ -32,7 +32,9 @@ def _write_csv(path: Path) -> None:
         for i in range(ROWS):
             item, site = ITEMS[i % len(ITEMS)]
             t = t0 + timedelta(minutes=i // len(ITEMS))
-            w.writerow([t.strftime("%Y-%m-%dT%H:%M"), 1, "DEMO-11", "RN-A", item, site, VALUES[item]])
+            w.writerow(
+                [t.strftime("%Y-%m-%dT%H:%M"), 1, "DEMO-11", "RN-A", item, site, VALUES[item]]
+            )
 
 
 def run() -> dict[str, float]:
@@ -56,7 +58,10 @@ def run() -> dict[str, float]:
 
         conn = sqlite3.connect(Path(tmp) / "floor.db", isolation_level=None)
         conn.execute("PRAGMA synchronous = FULL")
-        conn.execute("CREATE TABLE t (time TEXT, bed INT, ref TEXT, by TEXT, item TEXT, site TEXT, value TEXT)")
+        conn.execute(
+            "CREATE TABLE t (time TEXT, bed INT, ref TEXT, by TEXT, item TEXT, site TEXT, "
+            "value TEXT)"
+        )
         t = time.perf_counter()
         conn.execute("BEGIN IMMEDIATE")
         conn.executemany("INSERT INTO t VALUES (?, ?, ?, ?, ?, ?, ?)", raw[1:])
@@ -76,9 +81,14 @@ def run() -> dict[str, float]:
 
 def report(out: dict[str, float]) -> str:
     rows = [f"{name:40s} {sec * 1000:9.1f} ms" for name, sec in out.items()]
-    rows.append(f"validate / csv.reader floor: {out['parse_csv (validate)'] / out['floor: csv.reader']:.1f}x")
-    rows.append(f"record / sqlite3 floor:      "
-                f"{out['ObservationStore.record'] / out['floor: sqlite3 executemany']:.1f}x  ({ROWS} rows)")
+    rows.append(
+        "validate / csv.reader floor: "
+        f"{out['parse_csv (validate)'] / out['floor: csv.reader']:.1f}x"
+    )
+    rows.append(
+        f"record / sqlite3 floor:      "
+        f"{out['ObservationStore.record'] / out['floor: sqlite3 executemany']:.1f}x  ({ROWS} rows)"
+    )
     return "\n".join(rows)
 
 
