@@ -339,3 +339,10 @@ def test_help_does_not_load_sqlalchemy_or_reportlab():
     )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.strip() == "[]"
+
+
+def test_export_to_stdout_keeps_data_clean_and_cautions_on_stderr(tmp_path):
+    r = run("obs", "export", "--unit", U, "--format", "csv", "--db", tmp_path / "o.db")
+    assert r.exit_code == 0
+    assert r.stdout == ",".join(EXPORT_COLUMNS) + "\n"
+    assert r.stderr == f"Caution: {CAUTION}\n"

@@ -131,7 +131,7 @@ def test_fhir_validator_catches_a_broken_bundle(tmp_path, db_url, field, bad):  
     p.write_text("time,bed,ref,by,item,site,value\n2026-12-01T16:00,1,DEMO-11,RN-A,nirs,R,64\n")
     assert run("obs", "import", p, "--unit", UNIT, "--db", db_url).exit_code == 0
     doc = json.loads(
-        run("obs", "export", "--unit", UNIT, "--format", "fhir", "--db", db_url).output
+        run("obs", "export", "--unit", UNIT, "--format", "fhir", "--db", db_url).stdout
     )
     if bad is None:
         del doc["entry"][0]["resource"][field]

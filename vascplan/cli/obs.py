@@ -294,8 +294,10 @@ def export(unit_path: str, fmt: str, output: str | None, db: str | None) -> None
     if output:
         atomic_write_text(output, text, mode=0o600)
         click.echo(f"wrote {output} ({len(rows)} stored rows)")
+        click.echo(f"Caution: {CAUTION}")
     else:
         click.echo(text, nl=False)
+        click.echo(f"Caution: {CAUTION}", err=True)
 
 
 def _at(text: str | None, unit) -> datetime:
