@@ -283,7 +283,7 @@ def review_patient(
                 protocol,
                 "check-overdue",
                 f"{len(out.overdue)} scheduled check(s) not recorded; the first was due "
-                f"{_hm(first.due, tz)} ({first.minutes_late} min ago)",
+                f"{first.due.astimezone(tz):%Y-%m-%d %H:%M} ({first.minutes_late} min ago)",
                 extra_source=f"protocol {protocol.name!r}",
             )
         )
@@ -622,9 +622,14 @@ def render_table(result: UnitReview) -> str:
             f"Bed {p.bed}  {p.ref}  last check {last}  "
             f"ALI category {p.ali_category or '-'}  ABI {abi}"
         )
-        for o in p.overdue:
+        shown = p.overdue if len(p.overdue) <= 6 else [*p.overdue[:3], None, *p.overdue[-2:]]
+        for o in shown:
+            if o is None:
+                lines.append(f"  ... {len(p.overdue) - 5} more overdue (all in --format json)")
+                continue
             lines.append(
-                f"  overdue  due {o.due.strftime('%H:%M')} ({o.phase}), {o.minutes_late} min late"
+                f"  overdue  due {o.due.strftime('%Y-%m-%d %H:%M')} ({o.phase}), "
+                f"{o.minutes_late} min late"
             )
         for a in p.alerts:
             lines.append(f"  ALERT {a.rule}: {a.detail}")
