@@ -18,8 +18,13 @@ def sheath_patient(bed: int, inserted: str, removed: str | None = None, **extra:
         "bed": bed,
         "sex": "male",
         "device": {
-            "kind": "large-bore-sheath", "side": "R", "vessel": "CFA", "size_fr": 8,
-            "label": "outer", "inserted": inserted, "removed": removed,
+            "kind": "large-bore-sheath",
+            "side": "R",
+            "vessel": "CFA",
+            "size_fr": 8,
+            "label": "outer",
+            "inserted": inserted,
+            "removed": removed,
         },
         "vessel_mm": 9.0,
     }

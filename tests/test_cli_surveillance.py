@@ -25,12 +25,15 @@ def test_risk_json_contract():
     doc = json.loads(res.output)
     assert doc["caution"] == CAUTION
     by_ref = {p["ref"]: p for p in doc["patients"]}
-    assert set(by_ref) == {"DEMO-11", "DEMO-12", "DEMO-13", "DEMO-14", "DEMO-15"}
+    assert set(by_ref) == {"DEMO-11", "DEMO-12", "DEMO-13", "DEMO-14", "DEMO-15", "DEMO-16"}
     for p in doc["patients"]:
         assert {"ref", "bed", "tier", "sar", "dpc_advised", "reasons"} <= set(p)
         assert p["tier"] in ("standard", "raised", "high")
-    # DEMO-12: 14 Fr sheath (5.65 mm outer, wall table) in a 5.2 mm CFA: SAR >= 1.05.
-    assert by_ref["DEMO-12"]["sar"] >= 1.05 and by_ref["DEMO-12"]["dpc_advised"] is True
+    # DEMO-16: 14 Fr sheath (5.65 mm outer, wall table) in a 5.2 mm CFA: SAR >= 1.05.
+    assert by_ref["DEMO-16"]["sar"] >= 1.05 and by_ref["DEMO-16"]["dpc_advised"] is True
+    # DEMO-12: measured 5.7 mm outer diameter in a 9.1 mm CFA (as in its case file).
+    assert by_ref["DEMO-12"]["sar"] == round(5.7 / 9.1, 3)
+    assert by_ref["DEMO-12"]["dpc_advised"] is False
     # DEMO-15: femoral VA-ECMO without a distal cannula: advised (Marbach 2022 and others).
     assert by_ref["DEMO-15"]["dpc_advised"] is True
     # DEMO-13 has no measured vessel: the reference value is an assumption.
@@ -58,13 +61,26 @@ def test_rota_json_contract():
 
 def test_rota_nurse_ics_to_file(tmp_path):
     out = tmp_path / "rn-a.ics"
-    res = _run("rota", DEMO, "--from", "2026-12-02T07:30", "--hours", "12", "--nurse", "RN-A",
-               "--format", "ics", "-o", str(out))
+    res = _run(
+        "rota",
+        DEMO,
+        "--from",
+        "2026-12-02T07:30",
+        "--hours",
+        "12",
+        "--nurse",
+        "RN-A",
+        "--format",
+        "ics",
+        "-o",
+        str(out),
+    )
     assert res.exit_code == 0, res.output
     cal = icalendar.Calendar.from_ical(out.read_bytes())
     events = list(cal.walk("VEVENT"))
-    assert events and all("bed 1" in str(e["SUMMARY"]) or "bed 2" in str(e["SUMMARY"])
-                          for e in events)
+    assert events and all(
+        "bed 1" in str(e["SUMMARY"]) or "bed 2" in str(e["SUMMARY"]) for e in events
+    )
     assert not list(tmp_path.glob(".*.tmp"))
 
 
@@ -141,7 +157,27 @@ def test_unit_protocol_path_relative_to_unit_file(tmp_path):
     (tmp_path / "ours.yaml").write_text(proto.replace("name: standard", "name: ours", 1))
     text = (examples_dir() / "unit-demo.yaml").read_text()
     (tmp_path / "unit.yaml").write_text(text.replace("protocol: standard", "protocol: ours.yaml"))
-    res = _run("rota", str(tmp_path / "unit.yaml"), "--from", "2026-12-02T07:30", "--hours", "1",
-               "--format", "json")
+    res = _run(
+        "rota",
+        str(tmp_path / "unit.yaml"),
+        "--from",
+        "2026-12-02T07:30",
+        "--hours",
+        "1",
+        "--format",
+        "json",
+    )
     assert res.exit_code == 0, res.output
     assert json.loads(res.output)["protocol"] == "ours"
+
+
+def test_demo_step_with_the_demo_runner(tmp_path):
+    from vascplan.demo import run_demo
+    from vascplan.surveillance.demo import step_surveillance
+
+    lines: list[str] = []
+    written = run_demo(
+        tmp_path, echo=lines.append, steps=[("limb surveillance", step_surveillance)]
+    )
+    assert [p.name for p in written][-1] == "surveillance-rota.ics"
+    assert lines[0] == "[1/1] limb surveillance"

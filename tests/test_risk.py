@@ -102,8 +102,9 @@ def test_dpc_advised_on_femoral_ecmo_with_sources():
 
 def test_dpc_not_advised_when_in_place_or_not_femoral():
     assert dpc_advice("va-ecmo-arterial", 0.8, False, "male", 9.0, True)[0] is False
-    advised, basis = dpc_advice("va-ecmo-arterial", 0.8, False, "male", 9.0, False,
-                                access_vessel="AXA")
+    advised, basis = dpc_advice(
+        "va-ecmo-arterial", 0.8, False, "male", 9.0, False, access_vessel="AXA"
+    )
     assert advised is False and "AXA" in basis[0]
 
 
@@ -121,6 +122,19 @@ def test_dpc_in_place_reported_and_clinician_event():
     a = assess_patient(_ecmo(dpc=dpc, events=events), PROTOCOL, AT)
     assert a.dpc_in_place and not a.dpc_advised
     assert a.tier == "high" and "cold foot" in a.reasons[-1]
-    before = assess_patient(_ecmo(dpc=dpc, events=events), PROTOCOL,
-                            datetime(2026, 12, 2, 8, 30, tzinfo=UTC))
+    before = assess_patient(
+        _ecmo(dpc=dpc, events=events), PROTOCOL, datetime(2026, 12, 2, 8, 30, tzinfo=UTC)
+    )
     assert before.tier == "raised" and not before.dpc_in_place and before.dpc_advised
+
+
+def test_rule_table_refuses_unknown_test(tmp_path):
+    from vascplan.errors import InputError
+    from vascplan.paths import data_dir
+
+    text = (data_dir() / "surveillance" / "risk_rules.yaml").read_text()
+    bad = tmp_path / "rules.yaml"
+    bad.write_text(text.replace("test: pad\n", "test: padd\n", 1))
+    with pytest.raises(InputError) as exc:
+        load_rules(str(bad))
+    assert str(exc.value).startswith(f"{bad}: factors.3.test: unknown test 'padd' (did you mean")

@@ -23,8 +23,11 @@ STAFF = [
 
 def test_two_hourly_checks_at_once_are_staggered_within_window():
     # Both sheaths went in at 08:00, so both are hourly on the hour from 11:00.
-    unit = make_unit("Europe/London", [sheath_patient(1, "2026-12-01T08:00"),
-                                       sheath_patient(2, "2026-12-01T08:00")], staff=STAFF)
+    unit = make_unit(
+        "Europe/London",
+        [sheath_patient(1, "2026-12-01T08:00"), sheath_patient(2, "2026-12-01T08:00")],
+        staff=STAFF,
+    )
     rota = build_rota(unit, PROTOCOL, _utc("2026-12-01T12:00Z"), _utc("2026-12-01T13:00Z"))
     assert [(c.bed, c.due.strftime("%H:%M"), c.time.strftime("%H:%M")) for c in rota.checks] == [
         (1, "12:00", "12:00"),
@@ -51,10 +54,15 @@ def test_three_quarter_hourly_checks_cannot_all_be_met():
 
 
 def test_different_nurses_do_not_stagger():
-    staff = [{"nurse": "RN-A", "beds": [1], "shifts": ["day"]},
-             {"nurse": "RN-B", "beds": [2], "shifts": ["day"]}]
-    unit = make_unit("Europe/London", [sheath_patient(1, "2026-12-01T08:00"),
-                                       sheath_patient(2, "2026-12-01T08:00")], staff=staff)
+    staff = [
+        {"nurse": "RN-A", "beds": [1], "shifts": ["day"]},
+        {"nurse": "RN-B", "beds": [2], "shifts": ["day"]},
+    ]
+    unit = make_unit(
+        "Europe/London",
+        [sheath_patient(1, "2026-12-01T08:00"), sheath_patient(2, "2026-12-01T08:00")],
+        staff=staff,
+    )
     rota = build_rota(unit, PROTOCOL, _utc("2026-12-01T12:00Z"), _utc("2026-12-01T12:30Z"))
     assert all(c.time == c.due for c in rota.checks)
     assert {c.nurse for c in rota.checks} == {"RN-A", "RN-B"}
@@ -77,7 +85,9 @@ def test_assignment_follows_the_shift_across_a_clock_change():
     day = [c for c in rota.checks if c.nurse == "RN-A"]
     assert day and all(c.shift == "day" for c in day)
     assert [h.at.isoformat() for h in rota.handovers] == [
-        "2026-10-24T19:30:00+01:00", "2026-10-25T07:30:00+00:00"]
+        "2026-10-24T19:30:00+01:00",
+        "2026-10-25T07:30:00+00:00",
+    ]
 
 
 def test_handover_lists_due_soon_and_overdue():
@@ -89,18 +99,27 @@ def test_handover_lists_due_soon_and_overdue():
     assert handover.shift == "night"
     assert handover.at.strftime("%H:%M") == "19:30"
     # Hourly from 18:25: due 19:25 for beds 1-3 by RN-A, placed 19:25, 19:30, 19:35.
-    assert [(c.bed, c.time.strftime("%H:%M")) for c in handover.overdue] == [(2, "19:30"),
-                                                                            (3, "19:35")]
+    assert [(c.bed, c.time.strftime("%H:%M")) for c in handover.overdue] == [
+        (2, "19:30"),
+        (3, "19:35"),
+    ]
     # Due in the first hour of the night: 20:25 for the three beds.
     assert [(c.bed, c.due.strftime("%H:%M")) for c in handover.due_soon] == [
-        (1, "20:25"), (2, "20:25"), (3, "20:25")]
+        (1, "20:25"),
+        (2, "20:25"),
+        (3, "20:25"),
+    ]
 
 
 def test_nurse_filter_and_worklist_order():
-    unit = make_unit("Europe/London", [sheath_patient(1, "2026-12-01T08:00"),
-                                       sheath_patient(2, "2026-12-01T08:20")], staff=STAFF)
-    rota = build_rota(unit, PROTOCOL, _utc("2026-12-01T12:00Z"), _utc("2026-12-02T00:00Z"),
-                      nurse="RN-N")
+    unit = make_unit(
+        "Europe/London",
+        [sheath_patient(1, "2026-12-01T08:00"), sheath_patient(2, "2026-12-01T08:20")],
+        staff=STAFF,
+    )
+    rota = build_rota(
+        unit, PROTOCOL, _utc("2026-12-01T12:00Z"), _utc("2026-12-02T00:00Z"), nurse="RN-N"
+    )
     assert rota.checks and {c.nurse for c in rota.checks} == {"RN-N"}
     times = [c.time for c in rota.worklists()["RN-N"]]
     assert times == sorted(times)
@@ -109,8 +128,9 @@ def test_nurse_filter_and_worklist_order():
 def test_unknown_nurse_is_one_line():
     unit = make_unit("Europe/London", [sheath_patient(1, "2026-12-01T08:00")], staff=STAFF)
     with pytest.raises(InputError) as exc:
-        build_rota(unit, PROTOCOL, _utc("2026-12-01T12:00Z"), _utc("2026-12-01T13:00Z"),
-                   nurse="RN-N2")
+        build_rota(
+            unit, PROTOCOL, _utc("2026-12-01T12:00Z"), _utc("2026-12-01T13:00Z"), nurse="RN-N2"
+        )
     assert str(exc.value) == (
         "--nurse: unknown nurse 'RN-N2' (did you mean 'RN-N'?); staff: RN-A, RN-N"
     )

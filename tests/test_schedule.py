@@ -31,35 +31,74 @@ def _run(unit, start: str, end: str, protocol=PROTOCOL):
 # expected times below are worked out by hand from those offsets, in UTC.
 CLOCK_CHANGES = [
     (
-        "Europe/London", "2026-03-28T20:00", "2026-03-28T22:00Z", "2026-03-29T05:00Z",
-        ["2026-03-28T22:00:00+00:00", "2026-03-28T22:30:00+00:00", "2026-03-28T23:00:00+00:00",
-         "2026-03-29T00:00:00+00:00",
-         "2026-03-29T02:00:00+01:00", "2026-03-29T03:00:00+01:00", "2026-03-29T04:00:00+01:00",
-         "2026-03-29T05:00:00+01:00"],
+        "Europe/London",
+        "2026-03-28T20:00",
+        "2026-03-28T22:00Z",
+        "2026-03-29T05:00Z",
+        [
+            "2026-03-28T22:00:00+00:00",
+            "2026-03-28T22:30:00+00:00",
+            "2026-03-28T23:00:00+00:00",
+            "2026-03-29T00:00:00+00:00",
+            "2026-03-29T02:00:00+01:00",
+            "2026-03-29T03:00:00+01:00",
+            "2026-03-29T04:00:00+01:00",
+            "2026-03-29T05:00:00+01:00",
+        ],
     ),
     (
-        "Europe/London", "2026-10-24T20:00", "2026-10-24T22:00Z", "2026-10-25T04:00Z",
+        "Europe/London",
+        "2026-10-24T20:00",
+        "2026-10-24T22:00Z",
+        "2026-10-25T04:00Z",
         # 20:00 BST = 19:00Z; hourly from 22:00Z: local 01:00 happens twice, with two offsets.
-        ["2026-10-24T23:00:00+01:00", "2026-10-25T00:00:00+01:00", "2026-10-25T01:00:00+01:00",
-         "2026-10-25T01:00:00+00:00", "2026-10-25T02:00:00+00:00", "2026-10-25T03:00:00+00:00"],
+        [
+            "2026-10-24T23:00:00+01:00",
+            "2026-10-25T00:00:00+01:00",
+            "2026-10-25T01:00:00+01:00",
+            "2026-10-25T01:00:00+00:00",
+            "2026-10-25T02:00:00+00:00",
+            "2026-10-25T03:00:00+00:00",
+        ],
     ),
     (
-        "America/New_York", "2026-03-07T20:00", "2026-03-08T04:00Z", "2026-03-08T10:00Z",
+        "America/New_York",
+        "2026-03-07T20:00",
+        "2026-03-08T04:00Z",
+        "2026-03-08T10:00Z",
         # 20:00 EST = 01:00Z; maintenance from 04:00Z on the hour.
-        ["2026-03-07T23:00:00-05:00", "2026-03-08T00:00:00-05:00", "2026-03-08T01:00:00-05:00",
-         "2026-03-08T03:00:00-04:00", "2026-03-08T04:00:00-04:00", "2026-03-08T05:00:00-04:00"],
+        [
+            "2026-03-07T23:00:00-05:00",
+            "2026-03-08T00:00:00-05:00",
+            "2026-03-08T01:00:00-05:00",
+            "2026-03-08T03:00:00-04:00",
+            "2026-03-08T04:00:00-04:00",
+            "2026-03-08T05:00:00-04:00",
+        ],
     ),
     (
-        "America/New_York", "2026-10-31T20:00", "2026-11-01T03:00Z", "2026-11-01T09:00Z",
+        "America/New_York",
+        "2026-10-31T20:00",
+        "2026-11-01T03:00Z",
+        "2026-11-01T09:00Z",
         # 20:00 EDT = 00:00Z; maintenance from 03:00Z on the hour.
-        ["2026-10-31T23:00:00-04:00", "2026-11-01T00:00:00-04:00", "2026-11-01T01:00:00-04:00",
-         "2026-11-01T01:00:00-05:00", "2026-11-01T02:00:00-05:00", "2026-11-01T03:00:00-05:00"],
+        [
+            "2026-10-31T23:00:00-04:00",
+            "2026-11-01T00:00:00-04:00",
+            "2026-11-01T01:00:00-04:00",
+            "2026-11-01T01:00:00-05:00",
+            "2026-11-01T02:00:00-05:00",
+            "2026-11-01T03:00:00-05:00",
+        ],
     ),
 ]
 
 
-@pytest.mark.parametrize(("tz", "inserted", "start", "end", "expected"), CLOCK_CHANGES,
-                         ids=["london-spring", "london-autumn", "newyork-spring", "newyork-autumn"])
+@pytest.mark.parametrize(
+    ("tz", "inserted", "start", "end", "expected"),
+    CLOCK_CHANGES,
+    ids=["london-spring", "london-autumn", "newyork-spring", "newyork-autumn"],
+)
 def test_hourly_checks_across_clock_change(tz, inserted, start, end, expected):
     unit = make_unit(tz, [sheath_patient(1, inserted)])
     checks = _run(unit, start, end)
@@ -102,8 +141,11 @@ def test_new_cannula_restarts_after_insertion_phases():
     unit = make_unit("Europe/London", [sheath_patient(1, "2026-12-01T08:00", dpc=dpc)])
     checks = _run(unit, "2026-12-01T14:00Z", "2026-12-01T16:30Z")
     times = [(c.due.strftime("%H:%M"), c.phase) for c in checks]
-    assert times[:3] == [("14:00", "maintenance"), ("15:00", "maintenance"),
-                         ("15:35", "post-insertion")]
+    assert times[:3] == [
+        ("14:00", "maintenance"),
+        ("15:00", "maintenance"),
+        ("15:35", "post-insertion"),
+    ]
     assert "dpc" in checks[-1].items and "dpc" not in checks[0].items
 
 
@@ -174,8 +216,17 @@ def _expected_minutes(phases, inserted: int, removed: int | None, end: int) -> l
 
 ZONES = ["Europe/London", "America/New_York", "Australia/Sydney", "UTC"]
 # Minutes from the epoch near the 2026 clock changes of those zones.
-CHANGES = [_utc(t) for t in ("2026-03-29T01:00Z", "2026-10-25T01:00Z", "2026-03-08T07:00Z",
-                             "2026-11-01T06:00Z", "2026-04-04T16:00Z", "2026-10-03T16:00Z")]
+CHANGES = [
+    _utc(t)
+    for t in (
+        "2026-03-29T01:00Z",
+        "2026-10-25T01:00Z",
+        "2026-03-08T07:00Z",
+        "2026-11-01T06:00Z",
+        "2026-04-04T16:00Z",
+        "2026-10-03T16:00Z",
+    )
+]
 
 
 @settings(max_examples=40, deadline=None)
@@ -189,25 +240,44 @@ CHANGES = [_utc(t) for t in ("2026-03-29T01:00Z", "2026-10-25T01:00Z", "2026-03-
     removed_after=st.one_of(st.none(), st.integers(30, 900)),
 )
 # Found by hypothesis: a phase ending after a removal that falls before its next check.
-@example(zone="Europe/London", change=CHANGES[0], offset_min=0, every=[7, 27, 7, 7, 7, 7],
-         ins_len=(20, 20), rem_counts=(1, 1, 1), removed_after=30)
-def test_no_check_lost_or_doubled(zone, change, offset_min, every, ins_len, rem_counts,
-                                  removed_after):
-    lengths = [("for_min", ins_len[0]), ("for_min", ins_len[1]), ("open", 0),
-               ("count", rem_counts[0]), ("count", rem_counts[1]), ("count", rem_counts[2])]
+@example(
+    zone="Europe/London",
+    change=CHANGES[0],
+    offset_min=0,
+    every=[7, 27, 7, 7, 7, 7],
+    ins_len=(20, 20),
+    rem_counts=(1, 1, 1),
+    removed_after=30,
+)
+def test_no_check_lost_or_doubled(
+    zone, change, offset_min, every, ins_len, rem_counts, removed_after
+):
+    lengths = [
+        ("for_min", ins_len[0]),
+        ("for_min", ins_len[1]),
+        ("open", 0),
+        ("count", rem_counts[0]),
+        ("count", rem_counts[1]),
+        ("count", rem_counts[2]),
+    ]
     protocol = _protocol(every, lengths)
     inserted = change + timedelta(minutes=offset_min)
     removed = None if removed_after is None else inserted + timedelta(minutes=removed_after)
-    unit = make_unit(zone, [sheath_patient(
-        1, inserted.isoformat(), None if removed is None else removed.isoformat())])
+    unit = make_unit(
+        zone,
+        [sheath_patient(1, inserted.isoformat(), None if removed is None else removed.isoformat())],
+    )
     end = inserted + timedelta(hours=30)  # short of the 72 h dwell rule
     checks = patient_schedule(unit, unit.patients[0], protocol, inserted, end)
     got = [int(c.due.astimezone(UTC).timestamp() // 60) for c in checks]
     epoch = lambda d: int(d.timestamp() // 60)  # noqa: E731
-    phases = [(e, k, n, a) for e, (k, n), a in zip(
-        every, lengths, ["insertion"] * 3 + ["removal"] * 3, strict=True)]
+    phases = [
+        (e, k, n, a)
+        for e, (k, n), a in zip(every, lengths, ["insertion"] * 3 + ["removal"] * 3, strict=True)
+    ]
     expected = _expected_minutes(
-        phases, epoch(inserted), None if removed is None else epoch(removed), epoch(end))
+        phases, epoch(inserted), None if removed is None else epoch(removed), epoch(end)
+    )
     assert got == expected
     assert len(set(got)) == len(got)
     assert all(c.due.tzinfo is not None and c.due.utcoffset() is not None for c in checks)

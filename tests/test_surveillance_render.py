@@ -17,8 +17,11 @@ STAFF = [{"nurse": "RN-A", "beds": [1, 2], "shifts": ["day", "night"]}]
 
 
 def _rota(start="2026-10-24T20:00Z", end="2026-10-25T06:00Z"):
-    unit = make_unit("Europe/London", [sheath_patient(1, "2026-10-24T08:00"),
-                                       sheath_patient(2, "2026-10-24T08:00")], staff=STAFF)
+    unit = make_unit(
+        "Europe/London",
+        [sheath_patient(1, "2026-10-24T08:00"), sheath_patient(2, "2026-10-24T08:00")],
+        staff=STAFF,
+    )
     s = datetime.fromisoformat(start).astimezone(UTC)
     e = datetime.fromisoformat(end).astimezone(UTC)
     return build_rota(unit, PROTOCOL, s, e)
@@ -49,9 +52,11 @@ def test_ics_parses_back_with_the_same_events():
         (alarm,) = ev.walk("VALARM")
         assert str(alarm["ACTION"]) == "DISPLAY"
     # the repeated 01:00 local hour appears twice, one hour apart in real time
-    ones = [e.decoded("DTSTART").astimezone(UTC) for e in events
-            if e.decoded("DTSTART").astimezone(rota.checks[0].time.tzinfo).strftime("%H:%M")
-            == "01:00"]
+    ones = [
+        e.decoded("DTSTART").astimezone(UTC)
+        for e in events
+        if e.decoded("DTSTART").astimezone(rota.checks[0].time.tzinfo).strftime("%H:%M") == "01:00"
+    ]
     assert len(ones) == 2 and (ones[1] - ones[0]).total_seconds() == 3600
 
 

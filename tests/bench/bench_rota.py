@@ -33,8 +33,11 @@ def _unit():
             extra = {"events": [{"at": f"2026-03-{24 + day:02d}T12:00", "tier": "high"}]}
         patients.append(sheath_patient(bed, inserted, removed, **extra))
     staff = [
-        {"nurse": f"RN-{shift[0].upper()}{n:02d}", "beds": list(range(4 * n + 1, 4 * n + 5)),
-         "shifts": [shift]}
+        {
+            "nurse": f"RN-{shift[0].upper()}{n:02d}",
+            "beds": list(range(4 * n + 1, 4 * n + 5)),
+            "shifts": [shift],
+        }
         for n in range(BEDS // 4)
         for shift in ("day", "night")
     ]
@@ -76,12 +79,18 @@ def test_rota_40_beds_14_days():
         return cal.to_ical()
 
     t_ics_floor, _ = _timed(bare_events)
-    print(f"\n{BEDS} beds x {DAYS} days: {n} checks, {len(rota.unmet)} unmet, "
-          f"{len(rota.handovers)} handovers")
-    print(f"rota:      {t_rota:8.3f} s  ({t_rota / t_floor:8.1f} x {n} bare datetimes, "
-          f"{t_floor * 1e3:.1f} ms)")
-    print(f"iCalendar: {t_ics:8.3f} s  ({t_ics / t_ics_floor:8.1f} x {n} bare icalendar events, "
-          f"{t_ics_floor:.3f} s); {len(raw) / 1e6:.1f} MB")
+    print(
+        f"\n{BEDS} beds x {DAYS} days: {n} checks, {len(rota.unmet)} unmet, "
+        f"{len(rota.handovers)} handovers"
+    )
+    print(
+        f"rota:      {t_rota:8.3f} s  ({t_rota / t_floor:8.1f} x {n} bare datetimes, "
+        f"{t_floor * 1e3:.1f} ms)"
+    )
+    print(
+        f"iCalendar: {t_ics:8.3f} s  ({t_ics / t_ics_floor:8.1f} x {n} bare icalendar events, "
+        f"{t_ics_floor:.3f} s); {len(raw) / 1e6:.1f} MB"
+    )
     assert n > BEDS * DAYS * 20  # hourly or tighter for most beds
     assert t_rota < 1000 * t_floor + 10  # loose
     assert t_ics < 20 * t_ics_floor + 10

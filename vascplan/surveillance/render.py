@@ -149,8 +149,10 @@ def rota_table(rota: Rota) -> str:
         lines.append("")
     if rota.unmet:
         lines.append(f"== Cannot be met within their windows: {len(rota.unmet)}")
-        lines += [f"  bed {u.check.bed} {u.check.ref} due {iso(u.check.due)}: {u.reason}"
-                  for u in rota.unmet]
+        lines += [
+            f"  bed {u.check.bed} {u.check.ref} due {iso(u.check.due)}: {u.reason}"
+            for u in rota.unmet
+        ]
         lines.append("")
     for h in rota.handovers:
         lines.append(f"== Handover to {h.shift} at {h.at.strftime('%Y-%m-%d %H:%M %z')}")
@@ -171,8 +173,20 @@ def rota_csv(rota: Rota) -> str:
         d = _check_dict(c)
         d["items"] = ";".join(c.items)
         rows.append(d)
-    columns = ["time", "due", "bed", "ref", "nurse", "phase", "items", "shift", "tier",
-               "interval_min", "tolerance_min", "within_window"]
+    columns = [
+        "time",
+        "due",
+        "bed",
+        "ref",
+        "nurse",
+        "phase",
+        "items",
+        "shift",
+        "tier",
+        "interval_min",
+        "tolerance_min",
+        "within_window",
+    ]
     frame = pd.DataFrame(rows, columns=columns)
     return f"# {CAUTION}\n" + frame.to_csv(index=False, lineterminator="\n")
 

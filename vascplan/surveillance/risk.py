@@ -116,7 +116,8 @@ class RiskRules(_Strict):
             for i, rule in enumerate(rules):
                 if rule.test not in TESTS:
                     raise InputError(
-                        src, f"{group}.{i}.test",
+                        src,
+                        f"{group}.{i}.test",
                         f"unknown test {rule.test!r}{did_you_mean(rule.test, TESTS)}; "
                         f"one of {', '.join(TESTS)}",
                     )
@@ -268,11 +269,15 @@ def dpc_advice(
         raise ValueError(f"unknown device kind {device_kind!r}; one of {', '.join(DEVICE_KINDS)}")
     rules = rules or load_rules()
     if dpc_in_place:
-        return False, ["a distal perfusion cannula is already in place: check its connection "
-                       "and flow at every check"]
+        return False, [
+            "a distal perfusion cannula is already in place: check its connection "
+            "and flow at every check"
+        ]
     if access_vessel not in FEMORAL_VESSELS:
-        return False, [f"access from the {access_vessel}, not the leg: a distal perfusion "
-                       "cannula of the leg does not apply (common practice)"]
+        return False, [
+            f"access from the {access_vessel}, not the leg: a distal perfusion "
+            "cannula of the leg does not apply (common practice)"
+        ]
     facts = Facts(device_kind, True, sar, pad, False, sex, vessel_mm, 0.0, False)
     for rule in rules.dpc:
         if rule.applies(facts):
@@ -320,8 +325,15 @@ def assess_patient(patient: Patient, protocol: Protocol, at: datetime) -> RiskAs
     dpc = patient.dpc
     dpc_in = dpc is not None and dpc.inserted <= at and (dpc.removed is None or dpc.removed > at)
     facts = Facts(
-        dev.kind, dev.vessel in FEMORAL_VESSELS, ratio, patient.pad, patient.diabetes,
-        patient.sex, vessel_mm, dwell_h, dpc_in,
+        dev.kind,
+        dev.vessel in FEMORAL_VESSELS,
+        ratio,
+        patient.pad,
+        patient.diabetes,
+        patient.sex,
+        vessel_mm,
+        dwell_h,
+        dpc_in,
     )
     tier: Tier = "standard"
     reasons: list[str] = []
@@ -349,21 +361,38 @@ def assess_patient(patient: Patient, protocol: Protocol, at: datetime) -> RiskAs
     if not reasons:
         reasons.append("no listed risk factor applies")
     advised, basis = dpc_advice(
-        dev.kind, ratio, patient.pad, patient.sex, vessel_mm, dpc_in,
-        access_vessel=dev.vessel, rules=rules,
+        dev.kind,
+        ratio,
+        patient.pad,
+        patient.sex,
+        vessel_mm,
+        dpc_in,
+        access_vessel=dev.vessel,
+        rules=rules,
     )
     if tier in protocol.tiers:
         tighter = ", ".join(
             f"{name} every {every} min" for name, every in protocol.tiers[tier].every_min.items()
         )
-        basis.append(f"tier {tier}: {tighter} ({protocol.tiers[tier].source}, protocol "
-                     f"{protocol.name})")
+        basis.append(
+            f"tier {tier}: {tighter} ({protocol.tiers[tier].source}, protocol {protocol.name})"
+        )
     basis.append(rules.statement)
     return RiskAssessment(
-        ref=patient.ref, bed=patient.bed, tier=tier, sar=ratio, device_od_mm=round(od.mm, 3),
-        vessel_mm=vessel_mm, vessel_measured=measured, dwell_h=round(dwell_h, 2),
-        dpc_in_place=dpc_in, dpc_advised=advised, reasons=reasons, basis=basis,
-        assumptions=assumptions, factors=ids,
+        ref=patient.ref,
+        bed=patient.bed,
+        tier=tier,
+        sar=ratio,
+        device_od_mm=round(od.mm, 3),
+        vessel_mm=vessel_mm,
+        vessel_measured=measured,
+        dwell_h=round(dwell_h, 2),
+        dpc_in_place=dpc_in,
+        dpc_advised=advised,
+        reasons=reasons,
+        basis=basis,
+        assumptions=assumptions,
+        factors=ids,
     )
 
 

@@ -175,8 +175,10 @@ def patient_schedule(
         st.count += 1
         st.floor = None
         if due >= start_utc:
-            dpc_in = dpc is not None and dpc.inserted <= due and (
-                dpc.removed is None or dpc.removed > due
+            dpc_in = (
+                dpc is not None
+                and dpc.inserted <= due
+                and (dpc.removed is None or dpc.removed > due)
             )
             out.append(
                 ScheduledCheck(

@@ -70,7 +70,7 @@ class Shift(_Strict):
         if isinstance(value, int):  # YAML 1.1 reads 07:30 unquoted as a base-60 integer
             value = f"{value // 60:02d}:{value % 60:02d}"
         if isinstance(value, str) and not re.fullmatch(r"\d{2}:\d{2}", value):
-            raise ValueError("shift start must be HH:MM in local time, e.g. \"07:30\"")
+            raise ValueError('shift start must be HH:MM in local time, e.g. "07:30"')
         return value
 
 
@@ -198,7 +198,8 @@ class Unit(_Strict):
                     raise InputError(
                         source,
                         f"staff.{i}.shifts.{j}",
-                        f"unknown shift {s!r}{did_you_mean(s, names)}; shifts are {', '.join(names)}",
+                        f"unknown shift {s!r}{did_you_mean(s, names)}; "
+                        f"shifts are {', '.join(names)}",
                     )
         tz = self.unit.tz
         for i, p in enumerate(self.patients):
@@ -207,7 +208,9 @@ class Unit(_Strict):
             assert inserted is not None  # a required field
             removed = _localise(p.device.removed, tz, source, f"{base}.device.removed")
             if removed is not None and removed <= inserted:
-                raise InputError(source, f"{base}.device.removed", "removal must come after insertion")
+                raise InputError(
+                    source, f"{base}.device.removed", "removal must come after insertion"
+                )
             object.__setattr__(p.device, "inserted", inserted)
             object.__setattr__(p.device, "removed", removed)
             if p.dpc is not None:
@@ -216,10 +219,14 @@ class Unit(_Strict):
                 d_out = _localise(p.dpc.removed, tz, source, f"{base}.dpc.removed")
                 if d_in < inserted:
                     raise InputError(
-                        source, f"{base}.dpc.inserted", "the distal cannula cannot precede the device"
+                        source,
+                        f"{base}.dpc.inserted",
+                        "the distal cannula cannot precede the device",
                     )
                 if d_out is not None and d_out <= d_in:
-                    raise InputError(source, f"{base}.dpc.removed", "removal must come after insertion")
+                    raise InputError(
+                        source, f"{base}.dpc.removed", "removal must come after insertion"
+                    )
                 object.__setattr__(p.dpc, "inserted", d_in)
                 object.__setattr__(p.dpc, "removed", d_out)
             previous = p.device.inserted
@@ -247,7 +254,11 @@ class Unit(_Strict):
             if s.name == name:
                 return s
         names = [s.name for s in self.shifts]
-        raise InputError(source, "", f"unknown shift {name!r}{did_you_mean(name, names)}; shifts are {', '.join(names)}")
+        raise InputError(
+            source,
+            "",
+            f"unknown shift {name!r}{did_you_mean(name, names)}; shifts are {', '.join(names)}",
+        )
 
     def nurse_for(self, bed: int, shift: str) -> str | None:
         """The nurse who has ``bed`` on ``shift``, or None when the file does not say."""
@@ -293,7 +304,9 @@ def parse_local_time(text: str, tz: ZoneInfo, source: str) -> datetime:
     try:
         value = datetime.fromisoformat(text)
     except ValueError:
-        raise InputError(source, "", f"{text!r} is not an ISO 8601 time such as 2026-12-01T07:30") from None
+        raise InputError(
+            source, "", f"{text!r} is not an ISO 8601 time such as 2026-12-01T07:30"
+        ) from None
     out = _localise(value, tz, source, "")
     assert out is not None
     return out
