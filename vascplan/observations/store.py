@@ -11,9 +11,10 @@ This module imports SQLAlchemy at the top: only the ``obs`` commands import it.
 
 from __future__ import annotations
 
+import contextlib
 import os
 import stat
-from collections.abc import Callable, Iterable, Sequence
+from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass
 from datetime import UTC, datetime
 from pathlib import Path
@@ -25,6 +26,8 @@ from vascplan.errors import InputError, StoreError
 from vascplan.observations.findings import ENTERED_IN_ERROR, Finding, check_value
 
 DB_FILE_NAME = "observations.db"
+BUSY_TIMEOUT_S = 60.0
+"""How long an SQLite writer waits for another writer before giving up [s] (common practice)."""
 CHUNK_ROWS = 500
 """Rows sent to the database per statement inside one import transaction."""
 
@@ -180,7 +183,7 @@ def _create_private_file(path: Path) -> None:
 
 
 def _sqlite_engine(url: sa.URL) -> Engine:
-    engine = sa.create_engine(url, connect_args={"timeout": 60})
+    engine = sa.create_engine(url, connect_args={"timeout": BUSY_TIMEOUT_S})
 
     @sa.event.listens_for(engine, "connect")
     def _connect(dbapi_conn, _record) -> None:
@@ -231,8 +234,7 @@ def open_store(db: str | None = None) -> ObservationStore:
         store.migrate()
     except sa.exc.OperationalError as exc:
         engine.dispose()
-        first = str(exc.orig).strip().splitlines()[0] if exc.orig else str(exc)
-        raise StoreError(f"cannot open the observation store {shown}: {first}") from None
+        raise StoreError(f"cannot open the observation store {shown}: {_first_line(exc)}") from None
     return store
 
 
@@ -306,6 +308,11 @@ class CurrentFinding:
         return self.entry.site
 
 
+def _first_line(exc: sa.exc.DBAPIError) -> str:
+    text = str(exc.orig if exc.orig is not None else exc).strip()
+    return text.splitlines()[0] if text else type(exc).__name__
+
+
 def _utc_text(moment: datetime) -> str:
     return moment.astimezone(UTC).replace(microsecond=0).isoformat()
 
@@ -346,6 +353,23 @@ class ObservationStore:
 
     def close(self) -> None:
         self.engine.dispose()
+
+    @contextlib.contextmanager
+    def _writing(self) -> Iterator[Connection]:
+        """One write transaction; database failures become one-line StoreErrors."""
+        try:
+            with self.engine.begin() as conn:
+                yield conn
+        except sa.exc.IntegrityError as exc:
+            raise StoreError(
+                f"the observation store {self.shown} refused the write ({_first_line(exc)}); "
+                "nothing was stored"
+            ) from None
+        except sa.exc.OperationalError as exc:
+            raise StoreError(
+                f"the observation store {self.shown} could not be written ({_first_line(exc)}); "
+                "nothing was stored"
+            ) from None
 
     def __enter__(self) -> ObservationStore:
         return self
@@ -442,7 +466,7 @@ class ObservationStore:
             }
             for f in findings
         ]
-        with self.engine.begin() as conn:
+        with self._writing() as conn:
             self._refuse_stored(conn, unit, rows, source, lines)
             batch_id = conn.execute(
                 sa.insert(batches).values(
@@ -516,7 +540,7 @@ class ObservationStore:
             raise InputError("--reason", "", "a correction needs a reason")
         if not by.strip():
             raise InputError("--by", "", "a correction needs who made it")
-        with self.engine.begin() as conn:
+        with self._writing() as conn:
             row = conn.execute(sa.select(entries).where(entries.c.id == entry_id)).first()
             if row is None:
                 raise InputError("--entry", "", f"no entry {entry_id} in {self.shown}")
