@@ -331,19 +331,18 @@ def review_patient(
                 )
             )
 
-    for side, word, rule in (("calf", "tense", "calf-tense"),):
-        for leg in SIDES:
-            f = latest.get((side, leg))
-            if f is not None and f.value == word:
-                out.alerts.append(
-                    _alert(
-                        protocol,
-                        rule,
-                        f"{leg} calf tense at {_hm(f.time, tz)}",
-                        side=leg,
-                        time=f.time,
-                    )
+    for leg in SIDES:
+        f = latest.get(("calf", leg))
+        if f is not None and f.value == "tense":
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "calf-tense",
+                    f"{leg} calf tense at {_hm(f.time, tz)}",
+                    side=leg,
+                    time=f.time,
                 )
+            )
     for (item, site), f in latest.items():
         if item == "access" and f.value in ("bleeding", "haematoma"):
             out.alerts.append(
