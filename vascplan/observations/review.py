@@ -531,6 +531,9 @@ def review_unit(
 ) -> UnitReview:
     """Review every patient of ``unit`` from the store, as at ``at`` (aware).
 
+    A patient's findings are found by ref, so that checks made before a move to another
+    bed still count.
+
     Returns
     -------
     UnitReview
@@ -541,7 +544,7 @@ def review_unit(
     every = store.current(unit.unit.name, until=at)
     patients = []
     for p in sorted(unit.patients, key=lambda p: p.bed):
-        mine = [f for f in every if f.entry.ref == p.ref and f.entry.bed == p.bed]
+        mine = [f for f in every if f.entry.ref == p.ref]
         patients.append(review_patient(unit, p, protocol, mine, at))
     return UnitReview(unit.unit.name, at, protocol.name, protocol.review.note, patients)
 

@@ -85,7 +85,7 @@ def write_trend_pdf(
             unit,
             p,
             protocol,
-            [f for f in every if f.entry.ref == p.ref and f.entry.bed == p.bed],
+            [f for f in every if f.entry.ref == p.ref],
             at,
         )
         for p in patients
