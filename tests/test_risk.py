@@ -138,3 +138,10 @@ def test_rule_table_refuses_unknown_test(tmp_path):
     with pytest.raises(InputError) as exc:
         load_rules(str(bad))
     assert str(exc.value).startswith(f"{bad}: factors.3.test: unknown test 'padd' (did you mean")
+
+
+def test_dwell_is_real_elapsed_time():
+    # 2026-10-23 08:10 BST to 2026-10-26 07:10 GMT is 72 real hours (71 on the wall clock).
+    p = _patient(device={"inserted": "2026-10-23T08:10"})
+    a = assess_patient(p, PROTOCOL, datetime(2026, 10, 26, 7, 10, tzinfo=UTC))
+    assert a.dwell_h == 72.0 and "long-dwell" in a.factors

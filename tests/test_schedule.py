@@ -281,3 +281,27 @@ def test_no_check_lost_or_doubled(
     assert got == expected
     assert len(set(got)) == len(got)
     assert all(c.due.tzinfo is not None and c.due.utcoffset() is not None for c in checks)
+
+
+def test_dwell_rule_counts_real_hours_across_a_clock_change():
+    # Inserted 2026-10-23 08:10 BST = 07:10Z; 72 real hours later is 2026-10-26 07:10Z, which
+    # is 07:10 GMT local (clocks went back on the 25th), not 08:10.
+    unit = make_unit("Europe/London", [sheath_patient(1, "2026-10-23T08:10")])
+    checks = _run(unit, "2026-10-26T05:00Z", "2026-10-26T09:00Z")
+    times = [c.due.strftime("%H:%M") for c in checks]
+    assert times == ["05:10", "06:10", "07:10", "07:40", "08:10", "08:40"]
+
+
+def test_removal_in_the_repeated_hour_is_after_insertion():
+    # 01:50 BST (00:50Z) then 01:10 GMT (01:10Z): later in real time, earlier on the wall.
+    unit = make_unit(
+        "Europe/London",
+        [sheath_patient(1, "2026-10-25T01:50+01:00", "2026-10-25T01:10+00:00")],
+    )
+    checks = _run(unit, "2026-10-25T00:00Z", "2026-10-25T02:00Z")
+    assert [c.due.isoformat() for c in checks] == [
+        "2026-10-25T01:05:00+00:00",  # 00:50Z + 15 min = 01:05Z, after the change: GMT
+        "2026-10-25T01:25:00+00:00",  # removal at 01:10Z, then every 15 min
+        "2026-10-25T01:40:00+00:00",
+        "2026-10-25T01:55:00+00:00",
+    ]

@@ -127,7 +127,7 @@ def rota_json(rota: Rota) -> str:
 
 def _when(c: RotaCheck) -> str:
     text = c.time.strftime("%Y-%m-%d %H:%M %z")
-    if c.time != c.due:
+    if c.late_min:
         text += f" (due {c.due.strftime('%H:%M')})"
     return text
 
@@ -239,7 +239,7 @@ def rota_ics(
         ev.add("dtend", (start.astimezone(UTC) + length).astimezone(start.tzinfo))
         ev.add("summary", f"Limb check bed {c.bed} {c.ref} ({c.phase})")
         items = "\n".join(f"- {protocol.item_text(i)}" for i in c.items)
-        late = "" if c.time == c.due else f"\nDue {iso(c.due)}; staggered to {iso(c.time)}."
+        late = "" if not c.late_min else f"\nDue {iso(c.due)}; staggered to {iso(c.time)}."
         if not c.within_window:
             late += "\nOUTSIDE its tolerance window: see the rota's unmet list."
         ev.add(

@@ -63,7 +63,7 @@ class RotaCheck:
     @property
     def late_min(self) -> float:
         """Minutes between due and placed time."""
-        return (self.time - self.due).total_seconds() / 60.0
+        return (_utc(self.time) - _utc(self.due)).total_seconds() / 60.0
 
 
 @dataclass(frozen=True)

@@ -80,16 +80,15 @@ def _events(
     for moment, tier in changes[1:]:
         out.append((moment.astimezone(UTC), 1, "tier", tier))
     dpc = patient.dpc
-    if (
-        protocol.new_cannula_restarts.value
-        and dpc is not None
-        and dpc.inserted > dev.inserted
-        and (dev.removed is None or dpc.inserted < dev.removed)
-        and dpc.inserted <= until
-    ):
-        out.append((dpc.inserted.astimezone(UTC), 2, "restart", ""))
-    if dev.removed is not None and dev.removed <= until:
-        out.append((dev.removed.astimezone(UTC), 3, "removal", ""))
+    until_utc = until.astimezone(UTC)
+    ins = dev.inserted.astimezone(UTC)
+    rem = None if dev.removed is None else dev.removed.astimezone(UTC)
+    if protocol.new_cannula_restarts.value and dpc is not None:
+        d_in = dpc.inserted.astimezone(UTC)
+        if d_in > ins and (rem is None or d_in < rem) and d_in <= until_utc:
+            out.append((d_in, 2, "restart", ""))
+    if rem is not None and rem <= until_utc:
+        out.append((rem, 3, "removal", ""))
     out.sort()
     return out
 
@@ -177,8 +176,8 @@ def patient_schedule(
         if due >= start_utc:
             dpc_in = (
                 dpc is not None
-                and dpc.inserted <= due
-                and (dpc.removed is None or dpc.removed > due)
+                and dpc.inserted.astimezone(UTC) <= due
+                and (dpc.removed is None or dpc.removed.astimezone(UTC) > due)
             )
             out.append(
                 ScheduledCheck(

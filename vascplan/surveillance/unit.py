@@ -207,7 +207,7 @@ class Unit(_Strict):
             inserted = _localise(p.device.inserted, tz, source, f"{base}.device.inserted")
             assert inserted is not None  # a required field
             removed = _localise(p.device.removed, tz, source, f"{base}.device.removed")
-            if removed is not None and removed <= inserted:
+            if removed is not None and _utc(removed) <= _utc(inserted):
                 raise InputError(
                     source, f"{base}.device.removed", "removal must come after insertion"
                 )
@@ -217,13 +217,13 @@ class Unit(_Strict):
                 d_in = _localise(p.dpc.inserted, tz, source, f"{base}.dpc.inserted")
                 assert d_in is not None  # a required field
                 d_out = _localise(p.dpc.removed, tz, source, f"{base}.dpc.removed")
-                if d_in < inserted:
+                if _utc(d_in) < _utc(inserted):
                     raise InputError(
                         source,
                         f"{base}.dpc.inserted",
                         "the distal cannula cannot precede the device",
                     )
-                if d_out is not None and d_out <= d_in:
+                if d_out is not None and _utc(d_out) <= _utc(d_in):
                     raise InputError(
                         source, f"{base}.dpc.removed", "removal must come after insertion"
                     )
@@ -234,7 +234,7 @@ class Unit(_Strict):
                 field = f"{base}.events.{k}.at"
                 at = _localise(ev.at, tz, source, field)
                 assert at is not None
-                if at < previous:
+                if _utc(at) < _utc(previous):
                     raise InputError(
                         source, field, "events must be in time order, at or after the insertion"
                     )
@@ -266,6 +266,11 @@ class Unit(_Strict):
             if bed in a.beds and shift in a.shifts:
                 return a.nurse
         return None
+
+
+def _utc(value: datetime) -> datetime:
+    """Compare aware times in UTC: same-zone datetimes compare by wall time in Python."""
+    return value.astimezone(ZoneInfo("UTC"))
 
 
 def _localise(value: datetime | None, tz: ZoneInfo, source: str, field: str) -> datetime | None:
