@@ -97,14 +97,28 @@ def step_tree(ctx: DemoContext) -> None:
     ctx.shared["trees"] = trees
 
 
-DEMO_STEPS: list[tuple[str, DemoStep]] = [
+DEMO_STEPS: list[tuple[str, DemoStep | str]] = [
     ("validate the example cases", step_validate),
     ("annotated arterial trees", step_tree),
+    (
+        "limb surveillance: risk and rota of the demo unit",
+        "vascplan.surveillance.demo:step_surveillance",
+    ),
 ]
-"""(title, step) in running order; later capabilities append theirs."""
+"""(title, step) in running order. A step is a function of :class:`DemoContext`, or
+``"module:function"`` imported only when the demo reaches it."""
 
 
-def register_step(title: str, step: DemoStep) -> None:
+def _resolve(step: DemoStep | str) -> DemoStep:
+    if isinstance(step, str):
+        import importlib
+
+        module_name, attr = step.split(":")
+        return getattr(importlib.import_module(module_name), attr)
+    return step
+
+
+def register_step(title: str, step: DemoStep | str) -> None:
     """Append a step to the demo (idempotent for the same function)."""
     if all(existing is not step for _, existing in DEMO_STEPS):
         DEMO_STEPS.append((title, step))
@@ -113,7 +127,7 @@ def register_step(title: str, step: DemoStep) -> None:
 def run_demo(
     out_dir: str | Path,
     echo: Callable[[str], None] = print,
-    steps: list[tuple[str, DemoStep]] | None = None,
+    steps: list[tuple[str, DemoStep | str]] | None = None,
 ) -> list[Path]:
     """Run the demo steps in order.
 
@@ -135,6 +149,6 @@ def run_demo(
     todo = DEMO_STEPS if steps is None else steps
     for number, (title, step) in enumerate(todo, start=1):
         echo(f"[{number}/{len(todo)}] {title}")
-        step(ctx)
+        _resolve(step)(ctx)
     echo(f"Caution: {CAUTION}")
     return ctx.written

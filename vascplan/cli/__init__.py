@@ -17,7 +17,10 @@ from vascplan.safety import CAUTION
 
 # name -> (module:attribute, one-line help). One registry; the help test walks it.
 COMMANDS: dict[str, tuple[str, str]] = {
-    "validate": ("vascplan.cli.case:validate", "Check case files; exit 0 when every file is valid."),
+    "validate": (
+        "vascplan.cli.case:validate",
+        "Check case files; exit 0 when every file is valid.",
+    ),
     "tree": ("vascplan.cli.case:tree", "Show a patient's annotated arterial tree."),
     "schema": ("vascplan.cli.case:schema", "Print the JSON Schema of the case file."),
     "plan": ("vascplan.cli.plan:plan", "Rank access routes for a case, with reasons."),
@@ -26,7 +29,10 @@ COMMANDS: dict[str, tuple[str, str]] = {
         "SAR, lumen left and distal flow with a device in an artery.",
     ),
     "risk": ("vascplan.cli.surveillance:risk", "Limb-ischaemia risk tier and cannula advice."),
-    "rota": ("vascplan.cli.surveillance:rota", "The unit's limb checks, bed by bed and nurse by nurse."),
+    "rota": (
+        "vascplan.cli.surveillance:rota",
+        "The unit's limb checks, bed by bed and nurse by nurse.",
+    ),
     "report": ("vascplan.cli.reports:report", "Case-conference PDF with the drawn arterial map."),
     "checklist": ("vascplan.cli.reports:checklist", "Nursing checklist PDF for a shift."),
     "obs": ("vascplan.cli.obs:obs", "Record, review, plot and export limb checks."),
@@ -59,7 +65,6 @@ class LazyGroup(click.Group):
         except VascplanError as exc:
             click.echo(f"error: {exc}", err=True)
             ctx.exit(2)
-
 
 
 @click.group(
