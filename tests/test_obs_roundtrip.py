@@ -56,3 +56,62 @@ def test_import_then_export_gives_the_same_findings(rows):
             out = list(csv.DictReader(io.StringIO(export_rows(store.entries(unit.unit.name)))))
     got = sorted((r["time"][:16], r["item"], r["site"], r["value"]) for r in out)
     assert got == sorted(rows)
+
+
+@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.lists(finding_rows(), min_size=0, max_size=40, unique_by=lambda r: (r[0], r[1], r[2])))
+def test_review_and_trend_never_fail_on_valid_findings(rows):
+    from datetime import datetime
+
+    from vascplan.observations.findings import make_finding
+    from vascplan.observations.review import review_patient, to_json
+    from vascplan.observations.store import Entry, current_findings
+    from vascplan.observations.trend import patient_trend, render_trend_pdf
+    from vascplan.surveillance.protocol import load_protocol
+
+    unit = load_unit(UNIT)
+    tz = unit.unit.tz
+    protocol = load_protocol("standard", "test")
+    patient = unit.patients[0]
+    entries = []
+    for n, (t, item, site, value) in enumerate(rows, start=1):
+        f = make_finding(
+            time=datetime.fromisoformat(t).replace(tzinfo=tz),
+            bed=1,
+            ref="DEMO-11",
+            by="RN-A",
+            item=item,
+            site=site,
+            value=value,
+            source="t",
+        )
+        entries.append(
+            Entry(
+                n,
+                1,
+                unit.unit.name,
+                1,
+                f.ref,
+                f.time,
+                f.time.isoformat(),
+                f.by,
+                f.item,
+                f.site,
+                f.value,
+                None,
+                None,
+                f.time,
+            )
+        )
+    current = current_findings(entries)
+    at = datetime(2026, 12, 1, 19, 0, tzinfo=tz)
+    review = review_patient(unit, patient, protocol, current, at)
+    assert review.ali_category in (None, "I", "IIa", "IIb", "III")
+    assert all(a.rule and a.detail and a.source for a in review.alerts)
+    from vascplan.observations.review import UnitReview
+
+    to_json(UnitReview(unit.unit.name, at, protocol.name, protocol.review.note, [review]))
+    pdf = render_trend_pdf(
+        unit, protocol, [patient_trend(unit, patient, protocol, current, at)], at
+    )
+    assert pdf.startswith(b"%PDF")
