@@ -153,3 +153,20 @@ def test_refill_and_access_and_dpc(tmp_path):
     assert ("refill-slow", "R") in alerts and ("refill-slow", "L") not in alerts  # slow above 3 s
     assert alerts[("access-bleeding", "R")].escalation == "bleeding"
     assert alerts[("dpc-fault", None)].escalation == "dpc-fault"
+
+
+def test_abi_in_review_uses_the_statement_and_says_when(tmp_path):
+    # Aboyans 2012: higher ankle (PTA 92) over higher arm (128) = 0.72, abnormal (<= 0.90).
+    store = _store(
+        tmp_path,
+        [
+            (0, "pressure", "R-PTA", "92"),
+            (0, "pressure", "R-DPA", "88"),
+            (0, "pressure", "L-ARM", "124"),
+            (5, "pressure", "R-ARM", "128"),
+        ],
+    )
+    p, alerts = _alerts(store, 5)
+    assert p.abi["R"].index == 0.72 and p.abi["R"].band == "abnormal"
+    assert p.abi["L"].index is None
+    assert "pressures taken 19:30 to 19:35" in alerts[("abi-abnormal", "R")].detail

@@ -16,7 +16,7 @@ prints: :func:`render_table` and :func:`to_json` are the renderers.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from datetime import UTC, datetime, timedelta
 from pathlib import Path
 from typing import Any
@@ -376,11 +376,24 @@ def review_patient(
             for a in ("PTA", "DPA")
             if ("pressure", f"{side}-{a}") in latest
         }
-        out.abi[side] = ankle_brachial_index(ankle, arms)
-        r = out.abi[side]
+        r = ankle_brachial_index(ankle, arms)
+        used = [latest[("pressure", f"{side}-{a}")].time for a in ankle]
+        used += [latest[("pressure", f"{s}-ARM")].time for s in arms]
+        if r.index is not None and min(used) != max(used):
+            # Pressures from different checks: say when, so a stale one is seen.
+            r = replace(
+                r, basis=f"{r.basis}; pressures taken {_hm(min(used), tz)} to {_hm(max(used), tz)}"
+            )
+        out.abi[side] = r
         if r.band == "abnormal":
             out.alerts.append(
-                _alert(protocol, "abi-abnormal", f"{side} ABI {r.index:.2f} ({r.basis})", side=side)
+                _alert(
+                    protocol,
+                    "abi-abnormal",
+                    f"{side} ABI {r.index:.2f} ({r.basis})",
+                    side=side,
+                    time=max(used),
+                )
             )
     return out
 
