@@ -1,0 +1,172 @@
+"""Review rules: baseline and other-leg comparisons, pedal loss, ALI calls, overdue, corrections."""
+
+from __future__ import annotations
+
+from datetime import datetime, timedelta
+
+import pytest
+
+from tests.obs_fixtures import UNIT
+from vascplan.observations.findings import make_finding
+from vascplan.observations.review import review_unit
+from vascplan.observations.store import open_store
+from vascplan.surveillance.protocol import load_protocol
+from vascplan.surveillance.unit import load_unit
+
+unit = load_unit(UNIT)
+TZ = unit.unit.tz
+PROTOCOL = load_protocol("standard", "test")
+T = datetime(2026, 12, 1, 19, 30, tzinfo=TZ)  # a maintenance-phase moment for bed 1
+
+
+def _store(tmp_path, rows, name="o.db"):
+    store = open_store(str(tmp_path / name))
+    findings = [
+        make_finding(
+            time=T + timedelta(minutes=m),
+            bed=1,
+            ref="DEMO-11",
+            by="RN-A",
+            item=i,
+            site=s,
+            value=v,
+            source="t",
+        )
+        for m, i, s, v in rows
+    ]
+    store.record(findings, unit=unit.unit.name, kind="add", source="t")
+    return store
+
+
+def _alerts(store, minutes=0):
+    (p,) = review_unit(unit, store, T + timedelta(minutes=minutes), protocol=PROTOCOL).patients
+    return p, {(a.rule, a.side): a for a in p.alerts}
+
+
+def test_nirs_fall_from_unit_baseline(tmp_path):
+    # Unit file baseline R 66 %; standard protocol threshold 20 % relative fall: 52 is 21 % below.
+    p, alerts = _alerts(_store(tmp_path, [(0, "nirs", "R", "52"), (0, "nirs", "L", "60")]))
+    a = alerts[("nirs-fall", "R")]
+    assert "21% below 66% (baseline in the unit file)" in a.detail
+    assert a.escalation == "nirs-fall" and a.within_min == 30
+    assert "No guideline fixes NIRS thresholds" in a.source
+    assert ("nirs-fall", "L") not in alerts  # 60 is 12 % below 68
+    assert ("nirs-floor", "R") not in alerts  # 52 is above the 50 % floor
+
+
+def test_nirs_limb_difference_only_at_the_same_check(tmp_path):
+    _, alerts = _alerts(_store(tmp_path, [(0, "nirs", "L", "68"), (0, "nirs", "R", "53")]))
+    assert "15 points apart" in alerts[("nirs-limb-difference", "R")].detail  # threshold 15
+    _, alerts = _alerts(
+        _store(tmp_path, [(0, "nirs", "L", "68"), (1, "nirs", "R", "53")], "b.db"), 1
+    )
+    assert ("nirs-limb-difference", "R") not in alerts
+
+
+def test_pedal_loss_needs_a_signal_that_was_there(tmp_path):
+    # R-DPA present at baseline (unit file): absent now is a loss. L-DPA never recorded present.
+    _, alerts = _alerts(
+        _store(tmp_path, [(0, "pulse", "R-DPA", "absent"), (0, "pulse", "L-DPA", "absent")])
+    )
+    assert (
+        alerts[("pedal-signal-lost", "R")].detail
+        == "R-DPA absent at 19:30; was present at baseline (unit file)"
+    )
+    assert ("pedal-signal-lost", "L") not in alerts
+    # Returning signal closes the alert.
+    _, alerts = _alerts(
+        _store(
+            tmp_path, [(0, "pulse", "R-DPA", "absent"), (5, "pulse", "R-DPA", "doppler")], "b.db"
+        ),
+        5,
+    )
+    assert ("pedal-signal-lost", "R") not in alerts
+
+
+@pytest.mark.parametrize(
+    ("findings", "category", "escalation"),
+    [
+        (
+            [
+                ("sensation", "R", "beyond-toes"),
+                ("motor", "R", "weak"),
+                ("pulse", "R-DPA", "absent"),
+            ],
+            "IIb",
+            "ali-IIb",
+        ),
+        # The standard protocol has no ali-III criterion: its most urgent (IIb) is used, and said.
+        (
+            [
+                ("sensation", "R", "absent"),
+                ("motor", "R", "paralysed"),
+                ("pulse", "R-DPA", "absent"),
+                ("venous", "R", "absent"),
+            ],
+            "III",
+            "ali-IIb",
+        ),
+    ],
+)
+def test_ali_category_and_whom_to_call(tmp_path, findings, category, escalation):
+    p, alerts = _alerts(_store(tmp_path, [(0, *f) for f in findings]))
+    assert p.ali_category == category
+    a = alerts[("ali-category", "R")]
+    assert a.escalation == escalation
+    if category == "III":
+        assert "the protocol has no ali-III criterion; its ali-IIb criterion used" in a.call
+
+
+def test_a_correction_changes_the_review(tmp_path):
+    store = _store(tmp_path, [(0, "calf", "R", "tense")])
+    _, alerts = _alerts(store)
+    assert ("calf-tense", "R") in alerts
+    entry = store.entries(unit.unit.name)[0].id
+    store.correct(entry, "soft", by="RN-B", reason="wrong leg ticked")
+    _, alerts = _alerts(store)
+    assert ("calf-tense", "R") not in alerts
+    assert [e.value for e in store.entries(unit.unit.name)] == ["tense", "soft"]
+
+
+def test_overdue_against_the_schedule(tmp_path):
+    # Raised tier, maintenance every 30 min from 18:35 (standard protocol, tolerance 10 min).
+    store = _store(tmp_path, [(0, "nirs", "L", "68")])  # 19:30 covers the 19:35 check
+    p, _ = _alerts(store, minutes=15)  # 19:45: 19:35 + 10 not yet passed for a check after 19:25
+    assert p.overdue == []
+    p, alerts = _alerts(store, minutes=46)  # 20:16: 20:05 + 10 has passed
+    assert [(o.due.strftime("%H:%M"), o.minutes_late) for o in p.overdue] == [("20:05", 11)]
+    assert alerts[("check-overdue", None)].call is None
+
+
+def test_refill_and_access_and_dpc(tmp_path):
+    _, alerts = _alerts(
+        _store(
+            tmp_path,
+            [
+                (0, "refill", "R", "3.5"),
+                (0, "access", "R", "haematoma"),
+                (0, "dpc", "", "no-flow"),
+                (0, "refill", "L", "3"),
+            ],
+        )
+    )
+    assert ("refill-slow", "R") in alerts and ("refill-slow", "L") not in alerts  # slow above 3 s
+    assert alerts[("access-bleeding", "R")].escalation == "bleeding"
+    assert alerts[("dpc-fault", None)].escalation == "dpc-fault"
+
+
+def test_abi_in_review_uses_the_statement_and_says_when(tmp_path):
+    # Aboyans 2012: higher ankle (PTA 92) over higher arm (128) = 0.72, abnormal (<= 0.90).
+    store = _store(
+        tmp_path,
+        [
+            (0, "pressure", "R-PTA", "92"),
+            (0, "pressure", "R-DPA", "88"),
+            (0, "pressure", "L-ARM", "124"),
+            (5, "pressure", "R-ARM", "128"),
+        ],
+    )
+    p, alerts = _alerts(store, 5)
+    assert p.abi["R"].index == 0.72 and p.abi["R"].band == "abnormal"
+    assert p.abi["L"].index is None
+    assert "pressures taken 19:30 to 19:35" in alerts[("abi-abnormal", "R")].detail

@@ -1,0 +1,93 @@
+"""The trend PDF: a page per patient, thresholds, checks and alerts, caution and page numbers."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from click.testing import CliRunner
+
+from tests.obs_fixtures import UNIT
+from vascplan.cli import cli
+from vascplan.safety import CAUTION
+
+SECOND = """
+  - ref: "DEMO-<b>&12"
+    bed: 2
+    device: {kind: balloon-pump, side: L, size_fr: 7.5, label: outer, inserted: 2026-12-01T12:00}
+"""
+
+
+def run(*args):
+    return CliRunner().invoke(cli, [str(a) for a in args])
+
+
+def _unit_two_beds(tmp_path: Path) -> Path:
+    p = tmp_path / "unit.yaml"
+    p.write_text(UNIT.read_text() + SECOND)
+    return p
+
+
+def _text(pdf: Path) -> list[str]:
+    from pypdf import PdfReader
+
+    return [page.extract_text() for page in PdfReader(str(pdf)).pages]
+
+
+def test_trend_pages_and_marks(tmp_path):
+    unit = _unit_two_beds(tmp_path)
+    db = tmp_path / "o.db"
+    rows = ["time,bed,ref,by,item,site,value"]
+    for hh, r_nirs, dpa in (
+        ("16:00", 66, "doppler"),
+        ("17:00", 64, "doppler"),
+        ("18:00", 48, "absent"),
+    ):
+        rows += [
+            f"2026-12-01T{hh},1,DEMO-11,RN-A,nirs,L,68",
+            f"2026-12-01T{hh},1,DEMO-11,RN-A,nirs,R,{r_nirs}",
+            f"2026-12-01T{hh},1,DEMO-11,RN-A,refill,R,2",
+            f"2026-12-01T{hh},1,DEMO-11,RN-A,pulse,R-DPA,{dpa}",
+        ]
+    rows.append("2026-12-01T16:00,2,DEMO-<b>&12,RN-A,nirs,L,70")
+    (tmp_path / "c.csv").write_text("\n".join(rows) + "\n")
+    assert run("obs", "import", tmp_path / "c.csv", "--unit", unit, "--db", db).exit_code == 0
+    out = tmp_path / "trend.pdf"
+    r = run("obs", "trend", unit, "-o", out, "--at", "2026-12-01T18:10", "--db", db)
+    assert r.exit_code == 0, r.output
+    pages = _text(out)
+    assert len(pages) == 2
+    for i, page in enumerate(pages, start=1):
+        assert f"Page {i} of 2" in page
+        assert CAUTION in page
+    assert "Limb trend - bed 1 - DEMO-11" in pages[0]
+    assert "DEMO-<b>&12" in pages[1]  # printed literally, never read as markup
+    assert "floor 50%" in pages[0] and "slow above 3 s" in pages[0]  # standard protocol thresholds
+    assert "pedal-signal-lost: R-DPA absent at 18:00; was doppler at 17:00" in pages[0]
+    assert "3 checks recorded" in pages[0]
+    assert not [p for p in tmp_path.iterdir() if p.name.endswith(".tmp")]
+
+
+def test_trend_one_bed(tmp_path):
+    out = tmp_path / "t.pdf"
+    r = run(
+        "obs",
+        "trend",
+        UNIT,
+        "--bed",
+        1,
+        "-o",
+        out,
+        "--at",
+        "2026-12-01T18:00",
+        "--db",
+        tmp_path / "o.db",
+    )
+    assert r.exit_code == 0, r.output
+    (page,) = _text(out)
+    assert "0 checks recorded" in page and "Open now: check-overdue" in page
+
+
+def test_trend_unknown_bed(tmp_path):
+    r = run("obs", "trend", UNIT, "--bed", 9, "-o", tmp_path / "t.pdf", "--db", tmp_path / "o.db")
+    assert (r.exit_code, r.output) == (2, "error: --bed: no patient in bed 9; occupied beds: 1\n")
+    assert not (tmp_path / "t.pdf").exists()

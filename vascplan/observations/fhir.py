@@ -1,0 +1,213 @@
+"""The observation record as an HL7 FHIR R4 Bundle (type ``collection``) of Observations.
+
+One Observation per finding, as it stands after its corrections (status ``corrected``
+with a note giving the original value, who corrected it and why; ``entered-in-error``
+for a withdrawn finding), plus one derived ankle-brachial index Observation per leg
+where pressures allow it. Plain JSON (dicts): no FHIR library at run time; the tests
+validate the output with ``fhir.resources``.
+
+Codes: a standard code only where it was confirmed in a published source
+(:data:`STANDARD_CODES`, see REFERENCES.md); everything else uses the local code systems
+below, and the README says which is which. Units are UCUM.
+"""
+
+from __future__ import annotations
+
+import uuid
+from collections.abc import Sequence
+from datetime import datetime
+from typing import Any
+
+from vascplan.observations.abi import ankle_brachial_index
+from vascplan.observations.findings import ENTERED_IN_ERROR, ITEMS, SIDES
+from vascplan.observations.store import CurrentFinding, Entry, current_findings
+from vascplan.safety import CAUTION
+from vascplan.surveillance.unit import Unit
+
+LOINC = "http://loinc.org"
+SNOMED = "http://snomed.info/sct"
+UCUM = "http://unitsofmeasure.org"
+CATEGORY_SYSTEM = "http://terminology.hl7.org/CodeSystem/observation-category"
+LOCAL_ITEM = "urn:vascplan:obs"
+"""Local code system of our items (``nirs``, ``pulse``...), where no standard code was confirmed."""
+LOCAL_VALUE = "urn:vascplan:obs-value"
+"""Local code system of our categorical values (``doppler``, ``tense``...)."""
+LOCAL_SITE = "urn:vascplan:site"
+"""Local code system of sites (``R-DPA``, ``L``, ``L-ARM``)."""
+PATIENT_REF = "urn:vascplan:patient-ref"
+STAFF_ID = "urn:vascplan:staff-id"
+ENTRY_ID = "urn:vascplan:obs-entry"
+
+STANDARD_CODES: dict[str, tuple[str, str, str]] = {
+    # item -> (system, code, where it was confirmed)
+    "refill": (LOINC, "44963-7", "capillary refill, LOINC 44963-7 (REFERENCES.md, seen)"),
+    "pain": (LOINC, "72514-3", "pain severity 0-10, LOINC 72514-3 (REFERENCES.md, seen)"),
+}
+"""Items with a confirmed standard code. ``pulse`` keeps a local code: LOINC 44974-4 is
+pulse intensity *by palpation*, and our grade ``doppler`` is not a palpation finding."""
+ABI_CODE = (
+    SNOMED,
+    "446841001",
+    "ankle brachial pressure index, SNOMED CT 446841001 (REFERENCES.md, seen)",
+)
+
+
+def _full_url(unit: str, key: str) -> str:
+    return "urn:uuid:" + str(uuid.uuid5(uuid.NAMESPACE_URL, f"vascplan:{unit}:{key}"))
+
+
+def _code(item: str) -> dict[str, Any]:
+    spec = ITEMS[item]
+    coding = [{"system": LOCAL_ITEM, "code": item, "display": spec.meaning}]
+    if item in STANDARD_CODES:
+        system, code, _ = STANDARD_CODES[item]
+        coding.insert(0, {"system": system, "code": code})
+    return {"coding": coding, "text": spec.meaning}
+
+
+def _value(item: str, value: str) -> dict[str, Any]:
+    spec = ITEMS[item]
+    if value == ENTERED_IN_ERROR:
+        return {}
+    if spec.numeric:
+        if spec.integer:
+            return {"valueInteger": int(float(value))}
+        return {
+            "valueQuantity": {
+                "value": float(value),
+                "unit": spec.unit,
+                "system": UCUM,
+                "code": spec.unit,
+            }
+        }
+    return {
+        "valueCodeableConcept": {"coding": [{"system": LOCAL_VALUE, "code": value}], "text": value}
+    }
+
+
+def _observation(unit: str, f: CurrentFinding) -> dict[str, Any]:
+    e = f.entry
+    fix = f.correction
+    status = "final"
+    if f.value == ENTERED_IN_ERROR:
+        status = "entered-in-error"
+    elif fix is not None:
+        status = "corrected"
+    res: dict[str, Any] = {
+        "resourceType": "Observation",
+        "identifier": [{"system": ENTRY_ID, "value": f"{unit}/{e.id}"}],
+        "status": status,
+        "category": [{"coding": [{"system": CATEGORY_SYSTEM, "code": "exam"}]}],
+        "code": _code(e.item),
+        "subject": {
+            "identifier": {"system": PATIENT_REF, "value": e.ref},
+            "display": f"{e.ref} (bed {e.bed})",
+        },
+        "effectiveDateTime": e.time_local,
+        "issued": (fix or e).entered_at.isoformat(),
+        "performer": [{"identifier": {"system": STAFF_ID, "value": e.by}, "display": e.by}],
+        **_value(e.item, f.value),
+    }
+    if e.site:
+        res["bodySite"] = {"coding": [{"system": LOCAL_SITE, "code": e.site}], "text": e.site}
+    if fix is not None:
+        res["note"] = [
+            {
+                "text": f"Corrected by {fix.by} at {fix.entered_at.isoformat()} (entry {fix.id}): "
+                f"{fix.reason}. "
+                f"Original value {e.value!r} recorded by {e.by} (entry {e.id}).",
+            }
+        ]
+    return res
+
+
+def _abi_observations(
+    unit: Unit, findings: list[CurrentFinding], urls: dict[int, str]
+) -> list[dict[str, Any]]:
+    out = []
+    by_ref: dict[str, list[CurrentFinding]] = {}
+    for f in findings:
+        if f.item == "pressure" and f.value != ENTERED_IN_ERROR:
+            by_ref.setdefault(f.entry.ref, []).append(f)
+    for ref, rows in by_ref.items():
+        latest = {f.site: f for f in rows}  # time order: the latest per site wins
+        arms = {s[0]: float(latest[s].value) for s in ("L-ARM", "R-ARM") if s in latest}
+        for side in SIDES:
+            ankle_rows = {
+                a: latest[f"{side}-{a}"] for a in ("PTA", "DPA") if f"{side}-{a}" in latest
+            }
+            r = ankle_brachial_index({a: float(f.value) for a, f in ankle_rows.items()}, arms)
+            if r.index is None:
+                continue
+            used = list(ankle_rows.values()) + [latest[f"{s}-ARM"] for s in arms]
+            when = max(f.time for f in used)
+            system, code, _ = ABI_CODE
+            out.append(
+                {
+                    "resourceType": "Observation",
+                    "status": "final",
+                    "category": [{"coding": [{"system": CATEGORY_SYSTEM, "code": "exam"}]}],
+                    "code": {
+                        "coding": [{"system": system, "code": code}],
+                        "text": "ankle-brachial index",
+                    },
+                    "subject": {
+                        "identifier": {"system": PATIENT_REF, "value": ref},
+                        "display": ref,
+                    },
+                    "effectiveDateTime": when.astimezone(unit.unit.tz).isoformat(),
+                    "bodySite": {"coding": [{"system": LOCAL_SITE, "code": side}], "text": side},
+                    "valueQuantity": {"value": r.index, "unit": "1", "system": UCUM, "code": "1"},
+                    "interpretation": [{"text": f"{r.band} (2016 AHA/ACC bands)"}],
+                    "derivedFrom": [{"reference": urls[f.entry.id]} for f in used],
+                    "note": [
+                        {
+                            "text": "Computed per Aboyans et al., Circulation 2012;126:2890: "
+                            f"{r.basis}."
+                        }
+                    ],
+                }
+            )
+    return out
+
+
+def bundle(unit: Unit, rows: Sequence[Entry], generated: datetime) -> dict[str, Any]:
+    """The unit's stored findings as a FHIR R4 Bundle (``collection``) of Observations.
+
+    Parameters
+    ----------
+    unit : Unit
+        The unit file (its name and time zone).
+    rows : sequence of Entry
+        Every stored row of the unit (originals and corrections), as
+        :meth:`~vascplan.observations.store.ObservationStore.entries` returns them.
+    generated : datetime
+        The Bundle's timestamp (aware).
+
+    Returns
+    -------
+    dict
+        JSON-ready. The caution is carried in ``meta.tag`` (a Bundle has no note element).
+    """
+    name = unit.unit.name
+    findings = current_findings(rows, include_withdrawn=True)
+    entries = []
+    urls: dict[int, str] = {}
+    for f in findings:
+        url = _full_url(name, str(f.entry.id))
+        urls[f.entry.id] = url
+        entries.append({"fullUrl": url, "resource": _observation(name, f)})
+    for i, obs in enumerate(_abi_observations(unit, findings, urls)):
+        key = f"abi:{obs['subject']['identifier']['value']}:{obs['bodySite']['text']}:{i}"
+        entries.append({"fullUrl": _full_url(name, key), "resource": obs})
+    return {
+        "resourceType": "Bundle",
+        "meta": {
+            "tag": [
+                {"system": "urn:vascplan:notice", "code": "decision-support", "display": CAUTION}
+            ]
+        },
+        "type": "collection",
+        "timestamp": generated.replace(microsecond=0).isoformat(),
+        "entry": entries,
+    }

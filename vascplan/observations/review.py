@@ -1,0 +1,658 @@
+"""Review of the record: overdue checks and deterioration, each alert with whom to call.
+
+For each patient of a unit, as at a moment ``at``:
+
+- checks overdue against the protocol's schedule, and by how long;
+- every rule of :data:`RULES` evaluated on the latest findings (after corrections),
+  against the patient's baseline and the other leg;
+- the acute limb ischaemia category (:mod:`~vascplan.observations.ali`) and the
+  ankle-brachial index (:mod:`~vascplan.observations.abi`).
+
+Each alert names its rule, the finding that raised it, its source and whom to call from
+the protocol's escalation criteria. NIRS thresholds come from the protocol's ``review``
+section because no guideline fixes them; the output says so. A computation here never
+prints: :func:`render_table` and :func:`to_json` are the renderers.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field, replace
+from datetime import UTC, datetime, timedelta
+from pathlib import Path
+from typing import Any
+
+from vascplan.observations.abi import AbiResult, ankle_brachial_index
+from vascplan.observations.ali import AliResult, classify_leg, worst
+from vascplan.observations.findings import PEDAL_ARTERIES, SIDES
+from vascplan.observations.store import CurrentFinding, ObservationStore
+from vascplan.safety import CAUTION
+from vascplan.surveillance.protocol import Protocol, load_protocol
+from vascplan.surveillance.schedule import patient_schedule
+from vascplan.surveillance.unit import Patient, Unit
+
+NO_CALL = "the protocol names no one for this finding; follow local policy"
+ALI_SOURCE = (
+    "Rutherford et al., J Vasc Surg 1997;26:517 (clinical categories of acute limb ischaemia)"
+)
+ABI_SOURCE = (
+    "ABI per Aboyans et al., Circulation 2012;126:2890 (AHA scientific statement); "
+    "bands per the 2016 AHA/ACC lower-extremity PAD guideline"
+)
+
+
+@dataclass(frozen=True)
+class Rule:
+    """One alert rule: its id, the escalation criteria it maps to (first found wins), its source."""
+
+    id: str
+    escalation: tuple[str, ...]
+    source: str
+    meaning: str
+
+
+RULES: dict[str, Rule] = {
+    r.id: r
+    for r in (
+        Rule(
+            "check-overdue",
+            (),
+            "the protocol's schedule and tolerance",
+            "a scheduled check was not recorded",
+        ),
+        Rule(
+            "nirs-fall",
+            ("nirs-fall",),
+            "protocol review threshold nirs_relative_fall_pct",
+            "calf NIRS fell from baseline by at least the threshold",
+        ),
+        Rule(
+            "nirs-limb-difference",
+            ("nirs-fall",),
+            "protocol review threshold nirs_limb_difference_pct",
+            "calf NIRS differs between the legs by at least the threshold",
+        ),
+        Rule(
+            "nirs-floor",
+            ("nirs-fall",),
+            "protocol review threshold nirs_absolute_floor_pct",
+            "calf NIRS below the absolute floor",
+        ),
+        Rule(
+            "refill-slow",
+            (),
+            "protocol review threshold capillary_refill_slow_s",
+            "capillary refill slower than the threshold",
+        ),
+        Rule(
+            "pedal-signal-lost",
+            ("pulse-lost",),
+            "common practice (a lost pedal signal that was present)",
+            "a pedal pulse or Doppler signal present at baseline or an earlier check is now absent",
+        ),
+        Rule(
+            "ali-category",
+            ("ali-{category}",),
+            ALI_SOURCE,
+            "acute limb ischaemia category IIa or worse",
+        ),
+        Rule(
+            "calf-tense",
+            ("compartment",),
+            "compartment syndrome signs (REFERENCES.md, seen)",
+            "a tense calf",
+        ),
+        Rule(
+            "access-bleeding",
+            ("bleeding",),
+            "common practice",
+            "bleeding or haematoma at the access site",
+        ),
+        Rule(
+            "dpc-fault",
+            ("dpc-fault",),
+            "common practice",
+            "distal perfusion cannula kinked or without flow",
+        ),
+        Rule("abi-abnormal", (), ABI_SOURCE, "ankle-brachial index 0.90 or below"),
+    )
+}
+
+_ALI_ESCALATION_FALLBACK = {"III": ("ali-III", "ali-IIb"), "IIb": ("ali-IIb",), "IIa": ("ali-IIa",)}
+
+
+@dataclass(frozen=True)
+class Alert:
+    """One open alert.
+
+    Attributes
+    ----------
+    rule : str
+        A key of :data:`RULES`.
+    detail : str
+        The finding and the numbers that raised it.
+    source : str
+        The rule's source (and the threshold's, from the protocol).
+    call : str or None
+        Whom to call and how fast, from the protocol's escalation criteria; None when the
+        protocol names no one for this finding.
+    within_min : int or None
+        How fast [min], from the escalation criterion.
+    escalation : str or None
+        The escalation criterion's id.
+    side : str or None
+        ``L`` or ``R`` when the alert is about one leg.
+    time : datetime or None
+        When the finding was made.
+    """
+
+    rule: str
+    detail: str
+    source: str
+    call: str | None
+    within_min: int | None
+    escalation: str | None
+    side: str | None = None
+    time: datetime | None = None
+
+
+@dataclass(frozen=True)
+class Overdue:
+    """A scheduled check with no check recorded since its window opened."""
+
+    due: datetime
+    minutes_late: int
+    phase: str
+
+
+@dataclass
+class PatientReview:
+    ref: str
+    bed: int
+    last_check: datetime | None
+    overdue: list[Overdue] = field(default_factory=list)
+    alerts: list[Alert] = field(default_factory=list)
+    ali: dict[str, AliResult] = field(default_factory=dict)
+    abi: dict[str, AbiResult] = field(default_factory=dict)
+    notes: list[str] = field(default_factory=list)
+
+    @property
+    def ali_category(self) -> str | None:
+        """The more severe leg's category."""
+        return worst([r.category for r in self.ali.values()])
+
+
+@dataclass
+class UnitReview:
+    unit: str
+    at: datetime
+    protocol: str
+    review_note: str
+    patients: list[PatientReview]
+
+    @property
+    def open_alerts(self) -> int:
+        return sum(len(p.alerts) for p in self.patients)
+
+
+# ---------------------------------------------------------------------------
+
+
+def _escalate(
+    protocol: Protocol, rule: Rule, category: str | None = None
+) -> tuple[str | None, int | None, str | None, str]:
+    ids: tuple[str, ...] = rule.escalation
+    if category is not None:
+        ids = _ALI_ESCALATION_FALLBACK.get(category, ())
+    known = {e.id: e for e in protocol.escalation}
+    for i, eid in enumerate(ids):
+        if eid in known:
+            e = known[eid]
+            note = (
+                ""
+                if i == 0
+                else f" (the protocol has no {ids[0]} criterion; its {eid} criterion used)"
+            )
+            return f"{e.call} (within {e.within_min} min){note}", e.within_min, e.id, e.source
+    return None, None, None, ""
+
+
+def _alert(
+    protocol: Protocol,
+    rule_id: str,
+    detail: str,
+    *,
+    side: str | None = None,
+    time: datetime | None = None,
+    extra_source: str = "",
+    category: str | None = None,
+) -> Alert:
+    rule = RULES[rule_id]
+    call, within, eid, _ = _escalate(protocol, rule, category)
+    source = rule.source + (f": {extra_source}" if extra_source else "")
+    return Alert(rule_id, detail, source, call, within, eid, side, time)
+
+
+def _hm(moment: datetime, tz) -> str:
+    return moment.astimezone(tz).strftime("%H:%M")
+
+
+def overdue_checks(
+    unit: Unit, patient: Patient, protocol: Protocol, check_times: list[datetime], at: datetime
+) -> list[Overdue]:
+    """Scheduled checks overdue at ``at``.
+
+    A scheduled check is overdue when its tolerance has run out (``due + tolerance_min``
+    before ``at``) and no check of the patient was recorded at or after ``due -
+    tolerance_min``: a check counts for every scheduled check whose window had opened
+    by then (the leg has been seen since).
+    """
+    schedule = patient_schedule(unit, patient, protocol, patient.device.inserted, at)
+    out = []
+    latest = max(check_times) if check_times else None
+    for s in schedule:
+        tol = timedelta(minutes=s.tolerance_min)
+        if s.due + tol >= at:
+            continue
+        if latest is not None and latest >= s.due - tol:
+            continue
+        late = int((at.astimezone(UTC) - s.due.astimezone(UTC)).total_seconds() // 60)
+        out.append(Overdue(s.due, late, s.phase))
+    return out
+
+
+def _latest(findings: list[CurrentFinding]) -> dict[tuple[str, str], CurrentFinding]:
+    out: dict[tuple[str, str], CurrentFinding] = {}
+    for f in findings:  # time order: later wins
+        out[(f.item, f.site)] = f
+    return out
+
+
+def review_patient(
+    unit: Unit, patient: Patient, protocol: Protocol, findings: list[CurrentFinding], at: datetime
+) -> PatientReview:
+    """Review one patient from their findings (already limited to times up to ``at``)."""
+    tz = unit.unit.tz
+    findings = [f for f in findings if f.time <= at]
+    times = sorted({f.time for f in findings})
+    out = PatientReview(patient.ref, patient.bed, times[-1] if times else None)
+    out.overdue = overdue_checks(unit, patient, protocol, times, at)
+    if out.overdue:
+        first = out.overdue[0]
+        out.alerts.append(
+            _alert(
+                protocol,
+                "check-overdue",
+                f"{len(out.overdue)} scheduled check(s) not recorded; the first was due "
+                f"{first.due.astimezone(tz):%Y-%m-%d %H:%M} ({first.minutes_late} min ago)",
+                extra_source=f"protocol {protocol.name!r}",
+            )
+        )
+    latest = _latest(findings)
+    thresholds = protocol.review
+    _nirs_rules(out, patient, protocol, findings, latest, tz)
+
+    slow = thresholds.capillary_refill_slow_s
+    for side in SIDES:
+        f = latest.get(("refill", side))
+        if f is not None and float(f.value) > slow.value:
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "refill-slow",
+                    f"{side} capillary refill {f.value} s at {_hm(f.time, tz)} "
+                    f"(slow above {slow.value:g} s)",
+                    side=side,
+                    time=f.time,
+                    extra_source=slow.source,
+                )
+            )
+
+    _pedal_rules(out, patient, protocol, findings, latest, tz)
+
+    for side in SIDES:
+        sens = latest.get(("sensation", side))
+        motor = latest.get(("motor", side))
+        out.ali[side] = classify_leg(
+            sens.value if sens else None,
+            motor.value if motor else None,
+            _arterial(latest, side),
+            _venous(latest, side),
+        )
+        cat = out.ali[side].category
+        if cat in ("IIa", "IIb", "III"):
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "ali-category",
+                    f"{side} leg category {cat} ({out.ali[side].name}): "
+                    + "; ".join(out.ali[side].basis),
+                    side=side,
+                    category=cat,
+                )
+            )
+
+    for leg in SIDES:
+        f = latest.get(("calf", leg))
+        if f is not None and f.value == "tense":
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "calf-tense",
+                    f"{leg} calf tense at {_hm(f.time, tz)}",
+                    side=leg,
+                    time=f.time,
+                )
+            )
+    for (item, site), f in latest.items():
+        if item == "access" and f.value in ("bleeding", "haematoma"):
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "access-bleeding",
+                    f"access site {site or ''} {f.value} at {_hm(f.time, tz)}".replace("  ", " "),
+                    side=site or None,
+                    time=f.time,
+                )
+            )
+        if item == "dpc" and f.value in ("kinked", "no-flow"):
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "dpc-fault",
+                    f"distal perfusion cannula {f.value} at {_hm(f.time, tz)}",
+                    side=site or None,
+                    time=f.time,
+                )
+            )
+
+    arms = {
+        s[0]: float(latest[("pressure", s)].value)
+        for s in ("L-ARM", "R-ARM")
+        if ("pressure", s) in latest
+    }
+    for side in SIDES:
+        ankle = {
+            a: float(latest[("pressure", f"{side}-{a}")].value)
+            for a in ("PTA", "DPA")
+            if ("pressure", f"{side}-{a}") in latest
+        }
+        r = ankle_brachial_index(ankle, arms)
+        used = [latest[("pressure", f"{side}-{a}")].time for a in ankle]
+        used += [latest[("pressure", f"{s}-ARM")].time for s in arms]
+        if r.index is not None and min(used) != max(used):
+            # Pressures from different checks: say when, so a stale one is seen.
+            r = replace(
+                r, basis=f"{r.basis}; pressures taken {_hm(min(used), tz)} to {_hm(max(used), tz)}"
+            )
+        out.abi[side] = r
+        if r.band == "abnormal":
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "abi-abnormal",
+                    f"{side} ABI {r.index:.2f} ({r.basis})",
+                    side=side,
+                    time=max(used),
+                )
+            )
+    return out
+
+
+def _nirs_rules(
+    out: PatientReview,
+    patient: Patient,
+    protocol: Protocol,
+    findings: list[CurrentFinding],
+    latest: dict,
+    tz,
+) -> None:
+    th = protocol.review
+    for side in SIDES:
+        f = latest.get(("nirs", side))
+        if f is None:
+            continue
+        value = float(f.value)
+        if side in patient.baseline.nirs:
+            base, basis = float(patient.baseline.nirs[side]), "baseline in the unit file"
+        else:
+            first = next(x for x in findings if x.item == "nirs" and x.site == side)
+            base, basis = (
+                float(first.value),
+                f"first recorded value at {_hm(first.time, tz)} (no baseline in the unit file)",
+            )
+            if first is f:
+                base = float("nan")
+        if base == base and base > 0:
+            fall = (base - value) / base * 100
+            if fall >= th.nirs_relative_fall_pct.value:
+                out.alerts.append(
+                    _alert(
+                        protocol,
+                        "nirs-fall",
+                        f"{side} NIRS {value:g}% at {_hm(f.time, tz)} is {fall:.0f}% below "
+                        f"{base:g}% ({basis}); "
+                        f"threshold {th.nirs_relative_fall_pct.value:g}% relative fall",
+                        side=side,
+                        time=f.time,
+                        extra_source=f"{th.nirs_relative_fall_pct.source}; {th.note}",
+                    )
+                )
+        floor = th.nirs_absolute_floor_pct.value
+        if value < floor:
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "nirs-floor",
+                    f"{side} NIRS {value:g}% at {_hm(f.time, tz)} is below {floor:g}%",
+                    side=side,
+                    time=f.time,
+                    extra_source=f"{th.nirs_absolute_floor_pct.source}; {th.note}",
+                )
+            )
+    left, right = latest.get(("nirs", "L")), latest.get(("nirs", "R"))
+    if left is not None and right is not None and left.time == right.time:
+        diff = abs(float(left.value) - float(right.value))
+        limit = th.nirs_limb_difference_pct.value
+        if diff >= limit:
+            low = "L" if float(left.value) < float(right.value) else "R"
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "nirs-limb-difference",
+                    f"NIRS L {left.value}% vs R {right.value}% at {_hm(left.time, tz)}: "
+                    f"{diff:g} points apart "
+                    f"(threshold {limit:g} points); {low} is lower",
+                    side=low,
+                    time=left.time,
+                    extra_source=f"{th.nirs_limb_difference_pct.source}; {th.note}",
+                )
+            )
+
+
+def _pedal_rules(
+    out: PatientReview,
+    patient: Patient,
+    protocol: Protocol,
+    findings: list[CurrentFinding],
+    latest: dict,
+    tz,
+) -> None:
+    for (item, site), f in sorted(latest.items()):
+        if item != "pulse" or f.value != "absent" or site.split("-")[1] not in PEDAL_ARTERIES:
+            continue
+        earlier = [
+            x
+            for x in findings
+            if x.item == "pulse"
+            and x.site == site
+            and x.time < f.time
+            and x.value in ("palpable", "doppler")
+        ]
+        base = (
+            patient.baseline.pulses.get(site) in ("palpable", "doppler")
+            or patient.baseline.doppler.get(site) == "present"
+        )
+        if earlier or base:
+            was = (
+                f"{earlier[-1].value} at {_hm(earlier[-1].time, tz)}"
+                if earlier
+                else "present at baseline (unit file)"
+            )
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "pedal-signal-lost",
+                    f"{site} absent at {_hm(f.time, tz)}; was {was}",
+                    side=site[0],
+                    time=f.time,
+                )
+            )
+
+
+def _arterial(latest: dict, side: str) -> str | None:
+    grades = [
+        latest[("pulse", f"{side}-{a}")].value
+        for a in PEDAL_ARTERIES
+        if ("pulse", f"{side}-{a}") in latest
+    ]
+    if not grades:
+        return None
+    return "audible" if any(g in ("palpable", "doppler") for g in grades) else "inaudible"
+
+
+def _venous(latest: dict, side: str) -> str | None:
+    values = [
+        f.value for (item, site), f in latest.items() if item == "venous" and site[:1] == side
+    ]
+    if not values:
+        return None
+    return "audible" if "present" in values else "inaudible"
+
+
+def unit_protocol(unit: Unit, base_dir: Path | None = None, source: str = "unit file") -> Protocol:
+    """The protocol the unit file names (bundled name or a path relative to ``base_dir``)."""
+    return load_protocol(unit.protocol, source, base_dir)
+
+
+def review_unit(
+    unit: Unit,
+    store: ObservationStore,
+    at: datetime,
+    *,
+    protocol: Protocol | None = None,
+    base_dir: Path | None = None,
+) -> UnitReview:
+    """Review every patient of ``unit`` from the store, as at ``at`` (aware).
+
+    A patient's findings are found by ref, so that checks made before a move to another
+    bed still count.
+
+    Returns
+    -------
+    UnitReview
+        ``open_alerts`` is the number of open alerts (the ``obs review`` exit status is 1
+        when it is above 0).
+    """
+    protocol = protocol or unit_protocol(unit, base_dir)
+    every = store.current(unit.unit.name, until=at)
+    patients = []
+    for p in sorted(unit.patients, key=lambda p: p.bed):
+        mine = [f for f in every if f.entry.ref == p.ref]
+        patients.append(review_patient(unit, p, protocol, mine, at))
+    return UnitReview(unit.unit.name, at, protocol.name, protocol.review.note, patients)
+
+
+# ---------------------------------------------------------------------------
+# Renderers
+
+
+def to_json(result: UnitReview) -> dict[str, Any]:
+    """The machine contract of ``obs review --format json``."""
+    tz = result.at.tzinfo
+    return {
+        "unit": result.unit,
+        "at": result.at.isoformat(),
+        "protocol": result.protocol,
+        "review_note": result.review_note,
+        "open_alerts": result.open_alerts,
+        "patients": [
+            {
+                "ref": p.ref,
+                "bed": p.bed,
+                "last_check": p.last_check.astimezone(tz).isoformat() if p.last_check else None,
+                "overdue": [
+                    {"due": o.due.isoformat(), "minutes_late": o.minutes_late, "phase": o.phase}
+                    for o in p.overdue
+                ],
+                "alerts": [
+                    {
+                        "rule": a.rule,
+                        "detail": a.detail,
+                        "source": a.source,
+                        "call": a.call,
+                        "within_min": a.within_min,
+                        "escalation": a.escalation,
+                        "side": a.side,
+                        "time": a.time.astimezone(tz).isoformat() if a.time else None,
+                    }
+                    for a in p.alerts
+                ],
+                "ali_category": p.ali_category,
+                "ali_by_leg": {
+                    s: {"category": r.category, "basis": r.basis, "missing": r.missing}
+                    for s, r in p.ali.items()
+                },
+                "abi": {s: r.index for s, r in p.abi.items()},
+                "abi_detail": {
+                    s: {"index": r.index, "band": r.band, "basis": r.basis}
+                    for s, r in p.abi.items()
+                },
+            }
+            for p in result.patients
+        ],
+        "caution": CAUTION,
+    }
+
+
+def render_table(result: UnitReview) -> str:
+    """A readable review for the terminal."""
+    lines = [
+        f"Observation review: {result.unit}, as at {result.at.isoformat()} "
+        f"(protocol {result.protocol})",
+        f"NIRS thresholds: {result.review_note}",
+        "",
+    ]
+    tz = result.at.tzinfo
+    for p in result.patients:
+        last = (
+            p.last_check.astimezone(tz).strftime("%Y-%m-%d %H:%M")
+            if p.last_check
+            else "none recorded"
+        )
+        abi = ", ".join(
+            f"{s} {r.index:.2f} {r.band}" if r.index is not None else f"{s} -"
+            for s, r in p.abi.items()
+        )
+        lines.append(
+            f"Bed {p.bed}  {p.ref}  last check {last}  "
+            f"ALI category {p.ali_category or '-'}  ABI {abi}"
+        )
+        shown = p.overdue if len(p.overdue) <= 6 else [*p.overdue[:3], None, *p.overdue[-2:]]
+        for o in shown:
+            if o is None:
+                lines.append(f"  ... {len(p.overdue) - 5} more overdue (all in --format json)")
+                continue
+            lines.append(
+                f"  overdue  due {o.due.strftime('%Y-%m-%d %H:%M')} ({o.phase}), "
+                f"{o.minutes_late} min late"
+            )
+        for a in p.alerts:
+            lines.append(f"  ALERT {a.rule}: {a.detail}")
+            lines.append(f"        call: {a.call or NO_CALL}")
+            lines.append(f"        source: {a.source}")
+        if not p.alerts:
+            lines.append("  no alert open")
+        lines.append("")
+    lines.append(f"{result.open_alerts} alert(s) open.")
+    lines.append(f"Caution: {CAUTION}")
+    return "\n".join(lines)

@@ -1,0 +1,408 @@
+"""The trend PDF: one page per patient, each leg's NIRS, capillary refill and pedal signals.
+
+Each panel plots the findings over time against the protocol's review thresholds; every
+check is ticked on the time axis and every alert is marked (a numbered triangle at the
+check where it first opened, listed below the panels). Legible in greyscale: the legs
+differ by line style and marker shape, pulse grades by marker shape, never by colour
+alone. The caution and the page number are on every page. Written atomically.
+
+reportlab is imported inside :func:`render_trend_pdf`.
+"""
+
+from __future__ import annotations
+
+import io
+import os
+from dataclasses import dataclass
+from datetime import datetime, timedelta
+from pathlib import Path
+
+from vascplan.fileio import atomic_write_bytes
+from vascplan.observations.findings import PEDAL_ARTERIES, SIDES
+from vascplan.observations.review import Alert, review_patient, unit_protocol
+from vascplan.observations.store import CurrentFinding, ObservationStore
+from vascplan.safety import CAUTION
+from vascplan.surveillance.protocol import Protocol
+from vascplan.surveillance.unit import Patient, Unit
+
+LEG_DASH: dict[str, list[float]] = {"L": [], "R": [4, 2]}
+"""Line style per leg: left solid, right dashed."""
+LEG_MARKER = {"L": "circle", "R": "square"}
+"""Marker per leg: left filled circle, right open square."""
+GRADE_MARK = {"palpable": "filled", "doppler": "open", "absent": "cross"}
+
+
+@dataclass
+class PatientTrend:
+    """What one page shows (computed before any drawing)."""
+
+    patient: Patient
+    findings: list[CurrentFinding]
+    check_times: list[datetime]
+    onsets: list[tuple[datetime, Alert]]
+    open_alerts: list[Alert]
+    nirs_baseline: dict[str, float]
+
+
+def patient_trend(
+    unit: Unit, patient: Patient, protocol: Protocol, findings: list[CurrentFinding], at: datetime
+) -> PatientTrend:
+    """Alerts at each check (their onsets) and at ``at``, for one patient's page."""
+    mine = [f for f in findings if f.time <= at]
+    times = sorted({f.time for f in mine})
+    onsets: list[tuple[datetime, Alert]] = []
+    before: set[tuple[str, str | None]] = set()
+    for t in times:
+        alerts = review_patient(unit, patient, protocol, [f for f in mine if f.time <= t], t).alerts
+        now = {(a.rule, a.side) for a in alerts}
+        onsets += [(t, a) for a in alerts if (a.rule, a.side) not in before]
+        before = now
+    final = review_patient(unit, patient, protocol, mine, at).alerts
+    base: dict[str, float] = {s: float(v) for s, v in patient.baseline.nirs.items()}
+    for side in SIDES:
+        if side not in base:
+            first = next((f for f in mine if f.item == "nirs" and f.site == side), None)
+            if first is not None:
+                base[side] = float(first.value)
+    return PatientTrend(patient, mine, times, onsets, final, base)
+
+
+def write_trend_pdf(
+    unit: Unit,
+    store: ObservationStore,
+    patients: list[Patient],
+    at: datetime,
+    path: str | os.PathLike[str],
+    *,
+    protocol: Protocol | None = None,
+    base_dir: Path | None = None,
+) -> Path:
+    """Write the trend PDF for ``patients`` (one page each) to ``path`` atomically."""
+    protocol = protocol or unit_protocol(unit, base_dir)
+    every = store.current(unit.unit.name, until=at)
+    trends = [
+        patient_trend(
+            unit,
+            p,
+            protocol,
+            [f for f in every if f.entry.ref == p.ref],
+            at,
+        )
+        for p in patients
+    ]
+    return atomic_write_bytes(path, render_trend_pdf(unit, protocol, trends, at))
+
+
+# ---------------------------------------------------------------------------
+# Drawing
+
+
+def render_trend_pdf(
+    unit: Unit, protocol: Protocol, trends: list[PatientTrend], at: datetime
+) -> bytes:
+    """The PDF bytes: one page per :class:`PatientTrend`."""
+    from reportlab.lib.pagesizes import A4
+    from reportlab.pdfgen import canvas
+
+    buf = io.BytesIO()
+    c = canvas.Canvas(buf, pagesize=A4, invariant=1)
+    c.setTitle(f"Limb trend - {unit.unit.name}")
+    c.setAuthor("vascplan")
+    width, height = A4
+    for number, trend in enumerate(trends, start=1):
+        _page(c, unit, protocol, trend, at, width, height)
+        _footer(c, width, number, len(trends))
+        c.showPage()
+    c.save()
+    return buf.getvalue()
+
+
+def _footer(c, width: float, number: int, total: int) -> None:
+    c.setFont("Helvetica", 7)
+    c.setFillGray(0)
+    c.drawString(36, 26, f"Caution: {CAUTION}")
+    c.drawRightString(width - 36, 14, f"Page {number} of {total}")
+
+
+def _fmt(moment: datetime, tz, span: timedelta) -> str:
+    local = moment.astimezone(tz)
+    return local.strftime("%d %b %H:%M") if span > timedelta(hours=20) else local.strftime("%H:%M")
+
+
+def _page(
+    c,
+    unit: Unit,
+    protocol: Protocol,
+    trend: PatientTrend,
+    at: datetime,
+    width: float,
+    height: float,
+) -> None:
+    tz = unit.unit.tz
+    p = trend.patient
+    dev = p.device
+    c.setFillGray(0)
+    c.setFont("Helvetica-Bold", 13)
+    c.drawString(36, height - 44, f"Limb trend - bed {p.bed} - {p.ref}")
+    c.setFont("Helvetica", 8)
+    dpc = (
+        f"distal perfusion cannula {p.dpc.size_fr:g} Fr" if p.dpc else "no distal perfusion cannula"
+    )
+    c.drawString(
+        36,
+        height - 58,
+        f"{unit.unit.name}; {dev.kind} {dev.size_fr:g} Fr ({dev.label}) in {dev.side} "
+        f"{dev.vessel} since {dev.inserted.astimezone(tz):%Y-%m-%d %H:%M %z}; {dpc}",
+    )
+    c.drawString(
+        36,
+        height - 69,
+        f"As at {at.astimezone(tz):%Y-%m-%d %H:%M %z}; protocol {protocol.name}; "
+        f"{len(trend.check_times)} checks recorded.",
+    )
+    c.drawString(36, height - 80, f"Thresholds: {protocol.review.note}")
+
+    if trend.check_times:
+        t0 = min(trend.check_times[0], at - timedelta(hours=1))
+    else:
+        t0 = at - timedelta(hours=12)
+    t1 = at
+    span = t1 - t0
+    left, right = 80, width - 40
+    th = protocol.review
+
+    # NIRS panel
+    nirs = {
+        s: [(f.time, float(f.value)) for f in trend.findings if f.item == "nirs" and f.site == s]
+        for s in SIDES
+    }
+    lines = [
+        (f"floor {th.nirs_absolute_floor_pct.value:g}%", th.nirs_absolute_floor_pct.value, [1, 2])
+    ]
+    for s, b in trend.nirs_baseline.items():
+        limit = b * (1 - th.nirs_relative_fall_pct.value / 100)
+        lines.append(
+            (f"{s} {th.nirs_relative_fall_pct.value:g}% fall from {b:g}", limit, [6, 2, 1, 2])
+        )
+    values = [v for pts in nirs.values() for _, v in pts] + [v for _, v, _ in lines]
+    lo = max(0.0, min(values, default=40) - 10)
+    hi = min(100.0, max(values, default=80) + 10)
+    top = height - 100
+    _panel(
+        c,
+        trend,
+        "Calf tissue oxygen saturation (NIRS, %)",
+        left,
+        top - 185,
+        right,
+        top,
+        t0,
+        t1,
+        lo,
+        hi,
+        nirs,
+        lines,
+        tz,
+        span,
+    )
+    # Capillary refill panel
+    refill = {
+        s: [(f.time, float(f.value)) for f in trend.findings if f.item == "refill" and f.site == s]
+        for s in SIDES
+    }
+    slow = th.capillary_refill_slow_s.value
+    rv = [v for pts in refill.values() for _, v in pts]
+    top2 = top - 215
+    _panel(
+        c,
+        trend,
+        "Capillary refill (s)",
+        left,
+        top2 - 140,
+        right,
+        top2,
+        t0,
+        t1,
+        0,
+        max([slow * 2, *rv]) + 1,
+        refill,
+        [(f"slow above {slow:g} s", slow, [1, 2])],
+        tz,
+        span,
+    )
+    # Pedal signals strip
+    top3 = top2 - 170
+    _pedal_strip(c, trend, left, top3 - 120, right, top3, t0, t1, tz, span)
+    _alert_list(c, trend, tz, top3 - 150, width)
+
+
+def _x(t: datetime, t0: datetime, t1: datetime, left: float, right: float) -> float:
+    total = (t1 - t0).total_seconds() or 1.0
+    return left + (right - left) * (t - t0).total_seconds() / total
+
+
+def _axes(c, trend: PatientTrend, title: str, left, bottom, right, top, t0, t1, tz, span) -> None:
+    c.setStrokeGray(0)
+    c.setLineWidth(0.6)
+    c.setDash([])
+    c.rect(left, bottom, right - left, top - bottom)
+    c.setFont("Helvetica-Bold", 9)
+    c.drawString(left, top + 4, title)
+    c.setFont("Helvetica", 6.5)
+    for i in range(7):
+        t = t0 + span * i / 6
+        x = _x(t, t0, t1, left, right)
+        c.line(x, bottom, x, bottom - 3)
+        c.drawCentredString(x, bottom - 10, _fmt(t, tz, span))
+    # Checks: a tick inside the bottom edge at every recorded check.
+    c.setLineWidth(1.2)
+    for t in trend.check_times:
+        if t0 <= t <= t1:
+            x = _x(t, t0, t1, left, right)
+            c.line(x, bottom, x, bottom + 5)
+    # Alert onsets: a triangle inside the top edge, numbered as in the list below the panels.
+    numbers: dict[datetime, list[int]] = {}
+    for i, (t, _) in enumerate(trend.onsets, start=1):
+        numbers.setdefault(t, []).append(i)
+    for t, nums in numbers.items():
+        if t0 <= t <= t1:
+            x = _x(t, t0, t1, left, right)
+            path = c.beginPath()
+            path.moveTo(x, top - 9)
+            path.lineTo(x - 4, top - 2)
+            path.lineTo(x + 4, top - 2)
+            path.close()
+            c.setFillGray(0)
+            c.drawPath(path, stroke=1, fill=1)
+            c.setFont("Helvetica", 6)
+            label = f"{nums[0]}-{nums[-1]}" if len(nums) > 1 else str(nums[0])
+            c.drawCentredString(x, top - 16, label)
+    c.setLineWidth(0.6)
+
+
+def _marker(c, kind: str, x: float, y: float, size: float = 2.6) -> None:
+    c.setDash([])
+    if kind == "circle":
+        c.circle(x, y, size, stroke=1, fill=1)
+    elif kind == "square":
+        c.rect(x - size, y - size, 2 * size, 2 * size, stroke=1, fill=0)
+    elif kind == "filled":
+        c.circle(x, y, size + 0.6, stroke=1, fill=1)
+    elif kind == "open":
+        c.circle(x, y, size + 0.6, stroke=1, fill=0)
+    else:  # cross
+        c.line(x - size, y - size, x + size, y + size)
+        c.line(x - size, y + size, x + size, y - size)
+
+
+def _panel(
+    c, trend, title, left, bottom, right, top, t0, t1, lo, hi, series, lines, tz, span
+) -> None:
+    _axes(c, trend, title, left, bottom, right, top, t0, t1, tz, span)
+
+    def y(v: float) -> float:
+        return bottom + (top - bottom) * (v - lo) / ((hi - lo) or 1.0)
+
+    c.setFont("Helvetica", 6.5)
+    c.setFillGray(0)
+    for i in range(5):
+        v = lo + (hi - lo) * i / 4
+        c.drawRightString(left - 3, y(v) - 2, f"{v:.0f}" if hi - lo >= 8 else f"{v:.1f}")
+    for label, value, dash in lines:
+        if lo <= value <= hi:
+            c.setStrokeGray(0.35)
+            c.setDash(dash)
+            c.line(left, y(value), right, y(value))
+            c.setDash([])
+            c.setFillGray(0.2)
+            if label.startswith("R "):  # the two legs' limits are often close: label them apart
+                c.drawRightString(right - 3, y(value) + 2, label)
+            else:
+                c.drawString(left + 3, y(value) + 2, label)
+    c.setStrokeGray(0)
+    c.setFillGray(0)
+    for side, pts in series.items():
+        pts = [(t, v) for t, v in pts if t0 <= t <= t1]
+        c.setLineWidth(1.1)
+        c.setDash(LEG_DASH[side])
+        for (ta, va), (tb, vb) in zip(pts, pts[1:], strict=False):
+            c.line(_x(ta, t0, t1, left, right), y(va), _x(tb, t0, t1, left, right), y(vb))
+        for t, v in pts:
+            _marker(c, LEG_MARKER[side], _x(t, t0, t1, left, right), y(v))
+    # Legend: line style and marker per leg.
+    c.setLineWidth(1.1)
+    lx = right - 120
+    for i, side in enumerate(SIDES):
+        yy = top + 6
+        x0 = lx + i * 60
+        c.setDash(LEG_DASH[side])
+        c.line(x0, yy, x0 + 22, yy)
+        _marker(c, LEG_MARKER[side], x0 + 11, yy)
+        c.setFont("Helvetica", 7)
+        c.drawString(x0 + 26, yy - 2.5, f"{side} leg")
+    c.setDash([])
+    c.setLineWidth(0.6)
+
+
+def _pedal_strip(c, trend, left, bottom, right, top, t0, t1, tz, span) -> None:
+    sites = sorted(
+        {
+            f.site
+            for f in trend.findings
+            if f.item == "pulse" and f.site.split("-")[1] in PEDAL_ARTERIES
+        }
+    )
+    for side in SIDES:
+        for artery in ("DPA", "PTA"):
+            if f"{side}-{artery}" not in sites:
+                sites.append(f"{side}-{artery}")
+    sites = sorted(set(sites))
+    _axes(
+        c,
+        trend,
+        "Pedal signals (filled circle palpable, open circle Doppler only, cross absent)",
+        left,
+        bottom,
+        right,
+        top,
+        t0,
+        t1,
+        tz,
+        span,
+    )
+    row_h = (top - bottom - 12) / max(len(sites), 1)
+    c.setFont("Helvetica", 7)
+    for i, site in enumerate(sites):
+        yy = top - 12 - row_h * (i + 0.5)
+        c.setFillGray(0)
+        c.drawRightString(left - 3, yy - 2.5, site)
+        c.setStrokeGray(0.8)
+        c.setDash([1, 3])
+        c.line(left, yy, right, yy)
+        c.setStrokeGray(0)
+        for f in trend.findings:
+            if f.item == "pulse" and f.site == site and t0 <= f.time <= t1:
+                _marker(c, GRADE_MARK[f.value], _x(f.time, t0, t1, left, right), yy)
+    c.setDash([])
+
+
+def _alert_list(c, trend: PatientTrend, tz, top: float, width: float) -> None:
+    from reportlab.lib.utils import simpleSplit
+
+    c.setFillGray(0)
+    c.setFont("Helvetica-Bold", 9)
+    c.drawString(36, top, "Alerts (triangle = the check where each first opened)")
+    c.setFont("Helvetica", 7)
+    y = top - 12
+    rows = [
+        f"{i}. {t.astimezone(tz):%d %b %H:%M} {a.rule}: {a.detail}"
+        for i, (t, a) in enumerate(trend.onsets, 1)
+    ]
+    rows.append(f"Open now: {', '.join(sorted({a.rule for a in trend.open_alerts})) or 'none'}")
+    for row in rows:
+        for line in simpleSplit(row, "Helvetica", 7, width - 72):
+            if y < 44:
+                c.drawString(36, y, "... (more in `vascplan obs review`)")
+                return
+            c.drawString(36, y, line)
+            y -= 9
