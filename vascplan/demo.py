@@ -105,6 +105,10 @@ DEMO_STEPS: list[tuple[str, DemoStep | str]] = [
         "limb surveillance: risk and rota of the demo unit",
         "vascplan.surveillance.demo:step_surveillance",
     ),
+    (
+        "observation record: review of the demo checks",
+        "vascplan.observations.demo:step_observations",
+    ),
 ]
 """(title, step) in running order. A step is a function of :class:`DemoContext`, or
 ``"module:function"`` imported only when the demo reaches it."""
