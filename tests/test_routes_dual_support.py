@@ -87,3 +87,18 @@ def test_support_example_file():
     result = plan_case(load_case(examples_dir() / "case-DEMO-12-support-small-iliac.yaml"))
     data = result.to_dict()
     assert data["support"]["axes"] and data["purpose"] == "support"
+
+
+def test_support_device_kind_stated_in_the_case_wins():
+    # An ECMO return cannula whose tip is not in the ascending aorta: without a stated
+    # kind it would be taken as a large-bore sheath.
+    case = make_case(procedure={"purpose": "support",
+                                "target": {"segment": "AO-INFRA", "at_cm": 5},
+                                "sheath": {"size_fr": 17, "length_cm": 25, "label": "outer"},
+                                "device": {"profile_fr": 17, "working_length_cm": 60,
+                                           "kind": "va-ecmo-arterial"}})
+    support = plan_case(case).support
+    assert support["device_kind"] == "va-ecmo-arterial"
+    assert "stated in the case file" in support["device_kind_basis"]
+    # Labelled by outer size: 17 Fr = 17/3 mm = 5.67 mm (1 Fr = 1/3 mm, REFERENCES.md).
+    assert support["device_od_mm"] == pytest.approx(17 / 3, abs=0.005)

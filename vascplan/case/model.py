@@ -164,8 +164,12 @@ class Target(_Strict):
 class Sheath(_Strict):
     """The introducer sheath, labelled by inner size (ISO 11070)."""
 
-    size_fr: float = Field(gt=0, le=40, description="labelled (inner) size [Fr]")
+    size_fr: float = Field(gt=0, le=40, description="labelled size [Fr]")
     length_cm: float = Field(gt=0, le=200, description="sheath length [cm]")
+    label: Literal["inner", "outer"] = Field(
+        default="inner",
+        description="inner (introducer sheaths, ISO 11070) | outer (cannulas, catheters)",
+    )
     outer_mm: float | None = Field(
         default=None, gt=0, le=15, description="measured outer diameter [mm]"
     )
@@ -176,6 +180,9 @@ class Device(_Strict):
 
     profile_fr: float = Field(gt=0, le=40, description="crossing profile [Fr]")
     working_length_cm: float = Field(gt=0, le=400, description="usable shaft length [cm]")
+    kind: (
+        Literal["va-ecmo-arterial", "microaxial-pump", "balloon-pump", "large-bore-sheath"] | None
+    ) = Field(default=None, description="support device kind (purpose support); optional")
 
 
 class Procedure(_Strict):

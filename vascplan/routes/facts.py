@@ -28,6 +28,8 @@ class Devices:
         Device profile [mm] (labelled by outer size), None when the case has no device.
     working_length_cm : float or None
         Device working length [cm].
+    device_kind : str or None
+        Support device kind as stated in the case (``procedure.device.kind``).
     """
 
     sheath_fr: float
@@ -37,6 +39,7 @@ class Devices:
     device_fr: float | None
     device_od_mm: float | None
     working_length_cm: float | None
+    device_kind: str | None = None
 
 
 @dataclass
@@ -131,13 +134,14 @@ def _distance_to_target_lesion(view: VesselView, path: CatheterPath) -> float:
 def resolve_devices(case: Any) -> Devices:
     """Outer diameters of the case's sheath and device (``vascplan.sizing.french``).
 
-    Sheaths are labelled by inner size, devices by outer size (ISO 11070:2014 7.2 via a
-    summary, seen; REFERENCES.md); a given ``outer_mm`` wins.
+    Sheaths are labelled by inner size unless the case says ``label: outer`` (a
+    cannula), devices by outer size (ISO 11070:2014 7.2 via a summary, seen;
+    REFERENCES.md); a given ``outer_mm`` wins.
     """
     from vascplan.sizing.french import device_outer_mm
 
     sheath = case.procedure.sheath
-    od = device_outer_mm(sheath.size_fr, "inner", getattr(sheath, "outer_mm", None))
+    od = device_outer_mm(sheath.size_fr, sheath.label, sheath.outer_mm)
     device = case.procedure.device
     device_od = device_outer_mm(device.profile_fr, "outer").mm if device is not None else None
     return Devices(
@@ -148,4 +152,5 @@ def resolve_devices(case: Any) -> Devices:
         device_fr=float(device.profile_fr) if device is not None else None,
         device_od_mm=device_od,
         working_length_cm=float(device.working_length_cm) if device is not None else None,
+        device_kind=device.kind if device is not None else None,
     )

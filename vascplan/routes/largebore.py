@@ -27,13 +27,16 @@ FEMORAL_ACCESS = ("CFA", "EIA", "SFA")
 """Access vessels of the leg (as ``vascplan.surveillance.risk`` expects)."""
 
 
-def device_kind(view: VesselView) -> tuple[str, str]:
+def device_kind(view: VesselView, stated: str | None = None) -> tuple[str, str]:
     """The support device's kind for the cannula advice, and the sentence saying why.
 
-    The case file does not name the kind; a device whose tip lies in the ascending aorta
-    is taken as a microaxial pump (only a pump goes across the aortic valve; common
-    practice), anything else as a large-bore sheath.
+    ``procedure.device.kind`` in the case wins. Without it, a device whose tip lies in
+    the ascending aorta is taken as a microaxial pump (only a pump goes across the
+    aortic valve; common practice), anything else as a large-bore sheath, and the
+    output says it was assumed.
     """
+    if stated is not None:
+        return stated, f"support device kind {stated} (stated in the case file)"
     if view.target_segment == "AO-ASC":
         return "microaxial-pump", ("support device taken as a microaxial pump: its tip lies in "
                                    "the ascending aorta (the case file does not name the kind)")
@@ -140,7 +143,7 @@ def support_block(view: VesselView, axes: list[tuple[RouteFacts, list[Block]]],
         ``{"device_kind", "device_kind_basis", "device_od_mm", "axes": [...],
         "best_site"}``; ``best_site`` is the feasible axis with the lowest SAR.
     """
-    kind, why = device_kind(view)
+    kind, why = device_kind(view, devices.device_kind)
     reports = [axis_report(view, f, b, devices, limits, kind) for f, b in axes]
     feasible = [r for r in reports if r["feasible"] and r["max_sar"] is not None]
     best = min(feasible, key=lambda r: r["max_sar"])["site"] if feasible else None
