@@ -88,6 +88,7 @@ def styles() -> dict[str, ParagraphStyle]:
         "body": base,
         "small": ParagraphStyle("small", parent=base, fontSize=7.5, leading=9),
         "cell": ParagraphStyle("cell", parent=base, fontSize=8, leading=9.6),
+        "due": ParagraphStyle("due", parent=base, fontSize=8, leading=8.6),
         "cell-bold": ParagraphStyle("cell-bold", parent=base, fontName=f.bold, fontSize=8, leading=9.6),
         "title": ParagraphStyle("title", parent=base, fontName=f.bold, fontSize=15, leading=18, spaceAfter=4),
         "h2": ParagraphStyle("h2", parent=base, fontName=f.bold, fontSize=11, leading=14, spaceBefore=8, spaceAfter=3),
