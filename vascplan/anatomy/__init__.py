@@ -1,0 +1,1 @@
+"""The arterial tree: reference anatomy and the patient's annotated graph."""

@@ -1,0 +1,194 @@
+"""The annotated tree as a result object (the ``tree --format json`` contract) and as a table.
+
+:func:`tree_summary` computes (effective values, MLD per segment and per lesion);
+:func:`render_tree_table` only lays the summary out. The JSON contract (format
+``vascplan-tree/1``) holds at least ``case``, ``segments`` (each with ``id``, ``name``,
+``side``, ``diameter_mm``, ``diameter_source``, ``length_cm``, ``length_source``,
+``mld_mm``, ``lesions``), ``assumptions`` and ``caution``.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from vascplan.anatomy.graph import REFERENCE, ArterialTree
+from vascplan.safety import CAUTION, REFERENCE_MARK
+
+TREE_FORMAT = "vascplan-tree/1"
+LEGEND = (
+    f"{REFERENCE_MARK} = reference value from the adult anatomy table, not measured for this "
+    "patient: check against imaging"
+)
+
+
+def _r(value: float, digits: int = 2) -> float:
+    return round(float(value), digits)
+
+
+def _lesion(tree: ArterialTree, seg_id: str, lesion: Any) -> dict[str, Any]:
+    out = lesion.model_dump(mode="json")
+    out["end_cm"] = _r(lesion.end_cm)
+    out["stenosis_pct"] = lesion.percent
+    out["mld_mm"] = _r(tree.mld(seg_id, lesion.start_cm, lesion.end_cm))
+    return out
+
+
+def _node(tree: ArterialTree, node_id: str) -> dict[str, Any]:
+    n = tree.segment(node_id)
+    return {
+        "id": node_id,
+        "name": n["name"],
+        "side": n["side"],
+        "parent": n["parent"],
+        "diameter_mm": _r(n["diameter_mm"]),
+        "diameter_source": n["diameter_source"],
+        "length_cm": _r(n["length_cm"], 1),
+        "length_source": n["length_source"],
+        "mld_mm": _r(tree.mld(node_id)),
+        "calcification": n["calcification"],
+        "calcification_source": n["calcification_source"],
+        "lesions": [_lesion(tree, node_id, x) for x in n["lesions"]],
+        "stents": [x.model_dump(mode="json") for x in n["stents"]],
+        "avoid": list(n["avoid"]),
+    }
+
+
+def tree_summary(tree: ArterialTree) -> dict[str, Any]:
+    """The annotated tree as plain data (the JSON contract of ``vascplan tree``).
+
+    Parameters
+    ----------
+    tree : ArterialTree
+        From :func:`vascplan.anatomy.graph.build_tree`.
+
+    Returns
+    -------
+    dict
+        ``format``, ``case``, ``patient``, ``segments``, ``grafts``, ``procedure``,
+        ``assumptions``, ``reference_mark``, ``legend``, ``caution``. Diameters in mm
+        to 2 decimals, lengths in cm to 1 decimal.
+    """
+    case = tree.case
+    grafts = []
+    for node_id in tree.graft_ids():
+        n = tree.segment(node_id)
+        grafts.append(
+            {
+                "id": node_id,
+                "name": n["name"],
+                "from": n["from"],
+                "from_cm": n["from_cm"],
+                "to": n["to"],
+                "to_cm": n["to_cm"],
+                "diameter_mm": _r(n["diameter_mm"]),
+                "length_cm": _r(n["length_cm"], 1),
+                "length_source": n["length_source"],
+                "patent": n["patent"],
+                "mld_mm": _r(tree.mld(node_id)),
+            }
+        )
+    return {
+        "format": TREE_FORMAT,
+        "case": case.patient.ref,
+        "patient": case.patient.model_dump(mode="json"),
+        "segments": [_node(tree, s) for s in tree.segment_ids()],
+        "grafts": grafts,
+        "procedure": None if case.procedure is None else case.procedure.model_dump(mode="json"),
+        "assumptions": tree.assumptions(),
+        "reference_mark": REFERENCE_MARK,
+        "legend": LEGEND,
+        "caution": CAUTION,
+    }
+
+
+# ---------------------------------------------------------------------------
+# Table (renders a summary; computes nothing)
+
+
+def _mark(text: str, source: str) -> str:
+    return f"{text}{REFERENCE_MARK}" if source == REFERENCE else f"{text} "
+
+
+def _findings(seg: dict[str, Any]) -> str:
+    parts = []
+    for x in seg["lesions"]:
+        where = f"{x['start_cm']:g}-{x['end_cm']:g} cm"
+        if x["kind"] == "occlusion":
+            caps = ""
+            if x.get("proximal_cap") or x.get("distal_cap"):
+                caps = f", caps {x.get('proximal_cap') or '?'}/{x.get('distal_cap') or '?'}"
+            parts.append(f"occlusion {where}, {x['calcification']} Ca{caps}")
+        else:
+            parts.append(
+                f"stenosis {x['stenosis_pct']:g}% {where} (MLD {x['mld_mm']:.1f}), "
+                f"{x['calcification']} Ca"
+            )
+    for x in seg["stents"]:
+        parts.append(
+            f"stent {x['diameter_mm']:g} mm {x['start_cm']:g}-{x['start_cm'] + x['length_cm']:g} cm"
+        )
+    for reason in seg["avoid"]:
+        parts.append(f"AVOID: {reason}")
+    return "; ".join(parts)
+
+
+def render_tree_table(summary: dict[str, Any]) -> str:
+    """Lay a :func:`tree_summary` out as a fixed-width table with the legend and caution."""
+    p = summary["patient"]
+    lines = [f"Case {summary['case']}: {p['sex']}, {p['height_cm']:g} cm"]
+    proc = summary["procedure"]
+    if proc is not None:
+        t, sh, dev = proc["target"], proc["sheath"], proc["device"]
+        outer = f", outer {sh['outer_mm']:g} mm" if sh.get("outer_mm") else ""
+        lines.append(
+            f"Procedure: {proc['purpose']}; target {t['segment']} at {t['at_cm']:g} cm; "
+            f"sheath {sh['size_fr']:g} Fr x {sh['length_cm']:g} cm{outer}; device "
+            f"{dev['profile_fr']:g} Fr, working length {dev['working_length_cm']:g} cm"
+        )
+    lines.append("")
+    header = ("segment", "name", "diam mm", "MLD mm", "length cm", "calcium", "findings")
+    rows = [header]
+    for seg in summary["segments"]:
+        rows.append(
+            (
+                seg["id"],
+                seg["name"],
+                _mark(f"{seg['diameter_mm']:.1f}", seg["diameter_source"]),
+                f"{seg['mld_mm']:.1f}",
+                _mark(f"{seg['length_cm']:.1f}", seg["length_source"]),
+                _mark(seg["calcification"], seg["calcification_source"]),
+                _findings(seg),
+            )
+        )
+    for g in summary["grafts"]:
+        state = "patent" if g["patent"] else "NOT PATENT"
+        rows.append(
+            (
+                g["id"],
+                f"graft {g['from']} {g['from_cm']:g} cm -> {g['to']} {g['to_cm']:g} cm",
+                f"{g['diameter_mm']:.1f} ",
+                f"{g['mld_mm']:.1f}",
+                f"{g['length_cm']:.1f}~",
+                "",
+                f"{state}; length estimated (~)",
+            )
+        )
+    widths = [max(len(r[i]) for r in rows) for i in range(len(header) - 1)]
+    right = {2, 3, 4}
+    for r in rows:
+        cells = [
+            r[i].rjust(widths[i]) if i in right else r[i].ljust(widths[i])
+            for i in range(len(widths))
+        ]
+        lines.append("  ".join(cells + [r[-1]]).rstrip())
+    lines.append("")
+    lines.append(f"Legend: {summary['legend']}; ~ = estimated by a rule.")
+    per_segment = sum(1 for a in summary["assumptions"] if " is a reference " in a)
+    others = [a for a in summary["assumptions"] if " is a reference " not in a]
+    lines.append(
+        f"{per_segment} values are reference defaults (marked {summary['reference_mark']}); "
+        "--format json lists each with its source."
+    )
+    lines.extend(f"Assumption: {a}." for a in others)
+    lines.append(f"Caution: {summary['caution']}")
+    return "\n".join(lines) + "\n"

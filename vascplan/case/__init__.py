@@ -1,0 +1,1 @@
+"""Case files: one patient's arteries, lesions, stents, grafts and procedure."""

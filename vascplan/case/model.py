@@ -1,0 +1,287 @@
+"""The case file (format ``vascplan-case/1``): one patient's arteries and procedure.
+
+The field names are part of the user-facing interface (README, "Case file"). Every
+model forbids unknown fields and is strict about types (``"6"`` is not a number, ``1``
+is not ``true``). Checks that need the reference anatomy (segment ids, the plausible
+diameter of a segment, a lesion running past its segment's end for this patient's
+height) run in :meth:`Case._check_against_anatomy` and raise
+:class:`~vascplan.errors.InputError` with the exact field path; pydantic passes such
+an error through unchanged, because it is not a ``ValueError``.
+"""
+
+from __future__ import annotations
+
+from typing import Any, Literal
+
+from pydantic import BaseModel, ConfigDict, Field, ValidationInfo, model_validator
+
+from vascplan.anatomy.reference import load_reference, suggest_segment
+from vascplan.errors import InputError
+
+CASE_FORMAT = "vascplan-case/1"
+Calcification = Literal["none", "mild", "moderate", "severe"]
+CALCIFICATION_GRADES: tuple[str, ...] = ("none", "mild", "moderate", "severe")
+Cap = Literal["tapered", "blunt", "flush"]
+Sex = Literal["female", "male", "unspecified"]
+
+HEIGHT_MIN_CM = 100.0
+HEIGHT_MAX_CM = 230.0
+"""Adult heights the anthropometric fractions are used for (issue 2; common practice)."""
+
+GRAFT_DIAMETER_MIN_MM = 3.0
+GRAFT_DIAMETER_MAX_MM = 30.0
+"""Plausible bypass graft diameters, peripheral vein to aortic prosthesis (common practice)."""
+
+VESSEL_LENGTH_MAX_CM = 100.0
+"""No single arterial segment is longer than this (common practice)."""
+
+LENGTH_TOLERANCE_CM = 1e-6
+
+
+class _Strict(BaseModel):
+    model_config = ConfigDict(extra="forbid", strict=True, frozen=True)
+
+
+class Patient(_Strict):
+    """Who the case is about (pseudonymously)."""
+
+    ref: str = Field(
+        min_length=1, max_length=64, description="pseudonymous reference, never a real identifier"
+    )
+    sex: Sex = Field(description="female | male | unspecified (chooses the reference diameters)")
+    height_cm: float = Field(
+        ge=HEIGHT_MIN_CM, le=HEIGHT_MAX_CM, description="standing height [cm], scales the lengths"
+    )
+    weight_kg: float | None = Field(default=None, gt=0, le=400, description="body weight [kg]")
+    anticoagulated: bool | None = Field(default=None, description="on anticoagulation")
+
+
+class VesselMeasure(_Strict):
+    """Measured values for one segment; anything absent comes from the reference table."""
+
+    diameter_mm: float | None = Field(default=None, gt=0, description="measured diameter [mm]")
+    length_cm: float | None = Field(
+        default=None, gt=0, le=VESSEL_LENGTH_MAX_CM, description="measured length [cm]"
+    )
+    calcification: Calcification | None = Field(default=None, description="the vessel's own grade")
+
+
+class Lesion(_Strict):
+    """A stenosis or occlusion along one segment."""
+
+    segment: str = Field(description="segment id, e.g. L-SFA")
+    kind: Literal["stenosis", "occlusion"]
+    stenosis_pct: float | None = Field(
+        default=None,
+        ge=0,
+        le=100,
+        description="percent diameter stenosis (angiographic convention); 100 for an occlusion",
+    )
+    start_cm: float = Field(
+        ge=0, description="from the segment's origin, in the direction of flow [cm]"
+    )
+    length_cm: float = Field(gt=0, description="lesion length [cm]")
+    calcification: Calcification = "none"
+    proximal_cap: Cap | None = Field(default=None, description="occlusions only")
+    distal_cap: Cap | None = Field(default=None, description="occlusions only")
+
+    @model_validator(mode="before")
+    @classmethod
+    def _occlusion_is_100(cls, data: Any) -> Any:
+        if (
+            isinstance(data, dict)
+            and data.get("kind") == "occlusion"
+            and "stenosis_pct" not in data
+        ):
+            data = {**data, "stenosis_pct": 100}
+        return data
+
+    @model_validator(mode="after")
+    def _kind_matches(self) -> Lesion:
+        if self.stenosis_pct is None:
+            raise ValueError("stenosis_pct is required for a stenosis (percent diameter, 0-100)")
+        if self.kind == "occlusion" and self.stenosis_pct != 100:
+            raise ValueError("an occlusion has stenosis_pct 100; use kind: stenosis for less")
+        if self.kind == "stenosis" and self.stenosis_pct == 100:
+            raise ValueError("a 100% stenosis is an occlusion; use kind: occlusion")
+        if self.kind == "stenosis" and (self.proximal_cap or self.distal_cap):
+            raise ValueError("proximal_cap and distal_cap are for occlusions only")
+        return self
+
+    @property
+    def end_cm(self) -> float:
+        """Where the lesion ends, from the segment's origin [cm]."""
+        return self.start_cm + self.length_cm
+
+    @property
+    def percent(self) -> float:
+        """Percent diameter stenosis, 100 for an occlusion."""
+        return 100.0 if self.stenosis_pct is None else self.stenosis_pct
+
+
+class Stent(_Strict):
+    """A stent in place along one segment."""
+
+    segment: str
+    start_cm: float = Field(ge=0, description="from the segment's origin [cm]")
+    length_cm: float = Field(gt=0, description="stent length [cm]")
+    diameter_mm: float = Field(gt=0, description="nominal (expanded) diameter [mm]")
+
+    @property
+    def end_cm(self) -> float:
+        """Where the stent ends, from the segment's origin [cm]."""
+        return self.start_cm + self.length_cm
+
+
+class Graft(_Strict):
+    """A bypass graft joining two points of the tree."""
+
+    model_config = ConfigDict(extra="forbid", strict=True, frozen=True, populate_by_name=True)
+
+    name: str = Field(min_length=1, max_length=40, pattern=r"^[A-Za-z0-9][A-Za-z0-9 ._-]*$")
+    from_segment: str = Field(alias="from", description="segment id of the inflow end")
+    from_cm: float = Field(ge=0, description="position on the inflow segment [cm]")
+    to_segment: str = Field(alias="to", description="segment id of the outflow end")
+    to_cm: float = Field(ge=0, description="position on the outflow segment [cm]")
+    diameter_mm: float = Field(ge=GRAFT_DIAMETER_MIN_MM, le=GRAFT_DIAMETER_MAX_MM)
+    patent: bool = True
+
+
+class Avoid(_Strict):
+    """A site not to be punctured, with the reason."""
+
+    site: str = Field(description="segment id")
+    reason: str = Field(min_length=1)
+
+
+class Target(_Strict):
+    """Where the procedure must reach."""
+
+    segment: str
+    at_cm: float = Field(ge=0, description="from the segment's origin [cm]")
+
+
+class Sheath(_Strict):
+    """The introducer sheath, labelled by inner size (ISO 11070)."""
+
+    size_fr: float = Field(gt=0, le=40, description="labelled (inner) size [Fr]")
+    length_cm: float = Field(gt=0, le=200, description="sheath length [cm]")
+    outer_mm: float | None = Field(
+        default=None, gt=0, le=15, description="measured outer diameter [mm]"
+    )
+
+
+class Device(_Strict):
+    """The device that must pass through the sheath."""
+
+    profile_fr: float = Field(gt=0, le=40, description="crossing profile [Fr]")
+    working_length_cm: float = Field(gt=0, le=400, description="usable shaft length [cm]")
+
+
+class Procedure(_Strict):
+    """What is to be done, and with what."""
+
+    purpose: Literal["treat", "support"] = Field(
+        description="treat | support (large-bore mechanical support)"
+    )
+    target: Target
+    sheath: Sheath
+    device: Device
+
+
+class Case(_Strict):
+    """One case file (``format: vascplan-case/1``)."""
+
+    format: Literal["vascplan-case/1"]
+    patient: Patient
+    vessels: dict[str, VesselMeasure] = Field(default_factory=dict)
+    lesions: list[Lesion] = Field(default_factory=list)
+    stents: list[Stent] = Field(default_factory=list)
+    grafts: list[Graft] = Field(default_factory=list)
+    avoid: list[Avoid] = Field(default_factory=list)
+    procedure: Procedure | None = None
+    weights: dict[str, float] = Field(
+        default_factory=dict,
+        description="route-planner soft-factor weight overrides (name -> weight)",
+    )
+    limits: dict[str, float] = Field(
+        default_factory=dict, description="route-planner hard-limit overrides (name -> value)"
+    )
+
+    def segment_lengths_cm(self) -> dict[str, float]:
+        """Each segment's length for this patient [cm]: measured, else the reference rule."""
+        out = {}
+        for seg_id, ref in load_reference().items():
+            measured = self.vessels.get(seg_id)
+            if measured is not None and measured.length_cm is not None:
+                out[seg_id] = measured.length_cm
+            else:
+                out[seg_id] = ref.length_for_height_cm(self.patient.height_cm)
+        return out
+
+    @model_validator(mode="after")
+    def _check_against_anatomy(self, info: ValidationInfo) -> Case:
+        source = str((info.context or {}).get("source", "<case>"))
+        ref = load_reference()
+
+        def known(seg_id: str, field: str) -> None:
+            if seg_id not in ref:
+                raise InputError(
+                    source, field, f"unknown segment {seg_id!r}{suggest_segment(seg_id)}"
+                )
+
+        for seg_id, measure in self.vessels.items():
+            known(seg_id, f"vessels.{seg_id}")
+            r = ref[seg_id]
+            d = measure.diameter_mm
+            if d is not None and not r.diameter_min_mm <= d <= r.diameter_max_mm:
+                raise InputError(
+                    source,
+                    f"vessels.{seg_id}.diameter_mm",
+                    f"{d:g} mm is outside the plausible range for {seg_id} "
+                    f"({r.diameter_min_mm:g}-{r.diameter_max_mm:g} mm)",
+                )
+        lengths = self.segment_lengths_cm()
+
+        def within(seg_id: str, field: str, end_cm: float, what: str) -> None:
+            seg_len = lengths[seg_id]
+            if end_cm > seg_len + LENGTH_TOLERANCE_CM:
+                basis = (
+                    "measured"
+                    if seg_id in self.vessels and self.vessels[seg_id].length_cm is not None
+                    else f"reference length for height {self.patient.height_cm:g} cm; "
+                    f"give vessels.{seg_id}.length_cm if measured"
+                )
+                raise InputError(
+                    source,
+                    field,
+                    f"{what} reaches {end_cm:g} cm, past the end of {seg_id} "
+                    f"({seg_len:.1f} cm, {basis})",
+                )
+
+        for i, lesion in enumerate(self.lesions):
+            known(lesion.segment, f"lesions.{i}.segment")
+            within(lesion.segment, f"lesions.{i}", lesion.end_cm, "lesion")
+        for i, stent in enumerate(self.stents):
+            known(stent.segment, f"stents.{i}.segment")
+            within(stent.segment, f"stents.{i}", stent.end_cm, "stent")
+        names: set[str] = set()
+        for i, graft in enumerate(self.grafts):
+            if graft.name in names:
+                raise InputError(source, f"grafts.{i}.name", f"duplicate graft name {graft.name!r}")
+            names.add(graft.name)
+            known(graft.from_segment, f"grafts.{i}.from")
+            known(graft.to_segment, f"grafts.{i}.to")
+            if graft.from_segment == graft.to_segment:
+                raise InputError(
+                    source, f"grafts.{i}.to", "a graft must join two different segments"
+                )
+            within(graft.from_segment, f"grafts.{i}.from_cm", graft.from_cm, "graft inflow")
+            within(graft.to_segment, f"grafts.{i}.to_cm", graft.to_cm, "graft outflow")
+        for i, avoid in enumerate(self.avoid):
+            known(avoid.site, f"avoid.{i}.site")
+        if self.procedure is not None:
+            target = self.procedure.target
+            known(target.segment, "procedure.target.segment")
+            within(target.segment, "procedure.target.at_cm", target.at_cm, "target")
+        return self

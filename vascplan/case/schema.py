@@ -1,0 +1,49 @@
+"""The JSON Schema of the case file, with the segment ids as allowed values."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from vascplan.anatomy.reference import segment_ids
+from vascplan.case.model import CASE_FORMAT, Case
+from vascplan.safety import CAUTION
+
+SCHEMA_ID = "https://vascplan.invalid/schema/vascplan-case-1.json"
+"""A non-resolvable id (RFC 6761 ``.invalid``): the schema ships with the tool."""
+
+_SEGMENT_FIELDS = {
+    "Lesion": ["segment"],
+    "Stent": ["segment"],
+    "Graft": ["from", "to"],
+    "Avoid": ["site"],
+    "Target": ["segment"],
+}
+
+
+def case_json_schema() -> dict[str, Any]:
+    """JSON Schema (draft 2020-12) of ``vascplan-case/1``.
+
+    Field names are the file's own (``from``/``to`` for grafts). Every field naming a
+    segment lists the reference table's ids as its allowed values, and so do the keys
+    of ``vessels``.
+
+    >>> s = case_json_schema()
+    >>> s["properties"]["format"]["const"]
+    'vascplan-case/1'
+    >>> "L-SFA" in s["$defs"]["Lesion"]["properties"]["segment"]["enum"]
+    True
+    """
+    schema = Case.model_json_schema(by_alias=True)
+    ids = segment_ids()
+    for model, fields in _SEGMENT_FIELDS.items():
+        props = schema["$defs"][model]["properties"]
+        for name in fields:
+            props[name]["enum"] = ids
+    schema["properties"]["vessels"]["propertyNames"] = {"enum": ids}
+    return {
+        "$schema": "https://json-schema.org/draft/2020-12/schema",
+        "$id": SCHEMA_ID,
+        "title": f"vascplan case file ({CASE_FORMAT})",
+        "description": f"One patient's arteries and procedure. Caution: {CAUTION}",
+        **{k: v for k, v in schema.items() if k not in ("title", "description")},
+    }
