@@ -1,0 +1,129 @@
+"""``vascplan sheath-flow``: the table, the JSON contract and one-line errors."""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+from click.testing import CliRunner
+
+from vascplan.cli import cli
+from vascplan.safety import CAUTION
+from vascplan.sizing.assess import assess_sheath_flow
+
+BASE = ["sheath-flow", "--vessel-mm", "6.5", "--device-fr", "17", "--label", "outer",
+        "--occupied-cm", "15"]
+DPC = ["--dpc-fr", "7", "--dpc-cm", "15", "--driving-mmhg", "150"]
+
+
+def run(args):
+    return CliRunner().invoke(cli, args)
+
+
+def test_json_contract_matches_the_library():
+    res = run([*BASE, *DPC, "--format", "json"])
+    assert res.exit_code == 0, res.output
+    data = json.loads(res.output)
+    for key in ("vessel_mm", "device_od_mm", "sar", "lumen_left_pct", "distal_flow_pct", "dpc",
+                "assumptions", "caution"):
+        assert key in data
+    lib = assess_sheath_flow(6.5, 17, "outer", 15, dpc_fr=7, dpc_cm=15, driving_mmhg=150)
+    assert data["vessel_mm"] == 6.5
+    assert data["device_od_mm"] == pytest.approx(17 / 3, abs=1e-4)  # 1 Fr = 1/3 mm
+    assert data["sar"] == pytest.approx(17 / 3 / 6.5, abs=1e-4)
+    assert data["lumen_left_pct"] == pytest.approx(lib.limb.lumen_left_pct, abs=0.01)
+    assert data["distal_flow_pct"]["concentric"] == pytest.approx(
+        lib.limb.distal_flow_pct_concentric, abs=0.01
+    )
+    assert data["distal_flow_pct"]["eccentric"] == pytest.approx(
+        lib.limb.distal_flow_pct_eccentric, abs=0.01
+    )
+    assert set(data["dpc"]) >= {"flow_ml_min", "reynolds", "regime"}
+    assert data["dpc"]["regime"] in ("laminar", "transitional", "turbulent")
+    assert data["dpc"]["flow_ml_min"] == pytest.approx(lib.dpc.flow_ml_min, abs=0.1)
+    assert data["caution"] == CAUTION
+    assert data["sar_threshold"]["value"] == 1.05
+    assert data["assumptions"] == lib.assumptions
+    assert "limb_flow_ml_min" in data["reference_defaults_used"]
+    assert data["dpc"]["inner_assumed"] is True
+
+
+def test_json_without_cannula_has_null_dpc():
+    data = json.loads(run([*BASE, "--format", "json"]).output)
+    assert data["dpc"] is None
+
+
+def test_table_shows_figures_units_threshold_and_caution():
+    res = run([*BASE, *DPC])
+    assert res.exit_code == 0, res.output
+    out = res.output
+    assert "SAR                    0.872  (below the 1.05 threshold: Hayashida et al. 2011)" in out
+    assert "mm2" in out and "% of the open" in out
+    assert "% of the resting flow" in out and "mL/min" in out
+    assert "perfusion cannula" in out and "Re " in out
+    assert "Assumptions:" in out
+    assert "* rests on reference values, not measurements" in out
+    assert f"Caution: {CAUTION}" in out
+
+
+def test_sheath_outer_diameter_is_marked_assumed():
+    res = run(["sheath-flow", "--vessel-mm", "6", "--device-fr", "6", "--label", "inner",
+               "--occupied-cm", "10"])
+    assert res.exit_code == 0
+    assert "2.62 mm (assumed *)" in res.output  # Wahood 2022: 6 Fr sheath 2.62 mm outer
+    assert "Wahood" in res.output
+
+
+def test_measured_outer_diameter_overrides():
+    data = json.loads(run([*BASE, "--outer-mm", "6.0", "--format", "json"]).output)
+    assert data["device_od_mm"] == 6.0 and data["device_od_source"] == "measured"
+
+
+def test_device_larger_than_artery_gives_zero_flow():
+    data = json.loads(run(["sheath-flow", "--vessel-mm", "5", "--device-fr", "18", "--label",
+                           "outer", "--occupied-cm", "10", "--format", "json"]).output)
+    assert data["lumen_left_pct"] == 0.0
+    assert data["distal_flow_pct"] == {"concentric": 0.0, "eccentric": 0.0}
+    assert data["sar_threshold"]["reached"] is True
+    assert any("no flow passes it" in a for a in data["assumptions"])
+
+
+@pytest.mark.parametrize(
+    ("args", "line"),
+    [
+        (["sheath-flow", "--vessel-mm", "-1", "--device-fr", "17", "--label", "outer",
+          "--occupied-cm", "15"],
+         "error: --vessel-mm: must be a positive number of mm, got '-1'"),
+        (["sheath-flow", "--vessel-mm", "abc", "--device-fr", "17"],
+         "error: --vessel-mm: must be a positive number of mm, got 'abc'"),
+        ([*BASE[:-2], "--occupied-cm", "0"],
+         "error: --occupied-cm: must be a positive number of cm, got '0'"),
+        (["sheath-flow", "--vessel-mm", "6.5", "--device-fr", "17", "--occupied-cm", "15"],
+         "error: --label: is required: give outer (catheter or cannula) or inner (sheath)"),
+        (["sheath-flow", "--device-fr", "17", "--label", "outer", "--occupied-cm", "15"],
+         "error: --vessel-mm: is required: give the artery's minimal lumen diameter in mm"),
+        ([*BASE, "--dpc-fr", "7"],
+         "error: --dpc-cm: is needed with --dpc-fr (give all three cannula options or none)"),
+        ([*BASE, "--dpc-fr", "7", "--dpc-cm", "15"],
+         "error: --driving-mmhg: is needed with --dpc-fr and --dpc-cm "
+         "(give all three cannula options or none)"),
+        ([*BASE, *DPC[:-1], "nan"],
+         "error: --driving-mmhg: must be a positive number of mmHg, got 'nan'"),
+        ([*BASE[:-4], "--label", "outr", *BASE[-2:]],
+         "error: --label: must be outer or inner, got 'outr' (did you mean 'outer'?)"),
+        ([*BASE, "--format", "yaml"], "error: --format: must be table or json, got 'yaml'"),
+        ([*BASE, "--dpc-fr", "1", "--dpc-cm", "15", "--driving-mmhg", "150"],
+         "error: sheath-flow: a 1 Fr cannula has no lumen with a 0.20 mm wall"),
+    ],
+)
+def test_bad_options_are_one_line_exit_2(args, line):
+    res = run(args)
+    assert res.exit_code == 2
+    assert res.output.strip() == line
+    assert "Traceback" not in res.output
+
+
+def test_help_has_an_example():
+    res = run(["sheath-flow", "--help"])
+    assert res.exit_code == 0
+    assert "Example: vascplan sheath-flow --vessel-mm 6.5" in res.output

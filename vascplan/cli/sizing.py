@@ -1,0 +1,236 @@
+"""``vascplan sheath-flow``: SAR, lumen left, distal flow and the perfusion cannula's flow."""
+
+from __future__ import annotations
+
+import json
+import math
+from typing import Any, cast
+
+import click
+
+from vascplan.errors import InputError
+from vascplan.fileio import did_you_mean
+from vascplan.safety import CAUTION, REFERENCE_MARK
+from vascplan.sizing.french import Label
+
+
+class _Positive(click.ParamType):
+    """A positive finite number; a bad value is one InputError line naming the option."""
+
+    name = "number"
+
+    def __init__(self, unit: str) -> None:
+        self.unit = unit
+
+    def convert(self, value: Any, param: click.Parameter | None, ctx: click.Context | None):
+        if isinstance(value, float):
+            return value
+        option = param.opts[0] if param is not None and param.opts else "value"
+        try:
+            number = float(value)
+        except (TypeError, ValueError):
+            number = math.nan
+        if not math.isfinite(number) or number <= 0.0:
+            raise InputError(option, "", f"must be a positive number of {self.unit}, got {value!r}")
+        return number
+
+
+class _OneOf(click.ParamType):
+    """One of a few words; a wrong word is one InputError line with the nearest choice."""
+
+    name = "choice"
+
+    def __init__(self, *choices: str) -> None:
+        self.choices = choices
+
+    def get_metavar(self, param: click.Parameter, ctx: click.Context | None = None) -> str:
+        return "[" + "|".join(self.choices) + "]"
+
+    def convert(self, value: Any, param: click.Parameter | None, ctx: click.Context | None):
+        if value in self.choices:
+            return value
+        option = param.opts[0] if param is not None and param.opts else "value"
+        allowed = " or ".join(self.choices)
+        raise InputError(
+            option, "", f"must be {allowed}, got {value!r}{did_you_mean(str(value), self.choices)}"
+        )
+
+
+EPILOG = (
+    "Example: vascplan sheath-flow --vessel-mm 6.5 --device-fr 17 --label outer "
+    "--occupied-cm 15 --dpc-fr 7 --dpc-cm 15 --driving-mmhg 150\n\n"
+    f"Caution: {CAUTION}"
+)
+
+
+@click.command("sheath-flow", epilog=EPILOG)
+@click.option(
+    "--vessel-mm",
+    type=_Positive("mm"),
+    help="Minimal lumen diameter of the artery the device occupies [mm].",
+)
+@click.option("--device-fr", type=_Positive("Fr"), help="Device size label [Fr].")
+@click.option(
+    "--label",
+    type=_OneOf("outer", "inner"),
+    help="outer: catheter or cannula (labelled by outer size); inner: introducer sheath.",
+)
+@click.option(
+    "--occupied-cm", type=_Positive("cm"), help="Length of artery the device occupies [cm]."
+)
+@click.option(
+    "--outer-mm",
+    type=_Positive("mm"),
+    default=None,
+    help="Measured outer diameter of the device [mm]; overrides the label.",
+)
+@click.option(
+    "--dpc-fr", type=_Positive("Fr"), default=None, help="Distal perfusion cannula size [Fr]."
+)
+@click.option(
+    "--dpc-cm", type=_Positive("cm"), default=None, help="Distal perfusion cannula length [cm]."
+)
+@click.option(
+    "--driving-mmhg",
+    type=_Positive("mmHg"),
+    default=None,
+    help="Pressure driving the cannula flow: return line minus distal artery [mmHg].",
+)
+@click.option(
+    "--dpc-label",
+    type=_OneOf("outer", "inner"),
+    default="outer",
+    show_default=True,
+    help="inner when a sheath serves as the perfusion line.",
+)
+@click.option(
+    "--limb-flow-ml-min",
+    type=_Positive("mL/min"),
+    default=None,
+    help="Resting limb flow [mL/min]; default from data/sizing/limb_defaults.yaml.",
+)
+@click.option(
+    "--perfusion-mmhg",
+    type=_Positive("mmHg"),
+    default=None,
+    help="Perfusion pressure across the leg [mmHg]; default likewise.",
+)
+@click.option(
+    "--viscosity-mpa-s",
+    type=_Positive("mPa s"),
+    default=None,
+    help="Blood viscosity [mPa s]; default 3.5.",
+)
+@click.option("--format", "fmt", type=_OneOf("table", "json"), default="table", show_default=True)
+def sheath_flow(
+    vessel_mm: float | None,
+    device_fr: float | None,
+    label: str | None,
+    occupied_cm: float | None,
+    outer_mm: float | None,
+    dpc_fr: float | None,
+    dpc_cm: float | None,
+    driving_mmhg: float | None,
+    dpc_label: str,
+    limb_flow_ml_min: float | None,
+    perfusion_mmhg: float | None,
+    viscosity_mpa_s: float | None,
+    fmt: str,
+) -> None:
+    """SAR, lumen left and distal flow with a device in an artery.
+
+    Shows the sheath-to-artery ratio beside its published threshold, the lumen left
+    round the device, the estimated flow to the leg as a percentage of the resting
+    flow (device centred .. device against the wall) and, given --dpc-fr, --dpc-cm and
+    --driving-mmhg, the distal perfusion cannula's flow. Every assumption is listed.
+    """
+    from vascplan.sizing.assess import assess_sheath_flow
+
+    for option, value, allowed in (
+        ("--vessel-mm", vessel_mm, "the artery's minimal lumen diameter in mm"),
+        ("--device-fr", device_fr, "the device's French size"),
+        ("--label", label, "outer (catheter or cannula) or inner (sheath)"),
+        ("--occupied-cm", occupied_cm, "the length of artery the device occupies in cm"),
+    ):
+        if value is None:
+            raise InputError(option, "", f"is required: give {allowed}")
+    dpc = {"--dpc-fr": dpc_fr, "--dpc-cm": dpc_cm, "--driving-mmhg": driving_mmhg}
+    given = [k for k, v in dpc.items() if v is not None]
+    if given and len(given) < 3:
+        missing = [k for k in dpc if k not in given]
+        raise InputError(
+            missing[0],
+            "",
+            f"is needed with {' and '.join(given)} (give all three cannula options or none)",
+        )
+    try:
+        result = assess_sheath_flow(
+            cast(float, vessel_mm),
+            cast(float, device_fr),
+            cast(Label, label),
+            cast(float, occupied_cm),
+            outer_mm=outer_mm,
+            dpc_fr=dpc_fr,
+            dpc_cm=dpc_cm,
+            driving_mmhg=driving_mmhg,
+            dpc_label=cast(Label, dpc_label),
+            limb_flow_ml_min=limb_flow_ml_min,
+            perfusion_mmhg=perfusion_mmhg,
+            viscosity_pa_s=None if viscosity_mpa_s is None else viscosity_mpa_s / 1000.0,
+        )
+    except ValueError as exc:
+        raise InputError("sheath-flow", "", str(exc)) from None
+    if fmt == "json":
+        click.echo(json.dumps(result.to_json(), indent=2))
+    else:
+        click.echo(render_table(result))
+
+
+def render_table(result: Any) -> str:
+    """The terminal view of a :class:`~vascplan.sizing.assess.SheathFlowAssessment`."""
+    limb = result.limb
+    th = result.sar_threshold
+    side = "at or above" if result.sar_at_or_above_threshold else "below"
+    od_note = {
+        "measured": "measured",
+        "label": "from the label",
+        "wall-allowance": f"assumed {REFERENCE_MARK}",
+    }[result.device_od.source]
+    open_mm2 = math.pi * result.vessel_mm**2 / 4.0
+    flow_mark = f" {REFERENCE_MARK}" if limb.defaults_used else ""
+    lines = [
+        f"Device {result.device_fr:g} Fr ({result.label} label) in a {result.vessel_mm:.2f} mm "
+        f"artery over {limb.occupied_cm:g} cm",
+        "",
+        f"  device outer diameter  {result.device_od.mm:.2f} mm ({od_note})",
+        f"  SAR                    {result.sar:.3f}  ({side} the {th.value:g} threshold: "
+        f"{th.short_source})",
+        f"  lumen left             {limb.lumen_left_mm2:.2f} mm2 = {limb.lumen_left_pct:.1f} % "
+        f"of the open {open_mm2:.2f} mm2",
+        f"  distal flow            {limb.distal_flow_pct_concentric:.1f} .. "
+        f"{limb.distal_flow_pct_eccentric:.1f} % of the resting flow "
+        f"({limb.distal_flow_ml_min_concentric:.0f} .. {limb.distal_flow_ml_min_eccentric:.0f} "
+        f"of {limb.baseline_flow_ml_min:.0f} mL/min; device centred .. against the wall)"
+        f"{flow_mark}",
+    ]
+    if result.dpc is not None:
+        d = result.dpc
+        lines.append(
+            f"  perfusion cannula      {d.flow_ml_min:.0f} mL/min (inner {d.inner_mm:.2f} mm, "
+            f"{d.velocity_m_s:.2f} m/s, Re {d.reynolds:.0f}, {d.regime})"
+            f"{f' {REFERENCE_MARK}' if d.inner_assumed else ''}"
+        )
+    else:
+        lines.append(
+            "  perfusion cannula      not described (give --dpc-fr, --dpc-cm, --driving-mmhg)"
+        )
+    lines += ["", "Assumptions:"]
+    lines += [f"  - {a}" for a in result.assumptions]
+    if (
+        flow_mark
+        or (result.dpc is not None and result.dpc.inner_assumed)
+        or (result.device_od.source == "wall-allowance")
+    ):
+        lines.append(f"  {REFERENCE_MARK} rests on reference values, not measurements (see below)")
+    lines += ["", f"Caution: {CAUTION}"]
+    return "\n".join(lines)

@@ -1,0 +1,281 @@
+"""Flow through a distal perfusion cannula (or any tube) from a driving pressure.
+
+The driving pressure is, for a distal perfusion cannula, the return-line pressure of
+the extracorporeal circuit minus the distal arterial pressure. The flow solves
+
+    driving pressure = (f(Re) L / D + K_entrance + K_exit) * rho V**2 / 2
+
+where the Darcy friction factor ``f`` depends on the Reynolds number and so on the
+flow itself (laminar 64/Re, Colebrook when turbulent, a line between; see
+:func:`vascplan.sizing.flow.darcy_friction`). The right-hand side increases with the
+flow, so the root is unique; it is found with Brent's method (scipy ``brentq``).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Literal
+
+import numpy as np
+
+from vascplan.sizing import flow
+from vascplan.sizing._tables import ReferenceValue, read_csv, read_values
+from vascplan.sizing.french import MM_PER_FR
+
+CANNULA_WALLS = "cannula_walls.csv"
+CANNULA_DEFAULTS = "cannula_defaults.yaml"
+
+
+@dataclass(frozen=True)
+class CannulaFlow:
+    """Flow through a cannula and how it was obtained.
+
+    Attributes
+    ----------
+    flow_ml_min : float
+        Volume flow [mL/min].
+    reynolds : float
+        Reynolds number at that flow [-].
+    regime : {"laminar", "transitional", "turbulent"}
+        By the Reynolds number (laminar below 2,300, turbulent from 4,000).
+    inner_mm : float
+        Inner diameter used [mm].
+    velocity_m_s : float
+        Mean velocity [m/s].
+    friction_factor : float
+        Darcy friction factor at that flow [-].
+    assumptions : list of str
+        Every assumption behind the figure.
+    inner_assumed : bool
+        True when the inner diameter is not a measurement (wall table or sheath label).
+    """
+
+    flow_ml_min: float
+    reynolds: float
+    regime: flow.Regime
+    inner_mm: float
+    velocity_m_s: float
+    friction_factor: float
+    assumptions: list[str] = field(default_factory=list)
+    inner_assumed: bool = False
+
+
+def cannula_defaults() -> dict[str, ReferenceValue]:
+    """Minor-loss coefficients and roughness (``data/sizing/cannula_defaults.yaml``)."""
+    return read_values(CANNULA_DEFAULTS)
+
+
+def cannula_wall_mm(outer_fr: float) -> tuple[float, str]:
+    """Wall thickness of a cannula labelled by outer size, from the table, with its basis.
+
+    Parameters
+    ----------
+    outer_fr : float
+        Label [Fr].
+
+    Returns
+    -------
+    (float, str)
+        Wall thickness [mm], linearly interpolated between rows of
+        ``data/sizing/cannula_walls.csv`` (end rows kept beyond the ends), and the
+        table's source and certainty.
+    """
+    rows = read_csv(CANNULA_WALLS)
+    fr = np.array([float(r["outer_fr"]) for r in rows])
+    wall = np.array([float(r["wall_mm"]) for r in rows])
+    certainty = " and ".join(sorted({r["certainty"] for r in rows}))
+    return float(np.interp(outer_fr, fr, wall)), f"cannula wall table ({certainty})"
+
+
+def cannula_inner_mm(
+    size_fr: float, label: Literal["outer", "inner"] = "outer", inner_mm: float | None = None
+) -> tuple[float, str | None]:
+    """Inner diameter of a cannula or sheath used as one, with the assumption if any.
+
+    Parameters
+    ----------
+    size_fr : float
+        Label [Fr].
+    label : {"outer", "inner"}
+        ``"outer"`` for a cannula or catheter (the default), ``"inner"`` for an
+        introducer sheath used as a perfusion line (its label is its inner size).
+    inner_mm : float, optional
+        Measured or maker's inner diameter [mm], used as is.
+
+    Returns
+    -------
+    (float, str or None)
+        Inner diameter [mm] and the assumption sentence (None for a measurement).
+
+    Examples
+    --------
+    >>> cannula_inner_mm(6, "inner")[0]
+    2.0
+    >>> round(cannula_inner_mm(6)[0], 3)   # 2.0 mm outer minus two 0.2 mm walls
+    1.6
+    """
+    size_fr = float(size_fr)
+    if not math.isfinite(size_fr) or size_fr <= 0.0:
+        raise ValueError(f"size_fr must be a positive number, got {size_fr}")
+    if inner_mm is not None:
+        if not math.isfinite(inner_mm) or inner_mm <= 0.0:
+            raise ValueError(f"inner_mm must be a positive number, got {inner_mm}")
+        return float(inner_mm), None
+    if label == "inner":
+        mm = size_fr * MM_PER_FR
+        return mm, (
+            f"{size_fr:g} Fr sheath used as the perfusion line: inner diameter {mm:.2f} mm "
+            "taken from its label (a sheath's nominal size is its minimum inner diameter, "
+            "ISO 11070:2014 7.2)."
+        )
+    if label != "outer":
+        raise ValueError(f"label must be 'outer' or 'inner', got {label!r}")
+    wall, basis = cannula_wall_mm(size_fr)
+    mm = size_fr * MM_PER_FR - 2.0 * wall
+    if mm <= 0.0:
+        raise ValueError(f"a {size_fr:g} Fr cannula has no lumen with a {wall:.2f} mm wall")
+    return mm, (
+        f"{size_fr:g} Fr cannula (labelled by outer size): inner diameter {mm:.2f} mm assumed "
+        f"= {size_fr * MM_PER_FR:.2f} mm outer minus two {wall:.2f} mm walls from the {basis}; "
+        "give the maker's inner diameter when known."
+    )
+
+
+def cannula_flow(
+    size_fr: float,
+    length_cm: float,
+    driving_mmhg: float,
+    *,
+    label: Literal["outer", "inner"] = "outer",
+    inner_mm: float | None = None,
+    viscosity_pa_s: float | None = None,
+    density_kg_m3: float | None = None,
+    minor_k: float | None = None,
+    roughness_mm: float | None = None,
+) -> CannulaFlow:
+    """Flow through a distal perfusion cannula driven by a pressure difference.
+
+    Parameters
+    ----------
+    size_fr : float
+        Cannula label [Fr].
+    length_cm : float
+        Length of the cannula and any line in series of the same bore [cm].
+    driving_mmhg : float
+        Pressure difference driving the flow [mmHg] (return-line minus distal arterial).
+    label : {"outer", "inner"}
+        How the size is labelled (see :func:`cannula_inner_mm`).
+    inner_mm : float, optional
+        Measured inner diameter [mm].
+    viscosity_pa_s, density_kg_m3 : float, optional
+        Blood properties; defaults from ``data/sizing/blood.yaml``.
+    minor_k : float, optional
+        Sum of entrance and exit loss coefficients [-]; default from
+        ``data/sizing/cannula_defaults.yaml`` (0.5 + 1.0).
+    roughness_mm : float, optional
+        Wall roughness [mm]; default smooth.
+
+    Returns
+    -------
+    CannulaFlow
+
+    Raises
+    ------
+    ValueError
+        A size, length or pressure that is not a positive number.
+
+    Notes
+    -----
+    Steady flow, fully developed friction along the whole length (the laminar
+    entrance length is neglected), a straight line, no kinks or connectors.
+
+    Examples
+    --------
+    >>> res = cannula_flow(7, 15, 150)
+    >>> res.regime in ("laminar", "transitional", "turbulent"), res.flow_ml_min > 0
+    (True, True)
+    """
+    from scipy.optimize import brentq
+
+    for name, value in (("length_cm", length_cm), ("driving_mmhg", driving_mmhg)):
+        if not math.isfinite(value) or value <= 0.0:
+            raise ValueError(f"{name} must be a positive number, got {value}")
+    d_mm, inner_note = cannula_inner_mm(size_fr, label, inner_mm)
+    assumptions: list[str] = [inner_note] if inner_note else []
+    blood = flow.blood_defaults()
+    extra = cannula_defaults()
+
+    def pick(value: float | None, name: str, table: dict[str, ReferenceValue], what: str):
+        if value is not None:
+            if not math.isfinite(value) or value < 0.0:
+                raise ValueError(f"{name} must be a number >= 0, got {value}")
+            return float(value)
+        ref = table[name]
+        assumptions.append(
+            f"{what} {ref.value:g} {ref.unit} is a reference default, not a measurement: "
+            f"{ref.cite()}."
+        )
+        return ref.value
+
+    mu = pick(viscosity_pa_s, "viscosity_pa_s", blood, "Blood viscosity")
+    rho = pick(density_kg_m3, "density_kg_m3", blood, "Blood density")
+    if minor_k is None:
+        k_in, k_out = extra["entrance_k"], extra["exit_k"]
+        k = k_in.value + k_out.value
+        assumptions.append(
+            f"Entrance loss K {k_in.value:g} ({k_in.cite()}) and exit loss K "
+            f"{k_out.value:g} ({k_out.cite()})."
+        )
+    else:
+        k = pick(minor_k, "minor_k", extra, "Minor losses")
+    rough = pick(roughness_mm, "roughness_mm", extra, "Wall roughness")
+    if mu <= 0.0 or rho <= 0.0:
+        raise ValueError("viscosity_pa_s and density_kg_m3 must be positive")
+    assumptions.append(
+        "Steady flow, friction fully developed along the whole length, straight line "
+        "without kinks or narrower connectors; the driving pressure is taken as given."
+    )
+
+    d = d_mm * 1e-3
+    length = length_cm * 1e-2
+    dp = driving_mmhg * flow.MMHG_PA
+    area = math.pi * d * d / 4.0
+    rel = rough / d_mm
+
+    def residual(q: float) -> float:
+        return (
+            flow.pipe_pressure_drop(
+                q,
+                d,
+                length,
+                density_kg_m3=rho,
+                viscosity_pa_s=mu,
+                relative_roughness=rel,
+                minor_k=k,
+            )
+            - dp
+        )
+
+    # Upper bound: the laminar friction alone is never larger than the true loss.
+    q_high = dp / flow.tube_resistance(d, length, mu) * 1.01
+    q = brentq(residual, 0.0, q_high, xtol=1e-15, rtol=1e-12)
+    velocity = q / area
+    re = flow.reynolds(velocity, d, rho, mu)
+    regime = flow.regime_of(re)
+    if regime == "transitional":
+        assumptions.append(
+            f"Re {re:.0f} is in the transitional range ({flow.LAMINAR_MAX_RE:.0f}-"
+            f"{flow.TURBULENT_MIN_RE:.0f}): the friction factor there is interpolated and "
+            "the flow less certain."
+        )
+    return CannulaFlow(
+        flow_ml_min=q * 60e6,
+        reynolds=re,
+        regime=regime,
+        inner_mm=d_mm,
+        velocity_m_s=velocity,
+        friction_factor=flow.darcy_friction(re, rel),
+        assumptions=assumptions,
+        inner_assumed=inner_note is not None,
+    )
