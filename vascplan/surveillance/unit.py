@@ -132,6 +132,18 @@ class Baseline(_Strict):
         return value
 
 
+class PatientEvent(_Strict):
+    """A clinician's change from a moment on: the risk tier set by judgement.
+
+    From ``at`` the patient's tier is ``tier`` whatever the rules give, until the next
+    event; the check schedule re-plans from that moment.
+    """
+
+    at: datetime
+    tier: Literal["standard", "raised", "high"]
+    note: str = Field(default="", max_length=300)
+
+
 class Patient(_Strict):
     ref: str = Field(min_length=1, max_length=60)
     bed: int = Field(ge=1, le=999)
@@ -143,6 +155,7 @@ class Patient(_Strict):
     vessel_mm: float | None = Field(default=None, gt=0, le=15)
     dpc: DistalCannula | None = None
     baseline: Baseline = Field(default_factory=Baseline)
+    events: list[PatientEvent] = Field(default_factory=list)
 
     @field_validator("height_cm")
     @classmethod
@@ -207,6 +220,17 @@ class Unit(_Strict):
                     raise InputError(source, f"{base}.dpc.removed", "removal must come after insertion")
                 object.__setattr__(p.dpc, "inserted", d_in)
                 object.__setattr__(p.dpc, "removed", d_out)
+            previous = inserted
+            for k, ev in enumerate(p.events):
+                field = f"{base}.events.{k}.at"
+                at = _localise(ev.at, tz, source, field)
+                assert at is not None
+                if at < previous:
+                    raise InputError(
+                        source, field, "events must be in time order, at or after the insertion"
+                    )
+                object.__setattr__(ev, "at", at)
+                previous = at
         return self
 
     def patient_at_bed(self, bed: int, source: str = "--bed") -> Patient:

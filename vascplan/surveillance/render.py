@@ -1,0 +1,230 @@
+"""Renderers for risk and rota results: table, JSON, CSV and iCalendar (RFC 5545).
+
+A renderer never computes: it only lays out a :class:`~vascplan.surveillance.rota.Rota`
+or a list of :class:`~vascplan.surveillance.risk.RiskAssessment`. Every output carries
+:data:`vascplan.safety.CAUTION`. Times are ISO 8601 in the unit's zone with their UTC offset.
+"""
+
+from __future__ import annotations
+
+import json
+from datetime import UTC, datetime, timedelta
+from typing import Any
+
+from vascplan.safety import CAUTION
+from vascplan.surveillance.protocol import Protocol
+from vascplan.surveillance.risk import RiskAssessment
+from vascplan.surveillance.rota import Rota, RotaCheck
+
+PRODID = "-//vascplan//limb-check rota//EN"
+ALARM_BEFORE_MIN = 5
+"""Calendar reminder before each check [min] (unit policy; a display reminder only)."""
+
+
+def iso(value: datetime) -> str:
+    """ISO 8601 with seconds and UTC offset (``2026-12-01T14:20:00+00:00``)."""
+    return value.isoformat(timespec="seconds")
+
+
+# -- risk -------------------------------------------------------------------------------
+
+
+def risk_to_dict(assessments: list[RiskAssessment], at: datetime, unit_name: str) -> dict[str, Any]:
+    """The ``vascplan risk --format json`` document."""
+    assumptions: list[str] = []
+    for a in assessments:
+        assumptions.extend(a.assumptions)
+    return {
+        "unit": unit_name,
+        "at": iso(at),
+        "patients": [
+            {
+                "ref": a.ref,
+                "bed": a.bed,
+                "tier": a.tier,
+                "sar": a.sar,
+                "device_od_mm": a.device_od_mm,
+                "vessel_mm": a.vessel_mm,
+                "vessel_measured": a.vessel_measured,
+                "dwell_h": a.dwell_h,
+                "dpc_in_place": a.dpc_in_place,
+                "dpc_advised": a.dpc_advised,
+                "reasons": a.reasons,
+                "basis": a.basis,
+                "assumptions": a.assumptions,
+            }
+            for a in assessments
+        ],
+        "caution": CAUTION,
+        "assumptions": assumptions,
+    }
+
+
+def risk_table(assessments: list[RiskAssessment], at: datetime, unit_name: str) -> str:
+    """A readable risk summary; ``*`` marks a SAR built on a reference diameter."""
+    lines = [f"Limb-ischaemia risk, {unit_name}, at {iso(at)}", f"Caution: {CAUTION}", ""]
+    lines.append(f"{'bed':>3}  {'ref':<10} {'tier':<8} {'SAR':>6}  {'DPC':<22}")
+    for a in assessments:
+        sar = "-" if a.sar is None else f"{a.sar:.2f}" + ("" if a.vessel_measured else "*")
+        dpc = "in place" if a.dpc_in_place else ("ADVISED" if a.dpc_advised else "not advised")
+        lines.append(f"{a.bed:>3}  {a.ref:<10} {a.tier:<8} {sar:>6}  {dpc:<22}")
+    for a in assessments:
+        lines += ["", f"Bed {a.bed} {a.ref}: {a.tier}"]
+        lines += [f"  reason: {r}" for r in a.reasons]
+        lines += [f"  basis: {b}" for b in a.basis]
+        lines += [f"  assumption: {x}" for x in a.assumptions]
+    return "\n".join(lines) + "\n"
+
+
+# -- rota -------------------------------------------------------------------------------
+
+
+def _check_dict(c: RotaCheck) -> dict[str, Any]:
+    return {
+        "time": iso(c.time),
+        "due": iso(c.due),
+        "bed": c.bed,
+        "ref": c.ref,
+        "nurse": c.nurse,
+        "phase": c.phase,
+        "items": list(c.items),
+        "shift": c.shift,
+        "tier": c.tier,
+        "interval_min": c.interval_min,
+        "tolerance_min": c.tolerance_min,
+        "within_window": c.within_window,
+    }
+
+
+def rota_to_dict(rota: Rota) -> dict[str, Any]:
+    """The ``vascplan rota --format json`` document."""
+    return {
+        "unit": rota.unit,
+        "timezone": rota.timezone,
+        "protocol": rota.protocol,
+        "from": iso(rota.start),
+        "to": iso(rota.end),
+        "nurse": rota.nurse,
+        "checks": [_check_dict(c) for c in rota.checks],
+        "unmet": [{**_check_dict(u.check), "reason": u.reason} for u in rota.unmet],
+        "handovers": [
+            {
+                "at": iso(h.at),
+                "shift": h.shift,
+                "due_soon": [_check_dict(c) for c in h.due_soon],
+                "overdue": [_check_dict(c) for c in h.overdue],
+            }
+            for h in rota.handovers
+        ],
+        "caution": CAUTION,
+        "assumptions": rota.assumptions,
+    }
+
+
+def rota_json(rota: Rota) -> str:
+    return json.dumps(rota_to_dict(rota), indent=2, ensure_ascii=False) + "\n"
+
+
+def _when(c: RotaCheck) -> str:
+    text = c.time.strftime("%Y-%m-%d %H:%M %z")
+    if c.time != c.due:
+        text += f" (due {c.due.strftime('%H:%M')})"
+    return text
+
+
+def rota_table(rota: Rota) -> str:
+    """A readable rota: each nurse's worklist, the unmet checks and the handovers."""
+    head = f"Limb-check rota, {rota.unit} ({rota.timezone}), {iso(rota.start)} to {iso(rota.end)}"
+    if rota.nurse:
+        head += f", nurse {rota.nurse}"
+    lines = [head, f"Caution: {CAUTION}", ""]
+    for nurse, checks in rota.worklists().items():
+        lines.append(f"== {nurse}: {len(checks)} checks")
+        for c in checks:
+            flag = "" if c.within_window else "  LATE: outside its window"
+            lines.append(
+                f"  {_when(c):<36} bed {c.bed:<3} {c.ref:<10} {c.phase:<16} "
+                f"{', '.join(c.items)}{flag}"
+            )
+        lines.append("")
+    if rota.unmet:
+        lines.append(f"== Cannot be met within their windows: {len(rota.unmet)}")
+        lines += [f"  bed {u.check.bed} {u.check.ref} due {iso(u.check.due)}: {u.reason}"
+                  for u in rota.unmet]
+        lines.append("")
+    for h in rota.handovers:
+        lines.append(f"== Handover to {h.shift} at {h.at.strftime('%Y-%m-%d %H:%M %z')}")
+        lines += [f"  due soon: {_when(c)} bed {c.bed} {c.ref} ({c.nurse})" for c in h.due_soon]
+        lines += [f"  overdue:  {_when(c)} bed {c.bed} {c.ref} ({c.nurse})" for c in h.overdue]
+        if not h.due_soon and not h.overdue:
+            lines.append("  nothing due in the first window, nothing overdue")
+    lines += [f"Assumption: {a}" for a in rota.assumptions]
+    return "\n".join(lines) + "\n"
+
+
+def rota_csv(rota: Rota) -> str:
+    """One row per check; the caution is the first line, as a comment."""
+    import pandas as pd  # tabular export only; kept out of start-up
+
+    rows = []
+    for c in rota.checks:
+        d = _check_dict(c)
+        d["items"] = ";".join(c.items)
+        rows.append(d)
+    columns = ["time", "due", "bed", "ref", "nurse", "phase", "items", "shift", "tier",
+               "interval_min", "tolerance_min", "within_window"]
+    frame = pd.DataFrame(rows, columns=columns)
+    return f"# {CAUTION}\n" + frame.to_csv(index=False, lineterminator="\n")
+
+
+def rota_ics(
+    rota: Rota,
+    protocol: Protocol,
+    stamp: datetime | None = None,
+    duration_min: float | None = None,
+) -> bytes:
+    """The rota as an iCalendar file (RFC 5545) written with the ``icalendar`` library.
+
+    Each check is a VEVENT with a stable UID (unit, bed, ref, due time), DTSTAMP, DTSTART
+    with the unit's TZID (a VTIMEZONE is included), DTEND, a display VALARM
+    :data:`ALARM_BEFORE_MIN` minutes before, and the caution in its description; the
+    calendar carries the caution in X-WR-CALDESC.
+    """
+    import icalendar
+
+    stamp = (stamp or datetime.now(UTC)).astimezone(UTC)
+    length = timedelta(minutes=duration_min or protocol.check_duration_min.value)
+    cal = icalendar.Calendar()
+    cal.add("prodid", PRODID)
+    cal.add("version", "2.0")
+    cal.add("calscale", "GREGORIAN")
+    cal.add("x-wr-calname", f"Limb checks, {rota.unit}" + (f", {rota.nurse}" if rota.nurse else ""))
+    cal.add("x-wr-caldesc", CAUTION)
+    cal.add("x-wr-timezone", rota.timezone)
+    unit_key = "".join(ch for ch in rota.unit if ch.isalnum())[:40] or "unit"
+    for c in rota.checks:
+        ev = icalendar.Event()
+        due_utc = c.due.astimezone(UTC)
+        ev.add("uid", f"{unit_key}-bed{c.bed}-{c.ref}-{due_utc:%Y%m%dT%H%M%SZ}@vascplan")
+        ev.add("dtstamp", stamp)
+        ev.add("dtstart", c.time)
+        ev.add("dtend", c.time + length)
+        ev.add("summary", f"Limb check bed {c.bed} {c.ref} ({c.phase})")
+        items = "\n".join(f"- {protocol.item_text(i)}" for i in c.items)
+        late = "" if c.time == c.due else f"\nDue {iso(c.due)}; staggered to {iso(c.time)}."
+        if not c.within_window:
+            late += "\nOUTSIDE its tolerance window: see the rota's unmet list."
+        ev.add(
+            "description",
+            f"Nurse: {c.nurse}. Tier: {c.tier}. Every {c.interval_min} min.{late}\n{items}\n\n"
+            f"{CAUTION}",
+        )
+        ev.add("categories", ["limb-check"])
+        alarm = icalendar.Alarm()
+        alarm.add("action", "DISPLAY")
+        alarm.add("description", f"Limb check bed {c.bed} {c.ref}")
+        alarm.add("trigger", timedelta(minutes=-ALARM_BEFORE_MIN))
+        ev.add_component(alarm)
+        cal.add_component(ev)
+    cal.add_missing_timezones()
+    return cal.to_ical()
