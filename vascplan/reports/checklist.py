@@ -156,7 +156,7 @@ def checklist_sheets(
             item_ids = wanted
         if p.dpc is None:
             advised = getattr(risk, "dpc_advised", None)
-            dpc = "none" + (" (the risk assessment advises one: see tier)" if advised else "")
+            dpc = "none" + ("; the risk assessment advises one" if advised else "")
         else:
             dpc = f"{p.dpc.size_fr:g} Fr, in since {_when(p.dpc.inserted.astimezone(unit.unit.tz))}"
             if p.dpc.removed is not None:
@@ -235,15 +235,17 @@ def _header_table(sheet: ChecklistSheet, width: float) -> Table:
         [para("Distal perfusion cannula", label), para(sheet.dpc, cell), para("Nurse", label),
          para(sheet.nurse or "not assigned in the unit file: write name", cell)],
         [para("Risk tier", label),
-         rich_para("<b>{tier}</b>: {reasons}", cell, tier=sheet.risk_tier.upper(),
-                   reasons="; ".join(sheet.risk_reasons) or "no risk factor recorded"),
-         para("Note", label), para(NOT_VALIDATED, st["small"])],
+         rich_para("<font size=10><b>{tier}</b></font>  {reasons}. <i>{note}</i>", st["small"],
+                   tier=sheet.risk_tier.upper(),
+                   reasons="; ".join(sheet.risk_reasons) or "no risk factor recorded",
+                   note=NOT_VALIDATED), "", ""],
     ]
     t = Table(rows, colWidths=[0.16 * width, 0.36 * width, 0.12 * width, 0.36 * width])
     t.setStyle(TableStyle([
         ("GRID", (0, 0), (-1, -1), 0.4, colors.grey),
+        ("SPAN", (1, -1), (-1, -1)),
         ("BACKGROUND", (0, 0), (0, -1), colors.Color(0.92, 0.92, 0.92)),
-        ("BACKGROUND", (2, 0), (2, -1), colors.Color(0.92, 0.92, 0.92)),
+        ("BACKGROUND", (2, 0), (2, -2), colors.Color(0.92, 0.92, 0.92)),
         ("VALIGN", (0, 0), (-1, -1), "TOP"),
         ("TOPPADDING", (0, 0), (-1, -1), 2),
         ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
@@ -277,14 +279,14 @@ def due_text(row: CheckRow, sheet: ChecklistSheet) -> str:
     return text
 
 
-ROW_HEIGHT_PT = 19.0
+ROW_HEIGHT_PT = 17.0
 """Height [pt] of a grid row: room for a handwritten value (common practice for forms)."""
 
 
 def _grid(sheet: ChecklistSheet, width: float) -> Table:
     st = styles()
     ids = [i for i, _ in sheet.items]
-    due_w, initials_w = 80.0, 38.0
+    due_w, initials_w = 100.0, 38.0
     item_w = (width - due_w - initials_w) / max(len(ids), 1)
     head = [rich_para("<b>Due</b> ({zone})<br/>bed {bed}<br/>{ref}", st["small"],
                       zone=sheet.shift_start.tzname(), bed=sheet.bed, ref=sheet.ref)]
@@ -292,7 +294,7 @@ def _grid(sheet: ChecklistSheet, width: float) -> Table:
     head += [VerticalText("initials")]
     rows: list[list[Any]] = [head]
     for r in sheet.rows:
-        cells: list[Any] = [rich_para("<b>{due}</b><br/><font size=6>every {every} min</font>",
+        cells: list[Any] = [rich_para("<b>{due}</b>  <font size=6>every {every} min</font>",
                                       st["due"], due=due_text(r, sheet), every=r.interval_min)]
         cells += ["" for _ in ids]
         cells.append("")
@@ -307,7 +309,7 @@ def _grid(sheet: ChecklistSheet, width: float) -> Table:
         ("LINEBEFORE", (-1, 0), (-1, -1), 1.4, colors.black),
         ("LINEBELOW", (0, 0), (-1, 0), 1.4, colors.black),
         ("VALIGN", (0, 0), (-1, 0), "BOTTOM"),
-        ("VALIGN", (0, 1), (0, -1), "MIDDLE"),
+        ("VALIGN", (0, 1), (-1, -1), "MIDDLE"),
         ("ALIGN", (1, 0), (-1, 0), "CENTER"),
         ("BACKGROUND", (0, 0), (-1, 0), colors.Color(0.90, 0.90, 0.90)),
         ("TOPPADDING", (0, 1), (-1, -1), 1),
