@@ -16,7 +16,7 @@ colour alone):
 * a segment the case says to avoid carries a crossed circle.
 
 The map is a renderer: it draws the :class:`MapData` it is given and computes nothing
-clinical. :mod:`vascplan.reports.map_input` builds that from the tree and the plan.
+clinical. :func:`vascplan.reports.map_input.map_data` builds that from the tree and the plan.
 """
 
 from __future__ import annotations
@@ -27,7 +27,7 @@ from dataclasses import dataclass, field
 from reportlab.graphics.shapes import Circle, Drawing, Group, Line, Polygon, PolyLine, Rect, String
 from reportlab.lib.colors import Color, black, white
 
-from vascplan.reports.layout import Point, Polyline, connection, map_layout, offset_points
+from vascplan.reports.layout import Point, Polyline, map_layout, offset_points
 from vascplan.reports.page import fonts
 from vascplan.reports.text import clean
 
@@ -88,11 +88,14 @@ class MapGraft:
 
 @dataclass(frozen=True)
 class MapRoute:
-    """A route: the node ids from the puncture to the target, and where the puncture is."""
+    """A route as legs: (node id, from fraction, to fraction), puncture first.
+
+    A fraction is a position along the node from its origin (0) to its end (1); a leg
+    run against the flow has ``from > to``.
+    """
 
     rank: int
-    path: tuple[str, ...]
-    puncture_fraction: float = 0.5
+    legs: tuple[tuple[str, float, float], ...]
 
 
 @dataclass(frozen=True)
@@ -144,9 +147,7 @@ class _Canvas:
         self.size = (width, height)
         self.used_height = (max(ys) - min(ys)) * self.scale + margin_top + margin_bottom
         self.labels: list[tuple[float, float, str, str, str]] = []
-        self.width_pt = {
-            sid: vessel_width_pt(data.segments[sid].diameter_mm) for sid in self.lines
-        }
+        self.width_pt = {sid: vessel_width_pt(data.segments[sid].diameter_mm) for sid in self.lines}
         for graft in data.grafts:
             if graft.from_segment in self.lines and graft.to_segment in self.lines:
                 self.lines[graft.id] = self._graft_line(graft)
@@ -169,8 +170,12 @@ class _Canvas:
         pts = []
         for i in range(17):
             t = i / 16
-            pts.append(((1 - t) ** 2 * p[0] + 2 * (1 - t) * t * cx + t * t * q[0],
-                        (1 - t) ** 2 * p[1] + 2 * (1 - t) * t * cy + t * t * q[1]))
+            pts.append(
+                (
+                    (1 - t) ** 2 * p[0] + 2 * (1 - t) * t * cx + t * t * q[0],
+                    (1 - t) ** 2 * p[1] + 2 * (1 - t) * t * cy + t * t * q[1],
+                )
+            )
         return Polyline(tuple(pts))
 
 
@@ -187,12 +192,15 @@ def draw_map(data: MapData, width_pt: float, height_pt: float) -> Drawing:
     for layer in ("wall", "lumen"):
         for sid in segs:
             w = cv.width_pt[sid]
-            d.add(PolyLine(
-                _flat(list(cv.lines[sid].points)),
-                strokeColor=WALL if layer == "wall" else LUMEN,
-                strokeWidth=w + 1.0 if layer == "wall" else w,
-                strokeLineCap=1, strokeLineJoin=1,
-            ))
+            d.add(
+                PolyLine(
+                    _flat(list(cv.lines[sid].points)),
+                    strokeColor=WALL if layer == "wall" else LUMEN,
+                    strokeWidth=w + 1.0 if layer == "wall" else w,
+                    strokeLineCap=1,
+                    strokeLineJoin=1,
+                )
+            )
     for graft in data.grafts:
         if graft.id in cv.lines:
             _graft(d, cv, graft, f.regular)
@@ -203,15 +211,29 @@ def draw_map(data: MapData, width_pt: float, height_pt: float) -> Drawing:
             spacing = {1: 7.0, 2: 4.5}.get(seg.calcification, 3.0)
             _ticks(d, line, 0.0, 1.0, w + 3.0, spacing)
         for stent in seg.stents:
-            _zigzag(d, line, _fraction(stent.start_cm, seg.length_cm),
-                    _fraction(stent.start_cm + stent.length_cm, seg.length_cm), w / 2 + 1.3)
+            _zigzag(
+                d,
+                line,
+                _fraction(stent.start_cm, seg.length_cm),
+                _fraction(stent.start_cm + stent.length_cm, seg.length_cm),
+                w / 2 + 1.3,
+            )
         for lesion in seg.lesions:
             _lesion(d, cv, sid, seg, lesion, f.regular)
         if seg.avoid:
             _avoid_mark(d, line.point_at(0.5))
         _segment_label(d, cv, sid, seg, f.regular)
     if data.runner_up is not None:
-        _route(d, cv, data.runner_up, side=-1.0, colour=RUNNER_UP, width=1.3, dash=(4, 2.2), font=f.bold)
+        _route(
+            d,
+            cv,
+            data.runner_up,
+            side=-1.0,
+            colour=RUNNER_UP,
+            width=1.3,
+            dash=(4, 2.2),
+            font=f.bold,
+        )
     if data.chosen is not None:
         _route(d, cv, data.chosen, side=1.0, colour=CHOSEN, width=2.0, dash=None, font=f.bold)
     if data.target is not None and data.target[0] in cv.lines:
@@ -221,14 +243,33 @@ def draw_map(data: MapData, width_pt: float, height_pt: float) -> Drawing:
         _halo_label(d, x, y, text, anchor, font)
     # Orientation: frontal view, the patient's right on the viewer's left.
     d.add(String(4, height_pt - 10, "patient's RIGHT", fontName=f.bold, fontSize=7))
-    d.add(String(width_pt - 4, height_pt - 10, "patient's LEFT", fontName=f.bold, fontSize=7,
-                 textAnchor="end"))
-    d.add(String(width_pt / 2, 2, "frontal schematic, lengths not to scale", fontName=f.regular,
-                 fontSize=6, textAnchor="middle", fillColor=Color(0.3, 0.3, 0.3)))
+    d.add(
+        String(
+            width_pt - 4,
+            height_pt - 10,
+            "patient's LEFT",
+            fontName=f.bold,
+            fontSize=7,
+            textAnchor="end",
+        )
+    )
+    d.add(
+        String(
+            width_pt / 2,
+            2,
+            "frontal schematic, lengths not to scale",
+            fontName=f.regular,
+            fontSize=6,
+            textAnchor="middle",
+            fillColor=Color(0.3, 0.3, 0.3),
+        )
+    )
     return d
 
 
-def _ticks(d: Drawing, line: Polyline, start: float, end: float, length: float, spacing: float) -> None:
+def _ticks(
+    d: Drawing, line: Polyline, start: float, end: float, length: float, spacing: float
+) -> None:
     span = abs(end - start) * line.length
     n = max(1, int(span / spacing))
     for i in range(n + 1):
@@ -251,7 +292,9 @@ def _zigzag(d: Drawing, line: Polyline, start: float, end: float, amplitude: flo
     d.add(PolyLine(_flat(zz), strokeColor=Color(0.1, 0.1, 0.1), strokeWidth=0.55, strokeLineJoin=1))
 
 
-def _lesion(d: Drawing, cv: _Canvas, sid: str, seg: MapSegment, lesion: MapLesion, font: str) -> None:
+def _lesion(
+    d: Drawing, cv: _Canvas, sid: str, seg: MapSegment, lesion: MapLesion, font: str
+) -> None:
     line, w = cv.lines[sid], cv.width_pt[sid]
     a = _fraction(lesion.start_cm, seg.length_cm)
     b = _fraction(lesion.start_cm + lesion.length_cm, seg.length_cm)
@@ -266,7 +309,11 @@ def _lesion(d: Drawing, cv: _Canvas, sid: str, seg: MapSegment, lesion: MapLesio
         for fr in (a, b):
             (x, y), (ux, uy) = line.point_at(fr), line.direction_at(fr)
             h = band / 2 + 1.6
-            d.add(Line(x + uy * h, y - ux * h, x - uy * h, y + ux * h, strokeColor=INK, strokeWidth=1.1))
+            d.add(
+                Line(
+                    x + uy * h, y - ux * h, x - uy * h, y + ux * h, strokeColor=INK, strokeWidth=1.1
+                )
+            )
         text = f"occl. {lesion.length_cm:g} cm"
     else:
         pct = lesion.stenosis_pct or 0.0
@@ -294,8 +341,17 @@ def _halo_label(d: Drawing, x: float, y: float, text: str, anchor: str, font: st
 
     w = stringWidth(text, font, LABEL_PT)
     left = {"start": x, "end": x - w, "middle": x - w / 2}[anchor]
-    d.add(Rect(left - 0.8, y - 1.4, w + 1.6, LABEL_PT + 1.2, fillColor=white, strokeColor=None,
-               fillOpacity=0.85))
+    d.add(
+        Rect(
+            left - 0.8,
+            y - 1.4,
+            w + 1.6,
+            LABEL_PT + 1.2,
+            fillColor=white,
+            strokeColor=None,
+            fillOpacity=0.85,
+        )
+    )
     d.add(String(x, y, text, fontName=font, fontSize=LABEL_PT, textAnchor=anchor, fillColor=INK))
 
 
@@ -320,46 +376,65 @@ def _graft(d: Drawing, cv: _Canvas, graft: MapGraft, font: str) -> None:
     line, w = cv.lines[graft.id], cv.width_pt[graft.id]
     pts = _flat(list(line.points))
     d.add(PolyLine(pts, strokeColor=INK, strokeWidth=w + 1.8, strokeLineCap=1, strokeLineJoin=1))
-    d.add(PolyLine(pts, strokeColor=white, strokeWidth=max(w, 1.0), strokeLineCap=1, strokeLineJoin=1))
+    d.add(
+        PolyLine(pts, strokeColor=white, strokeWidth=max(w, 1.0), strokeLineCap=1, strokeLineJoin=1)
+    )
     x, y = line.point_at(0.5)
     cv.labels.append((x, y - w - 8, f"graft {clean(graft.label)}", "middle", font))
 
 
-def route_points(cv: _Canvas, route: MapRoute, target: tuple[str, float] | None, side: float) -> list[Point]:
-    """The route's line on the map, offset to ``side`` of each vessel it runs along."""
-    path = [n for n in route.path if n in cv.lines]
+def route_points(cv: _Canvas, route: MapRoute, side: float) -> list[Point]:
+    """The route's line on the map, offset to ``side`` of each vessel it runs along.
+
+    The offset is to a fixed side of each vessel's own origin-to-end direction, so two
+    routes drawn with opposite sides never lie on top of each other.
+    """
     out: list[Point] = []
-    for i, node in enumerate(path):
-        line = cv.lines[node]
-        if i == 0:
-            enter = route.puncture_fraction if len(path) > 1 or target is None else route.puncture_fraction
-        else:
-            enter = connection(cv.lines[path[i - 1]], line)[1]
-        if i == len(path) - 1:
-            leave = target[1] if target is not None and target[0] == node else 1.0
-            if len(path) == 1 and target is None:
-                leave = 1.0
-        else:
-            leave = connection(line, cv.lines[path[i + 1]])[0]
-        piece = line.between(enter, leave)
+    for node, start, end in route.legs:
+        if node not in cv.lines:
+            continue
+        piece = cv.lines[node].between(start, end)
         offset = side * (cv.width_pt[node] / 2 + 2.4)
-        # Offset to a fixed side of the vessel's own proximal-to-distal direction, so two
-        # routes along the same vessel never lie on top of each other.
-        if leave < enter:
+        if end < start:
             out += offset_points(piece[::-1], offset)[::-1]
         else:
             out += offset_points(piece, offset)
     return out
 
 
-def _route(d: Drawing, cv: _Canvas, route: MapRoute, *, side: float, colour: Color, width: float,
-           dash: tuple[float, float] | None, font: str) -> None:
-    pts = route_points(cv, route, cv.data.target, side)
+def _route(
+    d: Drawing,
+    cv: _Canvas,
+    route: MapRoute,
+    *,
+    side: float,
+    colour: Color,
+    width: float,
+    dash: tuple[float, float] | None,
+    font: str,
+) -> None:
+    pts = route_points(cv, route, side)
     if len(pts) < 2:
         return
-    d.add(PolyLine(_flat(pts), strokeColor=white, strokeWidth=width + 1.4, strokeLineJoin=1, strokeLineCap=1))
-    d.add(PolyLine(_flat(pts), strokeColor=colour, strokeWidth=width, strokeLineJoin=1,
-                   strokeLineCap=0 if dash else 1, strokeDashArray=list(dash) if dash else None))
+    d.add(
+        PolyLine(
+            _flat(pts),
+            strokeColor=white,
+            strokeWidth=width + 1.4,
+            strokeLineJoin=1,
+            strokeLineCap=1,
+        )
+    )
+    d.add(
+        PolyLine(
+            _flat(pts),
+            strokeColor=colour,
+            strokeWidth=width,
+            strokeLineJoin=1,
+            strokeLineCap=0 if dash else 1,
+            strokeDashArray=list(dash) if dash else None,
+        )
+    )
     # Arrowhead at the target end.
     (x1, y1) = pts[-1]
     j = len(pts) - 2
@@ -369,14 +444,35 @@ def _route(d: Drawing, cv: _Canvas, route: MapRoute, *, side: float, colour: Col
     length = math.hypot(x1 - x0, y1 - y0) or 1.0
     ux, uy = (x1 - x0) / length, (y1 - y0) / length
     size = 5.0
-    d.add(Polygon([x1, y1, x1 - ux * size - uy * size * 0.5, y1 - uy * size + ux * size * 0.5,
-                   x1 - ux * size + uy * size * 0.5, y1 - uy * size - ux * size * 0.5],
-                  fillColor=colour, strokeColor=white, strokeWidth=0.4))
+    d.add(
+        Polygon(
+            [
+                x1,
+                y1,
+                x1 - ux * size - uy * size * 0.5,
+                y1 - uy * size + ux * size * 0.5,
+                x1 - ux * size + uy * size * 0.5,
+                y1 - uy * size - ux * size * 0.5,
+            ],
+            fillColor=colour,
+            strokeColor=white,
+            strokeWidth=0.4,
+        )
+    )
     # Puncture: a numbered circle at the start.
     x, y = pts[0]
     d.add(Circle(x, y, 4.6, fillColor=white, strokeColor=colour, strokeWidth=1.3))
-    d.add(String(x, y - 2.1, str(route.rank), fontName=font, fontSize=6.2, textAnchor="middle",
-                 fillColor=INK))
+    d.add(
+        String(
+            x,
+            y - 2.1,
+            str(route.rank),
+            fontName=font,
+            fontSize=6.2,
+            textAnchor="middle",
+            fillColor=INK,
+        )
+    )
 
 
 def _target(d: Drawing, p: Point, font: str, side: float = 1.0) -> None:
@@ -384,9 +480,27 @@ def _target(d: Drawing, p: Point, font: str, side: float = 1.0) -> None:
     d.add(Circle(p[0], p[1], 3.6, fillColor=None, strokeColor=white, strokeWidth=1.2))
     d.add(Circle(p[0], p[1], 2.0, fillColor=INK, strokeColor=INK, strokeWidth=0.5))
     x = p[0] + side * 8.0
-    d.add(Rect(x - (24 if side < 0 else 0) - 0.5, p[1] - 3.5, 25, 8.5, fillColor=white, strokeColor=None))
-    d.add(String(x, p[1] - 2, "target", fontName=font, fontSize=6.5, fillColor=INK,
-                 textAnchor="end" if side < 0 else "start"))
+    d.add(
+        Rect(
+            x - (24 if side < 0 else 0) - 0.5,
+            p[1] - 3.5,
+            25,
+            8.5,
+            fillColor=white,
+            strokeColor=None,
+        )
+    )
+    d.add(
+        String(
+            x,
+            p[1] - 2,
+            "target",
+            fontName=font,
+            fontSize=6.5,
+            fillColor=INK,
+            textAnchor="end" if side < 0 else "start",
+        )
+    )
 
 
 # ---------------------------------------------------------------------------
@@ -394,12 +508,18 @@ def _target(d: Drawing, p: Point, font: str, side: float = 1.0) -> None:
 
 
 LEGEND_ROWS: tuple[tuple[str, str], ...] = (
-    ("vessel", "Artery; width in proportion to diameter ({pt:g} pt per mm). "
-               "Label: name and diameter in mm; * = reference value, not measured."),
+    (
+        "vessel",
+        "Artery; width in proportion to diameter ({pt:g} pt per mm). "
+        "Label: name and diameter in mm; * = reference value, not measured.",
+    ),
     ("stenosis", "Stenosis: black band, white core as wide as the lumen left; label % and length."),
     ("occlusion", "Occlusion: solid black band closed by bars; label length."),
-    ("calcium", "Calcification: ticks across the wall; closer ticks, heavier calcium. "
-                "'Ca' on a lesion label: calcified lesion."),
+    (
+        "calcium",
+        "Calcification: ticks across the wall; closer ticks, heavier calcium. "
+        "'Ca' on a lesion label: calcified lesion.",
+    ),
     ("stent", "Stent: zigzag over its span."),
     ("graft", "Graft: hollow double line between its ends."),
     ("chosen", "Chosen route (rank 1): heavy solid line, arrow at the target."),
@@ -450,13 +570,28 @@ def legend_symbol(kind: str, width: float = 34.0, height: float = 14.0) -> Drawi
         g.add(Line(x0, y, x1, y, strokeColor=white, strokeWidth=w, strokeLineCap=1))
     elif kind in ("chosen", "runner-up"):
         colour = CHOSEN if kind == "chosen" else RUNNER_UP
-        g.add(Line(x0, y, x1 - 5, y, strokeColor=colour, strokeWidth=2.0 if kind == "chosen" else 1.3,
-                   strokeDashArray=None if kind == "chosen" else [4, 2.2]))
-        g.add(Polygon([x1, y, x1 - 5, y + 2.5, x1 - 5, y - 2.5], fillColor=colour, strokeColor=None))
+        g.add(
+            Line(
+                x0,
+                y,
+                x1 - 5,
+                y,
+                strokeColor=colour,
+                strokeWidth=2.0 if kind == "chosen" else 1.3,
+                strokeDashArray=None if kind == "chosen" else [4, 2.2],
+            )
+        )
+        g.add(
+            Polygon([x1, y, x1 - 5, y + 2.5, x1 - 5, y - 2.5], fillColor=colour, strokeColor=None)
+        )
     elif kind == "puncture":
         tube()
         g.add(Circle(width / 2, y, 4.6, fillColor=white, strokeColor=CHOSEN, strokeWidth=1.3))
-        g.add(String(width / 2, y - 2.1, "1", fontName=fonts().bold, fontSize=6.2, textAnchor="middle"))
+        g.add(
+            String(
+                width / 2, y - 2.1, "1", fontName=fonts().bold, fontSize=6.2, textAnchor="middle"
+            )
+        )
     elif kind == "target":
         tmp = Drawing(width, height)
         tube()

@@ -92,7 +92,9 @@ def baseline_rows(baseline: Any) -> tuple[tuple[str, str], ...]:
     """The baseline findings as (what, value) pairs, sides and sites in a stable order."""
     out = []
     if baseline.nirs:
-        out.append(("Calf NIRS", ", ".join(f"{s} {v:g} %" for s, v in sorted(baseline.nirs.items()))))
+        out.append(
+            ("Calf NIRS", ", ".join(f"{s} {v:g} %" for s, v in sorted(baseline.nirs.items())))
+        )
     if baseline.doppler:
         out.append(("Doppler", ", ".join(f"{k} {v}" for k, v in sorted(baseline.doppler.items()))))
     if baseline.pulses:
@@ -135,7 +137,8 @@ def checklist_sheets(
     shift = unit.shift_named(shift_name)
     start, end = shift_window(unit, shift, datetime.combine(day, shift.start))
     patients = (
-        [unit.patient_at_bed(b) for b in beds] if beds is not None
+        [unit.patient_at_bed(b) for b in beds]
+        if beds is not None
         else sorted(unit.patients, key=lambda p: p.bed)
     )
     sheets = []
@@ -224,47 +227,79 @@ def _item_heading(item_id: str) -> str:
 def _header_table(sheet: ChecklistSheet, width: float) -> Table:
     st = styles()
     label, cell = st["cell-bold"], st["cell"]
-    shift = (
-        f"{sheet.shift_name}: {_when(sheet.shift_start)} to {_when(sheet.shift_end)}"
-    )
+    shift = f"{sheet.shift_name}: {_when(sheet.shift_start)} to {_when(sheet.shift_end)}"
     rows = [
-        [para("Bed", label), para(str(sheet.bed), st["alarm"]), para("Ref", label), para(sheet.ref, st["alarm"])],
+        [
+            para("Bed", label),
+            para(str(sheet.bed), st["alarm"]),
+            para("Ref", label),
+            para(sheet.ref, st["alarm"]),
+        ],
         [para("Unit", label), para(sheet.unit_name, cell), para("Shift", label), para(shift, cell)],
-        [para("Device", label), para(sheet.device, cell), para("Inserted", label),
-         para(_when(sheet.inserted) + (f"; removed {_when(sheet.removed)}" if sheet.removed else ""), cell)],
-        [para("Distal perfusion cannula", label), para(sheet.dpc, cell), para("Nurse", label),
-         para(sheet.nurse or "not assigned in the unit file: write name", cell)],
-        [para("Risk tier", label),
-         rich_para("<font size=10><b>{tier}</b></font>  {reasons}. <i>{note}</i>", st["small"],
-                   tier=sheet.risk_tier.upper(),
-                   reasons="; ".join(sheet.risk_reasons) or "no risk factor recorded",
-                   note=NOT_VALIDATED), "", ""],
+        [
+            para("Device", label),
+            para(sheet.device, cell),
+            para("Inserted", label),
+            para(
+                _when(sheet.inserted)
+                + (f"; removed {_when(sheet.removed)}" if sheet.removed else ""),
+                cell,
+            ),
+        ],
+        [
+            para("Distal perfusion cannula", label),
+            para(sheet.dpc, cell),
+            para("Nurse", label),
+            para(sheet.nurse or "not assigned in the unit file: write name", cell),
+        ],
+        [
+            para("Risk tier", label),
+            rich_para(
+                "<font size=10><b>{tier}</b></font>  {reasons}. <i>{note}</i>",
+                st["small"],
+                tier=sheet.risk_tier.upper(),
+                reasons="; ".join(sheet.risk_reasons) or "no risk factor recorded",
+                note=NOT_VALIDATED,
+            ),
+            "",
+            "",
+        ],
     ]
     t = Table(rows, colWidths=[0.16 * width, 0.36 * width, 0.12 * width, 0.36 * width])
-    t.setStyle(TableStyle([
-        ("GRID", (0, 0), (-1, -1), 0.4, colors.grey),
-        ("SPAN", (1, -1), (-1, -1)),
-        ("BACKGROUND", (0, 0), (0, -1), colors.Color(0.92, 0.92, 0.92)),
-        ("BACKGROUND", (2, 0), (2, -2), colors.Color(0.92, 0.92, 0.92)),
-        ("VALIGN", (0, 0), (-1, -1), "TOP"),
-        ("TOPPADDING", (0, 0), (-1, -1), 2),
-        ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
-    ]))
+    t.setStyle(
+        TableStyle(
+            [
+                ("GRID", (0, 0), (-1, -1), 0.4, colors.grey),
+                ("SPAN", (1, -1), (-1, -1)),
+                ("BACKGROUND", (0, 0), (0, -1), colors.Color(0.92, 0.92, 0.92)),
+                ("BACKGROUND", (2, 0), (2, -2), colors.Color(0.92, 0.92, 0.92)),
+                ("VALIGN", (0, 0), (-1, -1), "TOP"),
+                ("TOPPADDING", (0, 0), (-1, -1), 2),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
+            ]
+        )
+    )
     return t
 
 
 def _baseline_table(sheet: ChecklistSheet, width: float) -> Table:
     st = styles()
-    rows = [[para("Baseline", st["cell-bold"]), para("compare every check with these", st["small"])]]
+    rows = [
+        [para("Baseline", st["cell-bold"]), para("compare every check with these", st["small"])]
+    ]
     rows += [[para(k, st["cell-bold"]), para(v, st["cell"])] for k, v in sheet.baseline]
     t = Table(rows, colWidths=[0.16 * width, 0.84 * width])
-    t.setStyle(TableStyle([
-        ("BACKGROUND", (0, 0), (-1, 0), colors.Color(0.92, 0.92, 0.92)),
-        ("BOX", (0, 0), (-1, -1), 0.4, colors.grey),
-        ("LINEBELOW", (0, 0), (-1, -2), 0.25, colors.lightgrey),
-        ("TOPPADDING", (0, 0), (-1, -1), 1.5),
-        ("BOTTOMPADDING", (0, 0), (-1, -1), 1.5),
-    ]))
+    t.setStyle(
+        TableStyle(
+            [
+                ("BACKGROUND", (0, 0), (-1, 0), colors.Color(0.92, 0.92, 0.92)),
+                ("BOX", (0, 0), (-1, -1), 0.4, colors.grey),
+                ("LINEBELOW", (0, 0), (-1, -2), 0.25, colors.lightgrey),
+                ("TOPPADDING", (0, 0), (-1, -1), 1.5),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 1.5),
+            ]
+        )
+    )
     return t
 
 
@@ -288,21 +323,38 @@ def _grid(sheet: ChecklistSheet, width: float) -> Table:
     ids = [i for i, _ in sheet.items]
     due_w, initials_w = 100.0, 38.0
     item_w = (width - due_w - initials_w) / max(len(ids), 1)
-    head = [rich_para("<b>Due</b> ({zone})<br/>bed {bed}<br/>{ref}", st["small"],
-                      zone=sheet.shift_start.tzname(), bed=sheet.bed, ref=sheet.ref)]
+    head = [
+        rich_para(
+            "<b>Due</b> ({zone})<br/>bed {bed}<br/>{ref}",
+            st["small"],
+            zone=sheet.shift_start.tzname(),
+            bed=sheet.bed,
+            ref=sheet.ref,
+        )
+    ]
     head += [VerticalText(_item_heading(i)) for i in ids]
     head += [VerticalText("initials")]
     rows: list[list[Any]] = [head]
     for r in sheet.rows:
-        cells: list[Any] = [rich_para("<b>{due}</b>  <font size=6>every {every} min</font>",
-                                      st["due"], due=due_text(r, sheet), every=r.interval_min)]
+        cells: list[Any] = [
+            rich_para(
+                "<b>{due}</b>  <font size=6>every {every} min</font>",
+                st["due"],
+                due=due_text(r, sheet),
+                every=r.interval_min,
+            )
+        ]
         cells += ["" for _ in ids]
         cells.append("")
         rows.append(cells)
     if not sheet.rows:
         rows.append([para("none", st["cell"])] + ["" for _ in ids] + [""])
-    t = Table(rows, colWidths=[due_w] + [item_w] * len(ids) + [initials_w], repeatRows=1,
-              rowHeights=[None] + [ROW_HEIGHT_PT] * (len(rows) - 1))
+    t = Table(
+        rows,
+        colWidths=[due_w] + [item_w] * len(ids) + [initials_w],
+        repeatRows=1,
+        rowHeights=[None] + [ROW_HEIGHT_PT] * (len(rows) - 1),
+    )
     style = [
         ("GRID", (0, 0), (-1, -1), 0.6, colors.black),
         ("LINEAFTER", (0, 0), (0, -1), 1.4, colors.black),
@@ -339,12 +391,16 @@ def _item_key(sheet: ChecklistSheet, width: float) -> Table:
                 row += ["", ""]
         rows.append(row)
     t = Table(rows, colWidths=[0.15 * width, 0.35 * width] * 2)
-    t.setStyle(TableStyle([
-        ("VALIGN", (0, 0), (-1, -1), "TOP"),
-        ("TOPPADDING", (0, 0), (-1, -1), 0.5),
-        ("BOTTOMPADDING", (0, 0), (-1, -1), 0.5),
-        ("LEFTPADDING", (0, 0), (-1, -1), 2),
-    ]))
+    t.setStyle(
+        TableStyle(
+            [
+                ("VALIGN", (0, 0), (-1, -1), "TOP"),
+                ("TOPPADDING", (0, 0), (-1, -1), 0.5),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 0.5),
+                ("LEFTPADDING", (0, 0), (-1, -1), 2),
+            ]
+        )
+    )
     return t
 
 
@@ -352,31 +408,56 @@ def escalation_box(escalation: Sequence[tuple[str, str, int]], width: float) -> 
     """The escalation criteria in a heavy box: finding, whom to call, how fast."""
     st = styles()
     rows: list[list[Any]] = [[para("CALL AT ONCE IF YOU FIND", st["alarm"]), "", ""]]
-    rows.append([para("Finding", st["cell-bold"]), para("Call", st["cell-bold"]),
-                 para("Within", st["cell-bold"])])
+    rows.append(
+        [
+            para("Finding", st["cell-bold"]),
+            para("Call", st["cell-bold"]),
+            para("Within", st["cell-bold"]),
+        ]
+    )
     for finding, call, within in escalation:
-        rows.append([para(finding, st["cell"]), para(call, st["cell"]),
-                     rich_para("<b>{m} min</b>", st["cell"], m=within)])
+        rows.append(
+            [
+                para(finding, st["cell"]),
+                para(call, st["cell"]),
+                rich_para("<b>{m} min</b>", st["cell"], m=within),
+            ]
+        )
     t = Table(rows, colWidths=[0.56 * width, 0.32 * width, 0.12 * width])
-    t.setStyle(TableStyle([
-        ("SPAN", (0, 0), (-1, 0)),
-        ("BOX", (0, 0), (-1, -1), 2.5, colors.black),
-        ("LINEBELOW", (0, 0), (-1, 0), 1.2, colors.black),
-        ("BACKGROUND", (0, 0), (-1, 0), colors.Color(0.82, 0.82, 0.82)),
-        ("LINEBELOW", (0, 1), (-1, -2), 0.3, colors.grey),
-        ("VALIGN", (0, 0), (-1, -1), "TOP"),
-        ("TOPPADDING", (0, 0), (-1, -1), 1.5),
-        ("BOTTOMPADDING", (0, 0), (-1, -1), 1.5),
-    ]))
+    t.setStyle(
+        TableStyle(
+            [
+                ("SPAN", (0, 0), (-1, 0)),
+                ("BOX", (0, 0), (-1, -1), 2.5, colors.black),
+                ("LINEBELOW", (0, 0), (-1, 0), 1.2, colors.black),
+                ("BACKGROUND", (0, 0), (-1, 0), colors.Color(0.82, 0.82, 0.82)),
+                ("LINEBELOW", (0, 1), (-1, -2), 0.3, colors.grey),
+                ("VALIGN", (0, 0), (-1, -1), "TOP"),
+                ("TOPPADDING", (0, 0), (-1, -1), 1.5),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 1.5),
+            ]
+        )
+    )
     return t
 
 
 def _signatures(width: float) -> Table:
     st = styles()
-    t = Table([[para("Initials and full name of each nurse who signs this sheet", st["small"]), "", ""],
-               ["", "", ""]],
-              colWidths=[width / 3] * 3, rowHeights=[12, 20])
-    t.setStyle(TableStyle([("SPAN", (0, 0), (-1, 0)), ("GRID", (0, 1), (-1, 1), 0.5, colors.black)]))
+    t = Table(
+        [
+            [
+                para("Initials and full name of each nurse who signs this sheet", st["small"]),
+                "",
+                "",
+            ],
+            ["", "", ""],
+        ],
+        colWidths=[width / 3] * 3,
+        rowHeights=[12, 20],
+    )
+    t.setStyle(
+        TableStyle([("SPAN", (0, 0), (-1, 0)), ("GRID", (0, 1), (-1, 1), 0.5, colors.black)])
+    )
     return t
 
 
@@ -384,7 +465,9 @@ def sheet_story(sheet: ChecklistSheet, width: float) -> list[Any]:
     """The flowables of one patient's sheet."""
     st = styles()
     story: list[Any] = [
-        rich_para("Limb-perfusion checklist: bed {bed}, {ref}", st["title"], bed=sheet.bed, ref=sheet.ref),
+        rich_para(
+            "Limb-perfusion checklist: bed {bed}, {ref}", st["title"], bed=sheet.bed, ref=sheet.ref
+        ),
         _header_table(sheet, width),
         Spacer(1, 4),
         escalation_box(sheet.escalation, width),
@@ -395,12 +478,18 @@ def sheet_story(sheet: ChecklistSheet, width: float) -> list[Any]:
     ]
     for note in sheet.notes:
         story.append(para(note, st["alarm"]))
-    story += [Spacer(1, 3), _item_key(sheet, width), Spacer(1, 4), KeepTogether([_signatures(width)])]
+    story += [
+        Spacer(1, 3),
+        _item_key(sheet, width),
+        Spacer(1, 4),
+        KeepTogether([_signatures(width)]),
+    ]
     return story
 
 
-def render_checklist(sheets: Sequence[ChecklistSheet], *, paper: str = "a4",
-                     generated_at: datetime | None = None) -> bytes:
+def render_checklist(
+    sheets: Sequence[ChecklistSheet], *, paper: str = "a4", generated_at: datetime | None = None
+) -> bytes:
     """The checklist PDF, one patient per page (a long shift's grid runs on overleaf)."""
     if not sheets:
         raise ValueError("no patient to print")

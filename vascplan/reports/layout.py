@@ -87,7 +87,11 @@ class Polyline:
             (x0, y0), (x1, y1) = self.points[i - 1], self.points[i]
             dx, dy = x1 - x0, y1 - y0
             seg2 = dx * dx + dy * dy
-            t = 0.0 if seg2 == 0 else max(0.0, min(1.0, ((p[0] - x0) * dx + (p[1] - y0) * dy) / seg2))
+            t = (
+                0.0
+                if seg2 == 0
+                else max(0.0, min(1.0, ((p[0] - x0) * dx + (p[1] - y0) * dy) / seg2))
+            )
             qx, qy = x0 + t * dx, y0 + t * dy
             d = math.hypot(p[0] - qx, p[1] - qy)
             if d < best[1]:
@@ -137,7 +141,9 @@ def _parse_points(text: str, source: str, field: str) -> tuple[Point, ...]:
     for pair in text.split(";"):
         parts = pair.split()
         if len(parts) != 2:
-            raise InputError(source, field, f"points must be 'x y; x y; ...' (got {pair.strip()!r})")
+            raise InputError(
+                source, field, f"points must be 'x y; x y; ...' (got {pair.strip()!r})"
+            )
         try:
             pts.append((float(parts[0]), float(parts[1])))
         except ValueError:

@@ -47,7 +47,10 @@ HEADER_PT = 16.0
 """Height [pt] kept at the head of every page for the title line."""
 
 _FONT_CANDIDATES = (
-    ("/usr/share/fonts/truetype/dejavu/DejaVuSans.ttf", "/usr/share/fonts/truetype/dejavu/DejaVuSans-Bold.ttf"),
+    (
+        "/usr/share/fonts/truetype/dejavu/DejaVuSans.ttf",
+        "/usr/share/fonts/truetype/dejavu/DejaVuSans-Bold.ttf",
+    ),
     ("/usr/share/fonts/TTF/DejaVuSans.ttf", "/usr/share/fonts/TTF/DejaVuSans-Bold.ttf"),
     ("/Library/Fonts/DejaVuSans.ttf", "/Library/Fonts/DejaVuSans-Bold.ttf"),
 )
@@ -72,7 +75,10 @@ def fonts() -> Fonts:
             pdfmetrics.registerFont(TTFont("VP-Regular", regular))
             pdfmetrics.registerFont(TTFont("VP-Bold", bold))
             pdfmetrics.registerFontFamily(
-                "VP-Regular", normal="VP-Regular", bold="VP-Bold", italic="VP-Regular",
+                "VP-Regular",
+                normal="VP-Regular",
+                bold="VP-Bold",
+                italic="VP-Regular",
                 boldItalic="VP-Bold",
             )
             return Fonts("VP-Regular", "VP-Bold")
@@ -89,9 +95,15 @@ def styles() -> dict[str, ParagraphStyle]:
         "small": ParagraphStyle("small", parent=base, fontSize=7.5, leading=9),
         "cell": ParagraphStyle("cell", parent=base, fontSize=8, leading=9.6),
         "due": ParagraphStyle("due", parent=base, fontSize=8, leading=8.6),
-        "cell-bold": ParagraphStyle("cell-bold", parent=base, fontName=f.bold, fontSize=8, leading=9.6),
-        "title": ParagraphStyle("title", parent=base, fontName=f.bold, fontSize=15, leading=18, spaceAfter=4),
-        "h2": ParagraphStyle("h2", parent=base, fontName=f.bold, fontSize=11, leading=14, spaceBefore=8, spaceAfter=3),
+        "cell-bold": ParagraphStyle(
+            "cell-bold", parent=base, fontName=f.bold, fontSize=8, leading=9.6
+        ),
+        "title": ParagraphStyle(
+            "title", parent=base, fontName=f.bold, fontSize=15, leading=18, spaceAfter=4
+        ),
+        "h2": ParagraphStyle(
+            "h2", parent=base, fontName=f.bold, fontSize=11, leading=14, spaceBefore=8, spaceAfter=3
+        ),
         "alarm": ParagraphStyle("alarm", parent=base, fontName=f.bold, fontSize=10, leading=12.5),
     }
 
@@ -223,7 +235,9 @@ def build_pdf(story: Sequence[Any], setup: PageSetup, *, author: str = "vascplan
         subject=CAUTION,
         creator="vascplan",
     )
-    frame = Frame(x, y, w, h, leftPadding=0, rightPadding=0, topPadding=0, bottomPadding=0, id="body")
+    frame = Frame(
+        x, y, w, h, leftPadding=0, rightPadding=0, topPadding=0, bottomPadding=0, id="body"
+    )
     doc.addPageTemplates([PageTemplate(id="page", frames=[frame])])
     doc.build(list(story), canvasmaker=_numbered_canvas(setup))
     return buf.getvalue()
