@@ -160,12 +160,14 @@ class _Canvas:
         length = math.hypot(q[0] - p[0], q[1] - p[1]) or 1.0
         nx, ny = -(q[1] - p[1]) / length, (q[0] - p[0]) / length
         centre = self.size[0] / 2
-        # Bulge downwards for a crossover, away from the midline for a same-side bypass.
-        if abs(q[0] - p[0]) > abs(q[1] - p[1]):
+        # Bulge downwards for a crossover, towards the midline (where the map has room)
+        # for a same-side bypass.
+        crossover = abs(q[0] - p[0]) > abs(q[1] - p[1])
+        if crossover:
             sign = -1.0 if ny > 0 else 1.0
         else:
-            sign = 1.0 if nx * (mx - centre) >= 0 else -1.0
-        bulge = max(0.22 * length, 10.0)
+            sign = 1.0 if nx * (centre - mx) >= 0 else -1.0
+        bulge = max((0.3 if crossover else 0.6) * length, 10.0)
         cx, cy = mx + sign * nx * bulge, my + sign * ny * bulge
         pts = []
         for i in range(17):
@@ -323,16 +325,21 @@ def _lesion(
     if lesion.calcified:
         _ticks(d, line, a, b, band + 3.0, 2.2)
         text += " Ca"
-    # The lesion's label sits across the vessel from the segment's own label.
+    # The lesion's label sits on the same side as the segment's own label (outwards, where
+    # the map has room), moved clear of it when the two would overlap.
     place = cv.places[sid]
-    want = -1.0 if place.label_dx > 0 else 1.0
+    want = -1.0 if place.label_dx < 0 else 1.0
     mid = (a + b) / 2
     (x, y), (ux, uy) = line.point_at(mid), line.direction_at(mid)
     nx, ny = -uy, ux
     if nx * want < 0 or (abs(nx) < 0.2 and want < 0):
         nx, ny = -nx, -ny
     gap = w / 2 + 4.5
-    cv.labels.append((x + nx * gap, y + ny * gap - 2, text, "start" if nx >= 0 else "end", font))
+    lx, ly = x + nx * gap, y + ny * gap - 2
+    seg_y = line.point_at(0.5)[1] + place.label_dy * cv.scale - 2
+    if abs(ly - seg_y) < LABEL_PT + 1.5:
+        ly = seg_y - (LABEL_PT + 2.0) if ly <= seg_y else seg_y + (LABEL_PT + 2.0)
+    cv.labels.append((lx, ly, text, "start" if nx >= 0 else "end", font))
 
 
 def _halo_label(d: Drawing, x: float, y: float, text: str, anchor: str, font: str) -> None:

@@ -189,13 +189,21 @@ def route_table(plan: Mapping[str, Any], width: float) -> Table:
     """Every ranked route with its verdict and reasons."""
     st = styles()
     cell, bold, small = st["cell"], st["cell-bold"], st["small"]
-    head = ["#", "Route", "Verdict", "Length", "Sheath OD / min lumen / SAR", "Score", "Reasons"]
-    rows: list[list[Any]] = [[para(h, bold) for h in head]]
+    head = [
+        "#",
+        "Route",
+        "Verdict",
+        "Length (cm)",
+        "Sheath OD / min lumen (mm) / SAR",
+        "Score",
+        "Reasons",
+    ]
+    rows: list[list[Any]] = [[para(h, st["head"]) for h in head]]
     for r in plan.get("routes", ()):
         assumed = set(r.get("assumed", ()))
         mark = REFERENCE_MARK if ({"min_lumen_mm", "sar"} & assumed) else ""
         sizes = (
-            f"{_num(r.get('sheath_od_mm'))} / {_num(r.get('min_lumen_mm'))}{mark} mm / "
+            f"{_num(r.get('sheath_od_mm'))} / {_num(r.get('min_lumen_mm'))}{mark} / "
             f"{_num(r.get('sar'))}{mark}"
         )
         name = f"{r.get('site_name') or r.get('site')} ({r.get('site')}), {r.get('direction')}"
@@ -206,7 +214,7 @@ def route_table(plan: Mapping[str, Any], width: float) -> Table:
                 para(r.get("rank"), bold),
                 [para(name, cell), para(path, small)],
                 para(verdict(r), bold),
-                para(_num(r.get("length_cm"), "{:.0f} cm"), cell),
+                para(_num(r.get("length_cm"), "{:.0f}"), cell),
                 para(sizes, cell),
                 para(_num(r.get("score"), "{:.1f}"), cell),
                 reasons,
@@ -215,13 +223,13 @@ def route_table(plan: Mapping[str, Any], width: float) -> Table:
     t = Table(
         rows,
         colWidths=[
-            0.04 * width,
+            0.035 * width,
             0.22 * width,
-            0.08 * width,
+            0.10 * width,
+            0.075 * width,
+            0.15 * width,
             0.07 * width,
-            0.14 * width,
-            0.06 * width,
-            0.39 * width,
+            0.35 * width,
         ],
         repeatRows=1,
     )
@@ -384,7 +392,7 @@ def _assumptions(items: Sequence[str]) -> list[Any]:
     for a in items:
         if a not in seen:
             seen.add(a)
-            out.append(para(f"- {a}", st["small"]))
+            out.append(para(f"- {a}", st["tiny"]))
     return out
 
 

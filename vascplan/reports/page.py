@@ -95,6 +95,8 @@ def styles() -> dict[str, ParagraphStyle]:
         "small": ParagraphStyle("small", parent=base, fontSize=7.5, leading=9),
         "cell": ParagraphStyle("cell", parent=base, fontSize=8, leading=9.6),
         "due": ParagraphStyle("due", parent=base, fontSize=8, leading=8.6),
+        "head": ParagraphStyle("head", parent=base, fontName=f.bold, fontSize=7, leading=8.4),
+        "tiny": ParagraphStyle("tiny", parent=base, fontSize=6.8, leading=8.0),
         "cell-bold": ParagraphStyle(
             "cell-bold", parent=base, fontName=f.bold, fontSize=8, leading=9.6
         ),
