@@ -1,0 +1,79 @@
+"""``vascplan plan``: rank the access routes of one or more cases (thin layer)."""
+
+from __future__ import annotations
+
+import json
+import sys
+
+import click
+
+from vascplan.errors import InputError
+
+EPILOG = """\b
+Examples:
+  vascplan plan examples/case-DEMO-07-sfa-occlusion.yaml
+  vascplan plan examples/case-DEMO-07-sfa-occlusion.yaml --explain L-CFA
+  vascplan plan case.yaml --weight crossover=2.5 --limit sar_max=1.0 --top 5
+  vascplan plan registry/*.yaml --format jsonl > review.jsonl
+
+Score: lower is better; feasible routes come first. Weights and limits live in
+data/access/weights.yaml and data/access/limits.yaml, each with its basis.
+"""
+
+
+@click.command(epilog=EPILOG)
+@click.argument("cases", nargs=-1, required=True, type=click.Path(dir_okay=False))
+@click.option("--format", "fmt", type=click.Choice(["table", "json", "jsonl"]),
+              default="table", show_default=True,
+              help="table for people; json (one object, or a list for several cases); "
+                   "jsonl (one object per case per line).")
+@click.option("--top", type=click.IntRange(min=1), default=None,
+              help="Show only the best N routes of each case.")
+@click.option("--explain", "explain", metavar="SITE", default=None,
+              help="Print every factor and limit for the routes from SITE (e.g. L-CFA).")
+@click.option("--weight", "weights", multiple=True, metavar="NAME=VALUE",
+              help="Override a soft-factor weight (repeatable).")
+@click.option("--limit", "limits", multiple=True, metavar="NAME=VALUE",
+              help="Override a hard limit (repeatable).")
+def plan(cases: tuple[str, ...], fmt: str, top: int | None, explain: str | None,
+         weights: tuple[str, ...], limits: tuple[str, ...]) -> None:
+    """Rank the access routes for each CASE file: site, direction, path and why.
+
+    Every usable puncture site and direction is checked against the sheath size
+    (SAR), the device profile and working length, and the disease on the way; blocked
+    routes are kept with each reason code and where. Values marked * rest on
+    reference anatomy, not a measurement.
+    """
+    from vascplan.routes.plan import plan_file
+    from vascplan.routes.settings import parse_assignments
+    from vascplan.routes.sites import load_sites, site_ids_for
+    from vascplan.routes.table import render_explain, render_plan
+
+    w = parse_assignments(weights, "--weight")
+    lim = parse_assignments(limits, "--limit")
+    if explain is not None and not site_ids_for(explain):
+        from vascplan.fileio import did_you_mean
+
+        sites = load_sites()
+        raise InputError("--explain", explain,
+                         f"unknown site{did_you_mean(explain, sites)}; e.g. L-CFA, R-RAD-DIST")
+    progress = sys.stderr.isatty() and len(cases) > 1
+    results = []
+    for i, path in enumerate(cases, start=1):
+        result = plan_file(path, weights=w, limits=lim, top=None if explain else top)
+        data = result.to_dict()
+        if explain is not None:
+            click.echo(render_explain(data, [r.to_dict() for r in result.route(explain)]), nl=False)
+        elif fmt == "jsonl":
+            click.echo(json.dumps(data, ensure_ascii=False, separators=(",", ":")))
+        elif fmt == "json":
+            results.append(data)
+        else:
+            click.echo(render_plan(data) + ("\n" if i < len(cases) else ""), nl=False)
+        if progress:
+            click.echo(f"\rplanned {i}/{len(cases)}", err=True, nl=False)
+    if progress:
+        click.echo("", err=True)
+    if fmt == "json" and explain is None:
+        out = results[0] if len(results) == 1 else results
+        click.echo(json.dumps(out, indent=2, ensure_ascii=False))

@@ -1,0 +1,151 @@
+"""The measured facts of one candidate route, computed once and shared by limits and scoring."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+from vascplan.routes.pathfind import CatheterPath, Leg
+from vascplan.routes.sites import AccessSite
+from vascplan.routes.vessels import VesselView
+
+
+@dataclass
+class Devices:
+    """The devices of the procedure, with outer diameters resolved.
+
+    Attributes
+    ----------
+    sheath_fr : float
+        Sheath label [Fr].
+    sheath_length_cm : float
+        Sheath length [cm], skin inwards.
+    sheath_od_mm : float
+        Sheath outer diameter [mm].
+    sheath_od_assumed : str or None
+        The sentence saying how the outer diameter was estimated, None when measured.
+    device_od_mm : float or None
+        Device profile [mm] (labelled by outer size), None when the case has no device.
+    working_length_cm : float or None
+        Device working length [cm].
+    """
+
+    sheath_fr: float
+    sheath_length_cm: float
+    sheath_od_mm: float
+    sheath_od_assumed: str | None
+    device_fr: float | None
+    device_od_mm: float | None
+    working_length_cm: float | None
+
+
+@dataclass
+class RouteFacts:
+    """One site, one direction, one path (or none), and what lies along it.
+
+    Attributes
+    ----------
+    site : AccessSite
+    direction : str
+    path : CatheterPath or None
+        None when the target cannot be reached from this site this way.
+    puncture_cm : float
+        Puncture point [cm from the punctured segment's origin].
+    length_cm : float or None
+        Skin entry to target point [cm]: skin depth plus the path in the vessels.
+    sheath_legs, beyond_legs : list of Leg
+        The stretch the sheath occupies, and from its tip to the target.
+    min_lumen : (mm, node) or None
+        Smallest MLD over the sheath's stretch.
+    approach : str
+        ``proximal-cap``, ``distal-cap`` or ``none``.
+    sar : float or None
+        Sheath outer diameter over ``min_lumen`` [-].
+    """
+
+    site: AccessSite
+    direction: str
+    path: CatheterPath | None
+    puncture_cm: float
+    length_cm: float | None = None
+    sheath_legs: list[Leg] = field(default_factory=list)
+    beyond_legs: list[Leg] = field(default_factory=list)
+    min_lumen: tuple[float, str] | None = None
+    approach: str = "none"
+    sar: float | None = None
+
+
+def route_facts(view: VesselView, site: AccessSite, direction: str,
+                path: CatheterPath | None, devices: Devices) -> RouteFacts:
+    """Measure a candidate route.
+
+    Parameters
+    ----------
+    view : VesselView
+    site : AccessSite
+    direction : {"retrograde", "antegrade"}
+    path : CatheterPath or None
+    devices : Devices
+
+    Returns
+    -------
+    RouteFacts
+    """
+    puncture_cm = site.puncture_cm(view.length_cm(site.segment))
+    facts = RouteFacts(site, direction, path, puncture_cm)
+    if path is None:
+        return facts
+    facts.length_cm = site.skin_depth_cm + path.vessel_cm
+    inside_cm = max(0.0, devices.sheath_length_cm - site.skin_depth_cm)
+    reach_cm = min(inside_cm, _distance_to_target_lesion(view, path))
+    facts.sheath_legs = path.portion(0.0, reach_cm)
+    facts.beyond_legs = path.portion(reach_cm, path.vessel_cm) if reach_cm < path.vessel_cm else []
+    facts.min_lumen = view.lumen_over(facts.sheath_legs)
+    if facts.min_lumen is None:
+        facts.min_lumen = (view.mld_mm(site.segment, puncture_cm, puncture_cm), site.segment)
+    if facts.min_lumen[0] > 0:  # an occlusion (MLD 0) is reported as occlusion-en-route
+        facts.sar = devices.sheath_od_mm / facts.min_lumen[0]
+    if view.target_is_occlusion:
+        last = path.legs[-1]
+        facts.approach = "proximal-cap" if last.to_cm >= last.from_cm else "distal-cap"
+    return facts
+
+
+def _distance_to_target_lesion(view: VesselView, path: CatheterPath) -> float:
+    """Distance along the path to where it enters the target lesion [cm].
+
+    The sheath stops short of the target lesion (crossing it is the procedure, done
+    with the device); without a target lesion, the target point itself.
+    """
+    lesion = view.target_lesion
+    last = path.legs[-1]
+    if lesion is None or last.node != lesion.node:
+        return path.vessel_cm
+    if last.to_cm >= last.from_cm:
+        entry = max(last.from_cm, lesion.start_cm)
+    else:
+        entry = min(last.from_cm, lesion.end_cm)
+    return max(0.0, path.vessel_cm - abs(last.to_cm - entry))
+
+
+def resolve_devices(case: Any) -> Devices:
+    """Outer diameters of the case's sheath and device (``vascplan.sizing.french``).
+
+    Sheaths are labelled by inner size, devices by outer size (ISO 11070:2014 7.2 via a
+    summary, seen; REFERENCES.md); a given ``outer_mm`` wins.
+    """
+    from vascplan.sizing.french import device_outer_mm
+
+    sheath = case.procedure.sheath
+    od = device_outer_mm(sheath.size_fr, "inner", getattr(sheath, "outer_mm", None))
+    device = case.procedure.device
+    device_od = device_outer_mm(device.profile_fr, "outer").mm if device is not None else None
+    return Devices(
+        sheath_fr=float(sheath.size_fr),
+        sheath_length_cm=float(sheath.length_cm),
+        sheath_od_mm=float(od.mm),
+        sheath_od_assumed=od.assumption if od.source != "measured" else None,
+        device_fr=float(device.profile_fr) if device is not None else None,
+        device_od_mm=device_od,
+        working_length_cm=float(device.working_length_cm) if device is not None else None,
+    )

@@ -1,0 +1,147 @@
+"""Large-bore support mode: both iliofemoral axes and both axillary routes compared.
+
+For a sheath or cannula left in place (``procedure.purpose: support``) the question is
+not only whether it gets there, but what it leaves for the limb below. For each of the
+four axes this reports the SAR on every segment the device occupies, the limiting
+segment, the lumen left and the distal-flow estimate (``vascplan.sizing.limb``), and
+whether a distal perfusion cannula would be advised (``vascplan.surveillance.risk``).
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from vascplan.routes.facts import Devices, RouteFacts
+from vascplan.routes.limits import Block
+from vascplan.routes.pathfind import EPS_CM
+from vascplan.routes.vessels import CALCIFICATION_GRADES, VesselView
+
+SUPPORT_SITES = ("R-CFA", "L-CFA", "R-AXA", "L-AXA")
+"""The four axes compared for large-bore support, all retrograde."""
+
+LEG_SEGMENTS = ("CIA", "EIA", "IIA", "CFA", "PFA", "SFA", "POP", "TPT", "ATA", "PTA", "PER",
+                "DPA", "PLA")
+"""Segment kinds of the leg, for "known peripheral arterial disease" on that side."""
+
+FEMORAL_ACCESS = ("CFA", "EIA", "SFA")
+"""Access vessels of the leg (as ``vascplan.surveillance.risk`` expects)."""
+
+
+def device_kind(view: VesselView) -> tuple[str, str]:
+    """The support device's kind for the cannula advice, and the sentence saying why.
+
+    The case file does not name the kind; a device whose tip lies in the ascending aorta
+    is taken as a microaxial pump (only a pump goes across the aortic valve; common
+    practice), anything else as a large-bore sheath.
+    """
+    if view.target_segment == "AO-ASC":
+        return "microaxial-pump", ("support device taken as a microaxial pump: its tip lies in "
+                                   "the ascending aorta (the case file does not name the kind)")
+    return "large-bore-sheath", ("support device taken as a large-bore sheath (the case file "
+                                 "does not name the kind)")
+
+
+def _pad_on_side(view: VesselView, side: str) -> bool:
+    for lesions in view.lesions.values():
+        for span in lesions:
+            kind = span.node.split("-", 1)[-1]
+            if span.node.startswith(f"{side}-") and kind in LEG_SEGMENTS:
+                return True
+    return False
+
+
+def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], devices: Devices,
+                limits: dict[str, float], kind: str) -> dict[str, Any]:
+    """One axis of the comparison (see the module notes for the keys)."""
+    from vascplan.sizing.limb import limb_flow_with_device
+    from vascplan.surveillance.risk import dpc_advice
+
+    site = facts.site
+    od = devices.sheath_od_mm
+    segments = []
+    for leg in facts.sheath_legs:
+        if leg.length_cm < EPS_CM:
+            continue
+        mld = view.mld_mm(leg.node, leg.lo_cm, leg.hi_cm)
+        step = view.calcification_step(leg.node, leg.lo_cm, leg.hi_cm)
+        calcified = step >= CALCIFICATION_GRADES.index("moderate")
+        limit = limits["sar_max_calcified"] if calcified else limits["sar_max"]
+        sar = od / mld if mld > 0 else None
+        segments.append({
+            "segment": leg.node,
+            "from_cm": round(leg.from_cm, 2),
+            "to_cm": round(leg.to_cm, 2),
+            "mld_mm": round(mld, 2),
+            "mld_source": view.node(leg.node).get("diameter_source"),
+            "calcification": CALCIFICATION_GRADES[step],
+            "sar": None if sar is None else round(sar, 2),
+            "sar_limit": limit,
+            "over_limit": sar is None or sar >= limit,
+        })
+    limiting = max(segments, key=lambda s: s["sar"] if s["sar"] is not None else float("inf"),
+                   default=None)
+    occupied_cm = sum(leg.length_cm for leg in facts.sheath_legs)
+    out: dict[str, Any] = {
+        "site": site.id,
+        "side": site.side,
+        "limb": "leg" if site.segment.endswith(("CFA", "EIA", "SFA")) else "arm",
+        "feasible": not blocks,
+        "blocked_by": [b.to_dict() for b in blocks],
+        "device_od_mm": round(od, 2),
+        "occupied_cm": round(occupied_cm, 1),
+        "segments": segments,
+        "limiting_segment": limiting["segment"] if limiting else None,
+        "max_sar": limiting["sar"] if limiting else None,
+        "lumen_left_mm2": None,
+        "lumen_left_pct": None,
+        "distal_flow_pct": None,
+        "flow_assumptions": [],
+        "dpc": None,
+    }
+    if limiting is None or facts.path is None:
+        return out
+    vessel_mm = limiting["mld_mm"]
+    if occupied_cm > EPS_CM and vessel_mm > 0:
+        est = limb_flow_with_device(vessel_mm, od, occupied_cm)
+        out["lumen_left_mm2"] = round(est.lumen_left_mm2, 1)
+        out["lumen_left_pct"] = round(est.lumen_left_pct, 1)
+        out["distal_flow_pct"] = {"concentric": round(est.distal_flow_pct_concentric, 1),
+                                  "eccentric": round(est.distal_flow_pct_eccentric, 1)}
+        out["flow_assumptions"] = list(est.assumptions)
+        if out["limb"] == "arm":
+            out["flow_assumptions"].append(
+                "the limb model's resting flow and bed are the leg's; for the arm the "
+                "percentages show the narrowing only (common practice)")
+    access = site.segment.split("-", 1)[-1]
+    vessel = access if access in FEMORAL_ACCESS else "AXA"
+    advised, basis = dpc_advice(kind, limiting["sar"], _pad_on_side(view, site.side),
+                                view.case.patient.sex, vessel_mm, False, access_vessel=vessel)
+    out["dpc"] = {"advised": advised, "basis": basis}
+    return out
+
+
+def support_block(view: VesselView, axes: list[tuple[RouteFacts, list[Block]]],
+                  devices: Devices, limits: dict[str, float]) -> dict[str, Any]:
+    """The ``support`` block of the plan: every axis, and the best feasible one.
+
+    Parameters
+    ----------
+    view : VesselView
+    axes : list of (RouteFacts, list of Block)
+        The best path of each support site, with its broken limits.
+    devices : Devices
+    limits : dict of str to float
+
+    Returns
+    -------
+    dict
+        ``{"device_kind", "device_kind_basis", "device_od_mm", "axes": [...],
+        "best_site"}``; ``best_site`` is the feasible axis with the lowest SAR.
+    """
+    kind, why = device_kind(view)
+    reports = [axis_report(view, f, b, devices, limits, kind) for f, b in axes]
+    feasible = [r for r in reports if r["feasible"] and r["max_sar"] is not None]
+    best = min(feasible, key=lambda r: r["max_sar"])["site"] if feasible else None
+    return {"device_kind": kind, "device_kind_basis": why,
+            "device_od_mm": round(devices.sheath_od_mm, 2),
+            "axes": reports, "best_site": best}

@@ -1,0 +1,172 @@
+"""The planner's limits and weights: bundled tables, case overrides, command-line overrides.
+
+Both tables live in ``data/access/`` (``limits.yaml``, ``weights.yaml``), one entry per
+name with ``value``, ``unit`` and ``basis`` (the source, or common practice / from
+memory). A case file may override any of them (``limits:``/``weights:``), and so may the
+command line (``--limit NAME=VALUE``, ``--weight NAME=VALUE``); the command line wins.
+An unknown name is refused with the nearest valid one.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass
+from functools import cache
+
+from vascplan.errors import InputError
+from vascplan.fileio import did_you_mean, read_document
+from vascplan.paths import data_dir
+
+LIMITS_FILE = "limits.yaml"
+WEIGHTS_FILE = "weights.yaml"
+
+
+@dataclass(frozen=True)
+class Setting:
+    """One named number of a table, with where it comes from.
+
+    Attributes
+    ----------
+    name : str
+        Its name in the table (``sar_max``).
+    value : float
+        The number, in ``unit``.
+    unit : str
+        Its unit, in words.
+    basis : str
+        The source, or ``common practice`` / ``from memory``; ``override`` notes are
+        appended when a case or the command line changed it.
+    """
+
+    name: str
+    value: float
+    unit: str
+    basis: str
+
+
+@cache
+def load_table(file_name: str) -> dict[str, Setting]:
+    """Read one of the bundled tables of ``data/access``.
+
+    Parameters
+    ----------
+    file_name : str
+        ``limits.yaml`` or ``weights.yaml``.
+
+    Returns
+    -------
+    dict of str to Setting
+
+    Raises
+    ------
+    InputError
+        The table is missing or an entry lacks a numeric value or a basis.
+    """
+    path = data_dir() / "access" / file_name
+    data = read_document(path)
+    if not isinstance(data, dict):
+        raise InputError(str(path), "", "expected a mapping of names to entries")
+    out: dict[str, Setting] = {}
+    for name, entry in data.items():
+        if not isinstance(entry, dict) or "value" not in entry or not entry.get("basis"):
+            raise InputError(str(path), str(name), "each entry needs a value and a basis")
+        value = entry["value"]
+        if isinstance(value, bool) or not isinstance(value, int | float):
+            raise InputError(str(path), f"{name}.value", "must be a number")
+        unit = str(entry.get("unit", ""))
+        out[str(name)] = Setting(str(name), float(value), unit, str(entry["basis"]))
+    return out
+
+
+def parse_assignments(pairs: Iterable[str], option: str) -> dict[str, float]:
+    """Parse ``NAME=VALUE`` strings from the command line.
+
+    Parameters
+    ----------
+    pairs : iterable of str
+        Each ``NAME=VALUE``.
+    option : str
+        The option's name for the error line (``--weight``).
+
+    Raises
+    ------
+    InputError
+        A pair without ``=`` or a value that is not a finite number.
+
+    Examples
+    --------
+    >>> parse_assignments(["crossover=2.5"], "--weight")
+    {'crossover': 2.5}
+    """
+    out: dict[str, float] = {}
+    for pair in pairs:
+        name, sep, raw = pair.partition("=")
+        name = name.strip()
+        if not sep or not name:
+            raise InputError(option, pair, "expected NAME=VALUE, for example crossover=2.5")
+        try:
+            value = float(raw)
+        except ValueError:
+            raise InputError(option, name, f"value must be a number (got {raw!r})") from None
+        if not math.isfinite(value):
+            raise InputError(option, name, f"value must be a finite number (got {raw!r})")
+        out[name] = value
+    return out
+
+
+def resolve(
+    table: Mapping[str, Setting],
+    layers: Iterable[tuple[str, str, Mapping[str, float] | None]],
+) -> dict[str, Setting]:
+    """Apply override layers, in order, to a table.
+
+    Parameters
+    ----------
+    table : mapping of str to Setting
+        The bundled defaults.
+    layers : iterable of (source, field, overrides)
+        ``source`` names the file or option for an error line, ``field`` the field
+        inside it (``weights``); ``overrides`` maps names to values or is None.
+
+    Returns
+    -------
+    dict of str to Setting
+        A new table; overridden entries say so in their basis.
+
+    Raises
+    ------
+    InputError
+        An unknown name (with did-you-mean) or a negative value.
+
+    Examples
+    --------
+    >>> t = {"a": Setting("a", 1.0, "points", "common practice")}
+    >>> resolve(t, [("case.yaml", "weights", {"a": 2})])["a"].value
+    2.0
+    """
+    out = dict(table)
+    for source, field, overrides in layers:
+        if not overrides:
+            continue
+        for name, value in overrides.items():
+            where = f"{field}.{name}" if field else name
+            if name not in table:
+                raise InputError(
+                    source,
+                    where,
+                    f"unknown name{did_you_mean(name, table)}; allowed: {', '.join(sorted(table))}",
+                )
+            value = float(value)
+            if not math.isfinite(value) or value < 0:
+                raise InputError(source, where, f"must be a number at least 0 (got {value!r})")
+            old = out[name]
+            default = table[name]
+            basis = f"set to {value:g} by {source} (default {default.value:g}: {default.basis})"
+            out[name] = Setting(name, value, old.unit, basis)
+    return out
+
+
+def values(table: Mapping[str, Setting]) -> dict[str, float]:
+    """The bare numbers of a table, by name."""
+    return {name: s.value for name, s in table.items()}

@@ -1,0 +1,190 @@
+"""The planner's output for people: the ranked table and the explanation of one site.
+
+Renderers only: they read :meth:`PlanResult.to_dict` output and compute nothing.
+``*`` marks a value that rests on a reference value rather than a measurement.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from vascplan.routes.limits import REASON_CODES
+from vascplan.safety import CAUTION, REFERENCE_MARK
+
+
+def _num(value: float | None, fmt: str, assumed: bool, unit: str = "") -> str:
+    if value is None:
+        return "-"
+    return f"{value:{fmt}}{unit}{REFERENCE_MARK if assumed else ''}"
+
+
+def _target_line(plan: dict[str, Any]) -> str:
+    t = plan["target"]
+    line = f"target {t['segment']} at {t['at_cm']:g} cm"
+    lesion = t.get("lesion")
+    if lesion:
+        end = lesion["start_cm"] + lesion["length_cm"]
+        article = "an" if lesion["kind"] == "occlusion" else "a"
+        line += f", in {article} {lesion['kind']} at {lesion['start_cm']:g}-{end:g} cm"
+        if lesion["kind"] == "occlusion":
+            line += (f" (proximal cap {lesion['proximal_cap'] or 'not stated'}, "
+                     f"distal cap {lesion['distal_cap'] or 'not stated'})")
+    return line
+
+
+def route_row(route: dict[str, Any]) -> list[str]:
+    """The cells of one route's table row."""
+    assumed = set(route["assumed"])
+    verdict = "ok" if route["feasible"] else "BLOCKED"
+    if route["blocked_by"]:
+        b = route["blocked_by"][0]
+        more = f" (+{len(route['blocked_by']) - 1} more)" if len(route["blocked_by"]) > 1 else ""
+        reason = f"{b['code']} at {b['segment']}{more}"
+    elif route["factors"]:
+        top = max(route["factors"], key=lambda f: f["points"])
+        reason = f"{top['name']} +{top['points']:.1f}"
+    else:
+        reason = "nothing against it"
+    return [
+        str(route["rank"]),
+        route["site"],
+        route["direction"],
+        _num(route["length_cm"], ".1f", "length_cm" in assumed, " cm"),
+        _num(route["sar"], ".2f", "sar" in assumed),
+        verdict,
+        f"{route['score']:.1f}",
+        reason,
+    ]
+
+
+HEADERS = ["rank", "site", "direction", "length", "SAR", "verdict", "score", "main reason"]
+
+
+def render_plan(plan: dict[str, Any]) -> str:
+    """The ranked table of one plan, with pairs, support block, assumptions and caution."""
+    lines = [f"{plan['case']}  {plan['purpose']}: {_target_line(plan)}"]
+    if plan.get("source"):
+        lines.append(f"case file: {plan['source']}")
+    lines.append(f"score: {plan['score_convention']}")
+    rows = [route_row(r) for r in plan["routes"]]
+    widths = [max(len(h), *(len(row[i]) for row in rows)) if rows else len(h)
+              for i, h in enumerate(HEADERS)]
+    lines.append("")
+    lines.append("  ".join(h.ljust(w) for h, w in zip(HEADERS, widths, strict=True)).rstrip())
+    for route, row in zip(plan["routes"], rows, strict=True):
+        lines.append("  ".join(c.ljust(w) for c, w in zip(row, widths, strict=True)).rstrip())
+        lines.append(f"{'':{widths[0]}}  path: {route['path_words']}")
+    shown, total = len(plan["routes"]), plan.get("routes_total", len(plan["routes"]))
+    if shown < total:
+        lines.append(f"({total - shown} more routes not shown; raise --top)")
+    if plan["pairs"]:
+        lines.append("")
+        lines.append("Pairs for the occlusion (one route to each cap, used together):")
+        for p in plan["pairs"]:
+            a, b = p["proximal"], p["distal"]
+            note = f"  [{'; '.join(p['notes'])}]" if p["notes"] else ""
+            lines.append(f"  {p['rank']}. {a['site']} {a['direction']} to the proximal cap + "
+                         f"{b['site']} {b['direction']} to the distal cap, score "
+                         f"{p['score']:.1f}{note}")
+    if plan.get("support"):
+        lines.extend(render_support(plan["support"]))
+    lines.append("")
+    lines.append(f"{REFERENCE_MARK} rests on a reference value, not a measurement. Assumptions:")
+    lines.extend(f"  - {a}" for a in summarise_assumptions(plan["assumptions"]))
+    lines.append("")
+    lines.append(f"Caution: {plan['caution']}")
+    return "\n".join(lines) + "\n"
+
+
+def summarise_assumptions(assumptions: list[str]) -> list[str]:
+    """Fold the per-segment "reference value" sentences into two lines (full text in JSON)."""
+    diameters: list[str] = []
+    lengths: list[str] = []
+    rest: list[str] = []
+    for line in assumptions:
+        head, _, tail = line.partition(" ")
+        if tail.startswith("diameter is a reference value"):
+            diameters.append(head)
+        elif tail.startswith("length is a reference estimate") and not head.startswith("GRAFT:"):
+            lengths.append(head)
+        else:
+            rest.append(line)
+    out = []
+    if diameters:
+        out.append("reference diameters (sex means; see --format json for each source): "
+                   + ", ".join(diameters))
+    if lengths:
+        out.append("reference lengths (scaled from height by Drillis & Contini fractions, "
+                   "Winter 2009, or published lengths): " + ", ".join(lengths))
+    return out + rest
+
+
+def _segment_sar(seg: dict[str, Any]) -> str:
+    mark = REFERENCE_MARK if seg["mld_source"] != "measured" else ""
+    over = f" (over {seg['sar_limit']:.2f})" if seg["over_limit"] else ""
+    return f"{seg['segment']} {seg['sar']:.2f}{mark}{over}"
+
+
+def render_support(support: dict[str, Any]) -> list[str]:
+    """Lines of the large-bore support comparison."""
+    lines = ["", f"Large-bore support ({support['device_kind']}, outer "
+             f"{support['device_od_mm']:.2f} mm): {support['device_kind_basis']}"]
+    for axis in support["axes"]:
+        verdict = "ok" if axis["feasible"] else "BLOCKED " + ", ".join(
+            b["code"] for b in axis["blocked_by"])
+        segs = ", ".join(_segment_sar(s) for s in axis["segments"] if s["sar"] is not None)
+        lines.append(f"  {axis['site']}: {verdict}; SAR by segment: {segs or '-'}; "
+                     f"limiting {axis['limiting_segment'] or '-'}")
+        if axis["distal_flow_pct"] is not None:
+            flow = axis["distal_flow_pct"]
+            lines.append(f"      lumen left {axis['lumen_left_pct']:.0f}%, distal {axis['limb']} "
+                         f"flow {flow['concentric']:.0f}-{flow['eccentric']:.0f}% of baseline "
+                         "(estimate)")
+        if axis["dpc"] is not None:
+            advised = "advised" if axis["dpc"]["advised"] else "not advised"
+            basis = "; ".join(axis["dpc"]["basis"])
+            lines.append(f"      distal perfusion cannula {advised}: {basis}")
+    if support.get("best_site"):
+        lines.append(f"  lowest SAR among feasible axes: {support['best_site']}")
+    return lines
+
+
+def render_explain(plan: dict[str, Any], routes: list[dict[str, Any]]) -> str:
+    """Every factor and every hard limit for the given routes of a plan."""
+    lines = [f"{plan['case']}: {_target_line(plan)}"]
+    limits = plan["limits"]
+    for route in routes:
+        assumed = set(route["assumed"])
+        lines.append("")
+        lines.append(f"rank {route['rank']}: {route['site']} ({route['site_name']}) "
+                     f"{route['direction']}, {'feasible' if route['feasible'] else 'BLOCKED'}, "
+                     f"score {route['score']:.2f} (lower is better)")
+        lines.append(f"  path: {route['path_words']}  [{' > '.join(route['path'])}]")
+        lines.append(
+            f"  length {_num(route['length_cm'], '.1f', 'length_cm' in assumed, ' cm')}; "
+            f"sheath outer {_num(route['sheath_od_mm'], '.2f', 'sheath_od_mm' in assumed, ' mm')}; "
+            f"min lumen {_num(route['min_lumen_mm'], '.2f', 'min_lumen_mm' in assumed, ' mm')}"
+            f" at {route['limiting_segment'] or '-'}; "
+            f"SAR {_num(route['sar'], '.2f', 'sar' in assumed)}"
+            f" (limit {_num(route['sar_limit'], '.2f', False)}); approach {route['approach']}; "
+            f"position {route['position']}")
+        lines.append("  hard limits:")
+        broken = {}
+        for b in route["blocked_by"]:
+            broken.setdefault(b["code"], []).append(b)
+        for code, meaning in REASON_CODES.items():
+            if code in broken:
+                for b in broken[code]:
+                    lines.append(f"    BROKEN {code} at {b['segment']}: {b['detail']}")
+            else:
+                lines.append(f"    ok     {code} (broken when: {meaning})")
+        lines.append("  soft factors (points):")
+        if not route["factors"]:
+            lines.append("    none")
+        for f in route["factors"]:
+            lines.append(f"    {f['points']:5.2f}  {f['name']}: {f['detail']}")
+    lines.append("")
+    lines.append("limits used: " + ", ".join(f"{k}={v:g}" for k, v in limits.items()))
+    lines.append("")
+    lines.append(f"Caution: {CAUTION}")
+    return "\n".join(lines) + "\n"
