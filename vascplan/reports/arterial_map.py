@@ -163,10 +163,8 @@ class _Canvas:
         # Bulge downwards for a crossover, towards the midline (where the map has room)
         # for a same-side bypass.
         crossover = abs(q[0] - p[0]) > abs(q[1] - p[1])
-        if crossover:
-            sign = -1.0 if ny > 0 else 1.0
-        else:
-            sign = 1.0 if nx * (centre - mx) >= 0 else -1.0
+        away = ny if crossover else -nx * (centre - mx)
+        sign = -1.0 if away > 0 else 1.0
         bulge = max((0.3 if crossover else 0.6) * length, 10.0)
         cx, cy = mx + sign * nx * bulge, my + sign * ny * bulge
         pts = []

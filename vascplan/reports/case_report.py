@@ -176,64 +176,31 @@ def _map_block(tree: Any, plan: Mapping[str, Any] | None, width: float, height: 
     return t
 
 
-def _reasons(r: Mapping[str, Any]) -> str:
-    parts = []
-    for b in r.get("blocked_by", ()):
-        parts.append(f"BLOCKED {b.get('code')} at {b.get('segment')}: {b.get('detail')}")
-    for f in r.get("factors", ()):
-        parts.append(f"{f.get('name')} +{f.get('points', 0):.1f}: {f.get('detail')}")
-    return "\n".join(parts) or "nothing against it"
+DETAILED_FEASIBLE = 2
+"""How many usable routes (best first) get every factor with its detail in the table;
+the others show each factor's name and points only, to keep the table readable."""
 
 
-def route_table(plan: Mapping[str, Any], width: float) -> Table:
-    """Every ranked route with its verdict and reasons."""
-    st = styles()
-    cell, bold, small = st["cell"], st["cell-bold"], st["small"]
-    head = [
-        "#",
-        "Route",
-        "Verdict",
-        "Length (cm)",
-        "Sheath OD / min lumen (mm) / SAR",
-        "Score",
-        "Reasons",
-    ]
-    rows: list[list[Any]] = [[para(h, st["head"]) for h in head]]
-    for r in plan.get("routes", ()):
-        assumed = set(r.get("assumed", ()))
-        mark = REFERENCE_MARK if ({"min_lumen_mm", "sar"} & assumed) else ""
-        sizes = (
-            f"{_num(r.get('sheath_od_mm'))} / {_num(r.get('min_lumen_mm'))}{mark} / "
-            f"{_num(r.get('sar'))}{mark}"
-        )
-        name = f"{r.get('site_name') or r.get('site')} ({r.get('site')}), {r.get('direction')}"
-        path = r.get("path_words") or " > ".join(r.get("path", []))
-        reasons = [para(line, small) for line in _reasons(r).split("\n")]
-        rows.append(
-            [
-                para(r.get("rank"), bold),
-                [para(name, cell), para(path, small)],
-                para(verdict(r), bold),
-                para(_num(r.get("length_cm"), "{:.0f}"), cell),
-                para(sizes, cell),
-                para(_num(r.get("score"), "{:.1f}"), cell),
-                reasons,
-            ]
-        )
-    t = Table(
-        rows,
-        colWidths=[
-            0.035 * width,
-            0.22 * width,
-            0.10 * width,
-            0.075 * width,
-            0.15 * width,
-            0.07 * width,
-            0.35 * width,
-        ],
-        repeatRows=1,
-    )
-    style = [
+def route_reasons(r: Mapping[str, Any], detailed: bool) -> list[str]:
+    """The reason lines of one route: every broken limit, else its factors.
+
+    >>> route_reasons({"blocked_by": [{"code": "sar", "segment": "R-EIA", "detail": "too small"}]},
+    ...               detailed=False)
+    ['BLOCKED sar at R-EIA: too small']
+    """
+    blocks = r.get("blocked_by") or ()
+    if blocks:
+        return [f"BLOCKED {b.get('code')} at {b.get('segment')}: {b.get('detail')}" for b in blocks]
+    factors = sorted(r.get("factors") or (), key=lambda f: -float(f.get("points", 0)))
+    if not factors:
+        return ["nothing against it"]
+    if detailed:
+        return [f"{f.get('name')} +{f.get('points', 0):.1f}: {f.get('detail')}" for f in factors]
+    return ["; ".join(f"{f.get('name')} +{f.get('points', 0):.1f}" for f in factors)]
+
+
+def _grid_style() -> list[tuple]:
+    return [
         ("GRID", (0, 0), (-1, -1), 0.4, colors.grey),
         ("BACKGROUND", (0, 0), (-1, 0), GREY),
         ("LINEBELOW", (0, 0), (-1, 0), 1.0, colors.black),
@@ -241,10 +208,71 @@ def route_table(plan: Mapping[str, Any], width: float) -> Table:
         ("TOPPADDING", (0, 0), (-1, -1), 2),
         ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
     ]
-    for i, r in enumerate(plan.get("routes", ()), start=1):
-        if not r.get("feasible"):  # blocked rows hatched grey: readable without colour
-            style.append(("BACKGROUND", (0, i), (-1, i), colors.Color(0.88, 0.88, 0.88)))
-    t.setStyle(TableStyle(style))
+
+
+def _route_name(r: Mapping[str, Any]) -> str:
+    return f"{r.get('site_name') or r.get('site')} ({r.get('site')}), {r.get('direction')}"
+
+
+def route_table(plan: Mapping[str, Any], width: float) -> Table | None:
+    """The usable routes, best first, with their sizes, score and reasons."""
+    st = styles()
+    cell, bold, small = st["cell"], st["cell-bold"], st["small"]
+    head = ["#", "Route", "Verdict", "cm", "Sheath OD / min lumen (mm) / SAR", "Score", "Reasons"]
+    rows: list[list[Any]] = [[para(h, st["head"]) for h in head]]
+    usable = [r for r in plan.get("routes", ()) if r.get("feasible")]
+    if not usable:
+        return None
+    for n, r in enumerate(usable):
+        detailed = n < DETAILED_FEASIBLE
+        assumed = set(r.get("assumed", ()))
+        mark = REFERENCE_MARK if ({"min_lumen_mm", "sar"} & assumed) else ""
+        sizes = (
+            f"{_num(r.get('sheath_od_mm'))} / {_num(r.get('min_lumen_mm'))}{mark} / "
+            f"{_num(r.get('sar'))}{mark}"
+        )
+        path = r.get("path_words") or " > ".join(r.get("path", []))
+        reasons = [
+            para(line, small if detailed else st["tiny"]) for line in route_reasons(r, detailed)
+        ]
+        rows.append(
+            [
+                para(r.get("rank"), bold),
+                [para(_route_name(r), cell), para(path, st["tiny"])],
+                para(verdict(r), bold),
+                para(_num(r.get("length_cm"), "{:.0f}"), cell),
+                para(sizes, cell),
+                para(_num(r.get("score"), "{:.1f}"), cell),
+                reasons,
+            ]
+        )
+    fractions = (0.045, 0.22, 0.10, 0.06, 0.15, 0.075, 0.35)
+    t = Table(rows, colWidths=[f * width for f in fractions], repeatRows=1)
+    t.setStyle(TableStyle(_grid_style()))
+    return t
+
+
+def blocked_table(plan: Mapping[str, Any], width: float) -> Table | None:
+    """The routes ruled out, each with every hard limit it breaks."""
+    st = styles()
+    blocked = [r for r in plan.get("routes", ()) if not r.get("feasible")]
+    if not blocked:
+        return None
+    rows: list[list[Any]] = [[para(h, st["head"]) for h in ("#", "Route", "Verdict", "Why")]]
+    for r in blocked:
+        rows.append(
+            [
+                para(r.get("rank"), st["cell-bold"]),
+                para(_route_name(r), st["small"]),
+                para(verdict(r), st["cell-bold"]),
+                [para(line, st["tiny"]) for line in route_reasons(r, False)],
+            ]
+        )
+    t = Table(rows, colWidths=[f * width for f in (0.045, 0.27, 0.11, 0.575)], repeatRows=1)
+    # Ruled-out rows shaded grey: readable without colour.
+    t.setStyle(
+        TableStyle([*_grid_style(), ("BACKGROUND", (0, 1), (-1, -1), colors.Color(0.9, 0.9, 0.9))])
+    )
     return t
 
 
@@ -314,13 +342,7 @@ def support_tables(support: Mapping[str, Any], width: float) -> list[Any]:
             if ax.get("lumen_left_pct") is None
             else (f"{ax['lumen_left_pct']:.0f} % ({_num(ax.get('lumen_left_mm2'), '{:.1f}')} mm2)")
         )
-        dpc = ax.get("dpc") or {}
-        dpc_text = (
-            ("advised" if dpc.get("advised") else "not advised")
-            + (f": {dpc.get('basis')}" if dpc.get("basis") else "")
-            if dpc
-            else "-"
-        )
+        dpc_text = _dpc_text(ax.get("dpc"))
         blocked = "; ".join(
             f"{b.get('code')} at {b.get('segment')}" for b in ax.get("blocked_by", ())
         )
@@ -358,19 +380,30 @@ def support_tables(support: Mapping[str, Any], width: float) -> list[Any]:
         )
     )
     out.append(t)
-    out += [Spacer(1, 3), para("SAR on every segment the device occupies", st["cell-bold"])]
     d = Table(detail_rows, colWidths=[0.13 * width, 0.87 * width])
     d.setStyle(
         TableStyle(
             [("GRID", (0, 0), (-1, -1), 0.3, colors.grey), ("VALIGN", (0, 0), (-1, -1), "TOP")]
         )
     )
-    out.append(d)
+    heading = para("SAR on every segment the device occupies", st["cell-bold"])
+    out += [Spacer(1, 3), KeepTogether([heading, d])]
     flows = sorted({a for ax in support.get("axes", ()) for a in ax.get("flow_assumptions", ())})
     if flows:
         out.append(para("Flow estimate assumptions", st["cell-bold"]))
         out += [para(f"- {a}", small) for a in flows]
     return out
+
+
+def _dpc_text(dpc: Mapping[str, Any] | None) -> str:
+    """``advised: basis`` / ``not advised: basis`` for a distal perfusion cannula."""
+    if not dpc:
+        return "-"
+    basis = dpc.get("basis")
+    if isinstance(basis, list | tuple):
+        basis = "; ".join(str(b) for b in basis)
+    head = "advised" if dpc.get("advised") else "not advised"
+    return f"{head}: {basis}" if basis else head
 
 
 def _segment_sar(s: Mapping[str, Any]) -> str:
@@ -415,7 +448,11 @@ def case_report_story(
         if plan.get("score_convention"):
             story.append(para(plan["score_convention"], st["small"]))
         story.append(Spacer(1, 2))
-        story.append(route_table(plan, width))
+        usable = route_table(plan, width)
+        story.append(usable if usable is not None else para("No usable route.", st["alarm"]))
+        ruled_out = blocked_table(plan, width)
+        if ruled_out is not None:
+            story += [para("Routes ruled out", st["h2"]), ruled_out]
         story += _pairs(plan, width)
         if plan.get("support"):
             story += support_tables(plan["support"], width)
