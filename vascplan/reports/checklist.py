@@ -19,9 +19,9 @@ from datetime import date, datetime
 from typing import Any
 
 from reportlab.lib import colors
-from reportlab.platypus import Flowable, KeepTogether, PageBreak, Spacer, Table, TableStyle
+from reportlab.platypus import Flowable, PageBreak, Spacer, Table, TableStyle
 
-from vascplan.reports.page import PageSetup, build_pdf, fonts, frame_box, styles
+from vascplan.reports.page import PageLabel, PageSetup, build_pdf, fonts, frame_box, styles
 from vascplan.reports.text import clean, para, rich_para
 
 DEVICE_NAMES = {
@@ -99,7 +99,7 @@ def baseline_rows(baseline: Any) -> tuple[tuple[str, str], ...]:
         out.append(("Doppler", ", ".join(f"{k} {v}" for k, v in sorted(baseline.doppler.items()))))
     if baseline.pulses:
         out.append(("Pulses", ", ".join(f"{k} {v}" for k, v in sorted(baseline.pulses.items()))))
-    return tuple(out) or (("Baseline", "none recorded in the unit file: record one now"),)
+    return tuple(out) or (("None recorded", "the unit file holds no baseline: record one now"),)
 
 
 def checklist_sheets(
@@ -265,7 +265,7 @@ def _header_table(sheet: ChecklistSheet, width: float) -> Table:
             "",
         ],
     ]
-    t = Table(rows, colWidths=[0.16 * width, 0.36 * width, 0.12 * width, 0.36 * width])
+    t = Table(rows, colWidths=[0.2 * width, 0.33 * width, 0.11 * width, 0.36 * width])
     t.setStyle(
         TableStyle(
             [
@@ -288,7 +288,7 @@ def _baseline_table(sheet: ChecklistSheet, width: float) -> Table:
         [para("Baseline", st["cell-bold"]), para("compare every check with these", st["small"])]
     ]
     rows += [[para(k, st["cell-bold"]), para(v, st["cell"])] for k, v in sheet.baseline]
-    t = Table(rows, colWidths=[0.16 * width, 0.84 * width])
+    t = Table(rows, colWidths=[0.2 * width, 0.8 * width])
     t.setStyle(
         TableStyle(
             [
@@ -314,7 +314,7 @@ def due_text(row: CheckRow, sheet: ChecklistSheet) -> str:
     return text
 
 
-ROW_HEIGHT_PT = 17.0
+ROW_HEIGHT_PT = 16.0
 """Height [pt] of a grid row: room for a handwritten value (common practice for forms)."""
 
 
@@ -386,7 +386,7 @@ def _item_key(sheet: ChecklistSheet, width: float) -> Table:
         row: list[Any] = []
         for j in (k, k + half):
             if j < len(entries):
-                row += [para(entries[j][0], st["cell-bold"]), para(entries[j][1], st["small"])]
+                row += [para(entries[j][0], st["cell-bold"]), para(entries[j][1], st["tiny"])]
             else:
                 row += ["", ""]
         rows.append(row)
@@ -418,12 +418,12 @@ def escalation_box(escalation: Sequence[tuple[str, str, int]], width: float) -> 
     for finding, call, within in escalation:
         rows.append(
             [
-                para(finding, st["cell"]),
-                para(call, st["cell"]),
-                rich_para("<b>{m} min</b>", st["cell"], m=within),
+                para(finding, st["small"]),
+                para(call, st["small"]),
+                rich_para("<b>{m} min</b>", st["small"], m=within),
             ]
         )
-    t = Table(rows, colWidths=[0.56 * width, 0.32 * width, 0.12 * width])
+    t = Table(rows, colWidths=[0.58 * width, 0.33 * width, 0.09 * width])
     t.setStyle(
         TableStyle(
             [
@@ -442,21 +442,14 @@ def escalation_box(escalation: Sequence[tuple[str, str, int]], width: float) -> 
 
 
 def _signatures(width: float) -> Table:
+    """One row of boxes: initials and full name of each nurse who signs the sheet."""
     st = styles()
-    t = Table(
-        [
-            [
-                para("Initials and full name of each nurse who signs this sheet", st["small"]),
-                "",
-                "",
-            ],
-            ["", "", ""],
-        ],
-        colWidths=[width / 3] * 3,
-        rowHeights=[12, 20],
-    )
+    label = para("Initials and full name of each nurse who signs this sheet", st["small"])
+    t = Table([[label, "", "", ""]], colWidths=[0.22 * width] + [0.26 * width] * 3, rowHeights=[22])
     t.setStyle(
-        TableStyle([("SPAN", (0, 0), (-1, 0)), ("GRID", (0, 1), (-1, 1), 0.5, colors.black)])
+        TableStyle(
+            [("GRID", (1, 0), (-1, 0), 0.5, colors.black), ("VALIGN", (0, 0), (-1, -1), "MIDDLE")]
+        )
     )
     return t
 
@@ -465,6 +458,7 @@ def sheet_story(sheet: ChecklistSheet, width: float) -> list[Any]:
     """The flowables of one patient's sheet."""
     st = styles()
     story: list[Any] = [
+        PageLabel(f"bed {sheet.bed}, {sheet.ref}"),
         rich_para(
             "Limb-perfusion checklist: bed {bed}, {ref}", st["title"], bed=sheet.bed, ref=sheet.ref
         ),
@@ -482,7 +476,7 @@ def sheet_story(sheet: ChecklistSheet, width: float) -> list[Any]:
         Spacer(1, 3),
         _item_key(sheet, width),
         Spacer(1, 4),
-        KeepTogether([_signatures(width)]),
+        _signatures(width),
     ]
     return story
 

@@ -27,7 +27,7 @@ from reportlab.lib.units import mm
 from reportlab.pdfbase import pdfmetrics
 from reportlab.pdfbase.ttfonts import TTFont
 from reportlab.pdfgen import canvas as rl_canvas
-from reportlab.platypus import BaseDocTemplate, Frame, PageTemplate
+from reportlab.platypus import BaseDocTemplate, Flowable, Frame, PageTemplate
 
 from vascplan.errors import InputError
 from vascplan.fileio import atomic_write_bytes
@@ -180,7 +180,9 @@ def _numbered_canvas(setup: PageSetup) -> type:
             self.setFillGray(0)
             self.setFont(f.bold, 8)
             top = height - MARGIN_PT + 4
-            self.drawString(left, top, _fit(title, f.bold, 8, right - left - 90))
+            label = getattr(self, "_vp_page_label", "")
+            line = f"{title} - {label}" if label else title
+            self.drawString(left, top, _fit(line, f.bold, 8, right - left - 90))
             self.setFont(f.regular, 8)
             self.drawRightString(right, top, f"page {self._pageNumber} of {total}")
             self.setLineWidth(0.5)
@@ -202,6 +204,21 @@ def _numbered_canvas(setup: PageSetup) -> type:
             self.restoreState()
 
     return NumberedCanvas
+
+
+class PageLabel(Flowable):
+    """Invisible marker: from the page it lands on, the head of every page names ``text``
+    (for example the patient a checklist sheet is about), until the next marker."""
+
+    def __init__(self, text: str) -> None:
+        super().__init__()
+        self.text = clean(text)
+
+    def wrap(self, avail_width: float, avail_height: float) -> tuple[float, float]:
+        return 0.0, 0.0
+
+    def draw(self) -> None:
+        self.canv._vp_page_label = self.text
 
 
 def _fit(text: str, font: str, size: float, width: float) -> str:
