@@ -123,7 +123,9 @@ def test_demo_unit_matches_its_schedule():
     unit, protocol = load_unit_and_protocol(DEMO_UNIT)
     day = date(2026, 12, 2)
     sheets = checklist_sheets(unit, "day", day, protocol)
-    start, end = shift_window(unit, unit.shift_named("day"), datetime.combine(day, unit.shifts[0].start))
+    start, end = shift_window(
+        unit, unit.shift_named("day"), datetime.combine(day, unit.shifts[0].start)
+    )
     for sheet, patient in zip(sheets, sorted(unit.patients, key=lambda p: p.bed), strict=True):
         due = [c.due for c in patient_schedule(unit, patient, protocol, start, end)]
         assert [r.due for r in sheet.rows] == due  # no check lost or doubled
@@ -153,5 +155,8 @@ def test_generation_time_defaults_to_the_unit_zone(unit_and_protocol):
     sheets = checklist_sheets(unit, "day", date(2026, 10, 21), protocol, beds=[7])
     text = pdf_text(render_checklist(sheets))
     now = datetime.now(unit.unit.tz)
-    assert f"Generated {now:%Y-%m-%d}" in text or f"Generated {now - timedelta(minutes=1):%Y-%m-%d}" in text
+    assert (
+        f"Generated {now:%Y-%m-%d}" in text
+        or f"Generated {now - timedelta(minutes=1):%Y-%m-%d}" in text
+    )
     assert f"{now.tzname()} (UTC" in text
