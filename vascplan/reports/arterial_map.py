@@ -237,7 +237,8 @@ def draw_map(data: MapData, width_pt: float, height_pt: float) -> Drawing:
     if data.chosen is not None:
         _route(d, cv, data.chosen, side=1.0, colour=CHOSEN, width=2.0, dash=None, font=f.bold)
     if data.target is not None and data.target[0] in cv.lines:
-        side = -1.0 if cv.places[data.target[0]].label_dx < 0 else 1.0
+        # The target's label goes across the vessel from the segment's and lesions' labels.
+        side = 1.0 if cv.places[data.target[0]].label_dx < 0 else -1.0
         _target(d, cv.lines[data.target[0]].point_at(data.target[1]), f.bold, side)
     for x, y, text, anchor, font in cv.labels:
         _halo_label(d, x, y, text, anchor, font)
@@ -256,7 +257,7 @@ def draw_map(data: MapData, width_pt: float, height_pt: float) -> Drawing:
     d.add(
         String(
             width_pt / 2,
-            2,
+            height_pt - 10,
             "frontal schematic, lengths not to scale",
             fontName=f.regular,
             fontSize=6,
