@@ -136,3 +136,17 @@ def test_map_page_image(report_07, tmp_path):
     png = render_png(pdf, tmp_path / "report-map", dpi=100)
     assert png.stat().st_size > 50_000
     print(f"case report map image: {png}")
+
+
+def test_case_without_procedure(tmp_path):
+    from vascplan.reports.service import case_report_pdf
+
+    doc = yaml.safe_load(CASE_07.read_text())
+    del doc["procedure"]
+    path = tmp_path / "case.yaml"
+    path.write_text(yaml.safe_dump(doc))
+    case, data = case_report_pdf(path, generated_at=AT)
+    text = pdf_text(data)
+    assert "No procedure in the case file: no routes were planned." in text
+    assert "none given in the case file" in text
+    assert "Legend" in text

@@ -15,10 +15,14 @@ layout
     The map's anatomical layout table (``data/reports/map_layout.csv``) and geometry.
 arterial_map
     The drawn arterial tree (reportlab graphics) and its legend.
+map_input
+    The map's input built from the arterial tree and the route planner's result.
 case_report
     The case-conference report.
 checklist
     The nursing checklist, one patient per page.
+service
+    What the commands call: load, plan, render, write atomically.
 demo
     The demo's PDFs.
 """
