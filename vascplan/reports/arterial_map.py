@@ -39,8 +39,8 @@ MIN_WIDTH_PT = 0.6
 
 WALL = Color(0.42, 0.13, 0.13)
 LUMEN = Color(0.97, 0.83, 0.80)
-CHOSEN = Color(0.05, 0.18, 0.50)
-RUNNER_UP = Color(0.80, 0.42, 0.0)
+CHOSEN = Color(0.02, 0.10, 0.40)
+RUNNER_UP = Color(0.72, 0.36, 0.0)
 INK = black
 LABEL_PT = 5.8
 
