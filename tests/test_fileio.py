@@ -19,7 +19,7 @@ def _err(tmp_path, name: str, content: bytes) -> str:
 
 
 def test_yaml_syntax_error_names_line(tmp_path):
-    assert _err(tmp_path, "c.yaml", b"a: 1\nb: [1, 2\n") .startswith("c.yaml: line ")
+    assert _err(tmp_path, "c.yaml", b"a: 1\nb: [1, 2\n").startswith("c.yaml: line ")
 
 
 def test_duplicate_key(tmp_path):

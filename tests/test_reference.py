@@ -145,3 +145,22 @@ def test_suggestions():
     assert suggest_segment("r-cfa") == " (did you mean 'R-CFA'?)"
     assert suggest_segment("POP") == " (did you mean 'L-POP' or 'R-POP'?)"
     assert suggest_segment("zzzzzz") == ""
+
+
+def test_malformed_table_names_line_and_column(tmp_path):
+    import shutil
+
+    from vascplan.errors import InputError
+    from vascplan.paths import data_dir
+
+    folder = tmp_path / "data"
+    shutil.copytree(data_dir() / "anatomy", folder / "anatomy")
+    table = folder / "anatomy" / "segments.csv"
+    lines = table.read_text().splitlines()
+    lines[3] = lines[3].replace(
+        "AO-DESC,descending thoracic aorta,AO-ARCH,", "AO-DESC,descending thoracic aorta,AO-ARC,"
+    )
+    table.write_text("\n".join(lines) + "\n")
+    with pytest.raises(InputError) as exc:
+        load_reference(str(folder))
+    assert str(exc.value) == f"{table}: line 4.parent: parent 'AO-ARC' must be an earlier row's id"

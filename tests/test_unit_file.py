@@ -60,7 +60,9 @@ def test_offset_given_resolves_ambiguity(tmp_path):
 
 def test_unknown_timezone(tmp_path):
     msg = _message(_variant(tmp_path, "Europe/London", "Europe/Londn"))
-    assert msg.startswith("unit.yaml: unit.timezone: unknown time zone 'Europe/Londn' (did you mean 'Europe/London'?)")
+    assert msg.startswith(
+        "unit.yaml: unit.timezone: unknown time zone 'Europe/Londn' (did you mean 'Europe/London'?)"
+    )
 
 
 def test_unknown_field(tmp_path):
@@ -71,7 +73,8 @@ def test_unknown_field(tmp_path):
 def test_unknown_shift_in_staff(tmp_path):
     msg = _message(_variant(tmp_path, "shifts: [day]", "shifts: [dya]"))
     assert msg == (
-        "unit.yaml: staff.0.shifts.0: unknown shift 'dya' (did you mean 'day'?); shifts are day, night"
+        "unit.yaml: staff.0.shifts.0: unknown shift 'dya' (did you mean 'day'?); "
+        "shifts are day, night"
     )
 
 

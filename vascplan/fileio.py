@@ -7,6 +7,7 @@ loader that refuses duplicate keys, JSON likewise, and turning a pydantic
 
 from __future__ import annotations
 
+import contextlib
 import json
 import os
 import re
@@ -30,7 +31,9 @@ class _UniqueKeyLoader(yaml.SafeLoader):
     """A safe YAML loader that refuses a mapping with the same key twice."""
 
 
-def _construct_mapping(loader: _UniqueKeyLoader, node: yaml.MappingNode, deep: bool = False) -> dict:
+def _construct_mapping(
+    loader: _UniqueKeyLoader, node: yaml.MappingNode, deep: bool = False
+) -> dict:
     seen: dict[Any, int] = {}
     for key_node, _ in node.value:
         key = loader.construct_object(key_node, deep=deep)
@@ -45,9 +48,7 @@ def _construct_mapping(loader: _UniqueKeyLoader, node: yaml.MappingNode, deep: b
     return yaml.SafeLoader.construct_mapping(loader, node, deep=deep)
 
 
-_UniqueKeyLoader.add_constructor(
-    yaml.resolver.BaseResolver.DEFAULT_MAPPING_TAG, _construct_mapping
-)
+_UniqueKeyLoader.add_constructor(yaml.resolver.BaseResolver.DEFAULT_MAPPING_TAG, _construct_mapping)
 # Timestamps stay strings: the models parse them with the unit's time zone.
 _UniqueKeyLoader.yaml_implicit_resolvers = {
     first: [(tag, rx) for tag, rx in resolvers if tag != "tag:yaml.org,2002:timestamp"]
@@ -163,7 +164,9 @@ def load_model(path: str | os.PathLike[str], model: type[M], **context: Any) -> 
 def validate_data(source: str, data: Any, model: type[M], **context: Any) -> M:
     """Validate already-read data as ``model``; every failure is an InputError."""
     if not isinstance(data, dict):
-        raise InputError(source, "", f"expected a mapping of fields at the top, got {type(data).__name__}")
+        raise InputError(
+            source, "", f"expected a mapping of fields at the top, got {type(data).__name__}"
+        )
     try:
         return model.model_validate(data, context={"source": source, **context})
     except ValidationError as exc:
@@ -198,10 +201,8 @@ def atomic_write_bytes(path: str | os.PathLike[str], data: bytes, mode: int = 0o
         os.chmod(tmp, mode)
         os.replace(tmp, target)
     except BaseException:
-        try:
+        with contextlib.suppress(FileNotFoundError):
             os.unlink(tmp)
-        except FileNotFoundError:
-            pass
         raise
     return target
 

@@ -8,7 +8,8 @@ can flag what was assumed.
 Node attributes
 ---------------
 ``kind`` ("segment" | "graft"), ``name``, ``side`` (L | R | midline), ``parent``,
-``diameter_mm``, ``diameter_source``, ``length_cm``, ``length_source``,
+``diameter_mm``, ``diameter_source``, ``diameter_sd_mm`` (the reference SD when the
+diameter is a reference value, else None), ``length_cm``, ``length_source``,
 ``calcification`` (none | mild | moderate | severe, the vessel's own),
 ``calcification_source``, ``lesions`` (list of :class:`~vascplan.case.model.Lesion`,
 by start), ``stents`` (list of :class:`~vascplan.case.model.Stent`), ``avoid`` (list
@@ -26,13 +27,13 @@ origin). Graft edges add ``name``, ``diameter_mm``, ``patent``, ``length_cm``,
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
-from typing import Any
-
-import networkx as nx
+from typing import TYPE_CHECKING, Any
 
 from vascplan.anatomy.reference import SegmentReference, load_reference
 from vascplan.case.model import Case, Graft
+
+if TYPE_CHECKING:
+    import networkx as nx
 
 GRAFT_PREFIX = "GRAFT:"
 MEASURED = "measured"
@@ -45,7 +46,6 @@ def graft_node_id(name: str) -> str:
     return f"{GRAFT_PREFIX}{name}"
 
 
-@dataclass
 class ArterialTree:
     """One patient's annotated arterial tree.
 
@@ -58,29 +58,78 @@ class ArterialTree:
     directed : networkx.DiGraph
         The same in the direction of flow (aortic root to periphery; the plantar loop
         from the plantar arch into the dorsalis pedis; grafts from inflow to outflow).
+
+    Notes
+    -----
+    The tree keeps its own node and edge records; ``graph`` and ``directed`` are
+    built from them on first use (networkx is imported then, so that ``vascplan
+    tree`` starts fast). Treat every attribute as read-only.
     """
 
-    case: Case
-    graph: nx.Graph
-    directed: nx.DiGraph
-    _assumptions: list[str] = field(default_factory=list)
+    def __init__(self, case: Case) -> None:
+        self.case = case
+        self._nodes: dict[str, dict[str, Any]] = {}
+        self._edges: dict[frozenset[str], dict[str, Any]] = {}
+        self._assumptions: list[str] = []
+        self._graph: nx.Graph | None = None
+        self._directed: nx.DiGraph | None = None
+
+    def _add_node(self, node_id: str, attrs: dict[str, Any]) -> None:
+        self._nodes[node_id] = attrs
+        self._graph = self._directed = None
+
+    def _add_edge(self, attrs: dict[str, Any]) -> None:
+        self._edges[frozenset((attrs["parent"], attrs["child"]))] = attrs
+        self._graph = self._directed = None
+
+    def _build(self, graph: nx.Graph) -> nx.Graph:
+        for node_id, attrs in self._nodes.items():
+            graph.add_node(node_id, **attrs)
+        for attrs in self._edges.values():
+            graph.add_edge(attrs["parent"], attrs["child"], **attrs)
+        return graph
+
+    @property
+    def graph(self) -> nx.Graph:
+        """Undirected graph of the tree (built on first use)."""
+        if self._graph is None:
+            import networkx as nx
+
+            self._graph = self._build(nx.Graph())
+        return self._graph
+
+    @property
+    def directed(self) -> nx.DiGraph:
+        """The tree in the direction of flow (built on first use)."""
+        if self._directed is None:
+            import networkx as nx
+
+            self._directed = self._build(nx.DiGraph())
+        return self._directed
 
     # -- lookup -----------------------------------------------------------------
 
     def segment(self, segment_id: str) -> dict[str, Any]:
         """The node attributes of a segment or graft node (module docstring)."""
         try:
-            return self.graph.nodes[segment_id]
+            return self._nodes[segment_id]
         except KeyError:
             raise KeyError(f"no segment {segment_id!r} in this tree") from None
 
+    def edge(self, a: str, b: str) -> dict[str, Any]:
+        """The attributes of the edge joining ``a`` and ``b`` (either order)."""
+        try:
+            return self._edges[frozenset((a, b))]
+        except KeyError:
+            raise KeyError(f"{a!r} and {b!r} are not adjacent") from None
+
     def segment_ids(self) -> list[str]:
         """Native segment ids, in reference-table order (grafts excluded)."""
-        return [n for n, kind in self.graph.nodes(data="kind") if kind == "segment"]
+        return [n for n, attrs in self._nodes.items() if attrs["kind"] == "segment"]
 
     def graft_ids(self) -> list[str]:
         """Graft node ids (``GRAFT:<name>``), in case-file order."""
-        return [n for n, kind in self.graph.nodes(data="kind") if kind == "graft"]
+        return [n for n, attrs in self._nodes.items() if attrs["kind"] == "graft"]
 
     def path_to_root(self, segment_id: str) -> list[str]:
         """Segments from ``segment_id`` up its parents to the aortic root, inclusive.
@@ -95,7 +144,7 @@ class ArterialTree:
         """
         self.segment(segment_id)
         path = [segment_id]
-        while (parent := self.graph.nodes[path[-1]]["parent"]) is not None:
+        while (parent := self._nodes[path[-1]]["parent"]) is not None:
             path.append(parent)
         return path
 
@@ -107,9 +156,7 @@ class ArterialTree:
         KeyError
             ``a`` and ``b`` are not joined by an edge.
         """
-        if not self.graph.has_edge(a, b):
-            raise KeyError(f"{a!r} and {b!r} are not adjacent")
-        edge = self.graph.edges[a, b]
+        edge = self.edge(a, b)
         if edge["parent"] == a:
             return edge["parent_cm"], edge["child_cm"]
         return edge["child_cm"], edge["parent_cm"]
@@ -199,7 +246,7 @@ class ArterialTree:
                 if below == common:
                     break
                 travelled += pos
-                pos = self.graph.edges[below, above]["parent_cm"]
+                pos = self.edge(below, above)["parent_cm"]
             return travelled, pos
 
         up_a, pos_a = climb(chain_a, a_cm)
@@ -250,9 +297,8 @@ def build_tree(case: Case) -> ArterialTree:
     ref = load_reference()
     sex, height_cm = case.patient.sex, case.patient.height_cm
     lengths = case.segment_lengths_cm()
-    graph: nx.Graph = nx.Graph()
-    directed: nx.DiGraph = nx.DiGraph()
-    notes: list[str] = []
+    tree = ArterialTree(case)
+    notes = tree._assumptions
     unstated_calcium = 0
 
     avoid: dict[str, list[str]] = {}
@@ -280,6 +326,7 @@ def build_tree(case: Case) -> ArterialTree:
             "parent": r.parent,
             "diameter_mm": r.diameter_mean_mm(sex) if m_diameter is None else m_diameter,
             "diameter_source": REFERENCE if m_diameter is None else MEASURED,
+            "diameter_sd_mm": r.diameter_sd_mm(sex) if m_diameter is None else None,
             "length_cm": lengths[seg_id],
             "length_source": REFERENCE if m_length is None else MEASURED,
             "calcification": m_calcium or "none",
@@ -292,8 +339,7 @@ def build_tree(case: Case) -> ArterialTree:
             ),
             "avoid": avoid.get(seg_id, []),
         }
-        graph.add_node(seg_id, **attrs)
-        directed.add_node(seg_id, **attrs)
+        tree._add_node(seg_id, attrs)
         if r.parent is not None:
             edge = {
                 "kind": "branch",
@@ -302,8 +348,7 @@ def build_tree(case: Case) -> ArterialTree:
                 "parent_cm": r.joins_fraction * lengths[r.parent],
                 "child_cm": 0.0,
             }
-            graph.add_edge(r.parent, seg_id, **edge)
-            directed.add_edge(r.parent, seg_id, **edge)
+            tree._add_edge(edge)
 
     for seg_id, r in ref.items():
         if r.loop_to is not None:
@@ -314,8 +359,7 @@ def build_tree(case: Case) -> ArterialTree:
                 "parent_cm": lengths[seg_id],
                 "child_cm": lengths[r.loop_to],
             }
-            graph.add_edge(seg_id, r.loop_to, **edge)
-            directed.add_edge(seg_id, r.loop_to, **edge)
+            tree._add_edge(edge)
 
     if unstated_calcium:
         notes.append(
@@ -328,7 +372,6 @@ def build_tree(case: Case) -> ArterialTree:
             "(common practice)"
         )
 
-    tree = ArterialTree(case=case, graph=graph, directed=directed, _assumptions=notes)
     for graft in case.grafts:
         _add_graft(tree, graft)
     return tree
@@ -337,8 +380,8 @@ def build_tree(case: Case) -> ArterialTree:
 def _add_graft(tree: ArterialTree, graft: Graft) -> None:
     node_id = graft_node_id(graft.name)
     length_cm = tree.distance_cm(graft.from_segment, graft.from_cm, graft.to_segment, graft.to_cm)
-    side_from = tree.graph.nodes[graft.from_segment]["side"]
-    side_to = tree.graph.nodes[graft.to_segment]["side"]
+    side_from = tree.segment(graft.from_segment)["side"]
+    side_to = tree.segment(graft.to_segment)["side"]
     ends = {
         "from": graft.from_segment,
         "from_cm": graft.from_cm,
@@ -352,6 +395,7 @@ def _add_graft(tree: ArterialTree, graft: Graft) -> None:
         "parent": graft.from_segment,
         "diameter_mm": graft.diameter_mm,
         "diameter_source": MEASURED,
+        "diameter_sd_mm": None,
         "length_cm": length_cm,
         "length_source": "estimate",
         "calcification": "none",
@@ -384,10 +428,9 @@ def _add_graft(tree: ArterialTree, graft: Graft) -> None:
         "parent_cm": length_cm,
         "child_cm": graft.to_cm,
     }
-    for g in (tree.graph, tree.directed):
-        g.add_node(node_id, **attrs)
-        g.add_edge(graft.from_segment, node_id, **inflow)
-        g.add_edge(node_id, graft.to_segment, **outflow)
+    tree._add_node(node_id, attrs)
+    tree._add_edge(inflow)
+    tree._add_edge(outflow)
     tree._assumptions.append(
         f"{node_id} length is an estimate ({length_cm:.1f} cm: the distance between its ends "
         "along the native arteries, an upper estimate: a rule of this tool, not a measurement)"

@@ -42,6 +42,7 @@ def _node(tree: ArterialTree, node_id: str) -> dict[str, Any]:
         "parent": n["parent"],
         "diameter_mm": _r(n["diameter_mm"]),
         "diameter_source": n["diameter_source"],
+        "diameter_sd_mm": None if n["diameter_sd_mm"] is None else _r(n["diameter_sd_mm"]),
         "length_cm": _r(n["length_cm"], 1),
         "length_source": n["length_source"],
         "mld_mm": _r(tree.mld(node_id)),
@@ -132,8 +133,16 @@ def _findings(seg: dict[str, Any]) -> str:
     return "; ".join(parts)
 
 
-def render_tree_table(summary: dict[str, Any]) -> str:
-    """Lay a :func:`tree_summary` out as a fixed-width table with the legend and caution."""
+def render_tree_table(summary: dict[str, Any], *, every_assumption: bool = False) -> str:
+    """Lay a :func:`tree_summary` out as a fixed-width table with the legend and caution.
+
+    Parameters
+    ----------
+    summary : dict
+        From :func:`tree_summary`.
+    every_assumption : bool
+        List every reference value with its source, not only their count.
+    """
     p = summary["patient"]
     lines = [f"Case {summary['case']}: {p['sex']}, {p['height_cm']:g} cm"]
     proc = summary["procedure"]
@@ -185,10 +194,13 @@ def render_tree_table(summary: dict[str, Any]) -> str:
     lines.append(f"Legend: {summary['legend']}; ~ = estimated by a rule.")
     per_segment = sum(1 for a in summary["assumptions"] if " is a reference " in a)
     others = [a for a in summary["assumptions"] if " is a reference " not in a]
-    lines.append(
-        f"{per_segment} values are reference defaults (marked {summary['reference_mark']}); "
-        "--format json lists each with its source."
-    )
-    lines.extend(f"Assumption: {a}." for a in others)
+    if every_assumption:
+        lines.extend(f"Assumption: {a}." for a in summary["assumptions"])
+    else:
+        lines.append(
+            f"{per_segment} values are reference defaults (marked {summary['reference_mark']}); "
+            "--assumptions or --format json lists each with its source."
+        )
+        lines.extend(f"Assumption: {a}." for a in others)
     lines.append(f"Caution: {summary['caution']}")
     return "\n".join(lines) + "\n"

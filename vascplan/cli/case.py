@@ -60,7 +60,13 @@ def validate(cases: tuple[str, ...]) -> None:
     default=None,
     help="Write to this file (atomically) instead of the terminal.",
 )
-def tree(case: str, fmt: str, out: str | None) -> None:
+@click.option(
+    "--assumptions",
+    "every_assumption",
+    is_flag=True,
+    help="In the table, list every reference value with its source (not only the count).",
+)
+def tree(case: str, fmt: str, out: str | None, every_assumption: bool) -> None:
     """Show a patient's annotated arterial tree.
 
     One row per segment: effective diameter, minimal luminal diameter (MLD), length
@@ -76,7 +82,7 @@ def tree(case: str, fmt: str, out: str | None) -> None:
     if fmt == "json":
         text = json.dumps(summary, indent=2, ensure_ascii=False) + "\n"
     else:
-        text = render_tree_table(summary)
+        text = render_tree_table(summary, every_assumption=every_assumption)
     if out:
         click.echo(f"wrote {atomic_write_text(out, text)}")
     else:
