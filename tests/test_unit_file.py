@@ -81,3 +81,22 @@ def test_unknown_shift_in_staff(tmp_path):
 def test_bad_device_kind(tmp_path):
     msg = _message(_variant(tmp_path, "va-ecmo-arterial", "ecmo"))
     assert msg.startswith("unit.yaml: patients.0.device.kind: Input should be 'va-ecmo-arterial'")
+
+
+def test_events_localised_and_ordered(tmp_path):
+    events = (
+        "    events:\n"
+        "      - {at: 2026-12-01T18:00, tier: high, note: cold foot}\n"
+        "      - {at: 2026-12-01T17:00, tier: raised}\n"
+    )
+    p = tmp_path / "unit.yaml"
+    p.write_text(MINIMAL.read_text() + events)
+    assert _message(p) == (
+        "unit.yaml: patients.0.events.1.at: events must be in time order, at or after the insertion"
+    )
+    p.write_text(MINIMAL.read_text() + events.replace("17:00, tier: raised", "19:00, tier: raised"))
+    unit = load_unit(p)
+    assert unit.patients[0].events[1].at.isoformat() == "2026-12-01T19:00:00+00:00"
+    severe = "    events:\n      - {at: 2026-12-01T18:00, tier: severe}\n"
+    p.write_text(MINIMAL.read_text() + severe)
+    assert _message(p).startswith("unit.yaml: patients.0.events.0.tier: Input should be 'standard'")

@@ -33,11 +33,15 @@ def _emit(text: str | bytes, output: str | None) -> None:
     f"\n\nCaution: {CAUTION}",
 )
 @click.argument("unit_file", metavar="UNIT", type=click.Path(dir_okay=False))
-@click.option("--at", "at_text", metavar="ISO-TIME",
-              help="Moment of the assessment (local to the unit unless an offset is given); "
-                   "default now.")
-@click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table",
-              show_default=True)
+@click.option(
+    "--at",
+    "at_text",
+    metavar="ISO-TIME",
+    help="Moment of the assessment (local to the unit unless an offset is given); default now.",
+)
+@click.option(
+    "--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True
+)
 @click.option("-o", "--output", type=click.Path(dir_okay=False), help="Write to FILE atomically.")
 def risk(unit_file: str, at_text: str | None, fmt: str, output: str | None) -> None:
     """Each patient's limb-ischaemia risk tier, SAR and distal-cannula advice, with reasons.
@@ -62,16 +66,28 @@ def risk(unit_file: str, at_text: str | None, fmt: str, output: str | None) -> N
     f"--nurse RN-A --format ics -o rn-a.ics\n\nCaution: {CAUTION}",
 )
 @click.argument("unit_file", metavar="UNIT", type=click.Path(dir_okay=False))
-@click.option("--from", "from_text", metavar="ISO-TIME", required=True,
-              help="Start of the rota (local to the unit unless an offset is given).")
-@click.option("--hours", type=float, required=True,
-              help=f"Length of the rota [h], up to {MAX_HOURS}.")
+@click.option(
+    "--from",
+    "from_text",
+    metavar="ISO-TIME",
+    required=True,
+    help="Start of the rota (local to the unit unless an offset is given).",
+)
+@click.option(
+    "--hours", type=float, required=True, help=f"Length of the rota [h], up to {MAX_HOURS}."
+)
 @click.option("--nurse", metavar="ID", help="Only this nurse's checks.")
-@click.option("--format", "fmt", type=click.Choice(["table", "csv", "json", "ics"]),
-              default="table", show_default=True)
+@click.option(
+    "--format",
+    "fmt",
+    type=click.Choice(["table", "csv", "json", "ics"]),
+    default="table",
+    show_default=True,
+)
 @click.option("-o", "--output", type=click.Path(dir_okay=False), help="Write to FILE atomically.")
-def rota(unit_file: str, from_text: str, hours: float, nurse: str | None, fmt: str,
-         output: str | None) -> None:
+def rota(
+    unit_file: str, from_text: str, hours: float, nurse: str | None, fmt: str, output: str | None
+) -> None:
     """The unit's limb checks across beds and shifts, nurse by nurse, with handovers.
 
     Checks one nurse has due at once are staggered within their tolerance windows; those
@@ -96,4 +112,3 @@ def rota(unit_file: str, from_text: str, hours: float, nurse: str | None, fmt: s
         _emit(rota_table(result), output)
     if progress:
         click.echo(f"{len(result.checks)} checks, {len(result.unmet)} unmet", err=True)
-

@@ -4,15 +4,45 @@ from __future__ import annotations
 
 import json
 from pathlib import Path
+from typing import TYPE_CHECKING
 
-from vascplan.fileio import atomic_write_bytes, atomic_write_text
+from vascplan.fileio import atomic_write_bytes, atomic_write_text, output_inside
 from vascplan.paths import examples_dir
+
+if TYPE_CHECKING:
+    from vascplan.demo import DemoContext
 
 DEMO_UNIT = "unit-demo.yaml"
 DEMO_AT = "2026-12-02T13:00"
 """Moment of the demo risk assessment (local to the demo unit)."""
 DEMO_FROM = "2026-12-02T07:30"
 DEMO_HOURS = 24.0
+
+
+def demo_outputs(examples: Path | None = None) -> list[tuple[str, str | bytes]]:
+    """The demo's files as (name, content): risk JSON and table; rota JSON, table, CSV, ICS."""
+    from vascplan.surveillance.render import (
+        risk_table,
+        risk_to_dict,
+        rota_csv,
+        rota_ics,
+        rota_json,
+        rota_table,
+    )
+    from vascplan.surveillance.service import risk_for_unit, rota_for_unit
+
+    unit_path = (examples or examples_dir()) / DEMO_UNIT
+    unit, assessments, at = risk_for_unit(unit_path, DEMO_AT)
+    _, protocol, rota = rota_for_unit(unit_path, DEMO_FROM, DEMO_HOURS)
+    doc = risk_to_dict(assessments, at, unit.unit.name)
+    return [
+        ("surveillance-risk.json", json.dumps(doc, indent=2, ensure_ascii=False) + "\n"),
+        ("surveillance-risk.txt", risk_table(assessments, at, unit.unit.name)),
+        ("surveillance-rota.json", rota_json(rota)),
+        ("surveillance-rota.txt", rota_table(rota)),
+        ("surveillance-rota.csv", rota_csv(rota)),
+        ("surveillance-rota.ics", rota_ics(rota, protocol)),
+    ]
 
 
 def demo_surveillance(out_dir: Path) -> list[Path]:
@@ -29,29 +59,22 @@ def demo_surveillance(out_dir: Path) -> list[Path]:
         ``surveillance-risk.json``, ``surveillance-risk.txt``, ``surveillance-rota.json``,
         ``surveillance-rota.txt``, ``surveillance-rota.csv``, ``surveillance-rota.ics``.
     """
-    from vascplan.surveillance.render import (
-        risk_table,
-        risk_to_dict,
-        rota_csv,
-        rota_ics,
-        rota_json,
-        rota_table,
-    )
-    from vascplan.surveillance.service import risk_for_unit, rota_for_unit
-
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
-    unit_path = examples_dir() / DEMO_UNIT
-    unit, assessments, at = risk_for_unit(unit_path, DEMO_AT)
-    _, protocol, rota = rota_for_unit(unit_path, DEMO_FROM, DEMO_HOURS)
-    doc = risk_to_dict(assessments, at, unit.unit.name)
-    files = [
-        atomic_write_text(out / "surveillance-risk.json",
-                          json.dumps(doc, indent=2, ensure_ascii=False) + "\n"),
-        atomic_write_text(out / "surveillance-risk.txt", risk_table(assessments, at, unit.unit.name)),
-        atomic_write_text(out / "surveillance-rota.json", rota_json(rota)),
-        atomic_write_text(out / "surveillance-rota.txt", rota_table(rota)),
-        atomic_write_text(out / "surveillance-rota.csv", rota_csv(rota)),
-        atomic_write_bytes(out / "surveillance-rota.ics", rota_ics(rota, protocol)),
-    ]
-    return files
+    paths = []
+    for name, content in demo_outputs():
+        target = output_inside(out, name)
+        if isinstance(content, bytes):
+            paths.append(atomic_write_bytes(target, content))
+        else:
+            paths.append(atomic_write_text(target, content))
+    return paths
+
+
+def step_surveillance(ctx: DemoContext) -> None:
+    """A ``vascplan demo`` step (for ``vascplan.demo.register_step``): risk and rota."""
+    for name, content in demo_outputs(ctx.examples):
+        if isinstance(content, bytes):
+            ctx.write_bytes(name, content)
+        else:
+            ctx.write_text(name, content)

@@ -145,6 +145,20 @@ class Review(_Strict):
                 )
         return self
 
+    def values(self) -> dict[str, float]:
+        """The thresholds by name (``nirs_relative_fall_pct`` -> 20.0 ...).
+
+        >>> load_protocol("standard", "u").review.values()["capillary_refill_slow_s"]
+        3.0
+        """
+        names = (
+            "nirs_relative_fall_pct",
+            "nirs_limb_difference_pct",
+            "nirs_absolute_floor_pct",
+            "capillary_refill_slow_s",
+        )
+        return {n: float(getattr(self, n).value) for n in names}
+
 
 class Protocol(_Strict):
     """A validated surveillance protocol."""
@@ -176,19 +190,22 @@ class Protocol(_Strict):
             raise InputError(src, "phases", "needs at least one phase after removal")
         if after_ins != list(range(len(after_ins))):
             raise InputError(
-                src, f"phases.{after_rem[0]}.after",
+                src,
+                f"phases.{after_rem[0]}.after",
                 "list the phases after insertion first, then those after removal",
             )
         last_ins = after_ins[-1]
         if not self.phases[last_ins].open_ended:
             raise InputError(
-                src, f"phases.{last_ins}",
+                src,
+                f"phases.{last_ins}",
                 "the last phase after insertion must run until removal (no for_min or count)",
             )
         for i, p in enumerate(self.phases):
             if p.open_ended and i != last_ins:
                 raise InputError(
-                    src, f"phases.{i}",
+                    src,
+                    f"phases.{i}",
                     "give for_min or count; only the last phase after insertion runs until removal",
                 )
         for tier, rule in self.tiers.items():
@@ -196,14 +213,16 @@ class Protocol(_Strict):
                 field = f"tiers.{tier}.every_min.{phase_name}"
                 if phase_name not in names:
                     raise InputError(
-                        src, field,
+                        src,
+                        field,
                         f"unknown phase {phase_name!r}{did_you_mean(phase_name, names)}; "
                         f"phases are {', '.join(names)}",
                     )
                 base = self.phases[names.index(phase_name)].every_min
                 if not 1 <= every <= base:
                     raise InputError(
-                        src, field,
+                        src,
+                        field,
                         "a tier may only tighten a phase: "
                         f"every_min must be 1-{base} (got {every})",
                     )
@@ -219,20 +238,23 @@ class Protocol(_Strict):
         for i in range(1, len(bounds)):
             if bounds[i] <= bounds[i - 1]:
                 raise InputError(
-                    src, f"tolerance.{i}.up_to_every_min",
+                    src,
+                    f"tolerance.{i}.up_to_every_min",
                     "bands must rise: each up_to_every_min above the one before",
                 )
         for field, every in self._all_intervals():
             band = self._band(every)
             if band is None:
                 raise InputError(
-                    src, field,
+                    src,
+                    field,
                     f"no tolerance band covers every_min {every}; the widest band is "
                     f"up_to_every_min {bounds[-1]}",
                 )
             if band[1].tolerance_min >= every:
                 raise InputError(
-                    src, f"tolerance.{band[0]}.tolerance_min",
+                    src,
+                    f"tolerance.{band[0]}.tolerance_min",
                     f"must be shorter than every interval it covers ({every} min at {field})",
                 )
         ids = [it.id for it in self.items]
@@ -242,7 +264,8 @@ class Protocol(_Strict):
             for j, d in enumerate(it.devices):
                 if d != "all" and d not in DEVICE_KINDS:
                     raise InputError(
-                        src, f"items.{i}.devices.{j}",
+                        src,
+                        f"items.{i}.devices.{j}",
                         f"unknown device kind {d!r}{did_you_mean(d, DEVICE_KINDS)}; "
                         f"use all or one of {', '.join(DEVICE_KINDS)}",
                     )
@@ -344,7 +367,8 @@ def load_protocol(name_or_path: str, source: str, base_dir: Path | None = None) 
         if not path.is_file():
             names = bundled_protocols()
             raise InputError(
-                source, "protocol",
+                source,
+                "protocol",
                 f"unknown protocol {name_or_path!r}{did_you_mean(name_or_path, names)}; bundled: "
                 f"{', '.join(names)}, or give a path to a protocol file",
             )

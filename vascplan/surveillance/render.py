@@ -127,7 +127,7 @@ def rota_json(rota: Rota) -> str:
 
 def _when(c: RotaCheck) -> str:
     text = c.time.strftime("%Y-%m-%d %H:%M %z")
-    if c.time != c.due:
+    if c.late_min:
         text += f" (due {c.due.strftime('%H:%M')})"
     return text
 
@@ -149,8 +149,10 @@ def rota_table(rota: Rota) -> str:
         lines.append("")
     if rota.unmet:
         lines.append(f"== Cannot be met within their windows: {len(rota.unmet)}")
-        lines += [f"  bed {u.check.bed} {u.check.ref} due {iso(u.check.due)}: {u.reason}"
-                  for u in rota.unmet]
+        lines += [
+            f"  bed {u.check.bed} {u.check.ref} due {iso(u.check.due)}: {u.reason}"
+            for u in rota.unmet
+        ]
         lines.append("")
     for h in rota.handovers:
         lines.append(f"== Handover to {h.shift} at {h.at.strftime('%Y-%m-%d %H:%M %z')}")
@@ -171,10 +173,34 @@ def rota_csv(rota: Rota) -> str:
         d = _check_dict(c)
         d["items"] = ";".join(c.items)
         rows.append(d)
-    columns = ["time", "due", "bed", "ref", "nurse", "phase", "items", "shift", "tier",
-               "interval_min", "tolerance_min", "within_window"]
+    columns = [
+        "time",
+        "due",
+        "bed",
+        "ref",
+        "nurse",
+        "phase",
+        "items",
+        "shift",
+        "tier",
+        "interval_min",
+        "tolerance_min",
+        "within_window",
+    ]
     frame = pd.DataFrame(rows, columns=columns)
     return f"# {CAUTION}\n" + frame.to_csv(index=False, lineterminator="\n")
+
+
+def _ics_time(value: datetime) -> datetime:
+    """A time to write with its TZID, or in UTC where the local time is ambiguous.
+
+    RFC 5545 s3.3.5: a local time that occurs twice (clocks going back) "refers to the
+    first occurrence", so a check in the repeated hour is written in UTC instead.
+    """
+    other = value.replace(fold=1 - value.fold)
+    if other.utcoffset() != value.utcoffset():
+        return value.astimezone(UTC)
+    return value
 
 
 def rota_ics(
@@ -186,7 +212,8 @@ def rota_ics(
     """The rota as an iCalendar file (RFC 5545) written with the ``icalendar`` library.
 
     Each check is a VEVENT with a stable UID (unit, bed, ref, due time), DTSTAMP, DTSTART
-    with the unit's TZID (a VTIMEZONE is included), DTEND, a display VALARM
+    with the unit's TZID (a VTIMEZONE is included; in UTC inside a clock change's
+    repeated hour, where a TZID time would be read as the first occurrence), DTEND, a display VALARM
     :data:`ALARM_BEFORE_MIN` minutes before, and the caution in its description; the
     calendar carries the caution in X-WR-CALDESC.
     """
@@ -207,11 +234,12 @@ def rota_ics(
         due_utc = c.due.astimezone(UTC)
         ev.add("uid", f"{unit_key}-bed{c.bed}-{c.ref}-{due_utc:%Y%m%dT%H%M%SZ}@vascplan")
         ev.add("dtstamp", stamp)
-        ev.add("dtstart", c.time)
-        ev.add("dtend", c.time + length)
+        start = _ics_time(c.time)
+        ev.add("dtstart", start)
+        ev.add("dtend", (start.astimezone(UTC) + length).astimezone(start.tzinfo))
         ev.add("summary", f"Limb check bed {c.bed} {c.ref} ({c.phase})")
         items = "\n".join(f"- {protocol.item_text(i)}" for i in c.items)
-        late = "" if c.time == c.due else f"\nDue {iso(c.due)}; staggered to {iso(c.time)}."
+        late = "" if not c.late_min else f"\nDue {iso(c.due)}; staggered to {iso(c.time)}."
         if not c.within_window:
             late += "\nOUTSIDE its tolerance window: see the rota's unmet list."
         ev.add(

@@ -13,7 +13,7 @@ from __future__ import annotations
 import csv
 from collections.abc import Callable
 from dataclasses import dataclass, field
-from datetime import datetime
+from datetime import UTC, datetime, timedelta
 from functools import lru_cache
 from typing import Literal
 
@@ -116,7 +116,8 @@ class RiskRules(_Strict):
             for i, rule in enumerate(rules):
                 if rule.test not in TESTS:
                     raise InputError(
-                        src, f"{group}.{i}.test",
+                        src,
+                        f"{group}.{i}.test",
                         f"unknown test {rule.test!r}{did_you_mean(rule.test, TESTS)}; "
                         f"one of {', '.join(TESTS)}",
                     )
@@ -268,11 +269,15 @@ def dpc_advice(
         raise ValueError(f"unknown device kind {device_kind!r}; one of {', '.join(DEVICE_KINDS)}")
     rules = rules or load_rules()
     if dpc_in_place:
-        return False, ["a distal perfusion cannula is already in place: check its connection "
-                       "and flow at every check"]
+        return False, [
+            "a distal perfusion cannula is already in place: check its connection "
+            "and flow at every check"
+        ]
     if access_vessel not in FEMORAL_VESSELS:
-        return False, [f"access from the {access_vessel}, not the leg: a distal perfusion "
-                       "cannula of the leg does not apply (common practice)"]
+        return False, [
+            f"access from the {access_vessel}, not the leg: a distal perfusion "
+            "cannula of the leg does not apply (common practice)"
+        ]
     facts = Facts(device_kind, True, sar, pad, False, sex, vessel_mm, 0.0, False)
     for rule in rules.dpc:
         if rule.applies(facts):
@@ -315,13 +320,27 @@ def assess_patient(patient: Patient, protocol: Protocol, at: datetime) -> RiskAs
         vessel_mm, measured = ref.diameter_mm, False
         assumptions.append(f"{patient.ref}: {note}")
     ratio = round(sheath_artery_ratio(od.mm, vessel_mm), 3)
-    end = dev.removed if dev.removed is not None and dev.removed < at else at
-    dwell_h = max(0.0, (end - dev.inserted).total_seconds() / 3600.0)
+    # Real elapsed time: compare and subtract in UTC (same-zone datetimes use wall time).
+    at_utc, inserted = at.astimezone(UTC), dev.inserted.astimezone(UTC)
+    removed = None if dev.removed is None else dev.removed.astimezone(UTC)
+    end = removed if removed is not None and removed < at_utc else at_utc
+    dwell_h = max(0.0, (end - inserted).total_seconds() / 3600.0)
     dpc = patient.dpc
-    dpc_in = dpc is not None and dpc.inserted <= at and (dpc.removed is None or dpc.removed > at)
+    dpc_in = (
+        dpc is not None
+        and dpc.inserted.astimezone(UTC) <= at_utc
+        and (dpc.removed is None or dpc.removed.astimezone(UTC) > at_utc)
+    )
     facts = Facts(
-        dev.kind, dev.vessel in FEMORAL_VESSELS, ratio, patient.pad, patient.diabetes,
-        patient.sex, vessel_mm, dwell_h, dpc_in,
+        dev.kind,
+        dev.vessel in FEMORAL_VESSELS,
+        ratio,
+        patient.pad,
+        patient.diabetes,
+        patient.sex,
+        vessel_mm,
+        dwell_h,
+        dpc_in,
     )
     tier: Tier = "standard"
     reasons: list[str] = []
@@ -340,7 +359,7 @@ def assess_patient(patient: Patient, protocol: Protocol, at: datetime) -> RiskAs
     if not measured:
         reasons.append(f"SAR {ratio:.2f} uses a reference vessel diameter {REFERENCE_MARK}")
     for ev in patient.events:
-        if ev.at <= at:
+        if ev.at.astimezone(UTC) <= at_utc:
             tier = ev.tier
             reasons.append(
                 f"tier set to {ev.tier} by a clinician at {ev.at.isoformat()}"
@@ -349,21 +368,38 @@ def assess_patient(patient: Patient, protocol: Protocol, at: datetime) -> RiskAs
     if not reasons:
         reasons.append("no listed risk factor applies")
     advised, basis = dpc_advice(
-        dev.kind, ratio, patient.pad, patient.sex, vessel_mm, dpc_in,
-        access_vessel=dev.vessel, rules=rules,
+        dev.kind,
+        ratio,
+        patient.pad,
+        patient.sex,
+        vessel_mm,
+        dpc_in,
+        access_vessel=dev.vessel,
+        rules=rules,
     )
     if tier in protocol.tiers:
         tighter = ", ".join(
             f"{name} every {every} min" for name, every in protocol.tiers[tier].every_min.items()
         )
-        basis.append(f"tier {tier}: {tighter} ({protocol.tiers[tier].source}, protocol "
-                     f"{protocol.name})")
+        basis.append(
+            f"tier {tier}: {tighter} ({protocol.tiers[tier].source}, protocol {protocol.name})"
+        )
     basis.append(rules.statement)
     return RiskAssessment(
-        ref=patient.ref, bed=patient.bed, tier=tier, sar=ratio, device_od_mm=round(od.mm, 3),
-        vessel_mm=vessel_mm, vessel_measured=measured, dwell_h=round(dwell_h, 2),
-        dpc_in_place=dpc_in, dpc_advised=advised, reasons=reasons, basis=basis,
-        assumptions=assumptions, factors=ids,
+        ref=patient.ref,
+        bed=patient.bed,
+        tier=tier,
+        sar=ratio,
+        device_od_mm=round(od.mm, 3),
+        vessel_mm=vessel_mm,
+        vessel_measured=measured,
+        dwell_h=round(dwell_h, 2),
+        dpc_in_place=dpc_in,
+        dpc_advised=advised,
+        reasons=reasons,
+        basis=basis,
+        assumptions=assumptions,
+        factors=ids,
     )
 
 
@@ -376,22 +412,23 @@ def tier_changes(
     crossing their thresholds, from a distal cannula going in or out, and from
     clinicians' tier events.
     """
-    from datetime import timedelta
-
     rules = load_rules()
     dev = patient.device
-    moments = {dev.inserted}
+    inserted = dev.inserted.astimezone(UTC)  # real elapsed time: add hours in UTC
+    moments = {inserted}
     for factor in rules.factors:
         if factor.test == "dwell-at-least-h" and factor.threshold is not None:
-            moments.add(dev.inserted + timedelta(hours=factor.threshold))
+            moments.add(inserted + timedelta(hours=factor.threshold))
     if patient.dpc is not None:
-        moments.add(patient.dpc.inserted)
+        moments.add(patient.dpc.inserted.astimezone(UTC))
         if patient.dpc.removed is not None:
-            moments.add(patient.dpc.removed)
-    moments.update(ev.at for ev in patient.events)
+            moments.add(patient.dpc.removed.astimezone(UTC))
+    moments.update(ev.at.astimezone(UTC) for ev in patient.events)
+    tz = dev.inserted.tzinfo
+    until_utc = until.astimezone(UTC)
     out: list[tuple[datetime, Tier]] = []
-    for moment in sorted(m for m in moments if m <= until):
+    for moment in sorted(m for m in moments if m <= until_utc):
         tier = assess_patient(patient, protocol, moment).tier
         if not out or out[-1][1] != tier:
-            out.append((moment, tier))
+            out.append((moment.astimezone(tz), tier))
     return out

@@ -63,7 +63,7 @@ class RotaCheck:
     @property
     def late_min(self) -> float:
         """Minutes between due and placed time."""
-        return (self.time - self.due).total_seconds() / 60.0
+        return (_utc(self.time) - _utc(self.due)).total_seconds() / 60.0
 
 
 @dataclass(frozen=True)
@@ -163,9 +163,18 @@ def _stagger(
         time = due if free_at is None or free_at <= due else free_at
         ok = time <= deadline
         rc = RotaCheck(
-            time=time.astimezone(tz), due=c.due, bed=c.bed, ref=c.ref, nurse=c.nurse,
-            phase=c.phase, items=c.items, shift=c.shift, interval_min=c.interval_min,
-            tolerance_min=c.tolerance_min, tier=c.tier, within_window=ok,
+            time=time.astimezone(tz),
+            due=c.due,
+            bed=c.bed,
+            ref=c.ref,
+            nurse=c.nurse,
+            phase=c.phase,
+            items=c.items,
+            shift=c.shift,
+            interval_min=c.interval_min,
+            tolerance_min=c.tolerance_min,
+            tier=c.tier,
+            within_window=ok,
         )
         placed.append(rc)
         if not ok:
@@ -233,9 +242,17 @@ def build_rota(
         who = unit.nurse_for(s.bed, shift) or UNASSIGNED
         by_nurse[who].append(
             RotaCheck(
-                time=s.due, due=s.due, bed=s.bed, ref=s.ref, nurse=who, phase=s.phase,
-                items=s.items, shift=shift, interval_min=s.interval_min,
-                tolerance_min=s.tolerance_min, tier=s.tier,
+                time=s.due,
+                due=s.due,
+                bed=s.bed,
+                ref=s.ref,
+                nurse=who,
+                phase=s.phase,
+                items=s.items,
+                shift=shift,
+                interval_min=s.interval_min,
+                tolerance_min=s.tolerance_min,
+                tier=s.tier,
             )
         )
     checks: list[RotaCheck] = []

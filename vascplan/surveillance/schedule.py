@@ -80,16 +80,15 @@ def _events(
     for moment, tier in changes[1:]:
         out.append((moment.astimezone(UTC), 1, "tier", tier))
     dpc = patient.dpc
-    if (
-        protocol.new_cannula_restarts.value
-        and dpc is not None
-        and dpc.inserted > dev.inserted
-        and (dev.removed is None or dpc.inserted < dev.removed)
-        and dpc.inserted <= until
-    ):
-        out.append((dpc.inserted.astimezone(UTC), 2, "restart", ""))
-    if dev.removed is not None and dev.removed <= until:
-        out.append((dev.removed.astimezone(UTC), 3, "removal", ""))
+    until_utc = until.astimezone(UTC)
+    ins = dev.inserted.astimezone(UTC)
+    rem = None if dev.removed is None else dev.removed.astimezone(UTC)
+    if protocol.new_cannula_restarts.value and dpc is not None:
+        d_in = dpc.inserted.astimezone(UTC)
+        if d_in > ins and (rem is None or d_in < rem) and d_in <= until_utc:
+            out.append((d_in, 2, "restart", ""))
+    if rem is not None and rem <= until_utc:
+        out.append((rem, 3, "removal", ""))
     out.sort()
     return out
 
@@ -131,7 +130,7 @@ def patient_schedule(
     dev = patient.device
     inserted = dev.inserted.astimezone(UTC)
     tiers = tier_changes(patient, protocol, end)
-    tier = tiers[0][1] if tiers else "standard"
+    tier: str = tiers[0][1] if tiers else "standard"
     events = _events(patient, protocol, end)
     nirs = bool(patient.baseline.nirs)
     dpc = patient.dpc
@@ -148,7 +147,7 @@ def patient_schedule(
         over = (
             phase.for_min is not None and due > st.stage_start + timedelta(minutes=phase.for_min)
         ) or (phase.count is not None and st.count >= phase.count)
-        if over and (k >= len(events) or events[k][0] >= due):
+        if over:
             if st.stage + 1 >= len(st.phases):
                 break  # the after-removal phases are done
             if phase.for_min is not None:
@@ -175,8 +174,10 @@ def patient_schedule(
         st.count += 1
         st.floor = None
         if due >= start_utc:
-            dpc_in = dpc is not None and dpc.inserted <= due and (
-                dpc.removed is None or dpc.removed > due
+            dpc_in = (
+                dpc is not None
+                and dpc.inserted.astimezone(UTC) <= due
+                and (dpc.removed is None or dpc.removed.astimezone(UTC) > due)
             )
             out.append(
                 ScheduledCheck(

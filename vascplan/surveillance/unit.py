@@ -70,7 +70,7 @@ class Shift(_Strict):
         if isinstance(value, int):  # YAML 1.1 reads 07:30 unquoted as a base-60 integer
             value = f"{value // 60:02d}:{value % 60:02d}"
         if isinstance(value, str) and not re.fullmatch(r"\d{2}:\d{2}", value):
-            raise ValueError("shift start must be HH:MM in local time, e.g. \"07:30\"")
+            raise ValueError('shift start must be HH:MM in local time, e.g. "07:30"')
         return value
 
 
@@ -198,34 +198,43 @@ class Unit(_Strict):
                     raise InputError(
                         source,
                         f"staff.{i}.shifts.{j}",
-                        f"unknown shift {s!r}{did_you_mean(s, names)}; shifts are {', '.join(names)}",
+                        f"unknown shift {s!r}{did_you_mean(s, names)}; "
+                        f"shifts are {', '.join(names)}",
                     )
         tz = self.unit.tz
         for i, p in enumerate(self.patients):
             base = f"patients.{i}"
             inserted = _localise(p.device.inserted, tz, source, f"{base}.device.inserted")
+            assert inserted is not None  # a required field
             removed = _localise(p.device.removed, tz, source, f"{base}.device.removed")
-            if removed is not None and removed <= inserted:
-                raise InputError(source, f"{base}.device.removed", "removal must come after insertion")
+            if removed is not None and _utc(removed) <= _utc(inserted):
+                raise InputError(
+                    source, f"{base}.device.removed", "removal must come after insertion"
+                )
             object.__setattr__(p.device, "inserted", inserted)
             object.__setattr__(p.device, "removed", removed)
             if p.dpc is not None:
                 d_in = _localise(p.dpc.inserted, tz, source, f"{base}.dpc.inserted")
+                assert d_in is not None  # a required field
                 d_out = _localise(p.dpc.removed, tz, source, f"{base}.dpc.removed")
-                if d_in < inserted:
+                if _utc(d_in) < _utc(inserted):
                     raise InputError(
-                        source, f"{base}.dpc.inserted", "the distal cannula cannot precede the device"
+                        source,
+                        f"{base}.dpc.inserted",
+                        "the distal cannula cannot precede the device",
                     )
-                if d_out is not None and d_out <= d_in:
-                    raise InputError(source, f"{base}.dpc.removed", "removal must come after insertion")
+                if d_out is not None and _utc(d_out) <= _utc(d_in):
+                    raise InputError(
+                        source, f"{base}.dpc.removed", "removal must come after insertion"
+                    )
                 object.__setattr__(p.dpc, "inserted", d_in)
                 object.__setattr__(p.dpc, "removed", d_out)
-            previous = inserted
+            previous = p.device.inserted
             for k, ev in enumerate(p.events):
                 field = f"{base}.events.{k}.at"
                 at = _localise(ev.at, tz, source, field)
                 assert at is not None
-                if at < previous:
+                if _utc(at) < _utc(previous):
                     raise InputError(
                         source, field, "events must be in time order, at or after the insertion"
                     )
@@ -245,7 +254,11 @@ class Unit(_Strict):
             if s.name == name:
                 return s
         names = [s.name for s in self.shifts]
-        raise InputError(source, "", f"unknown shift {name!r}{did_you_mean(name, names)}; shifts are {', '.join(names)}")
+        raise InputError(
+            source,
+            "",
+            f"unknown shift {name!r}{did_you_mean(name, names)}; shifts are {', '.join(names)}",
+        )
 
     def nurse_for(self, bed: int, shift: str) -> str | None:
         """The nurse who has ``bed`` on ``shift``, or None when the file does not say."""
@@ -253,6 +266,11 @@ class Unit(_Strict):
             if bed in a.beds and shift in a.shifts:
                 return a.nurse
         return None
+
+
+def _utc(value: datetime) -> datetime:
+    """Compare aware times in UTC: same-zone datetimes compare by wall time in Python."""
+    return value.astimezone(ZoneInfo("UTC"))
 
 
 def _localise(value: datetime | None, tz: ZoneInfo, source: str, field: str) -> datetime | None:
@@ -291,7 +309,9 @@ def parse_local_time(text: str, tz: ZoneInfo, source: str) -> datetime:
     try:
         value = datetime.fromisoformat(text)
     except ValueError:
-        raise InputError(source, "", f"{text!r} is not an ISO 8601 time such as 2026-12-01T07:30") from None
+        raise InputError(
+            source, "", f"{text!r} is not an ISO 8601 time such as 2026-12-01T07:30"
+        ) from None
     out = _localise(value, tz, source, "")
     assert out is not None
     return out

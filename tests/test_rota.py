@@ -1,0 +1,148 @@
+"""The unit rota: assignment by shift, staggering within windows, unmet, handovers."""
+
+from __future__ import annotations
+
+from datetime import UTC, datetime, timedelta
+
+import pytest
+
+from tests.surv_factory import PROTOCOL, make_unit, sheath_patient
+from vascplan.errors import InputError
+from vascplan.surveillance.rota import UNASSIGNED, build_rota
+
+
+def _utc(text: str) -> datetime:
+    return datetime.fromisoformat(text).astimezone(UTC)
+
+
+STAFF = [
+    {"nurse": "RN-A", "beds": [1, 2, 3], "shifts": ["day"]},
+    {"nurse": "RN-N", "beds": [1, 2, 3], "shifts": ["night"]},
+]
+
+
+def test_two_hourly_checks_at_once_are_staggered_within_window():
+    # Both sheaths went in at 08:00, so both are hourly on the hour from 11:00.
+    unit = make_unit(
+        "Europe/London",
+        [sheath_patient(1, "2026-12-01T08:00"), sheath_patient(2, "2026-12-01T08:00")],
+        staff=STAFF,
+    )
+    rota = build_rota(unit, PROTOCOL, _utc("2026-12-01T12:00Z"), _utc("2026-12-01T13:00Z"))
+    assert [(c.bed, c.due.strftime("%H:%M"), c.time.strftime("%H:%M")) for c in rota.checks] == [
+        (1, "12:00", "12:00"),
+        (2, "12:00", "12:05"),  # check_duration_min 5 (unit policy) after bed 1
+    ]
+    assert rota.unmet == []
+    for c in rota.checks:
+        assert c.due <= c.time <= c.due + timedelta(minutes=c.tolerance_min)
+
+
+def test_three_quarter_hourly_checks_cannot_all_be_met():
+    # Three insertions at 10:00: q15 checks (tolerance 5 min) all due together.
+    patients = [sheath_patient(b, "2026-12-01T10:00") for b in (1, 2, 3)]
+    unit = make_unit("Europe/London", patients, staff=STAFF)
+    rota = build_rota(unit, PROTOCOL, _utc("2026-12-01T10:00Z"), _utc("2026-12-01T10:20Z"))
+    placed = [(c.bed, c.time.strftime("%H:%M"), c.within_window) for c in rota.checks]
+    assert placed == [(1, "10:15", True), (2, "10:20", True), (3, "10:25", False)]
+    assert len(rota.unmet) == 1
+    assert rota.unmet[0].check.bed == 3
+    assert rota.unmet[0].reason == (
+        "RN-A is busy with bed 2 until 10:25; the window of this check closed at 10:20 "
+        "(5 min after due); placed 10 min late"
+    )
+
+
+def test_different_nurses_do_not_stagger():
+    staff = [
+        {"nurse": "RN-A", "beds": [1], "shifts": ["day"]},
+        {"nurse": "RN-B", "beds": [2], "shifts": ["day"]},
+    ]
+    unit = make_unit(
+        "Europe/London",
+        [sheath_patient(1, "2026-12-01T08:00"), sheath_patient(2, "2026-12-01T08:00")],
+        staff=staff,
+    )
+    rota = build_rota(unit, PROTOCOL, _utc("2026-12-01T12:00Z"), _utc("2026-12-01T12:30Z"))
+    assert all(c.time == c.due for c in rota.checks)
+    assert {c.nurse for c in rota.checks} == {"RN-A", "RN-B"}
+
+
+def test_unassigned_when_nobody_has_the_bed():
+    unit = make_unit("Europe/London", [sheath_patient(4, "2026-12-01T08:00")], staff=STAFF)
+    rota = build_rota(unit, PROTOCOL, _utc("2026-12-01T12:00Z"), _utc("2026-12-01T14:00Z"))
+    assert {c.nurse for c in rota.checks} == {UNASSIGNED}
+
+
+def test_assignment_follows_the_shift_across_a_clock_change():
+    # 2026-10-25 in London: the night shift 19:30 (24th, BST) to 07:30 (25th, GMT) lasts 13 h.
+    unit = make_unit("Europe/London", [sheath_patient(1, "2026-10-24T08:00")], staff=STAFF)
+    rota = build_rota(unit, PROTOCOL, _utc("2026-10-24T18:00Z"), _utc("2026-10-25T08:00Z"))
+    nights = [c for c in rota.checks if c.nurse == "RN-N"]
+    assert nights[0].time.isoformat() == "2026-10-24T20:00:00+01:00"
+    assert nights[-1].time.isoformat() == "2026-10-25T07:00:00+00:00"
+    assert len(nights) == 13  # 19:00Z .. 07:00Z hourly: 13 checks in a 13-hour night
+    day = [c for c in rota.checks if c.nurse == "RN-A"]
+    assert day and all(c.shift == "day" for c in day)
+    assert [h.at.isoformat() for h in rota.handovers] == [
+        "2026-10-24T19:30:00+01:00",
+        "2026-10-25T07:30:00+00:00",
+    ]
+
+
+def test_handover_lists_due_soon_and_overdue():
+    # Three sheaths in at 15:25: hourly checks at :25, all three due 19:25 with RN-A.
+    patients = [sheath_patient(b, "2026-12-01T15:25") for b in (1, 2, 3)]
+    unit = make_unit("Europe/London", patients, staff=STAFF)
+    rota = build_rota(unit, PROTOCOL, _utc("2026-12-01T17:00Z"), _utc("2026-12-01T21:00Z"))
+    (handover,) = rota.handovers
+    assert handover.shift == "night"
+    assert handover.at.strftime("%H:%M") == "19:30"
+    # Hourly from 18:25: due 19:25 for beds 1-3 by RN-A, placed 19:25, 19:30, 19:35.
+    assert [(c.bed, c.time.strftime("%H:%M")) for c in handover.overdue] == [
+        (2, "19:30"),
+        (3, "19:35"),
+    ]
+    # Due in the first hour of the night: 20:25 for the three beds.
+    assert [(c.bed, c.due.strftime("%H:%M")) for c in handover.due_soon] == [
+        (1, "20:25"),
+        (2, "20:25"),
+        (3, "20:25"),
+    ]
+
+
+def test_nurse_filter_and_worklist_order():
+    unit = make_unit(
+        "Europe/London",
+        [sheath_patient(1, "2026-12-01T08:00"), sheath_patient(2, "2026-12-01T08:20")],
+        staff=STAFF,
+    )
+    rota = build_rota(
+        unit, PROTOCOL, _utc("2026-12-01T12:00Z"), _utc("2026-12-02T00:00Z"), nurse="RN-N"
+    )
+    assert rota.checks and {c.nurse for c in rota.checks} == {"RN-N"}
+    times = [c.time for c in rota.worklists()["RN-N"]]
+    assert times == sorted(times)
+
+
+def test_unknown_nurse_is_one_line():
+    unit = make_unit("Europe/London", [sheath_patient(1, "2026-12-01T08:00")], staff=STAFF)
+    with pytest.raises(InputError) as exc:
+        build_rota(
+            unit, PROTOCOL, _utc("2026-12-01T12:00Z"), _utc("2026-12-01T13:00Z"), nurse="RN-N2"
+        )
+    assert str(exc.value) == (
+        "--nurse: unknown nurse 'RN-N2' (did you mean 'RN-N'?); staff: RN-A, RN-N"
+    )
+
+
+def test_every_check_in_the_rota_once():
+    patients = [sheath_patient(b, f"2026-12-01T0{b}:0{b}") for b in (1, 2, 3)]
+    unit = make_unit("Europe/London", patients, staff=STAFF)
+    start, end = _utc("2026-12-01T00:00Z"), _utc("2026-12-03T00:00Z")
+    from vascplan.surveillance.schedule import unit_schedule
+
+    planned = {(c.bed, c.due) for c in unit_schedule(unit, PROTOCOL, start, end)}
+    rota = build_rota(unit, PROTOCOL, start, end)
+    placed = [(c.bed, c.due) for c in rota.checks]
+    assert len(placed) == len(set(placed)) and set(placed) == planned

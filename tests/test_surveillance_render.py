@@ -1,0 +1,80 @@
+"""Renderers: the iCalendar file parses back with the same events; all carry the caution."""
+
+from __future__ import annotations
+
+import io
+import json
+from datetime import UTC, datetime
+
+import icalendar
+
+from tests.surv_factory import PROTOCOL, make_unit, sheath_patient
+from vascplan.safety import CAUTION
+from vascplan.surveillance.render import rota_csv, rota_ics, rota_json, rota_table
+from vascplan.surveillance.rota import build_rota
+
+STAFF = [{"nurse": "RN-A", "beds": [1, 2], "shifts": ["day", "night"]}]
+
+
+def _rota(start="2026-10-24T20:00Z", end="2026-10-25T06:00Z"):
+    unit = make_unit(
+        "Europe/London",
+        [sheath_patient(1, "2026-10-24T08:00"), sheath_patient(2, "2026-10-24T08:00")],
+        staff=STAFF,
+    )
+    s = datetime.fromisoformat(start).astimezone(UTC)
+    e = datetime.fromisoformat(end).astimezone(UTC)
+    return build_rota(unit, PROTOCOL, s, e)
+
+
+def test_ics_parses_back_with_the_same_events():
+    # Across the London autumn clock change, with staggered checks (two beds, one nurse).
+    rota = _rota()
+    raw = rota_ics(rota, PROTOCOL, stamp=datetime(2026, 10, 1, tzinfo=UTC))
+    cal = icalendar.Calendar.from_ical(raw)
+    events = [c for c in cal.walk("VEVENT")]
+    assert len(events) == len(rota.checks)
+    assert str(cal["X-WR-CALDESC"]) == CAUTION
+    assert [tz["TZID"] for tz in cal.walk("VTIMEZONE")] == ["Europe/London"]
+    uids = [str(e["UID"]) for e in events]
+    assert len(set(uids)) == len(uids)
+    for ev, check in zip(events, rota.checks, strict=True):
+        start = ev.decoded("DTSTART")
+        # Compare in UTC: same-zone datetimes compare by wall time in Python.
+        assert start.astimezone(UTC) == check.time.astimezone(UTC)
+        # RFC 5545 s3.3.5: a repeated local time means its first occurrence, so those go in UTC.
+        local = check.time
+        repeated = local.replace(fold=0).utcoffset() != local.replace(fold=1).utcoffset()
+        expected_tzid = None if repeated else "Europe/London"
+        assert ev["DTSTART"].params.get("TZID") == expected_tzid
+        assert "DTSTAMP" in ev
+        assert CAUTION in str(ev["DESCRIPTION"])
+        (alarm,) = ev.walk("VALARM")
+        assert str(alarm["ACTION"]) == "DISPLAY"
+    # the repeated 01:00 local hour appears twice, one hour apart in real time
+    ones = [
+        e.decoded("DTSTART").astimezone(UTC)
+        for e in events
+        if e.decoded("DTSTART").astimezone(rota.checks[0].time.tzinfo).strftime("%H:%M") == "01:00"
+    ]
+    assert len(ones) == 2 and (ones[1] - ones[0]).total_seconds() == 3600
+
+
+def test_json_contract():
+    doc = json.loads(rota_json(_rota()))
+    assert {"unit", "from", "to", "checks", "unmet", "caution"} <= set(doc)
+    c = doc["checks"][0]
+    assert {"time", "due", "bed", "ref", "nurse", "phase", "items"} <= set(c)
+    assert datetime.fromisoformat(c["time"]).utcoffset() is not None
+    assert doc["caution"] == CAUTION
+
+
+def test_csv_and_table_carry_the_caution():
+    import pandas as pd
+
+    rota = _rota()
+    text = rota_csv(rota)
+    assert text.splitlines()[0] == f"# {CAUTION}"
+    frame = pd.read_csv(io.StringIO(text), comment="#")
+    assert len(frame) == len(rota.checks)
+    assert CAUTION in rota_table(rota)
