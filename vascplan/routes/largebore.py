@@ -58,14 +58,15 @@ def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], device
 
     site = facts.site
     od = devices.sheath_od_mm
-    segments = []
+    segments: list[dict[str, Any]] = []
     for leg in facts.sheath_legs:
         if leg.length_cm < EPS_CM:
             continue
         mld = view.mld_mm(leg.node, leg.lo_cm, leg.hi_cm)
         step = view.calcification_step(leg.node, leg.lo_cm, leg.hi_cm)
         calcified = step >= CALCIFICATION_GRADES.index("moderate")
-        limit = limits["sar_max_calcified"] if calcified else limits["sar_max"]
+        limit = min(limits["sar_max_calcified"], limits["sar_max"]) if calcified else limits[
+            "sar_max"]
         sar = od / mld if mld > 0 else None
         segments.append({
             "segment": leg.node,
@@ -100,7 +101,8 @@ def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], device
     }
     if limiting is None or facts.path is None:
         return out
-    vessel_mm = limiting["mld_mm"]
+    vessel_mm = float(limiting["mld_mm"])
+    limiting_sar = None if limiting["sar"] is None else float(limiting["sar"])
     if occupied_cm > EPS_CM and vessel_mm > 0:
         est = limb_flow_with_device(vessel_mm, od, occupied_cm)
         out["lumen_left_mm2"] = round(est.lumen_left_mm2, 1)
@@ -114,7 +116,7 @@ def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], device
                 "percentages show the narrowing only (common practice)")
     access = site.segment.split("-", 1)[-1]
     vessel = access if access in FEMORAL_ACCESS else "AXA"
-    advised, basis = dpc_advice(kind, limiting["sar"], _pad_on_side(view, site.side),
+    advised, basis = dpc_advice(kind, limiting_sar, _pad_on_side(view, site.side),
                                 view.case.patient.sex, vessel_mm, False, access_vessel=vessel)
     out["dpc"] = {"advised": advised, "basis": basis}
     return out

@@ -82,13 +82,15 @@ def sar_limit(facts: RouteFacts, ctx: LimitContext) -> tuple[float, str]:
     """The SAR limit for this route's sheath stretch, and why.
 
     Moderate or severe calcification anywhere on the stretch lowers it
-    (``sar_max_calcified``; calcified arteries do not stretch, common practice).
+    (``sar_max_calcified``; calcified arteries do not stretch, common practice); it never
+    raises it above ``sar_max``.
     """
     worst = max((ctx.view.calcification_step(leg.node, leg.lo_cm, leg.hi_cm)
                  for leg in facts.sheath_legs), default=0)
     if worst >= CALCIFICATION_GRADES.index("moderate"):
         grade = CALCIFICATION_GRADES[worst]
-        return ctx.limits["sar_max_calcified"], f"limit for a {grade}ly calcified stretch"
+        limit = min(ctx.limits["sar_max_calcified"], ctx.limits["sar_max"])
+        return limit, f"limit for a {grade}ly calcified stretch"
     return ctx.limits["sar_max"], "limit (Hayashida et al., JACC Cardiovasc Interv 2011)"
 
 

@@ -19,7 +19,6 @@ from __future__ import annotations
 
 import bisect
 import itertools
-from collections.abc import Iterator
 from dataclasses import dataclass
 from typing import Any
 
@@ -31,7 +30,7 @@ EPS_CM = 1e-6
 K_PATHS = 3
 """How many paths to keep per site and direction (the k of the k best)."""
 
-_CANDIDATES_PER_PATH = 4
+_CANDIDATES_PER_PATH = 2
 """Candidates drawn from Yen's algorithm per path kept, to allow for dropped ones."""
 
 _SRC = ("__puncture__", 0.0)
@@ -176,6 +175,15 @@ class PointGraph:
                 self.graph.add_edge((node, x), (node, y), w=y - x)
         for u, v in junctions:
             self.graph.add_edge(u, v, w=0.0)
+        # Edges on a cycle (pedal loop, graft), by block: only a path using one can have
+        # rivals, and every rival stays inside the cyclic blocks the shortest one uses.
+        self.block_of: dict[frozenset, int] = {}
+        self.block_nodes: list[set[Any]] = []
+        for block in nx.biconnected_component_edges(self.graph):
+            if len(block) > 1:
+                self.block_nodes.append({n for e in block for n in e})
+                for e in block:
+                    self.block_of[frozenset(e)] = len(self.block_nodes) - 1
 
     def _place(self, node: str, cm: float, direction: str | None) -> float:
         """Clamp a point inside its node and off every existing junction point."""
@@ -242,22 +250,30 @@ class PointGraph:
         added: list[tuple[Any, Any]] = []
         removed: list[tuple[Any, Any, dict]] = []
 
+        block_of = dict(self.block_of)
+
         def split(node: str, cm: float, key: Any, lower: bool, upper: bool) -> None:
             lo, hi = self._neighbours(node, cm)
+            block = None
             if lo is not None and hi is not None and g.has_edge((node, lo), (node, hi)):
                 removed.append(((node, lo), (node, hi), dict(g.edges[(node, lo), (node, hi)])))
                 g.remove_edge((node, lo), (node, hi))
+                block = block_of.get(frozenset(((node, lo), (node, hi))))
             if lower and lo is not None:
                 g.add_edge(key, (node, lo), w=cm - lo)
                 added.append((key, (node, lo)))
+                if block is not None:
+                    block_of[frozenset((key, (node, lo)))] = block
             if upper and hi is not None:
                 g.add_edge((node, hi), key, w=hi - cm)
                 added.append(((node, hi), key))
+                if block is not None:
+                    block_of[frozenset(((node, hi), key))] = block
 
         try:
             split(segment, p, _SRC, direction == "retrograde", direction == "antegrade")
             split(target_segment, t, _DST, True, True)
-            return self._k_best(segment, p, target_segment, t, k)
+            return self._k_best(segment, p, target_segment, t, k, block_of)
         finally:
             for node in (_SRC, _DST):
                 if node in g:
@@ -266,23 +282,66 @@ class PointGraph:
                 g.add_edge(u, v, **attrs)
 
     def _k_best(self, segment: str, p: float, target_segment: str, t: float,
-                k: int) -> list[CatheterPath]:
-        if _SRC not in self.graph or _DST not in self.graph:
+                k: int, block_of: dict[frozenset, int]) -> list[CatheterPath]:
+        """The k shortest paths from the inserted puncture to the inserted target."""
+        g = self.graph
+        if _SRC not in g or _DST not in g:
             return []
-        out: list[CatheterPath] = []
         try:
-            candidates: Iterator[list[Any]] = nx.shortest_simple_paths(
-                self.graph, _SRC, _DST, weight="w"
-            )
-            for points in itertools.islice(candidates, k * _CANDIDATES_PER_PATH):
-                path = _to_path(points, segment, p, target_segment, t)
-                if path is not None:
-                    out.append(path)
-                if len(out) >= k:
-                    break
+            first = nx.dijkstra_path(g, _SRC, _DST, weight="w")
         except nx.NetworkXNoPath:
-            return out
+            return []
+        blocks = {block_of[e] for e in map(frozenset, itertools.pairwise(first))
+                  if e in block_of}
+        if not blocks:
+            # The shortest path touches no cycle: it is the only simple path.
+            path = _to_path(first, segment, p, target_segment, t)
+            return [path] if path is not None else []
+        # Every simple path runs through the same bridges and, within each cyclic block
+        # the shortest path crosses, between the same two points: the k best overall are
+        # the best combinations of each block's k best (Yen's search inside the block).
+        runs = _block_runs(first, block_of)
+        options: list[list[tuple[float, list[Any]]]] = []
+        for b, i, j in runs:
+            nodes = set(self.block_nodes[b]) | {n for e, blk in block_of.items() if blk == b
+                                                for n in e}
+            sub = g.subgraph(nodes)
+            inner = itertools.islice(
+                nx.shortest_simple_paths(sub, first[i], first[j], weight="w"),
+                k * _CANDIDATES_PER_PATH)
+            options.append([(nx.path_weight(sub, q, "w"), q) for q in inner])
+        combos = sorted(
+            (sum(c[0] for c in choice), choice) for choice in itertools.product(*options)
+        )
+        out: list[CatheterPath] = []
+        for _cost, choice in combos:
+            points: list[Any] = []
+            last = 0
+            for (_b, i, j), (_w, inner_path) in zip(runs, choice, strict=True):
+                points.extend(first[last:i])
+                points.extend(inner_path)
+                last = j + 1
+            points.extend(first[last:])
+            path = _to_path(points, segment, p, target_segment, t)
+            if path is not None:
+                out.append(path)
+            if len(out) >= k:
+                break
         return out
+
+
+def _block_runs(points: list[Any], block_of: dict[frozenset, int]) -> list[tuple[int, int, int]]:
+    """(block, first index, last index) of each stretch of a path inside one cyclic block."""
+    runs: list[tuple[int, int, int]] = []
+    for i, edge in enumerate(itertools.pairwise(points)):
+        b = block_of.get(frozenset(edge))
+        if b is None:
+            continue
+        if runs and runs[-1][0] == b and runs[-1][2] == i:
+            runs[-1] = (b, runs[-1][1], i + 1)
+        else:
+            runs.append((b, i, i + 1))
+    return runs
 
 
 def _to_path(points: list[Any], segment: str, p: float, target_segment: str,

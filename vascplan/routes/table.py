@@ -153,6 +153,10 @@ def render_explain(plan: dict[str, Any], routes: list[dict[str, Any]]) -> str:
     """Every factor and every hard limit for the given routes of a plan."""
     lines = [f"{plan['case']}: {_target_line(plan)}"]
     limits = plan["limits"]
+    if not routes:
+        lines.append("")
+        lines.append("no routes from this site in this plan (support mode compares the groins "
+                     "and the axillaries only)")
     for route in routes:
         assumed = set(route["assumed"])
         lines.append("")
@@ -169,7 +173,7 @@ def render_explain(plan: dict[str, Any], routes: list[dict[str, Any]]) -> str:
             f" (limit {_num(route['sar_limit'], '.2f', False)}); approach {route['approach']}; "
             f"position {route['position']}")
         lines.append("  hard limits:")
-        broken = {}
+        broken: dict[str, list[dict[str, Any]]] = {}
         for b in route["blocked_by"]:
             broken.setdefault(b["code"], []).append(b)
         for code, meaning in REASON_CODES.items():

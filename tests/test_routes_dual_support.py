@@ -1,0 +1,89 @@
+"""Dual access pairs for an occlusion, and the large-bore support comparison."""
+
+from __future__ import annotations
+
+import pytest
+
+from tests.routes_cases import make_case, routes_from
+from vascplan.case.load import load_case
+from vascplan.paths import examples_dir
+from vascplan.routes.plan import plan_case
+from vascplan.sizing.limb import limb_flow_with_device
+
+
+def _occlusion_case(**changes):
+    return make_case(lesions=[{"segment": "L-SFA", "kind": "occlusion", "start_cm": 8,
+                               "length_cm": 10, "proximal_cap": "blunt",
+                               "distal_cap": "tapered"}], **changes)
+
+
+def test_pairs_one_route_to_each_cap_no_shared_puncture():
+    result = plan_case(_occlusion_case())
+    assert result.pairs
+    for pair in result.pairs:
+        assert pair.proximal.approach == "proximal-cap" and pair.proximal.feasible
+        assert pair.distal.approach == "distal-cap" and pair.distal.feasible
+        assert pair.proximal.site != pair.distal.site
+        assert pair.proximal.segment != pair.distal.segment
+    scores = [p.score for p in result.pairs]
+    assert scores == sorted(scores)
+    # The popliteal (prone) with a groin route needs the patient turned.
+    prone = [p for p in result.pairs if p.distal.site == "L-POP"]
+    assert prone and "turn the patient" in prone[0].notes[0]
+
+
+def test_no_pairs_when_the_target_is_not_an_occlusion():
+    assert plan_case(make_case()).pairs == []
+
+
+def test_pairs_skip_blocked_routes():
+    # Avoid the left groin: no pair may use it.
+    result = plan_case(_occlusion_case(avoid=[{"site": "L-CFA", "reason": "scar"}]))
+    assert all(p.proximal.site != "L-CFA" for p in result.pairs)
+
+
+def _support_case(**changes):
+    # Microaxial pump 14 Fr, outer 5.7 mm measured, 25 cm sheath, tip in the AO-ASC.
+    return make_case(procedure={"purpose": "support",
+                                "target": {"segment": "AO-ASC", "at_cm": 2},
+                                "sheath": {"size_fr": 14, "length_cm": 25, "outer_mm": 5.7},
+                                "device": {"profile_fr": 14, "working_length_cm": 110}},
+                     **changes)
+
+
+def test_support_compares_both_groins_and_both_axillaries():
+    result = plan_case(_support_case())
+    assert sorted(r.site for r in result.routes) == ["L-AXA", "L-CFA", "R-AXA", "R-CFA"]
+    axes = {a["site"]: a for a in result.support["axes"]}
+    assert set(axes) == {"L-AXA", "L-CFA", "R-AXA", "R-CFA"}
+    cfa = axes["R-CFA"]
+    # 25 cm - 4 cm skin = 21 cm in the artery: R-CFA 2 + R-EIA 10 + R-CIA 6 + 3 cm of
+    # AO-INFRA. SARs: 5.7/8 = 0.71, 5.7/7 = 0.81, 5.7/9 = 0.63, 5.7/16 = 0.36.
+    assert [s["segment"] for s in cfa["segments"]] == ["R-CFA", "R-EIA", "R-CIA", "AO-INFRA"]
+    assert [s["sar"] for s in cfa["segments"]] == [0.71, 0.81, 0.63, 0.36]
+    assert cfa["limiting_segment"] == "R-EIA" and cfa["occupied_cm"] == 21.0
+    # Lumen left and distal flow come from the sizing model for the limiting stretch.
+    est = limb_flow_with_device(7.0, 5.7, 21.0)
+    assert cfa["lumen_left_pct"] == pytest.approx(round(est.lumen_left_pct, 1))
+    assert cfa["distal_flow_pct"]["concentric"] == pytest.approx(
+        round(est.distal_flow_pct_concentric, 1))
+    assert isinstance(cfa["dpc"]["advised"], bool) and cfa["dpc"]["basis"]
+    assert result.support["device_kind"] == "microaxial-pump"
+
+
+def test_support_small_calcified_iliac_blocks_that_axis():
+    # R-EIA 5.5 mm, severely calcified: SAR 5.7/5.5 = 1.04 >= 1.00 (calcified limit).
+    result = plan_case(_support_case(vessels={"R-EIA": {"diameter_mm": 5.5,
+                                                        "calcification": "severe"}}))
+    axes = {a["site"]: a for a in result.support["axes"]}
+    assert not axes["R-CFA"]["feasible"]
+    assert axes["R-CFA"]["blocked_by"][0]["code"] == "sheath-too-large"
+    (route,) = routes_from(result, "R-CFA")
+    assert route.blocked_by[0].segment == "R-EIA"
+    assert result.support["best_site"] != "R-CFA"
+
+
+def test_support_example_file():
+    result = plan_case(load_case(examples_dir() / "case-DEMO-12-support-small-iliac.yaml"))
+    data = result.to_dict()
+    assert data["support"]["axes"] and data["purpose"] == "support"

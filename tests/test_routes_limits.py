@@ -1,0 +1,187 @@
+"""Every hard limit triggered by a worked example; verdicts computed by hand.
+
+Numbers from tests/routes_cases.py (measured), data/access/sites.csv (puncture
+points, skin depths) and data/access/limits.yaml (sar_max 1.05, sar_max_calcified
+1.00, outside_body_cm 10, puncture_zone_cm 1, crossover_origin_cm 1).
+"""
+
+from __future__ import annotations
+
+import pytest
+
+from tests.routes_cases import codes, make_case, routes_from
+from vascplan.routes.limits import CHECKS, REASON_CODES
+from vascplan.routes.plan import plan_case
+from vascplan.routes.settings import LIMITS_FILE, load_table
+
+
+def test_every_reason_code_has_a_check_and_a_meaning():
+    assert [code for code, _ in CHECKS] == [
+        "unreachable", "site-avoided", "site-diseased", "no-crossover", "occlusion-en-route",
+        "sheath-too-large", "device-too-large", "too-short"]
+    assert set(REASON_CODES) == {code for code, _ in CHECKS}
+
+
+def test_sar_threshold_is_the_published_one():
+    # Hayashida et al., JACC Cardiovasc Interv 2011;4:851: SFAR >= 1.05 predicted major
+    # vascular complications (confirmed by Barbanti et al., EuroIntervention 2013).
+    table = load_table(LIMITS_FILE)
+    assert table["sar_max"].value == 1.05
+    assert "Hayashida" in table["sar_max"].basis
+    assert table["sar_max_calcified"].value < table["sar_max"].value
+
+
+@pytest.mark.parametrize(("outer_mm", "blocked"), [(2.90, False), (2.95, True)])
+def test_sheath_too_large_at_the_threshold(outer_mm, blocked):
+    # L-RAD 2.8 mm measured. SAR = 2.90 / 2.8 = 1.036 < 1.05: passes;
+    # 2.95 / 2.8 = 1.054 >= 1.05: blocked at L-RAD. The 11 cm sheath stays in the radial
+    # (11 - 0.5 skin = 10.5 cm of the 19.8 cm from the puncture to the radial origin).
+    case = make_case(procedure={"sheath": {"size_fr": 6, "length_cm": 11, "outer_mm": outer_mm}})
+    (route,) = routes_from(plan_case(case), "L-RAD")
+    assert route.sar == pytest.approx(outer_mm / 2.8)
+    assert route.limiting_segment == "L-RAD"
+    if blocked:
+        assert ("sheath-too-large", "L-RAD") in codes(route)
+        detail = route.blocked_by[codes(route).index(("sheath-too-large", "L-RAD"))].detail
+        assert "SAR 1.05" in detail and "1.05" in detail
+    else:
+        assert "sheath-too-large" not in [c for c, _ in codes(route)]
+
+
+@pytest.mark.parametrize(("calcification", "blocked"), [("none", False), ("mild", False),
+                                                        ("moderate", True), ("severe", True)])
+def test_calcified_stretch_lowers_the_sar_limit(calcification, blocked):
+    # R-CFA 8 mm, sheath outer 8.2 mm: SAR 1.025, under 1.05 but at or over 1.00, the
+    # limit for a moderately or severely calcified stretch.
+    case = make_case(vessels={"R-CFA": {"diameter_mm": 8, "calcification": calcification}},
+                     procedure={"sheath": {"size_fr": 24, "length_cm": 6, "outer_mm": 8.2}})
+    (route,) = routes_from(plan_case(case), "R-CFA", "retrograde")
+    assert route.sar == pytest.approx(8.2 / 8)
+    assert (("sheath-too-large", "R-CFA") in codes(route)) is blocked
+
+
+def test_sheath_limit_override_from_the_case_and_the_caller():
+    case = make_case(procedure={"sheath": {"size_fr": 6, "length_cm": 11, "outer_mm": 2.9}},
+                     limits={"sar_max": 1.0})
+    (route,) = routes_from(plan_case(case), "L-RAD")
+    assert ("sheath-too-large", "L-RAD") in codes(route)          # 1.036 >= 1.0
+    (route,) = routes_from(plan_case(case, limits={"sar_max": 1.1}), "L-RAD")
+    assert "sheath-too-large" not in [c for c, _ in codes(route)]  # caller wins: 1.036 < 1.1
+
+
+def test_device_too_large_beyond_the_sheath_tip():
+    # Device 7 Fr = 2.33 mm outer. Target L-POP at 5; L-POP measured 2.2 mm: wider than the
+    # vessel beyond the sheath tip (the 11 cm sheath ends 7 cm in: L-CFA 2 + L-SFA 5).
+    case = make_case(vessels={"L-POP": {"diameter_mm": 2.2}},
+                     procedure={"target": {"segment": "L-POP", "at_cm": 5},
+                                "device": {"profile_fr": 7, "working_length_cm": 150}})
+    (route,) = routes_from(plan_case(case), "L-CFA", "antegrade")
+    assert codes(route) == [("device-too-large", "L-POP")]
+
+
+def test_target_lesion_is_excluded_and_other_stenoses_are_soft():
+    # Device 6 Fr = 2 mm. Target: an 80% L-SFA stenosis at 10-14 (lumen 6 x 0.2 = 1.2 mm):
+    # crossing it is the procedure, so no block. A second 80% stenosis at 20-22 cm on the
+    # way to a target in L-POP would be a soft factor, never a block.
+    case = make_case(lesions=[{"segment": "L-SFA", "kind": "stenosis", "stenosis_pct": 80,
+                               "start_cm": 10, "length_cm": 4}])
+    (route,) = routes_from(plan_case(case), "L-CFA", "antegrade")
+    assert route.feasible
+    case = make_case(lesions=[{"segment": "L-SFA", "kind": "stenosis", "stenosis_pct": 80,
+                               "start_cm": 20, "length_cm": 2}],
+                     procedure={"target": {"segment": "L-POP", "at_cm": 4}})
+    (route,) = routes_from(plan_case(case), "L-CFA", "antegrade")
+    assert route.feasible
+    names = [f.name for f in route.factors]
+    assert "stenosis_tighter_than_device" in names and "stenosis_en_route" in names
+
+
+@pytest.mark.parametrize(("working_cm", "blocked"), [(150, False), (149, True)])
+def test_too_short(working_cm, blocked):
+    # R-RAD to L-SFA at 12 is 139.4 cm (test_routes_paths); + 10 cm outside = 149.4 cm.
+    case = make_case(procedure={"device": {"profile_fr": 6, "working_length_cm": working_cm}})
+    (route,) = routes_from(plan_case(case), "R-RAD")
+    assert (("too-short", "L-SFA") in codes(route)) is blocked
+    if blocked:
+        assert "149.4 cm" in route.blocked_by[-1].detail
+
+
+def test_occlusion_en_route():
+    # An L-EIA occlusion blocks the up-and-over route from the right groin, not the
+    # antegrade route from the left groin below it.
+    case = make_case(lesions=[{"segment": "L-EIA", "kind": "occlusion", "start_cm": 3,
+                               "length_cm": 4}])
+    result = plan_case(case)
+    (over,) = routes_from(result, "R-CFA", "retrograde")
+    assert codes(over) == [("occlusion-en-route", "L-EIA")]
+    (down,) = routes_from(result, "L-CFA", "antegrade")
+    assert down.feasible
+
+
+def test_target_occlusion_is_not_en_route():
+    case = make_case(lesions=[{"segment": "L-SFA", "kind": "occlusion", "start_cm": 8,
+                               "length_cm": 10, "proximal_cap": "tapered",
+                               "distal_cap": "tapered"}])
+    (down,) = routes_from(plan_case(case), "L-CFA", "antegrade")
+    assert down.feasible and down.approach == "proximal-cap"
+
+
+def test_site_avoided():
+    case = make_case(avoid=[{"site": "L-CFA", "reason": "groin infection"}])
+    for route in routes_from(plan_case(case), "L-CFA"):
+        assert ("site-avoided", "L-CFA") in codes(route)
+        assert "groin infection" in route.blocked_by[codes(route).index(
+            ("site-avoided", "L-CFA"))].detail
+
+
+@pytest.mark.parametrize(("start_cm", "diseased"), [(1.0, True), (2.5, True), (3.2, False)])
+def test_site_diseased_by_a_stent_in_the_puncture_zone(start_cm, diseased):
+    # L-CFA puncture at 2 cm; zone 1-3 cm. A stent from start_cm to the CFA end touches
+    # the zone when it starts at or before 3 cm.
+    case = make_case(stents=[{"segment": "L-CFA", "start_cm": start_cm,
+                              "length_cm": 4 - start_cm, "diameter_mm": 8}])
+    (route,) = routes_from(plan_case(case), "L-CFA", "antegrade")
+    assert (("site-diseased", "L-CFA") in codes(route)) is diseased
+
+
+def test_site_diseased_by_a_stenosis():
+    case = make_case(lesions=[{"segment": "R-CFA", "kind": "stenosis", "stenosis_pct": 30,
+                               "start_cm": 1.5, "length_cm": 1}])
+    (route,) = routes_from(plan_case(case), "R-CFA", "retrograde")
+    assert codes(route) == [("site-diseased", "R-CFA")]
+
+
+def test_no_crossover_with_kissing_stents():
+    stents = [{"segment": f"{s}-CIA", "start_cm": 0, "length_cm": 4, "diameter_mm": 9}
+              for s in ("L", "R")]
+    (over,) = routes_from(plan_case(make_case(stents=stents)), "R-CFA", "retrograde")
+    assert codes(over) == [("no-crossover", "AO-INFRA")]
+    assert "kissing stents" in over.blocked_by[0].detail
+    # One stented side alone leaves the bifurcation free.
+    (over,) = routes_from(plan_case(make_case(stents=stents[:1])), "R-CFA", "retrograde")
+    assert over.feasible
+
+
+def test_no_crossover_with_an_aortobifemoral_graft():
+    grafts = [{"name": f"abf-{s}", "from": "AO-INFRA", "from_cm": 3, "to": f"{s}-CFA",
+               "to_cm": 1, "diameter_mm": 8} for s in ("L", "R")]
+    result = plan_case(make_case(grafts=grafts))
+    crossing = [r for r in routes_from(result, "R-CFA", "retrograde")]
+    assert crossing and all(("no-crossover", "AO-INFRA") in codes(r) for r in crossing)
+    # the arm route down the aorta does not cross over: not blocked by it
+    (arm,) = [r for r in routes_from(result, "L-AXA") if "GRAFT:abf-L" not in r.path][:1]
+    assert "no-crossover" not in [c for c, _ in codes(arm)]
+
+
+def test_unreachable():
+    (route,) = routes_from(plan_case(make_case()), "L-CFA", "retrograde")
+    assert codes(route) == [("unreachable", "L-CFA")]
+    assert not route.feasible and route.path == ["L-CFA"]
+
+
+def test_a_route_breaking_several_limits_lists_each():
+    # R-RAD, 149 cm device, avoided: site-avoided and too-short, in registry order.
+    case = make_case(avoid=[{"site": "R-RAD", "reason": "graft harvest"}],
+                     procedure={"device": {"profile_fr": 6, "working_length_cm": 149}})
+    (route,) = routes_from(plan_case(case), "R-RAD")
+    assert codes(route) == [("site-avoided", "R-RAD"), ("too-short", "L-SFA")]
