@@ -146,7 +146,8 @@ class _Canvas:
         }
         self.size = (width, height)
         self.used_height = (max(ys) - min(ys)) * self.scale + margin_top + margin_bottom
-        self.labels: list[tuple[float, float, str, str, str]] = []
+        # (priority, x, y, text, anchor, font); lower priority is placed first.
+        self.labels: list[tuple[int, float, float, str, str, str]] = []
         self.width_pt = {sid: vessel_width_pt(data.segments[sid].diameter_mm) for sid in self.lines}
         for graft in data.grafts:
             if graft.from_segment in self.lines and graft.to_segment in self.lines:
@@ -239,8 +240,8 @@ def draw_map(data: MapData, width_pt: float, height_pt: float) -> Drawing:
     if data.target is not None and data.target[0] in cv.lines:
         # The target's label goes across the vessel from the segment's and lesions' labels.
         side = 1.0 if cv.places[data.target[0]].label_dx < 0 else -1.0
-        _target(d, cv.lines[data.target[0]].point_at(data.target[1]), f.bold, side)
-    for x, y, text, anchor, font in cv.labels:
+        _target(d, cv.lines[data.target[0]].point_at(data.target[1]), f.bold, side, cv.labels)
+    for x, y, text, anchor, font in place_labels(cv.labels):
         _halo_label(d, x, y, text, anchor, font)
     # Orientation: frontal view, the patient's right on the viewer's left.
     d.add(String(4, height_pt - 10, "patient's RIGHT", fontName=f.bold, fontSize=7))
@@ -338,7 +339,39 @@ def _lesion(
     seg_y = line.point_at(0.5)[1] + place.label_dy * cv.scale - 2
     if abs(ly - seg_y) < LABEL_PT + 1.5:
         ly = seg_y - (LABEL_PT + 2.0) if ly <= seg_y else seg_y + (LABEL_PT + 2.0)
-    cv.labels.append((lx, ly, text, "start" if nx >= 0 else "end", font))
+    cv.labels.append((0, lx, ly, text, "start" if nx >= 0 else "end", font))
+
+
+def _label_box(x: float, y: float, text: str, anchor: str, font: str) -> tuple[float, ...]:
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    w = stringWidth(text, font, LABEL_PT)
+    left = {"start": x, "end": x - w, "middle": x - w / 2}[anchor]
+    return left - 0.8, y - 1.4, left + w + 0.8, y + LABEL_PT - 0.2
+
+
+def place_labels(
+    labels: list[tuple[int, float, float, str, str, str]],
+) -> list[tuple[float, float, str, str, str]]:
+    """Move labels up or down (by a line, then two) until no two overlap, if they can.
+
+    Lesion and target labels are placed first and stay put; segment labels give way.
+    """
+    placed: list[tuple[float, ...]] = []
+    out = []
+    step = LABEL_PT + 1.6
+    for _, x, y, text, anchor, font in sorted(labels, key=lambda item: item[0]):
+        for dy in (0.0, -step, step, -2 * step, 2 * step):
+            box = _label_box(x, y + dy, text, anchor, font)
+            if not any(
+                box[0] < b[2] and b[0] < box[2] and box[1] < b[3] and b[1] < box[3] for b in placed
+            ):
+                break
+        else:
+            dy, box = 0.0, _label_box(x, y, text, anchor, font)
+        placed.append(box)
+        out.append((x, y + dy, text, anchor, font))
+    return out
 
 
 def _halo_label(d: Drawing, x: float, y: float, text: str, anchor: str, font: str) -> None:
@@ -375,7 +408,7 @@ def _segment_label(d: Drawing, cv: _Canvas, sid: str, seg: MapSegment, font: str
     y += place.label_dy * cv.scale - 2
     mark = "*" if seg.diameter_reference else ""
     anchor = "end" if place.label_dx < 0 else ("start" if place.label_dx > 0 else "middle")
-    cv.labels.append((x, y, f"{clean(seg.label)} {seg.diameter_mm:.1f}{mark}", anchor, font))
+    cv.labels.append((2, x, y, f"{clean(seg.label)} {seg.diameter_mm:.1f}{mark}", anchor, font))
 
 
 def _graft(d: Drawing, cv: _Canvas, graft: MapGraft, font: str) -> None:
@@ -386,7 +419,7 @@ def _graft(d: Drawing, cv: _Canvas, graft: MapGraft, font: str) -> None:
         PolyLine(pts, strokeColor=white, strokeWidth=max(w, 1.0), strokeLineCap=1, strokeLineJoin=1)
     )
     x, y = line.point_at(0.5)
-    cv.labels.append((x, y - w - 8, f"graft {clean(graft.label)}", "middle", font))
+    cv.labels.append((1, x, y - w - 8, f"graft {clean(graft.label)}", "middle", font))
 
 
 def route_points(cv: _Canvas, route: MapRoute, side: float) -> list[Point]:
@@ -481,32 +514,15 @@ def _route(
     )
 
 
-def _target(d: Drawing, p: Point, font: str, side: float = 1.0) -> None:
+def _target(d: Drawing, p: Point, font: str, side: float = 1.0, labels: list | None = None) -> None:
+    """The bullseye; its label goes to ``labels`` (placed with the others) when given."""
     d.add(Circle(p[0], p[1], 6.0, fillColor=None, strokeColor=INK, strokeWidth=1.1))
     d.add(Circle(p[0], p[1], 3.6, fillColor=None, strokeColor=white, strokeWidth=1.2))
     d.add(Circle(p[0], p[1], 2.0, fillColor=INK, strokeColor=INK, strokeWidth=0.5))
-    x = p[0] + side * 8.0
-    d.add(
-        Rect(
-            x - (24 if side < 0 else 0) - 0.5,
-            p[1] - 3.5,
-            25,
-            8.5,
-            fillColor=white,
-            strokeColor=None,
+    if labels is not None:
+        labels.append(
+            (0, p[0] + side * 8.0, p[1] - 2, "target", "end" if side < 0 else "start", font)
         )
-    )
-    d.add(
-        String(
-            x,
-            p[1] - 2,
-            "target",
-            fontName=font,
-            fontSize=6.5,
-            fillColor=INK,
-            textAnchor="end" if side < 0 else "start",
-        )
-    )
 
 
 # ---------------------------------------------------------------------------
