@@ -143,3 +143,21 @@ def test_every_legend_symbol_draws():
 def test_short_labels():
     assert short_label("L-PLA") == "PLA"
     assert short_label("BCT") == "BCT"
+
+
+def test_labels_moved_clear_of_each_other():
+    from vascplan.reports.arterial_map import _label_box, place_labels
+    from vascplan.reports.page import fonts
+
+    f = fonts().regular
+    labels = [
+        (2, 100, 100, "SFA 6.1*", "start", f),
+        (0, 100, 101, "occl. 18 cm", "start", f),
+        (2, 300, 100, "POP 4.6", "start", f),
+    ]
+    placed = place_labels(labels)
+    boxes = [_label_box(*p) for p in placed]
+    a, b = boxes[0], boxes[1]
+    assert not (a[0] < b[2] and b[0] < a[2] and a[1] < b[3] and b[1] < a[3])
+    assert placed[0] == (100, 101, "occl. 18 cm", "start", f)  # the lesion label stays
+    assert placed[2] == (300, 100, "POP 4.6", "start", f)  # nothing in its way: unmoved
