@@ -207,6 +207,8 @@ def _grid_style() -> list[tuple]:
         ("VALIGN", (0, 0), (-1, -1), "TOP"),
         ("TOPPADDING", (0, 0), (-1, -1), 2),
         ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
+        ("LEFTPADDING", (0, 0), (0, -1), 3),
+        ("RIGHTPADDING", (0, 0), (0, -1), 1),
     ]
 
 
