@@ -427,7 +427,7 @@ def _assumptions(items: Sequence[str]) -> list[Any]:
     for a in items:
         if a not in seen:
             seen.add(a)
-            out.append(para(f"- {a}", st["tiny"]))
+            out.append(KeepTogether([para(f"- {a}", st["tiny"])]))  # never split across pages
     return out
 
 

@@ -8,6 +8,12 @@ MAX_PAIRS = 5
 """How many pairs to keep, best first."""
 
 
+def _side(segment: str) -> str | None:
+    """``L`` or ``R`` from a sided segment id (``L-CFA``), else None."""
+    head, sep, _ = segment.partition("-")
+    return head if sep and head in ("L", "R") else None
+
+
 def rank_pairs(routes: list[Route], max_pairs: int = MAX_PAIRS) -> list[Pair]:
     """Pairs usable together: both feasible, one to each cap, no shared puncture.
 
@@ -42,8 +48,9 @@ def rank_pairs(routes: list[Route], max_pairs: int = MAX_PAIRS) -> list[Pair]:
             if a.position != b.position:
                 notes.append("one site needs the patient prone, the other supine: "
                              "turn the patient between them")
-            if a.segment.split("-")[0] == b.segment.split("-")[0] and a.segment[1] == "-":
-                notes.append(f"both punctures on the {a.segment.split('-')[0]} side")
+            side = _side(a.segment)
+            if side is not None and side == _side(b.segment):
+                notes.append(f"both punctures on the {side} side")
             pairs.append(Pair(a, b, notes))
     pairs.sort(key=lambda p: (round(p.score, 6), p.proximal.rank, p.distal.rank))
     for i, pair in enumerate(pairs[:max_pairs], start=1):

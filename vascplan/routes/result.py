@@ -106,15 +106,11 @@ class Route:
         """Sum of the factors' points; lower is better."""
         return sum(f.points for f in self.factors)
 
-    @property
-    def key(self) -> str:
-        """``SITE direction`` (with the path when a site has several)."""
-        return f"{self.site} {self.direction}"
-
     def sort_key(self) -> tuple:
-        """Feasible first, then lower score, then shorter path, then the site id."""
+        """Feasible first (unreachable last), then lower score, shorter path, site id."""
         length = self.length_cm if self.length_cm is not None else float("inf")
-        return (not self.feasible, round(self.score, 6), length, self.site, self.direction)
+        return (not self.feasible, self.length_cm is None, round(self.score, 6), length,
+                self.site, self.direction)
 
     def main_reason(self) -> str:
         """The one line a table shows: the first block, else the heaviest factor."""

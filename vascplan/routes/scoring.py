@@ -2,7 +2,8 @@
 
 Score convention: a route's score is the sum of its factors' points, and **lower is
 better** (0 means nothing counts against it). Ranking puts every feasible route before
-every blocked one, then the lower score, then the shorter path.
+every blocked one (and unreachable ones last), then the lower score, then the shorter
+path.
 
 One registry, :data:`FACTORS`; each factor's weight is the entry of the same name in
 ``data/access/weights.yaml`` (with its basis), overridable in the case or on the
