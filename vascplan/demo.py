@@ -109,6 +109,7 @@ DEMO_STEPS: list[tuple[str, DemoStep | str]] = [
         "observation record: review of the demo checks",
         "vascplan.observations.demo:step_observations",
     ),
+    ("printed outputs: case reports and nursing checklists", "vascplan.reports.demo:step_reports"),
 ]
 """(title, step) in running order. A step is a function of :class:`DemoContext`, or
 ``"module:function"`` imported only when the demo reaches it."""

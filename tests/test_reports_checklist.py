@@ -1,0 +1,162 @@
+"""The nursing checklist: content, times across a clock change, hostile text, pages."""
+
+from __future__ import annotations
+
+from datetime import UTC, date, datetime, timedelta
+from pathlib import Path
+
+import pytest
+
+from tests.reports_helpers import HOSTILE, page_sizes, pdf_pages, pdf_text, render_png
+from vascplan.paths import examples_dir
+from vascplan.reports.checklist import checklist_sheets, due_text, render_checklist
+from vascplan.safety import CAUTION
+from vascplan.surveillance.service import load_unit_and_protocol
+
+UNIT = Path(__file__).parent / "reports_unit.yaml"
+DEMO_UNIT = examples_dir() / "unit-demo.yaml"
+AT = datetime(2026, 10, 21, 7, 0, tzinfo=UTC)
+
+
+@pytest.fixture(scope="module")
+def unit_and_protocol():
+    return load_unit_and_protocol(UNIT)
+
+
+def _pdf(unit_and_protocol, shift, day, **kw) -> tuple[list, bytes]:
+    unit, protocol = unit_and_protocol
+    sheets = checklist_sheets(unit, shift, day, protocol, **kw)
+    return sheets, render_checklist(sheets, generated_at=AT, paper=kw.get("paper", "a4"))
+
+
+def test_hourly_checks_of_a_day_shift(unit_and_protocol):
+    # Hand-derived from data/protocols/standard.yaml: a sheath put in at 06:10 has
+    # checks every 15 min for 60 min, every 30 min for 120 min, then hourly from 10:10;
+    # a standard-tier patient days later is checked hourly at ten past, so the day shift
+    # (07:30-19:30) holds 08:10 ... 19:10, twelve checks.
+    sheets, data = _pdf(unit_and_protocol, "day", date(2026, 10, 21), beds=[7])
+    assert sheets[0].risk_tier == "standard"
+    expected = [f"{h:02d}:10" for h in range(8, 20)]
+    assert [due_text(r, sheets[0]) for r in sheets[0].rows] == expected
+    text = pdf_text(data)
+    for t in expected:
+        assert t in text
+    assert "07:10" not in text and "20:10" not in text
+
+
+def test_clock_change_inside_a_night_shift(unit_and_protocol):
+    # Europe/London goes back from 02:00 BST to 01:00 GMT on 25 October 2026 (IANA tz
+    # database): 01:10 and 01:40 happen twice; the second pair is marked GMT, and the
+    # rows stay 30 real minutes apart.
+    sheets, data = _pdf(unit_and_protocol, "night", date(2026, 10, 24), beds=[7])
+    rows = sheets[0].rows
+    # Real elapsed time: subtract in UTC (datetimes sharing a tzinfo subtract wall clocks).
+    utc = [r.due.astimezone(UTC) for r in rows]
+    gaps = {(b - a).total_seconds() / 60 for a, b in zip(utc, utc[1:], strict=False)}
+    assert gaps == {rows[0].interval_min}
+    assert rows[0].interval_min == 30
+    # 19:40 BST (18:40 UTC) to 07:10 GMT (07:10 UTC) is 12.5 real hours: 26 checks.
+    assert len(rows) == 26
+    printed = [due_text(r, sheets[0]) for r in rows]
+    assert printed.index("25 Oct 01:40") + 1 == printed.index("25 Oct 01:10 GMT")
+    text = pdf_text(data)
+    assert "25 Oct 01:10 GMT" in text and "25 Oct 01:40 GMT" in text
+    assert "2026-10-24 19:30 BST to 2026-10-25 07:30 GMT" in text
+
+
+def test_header_baseline_escalation_and_caution(unit_and_protocol):
+    unit, protocol = unit_and_protocol
+    sheets, data = _pdf(unit_and_protocol, "day", date(2026, 10, 21))
+    pages = pdf_pages(data)
+    for page in pages:
+        assert CAUTION in page
+    starts = [i for i, p in enumerate(pages) if "Limb-perfusion checklist: bed" in p]
+    assert len(starts) == len(unit.patients) == 2
+    first = pages[starts[1]]  # bed 8: VA-ECMO with a distal cannula and NIRS
+    assert "15 Fr (outer size) VA-ECMO arterial return cannula, left CFA" in first
+    assert "2026-10-20 09:00 BST" in first  # insertion, local time with its zone
+    assert "7 Fr, in since 2026-10-20 10:00 BST" in first
+    assert "Calf NIRS L 70 %, R 72 %" in first
+    assert "Doppler L-DPA present" in first
+    assert sheets[1].risk_tier.upper() in first
+    assert "CALL AT ONCE IF YOU FIND" in first
+    for e in protocol.escalation:  # every criterion, with whom to call and how fast
+        assert e.finding in first
+        assert f"{e.within_min} min" in first
+    for heading in ("pulses", "nirs", "dpc", "circuit flow", "initials"):
+        assert heading in first
+    assert "Initials and full name of each nurse" in pdf_text(data)
+
+
+def test_one_patient_per_sheet_and_no_page_shared(unit_and_protocol):
+    sheets, data = _pdf(unit_and_protocol, "day", date(2026, 10, 21))
+    pages = pdf_pages(data)
+    labels = [f"bed {s.bed}, {s.ref}" for s in sheets]
+    # The head of every page names the one patient it is about (a long grid runs on).
+    for page in pages:
+        assert sum(f"- {label} page" in page for label in labels) == 1
+    # Twelve hourly checks and every item fit the patient's one page.
+    assert sum(labels[0] in p for p in pages) == 1
+    assert "08:10" in pages[0] and "19:10" in pages[0]
+
+
+def test_hostile_strings_render_literally(unit_and_protocol):
+    _, data = _pdf(unit_and_protocol, "day", date(2026, 10, 21))
+    text = pdf_text(data)
+    assert f"Limb-perfusion checklist: bed 8, {HOSTILE}" in text
+    assert "RN-<i>X&amp;" in text  # the nurse id from the unit file
+    assert "Test <unit> & co" in text
+
+
+@pytest.mark.parametrize(("paper", "size"), [("a4", (595.28, 841.89)), ("letter", (612.0, 792.0))])
+def test_paper(unit_and_protocol, paper, size):
+    unit, protocol = unit_and_protocol
+    sheets = checklist_sheets(unit, "day", date(2026, 10, 21), protocol)
+    for w, h in page_sizes(render_checklist(sheets, paper=paper, generated_at=AT)):
+        assert (w, h) == pytest.approx(size, abs=0.01)
+
+
+def test_demo_unit_matches_its_schedule():
+    from vascplan.surveillance.schedule import patient_schedule
+    from vascplan.surveillance.unit import shift_window
+
+    unit, protocol = load_unit_and_protocol(DEMO_UNIT)
+    day = date(2026, 12, 2)
+    sheets = checklist_sheets(unit, "day", day, protocol)
+    start, end = shift_window(
+        unit, unit.shift_named("day"), datetime.combine(day, unit.shifts[0].start)
+    )
+    for sheet, patient in zip(sheets, sorted(unit.patients, key=lambda p: p.bed), strict=True):
+        due = [c.due for c in patient_schedule(unit, patient, protocol, start, end)]
+        assert [r.due for r in sheet.rows] == due  # no check lost or doubled
+        assert all(start <= d < end for d in due)
+
+
+def test_patient_without_checks_in_the_shift(unit_and_protocol):
+    unit, protocol = unit_and_protocol
+    # A shift before the device went in: no row, and the sheet says so.
+    sheets = checklist_sheets(unit, "day", date(2026, 10, 19), protocol, beds=[7])
+    assert sheets[0].rows == ()
+    text = pdf_text(render_checklist(sheets, generated_at=AT))
+    assert "No check falls due for this patient in this shift." in text
+
+
+def test_page_image(unit_and_protocol, tmp_path):
+    _, data = _pdf(unit_and_protocol, "day", date(2026, 10, 21))
+    pdf = tmp_path / "checklist.pdf"
+    pdf.write_bytes(data)
+    png = render_png(pdf, tmp_path / "checklist-page1")
+    assert png.stat().st_size > 20_000
+    print(f"checklist page image: {png}")
+
+
+def test_generation_time_defaults_to_the_unit_zone(unit_and_protocol):
+    unit, protocol = unit_and_protocol
+    sheets = checklist_sheets(unit, "day", date(2026, 10, 21), protocol, beds=[7])
+    text = pdf_text(render_checklist(sheets))
+    now = datetime.now(unit.unit.tz)
+    assert (
+        f"Generated {now:%Y-%m-%d}" in text
+        or f"Generated {now - timedelta(minutes=1):%Y-%m-%d}" in text
+    )
+    assert f"{now.tzname()} (UTC" in text

@@ -1,0 +1,512 @@
+"""The nursing checklist: one sheet per patient per shift.
+
+Each sheet has a header (bed, ref, device kind, size and side, insertion time, distal
+perfusion cannula, risk tier), the baseline findings, a grid with one row per check that
+falls due in the shift (from the surveillance schedule) and one column per check item,
+boxes to write in and a column for initials, the escalation criteria in a heavy box, and
+the caution. Times are printed in the unit's local time with the zone; a row whose UTC
+offset differs from the shift start's (a clock change inside the shift) says so.
+
+:func:`checklist_sheets` gathers what to print from the unit, protocol and schedule;
+:func:`render_checklist` only draws it.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass, field
+from datetime import date, datetime
+from typing import Any
+
+from reportlab.lib import colors
+from reportlab.platypus import Flowable, PageBreak, Spacer, Table, TableStyle
+
+from vascplan.reports.page import PageLabel, PageSetup, build_pdf, fonts, frame_box, styles
+from vascplan.reports.text import clean, para, rich_para
+
+DEVICE_NAMES = {
+    "va-ecmo-arterial": "VA-ECMO arterial return cannula",
+    "microaxial-pump": "microaxial pump",
+    "balloon-pump": "intra-aortic balloon pump",
+    "large-bore-sheath": "large-bore sheath",
+}
+
+SIDE_NAMES = {"L": "left", "R": "right"}
+
+NOT_VALIDATED = (
+    "The tier combines published risk factors; no validated score of limb-ischaemia risk on "
+    "mechanical support exists."
+)
+"""Said beside every tier (REFERENCES.md: no validated risk score exists)."""
+
+
+@dataclass(frozen=True)
+class CheckRow:
+    """One scheduled check: when it is due, its phase and interval, and the items due."""
+
+    due: datetime
+    phase: str
+    interval_min: int
+    items: tuple[str, ...]
+
+
+@dataclass(frozen=True)
+class ChecklistSheet:
+    """Everything one patient's sheet prints (texts are raw; the renderer escapes them)."""
+
+    unit_name: str
+    shift_name: str
+    shift_start: datetime
+    shift_end: datetime
+    bed: int
+    ref: str
+    nurse: str | None
+    device: str
+    inserted: datetime
+    removed: datetime | None
+    dpc: str
+    risk_tier: str
+    risk_reasons: tuple[str, ...]
+    baseline: tuple[tuple[str, str], ...]
+    items: tuple[tuple[str, str], ...]  # (id, wording), in protocol order
+    rows: tuple[CheckRow, ...]
+    escalation: tuple[tuple[str, str, int], ...]  # (finding, call, within_min)
+    notes: tuple[str, ...] = field(default_factory=tuple)
+
+
+def _when(at: datetime) -> str:
+    return f"{at:%Y-%m-%d %H:%M} {at.tzname()}"
+
+
+def device_text(device: Any) -> str:
+    """``17 Fr (outer) VA-ECMO arterial return cannula, right CFA``."""
+    kind = DEVICE_NAMES.get(device.kind, device.kind)
+    od = f", {device.outer_mm:g} mm outer" if getattr(device, "outer_mm", None) else ""
+    return (
+        f"{device.size_fr:g} Fr ({device.label} size{od}) {kind}, "
+        f"{SIDE_NAMES.get(device.side, device.side)} {device.vessel}"
+    )
+
+
+def baseline_rows(baseline: Any) -> tuple[tuple[str, str], ...]:
+    """The baseline findings as (what, value) pairs, sides and sites in a stable order."""
+    out = []
+    if baseline.nirs:
+        out.append(
+            ("Calf NIRS", ", ".join(f"{s} {v:g} %" for s, v in sorted(baseline.nirs.items())))
+        )
+    if baseline.doppler:
+        out.append(("Doppler", ", ".join(f"{k} {v}" for k, v in sorted(baseline.doppler.items()))))
+    if baseline.pulses:
+        out.append(("Pulses", ", ".join(f"{k} {v}" for k, v in sorted(baseline.pulses.items()))))
+    return tuple(out) or (("None recorded", "the unit file holds no baseline: record one now"),)
+
+
+def checklist_sheets(
+    unit: Any,
+    shift_name: str,
+    day: date,
+    protocol: Any,
+    *,
+    beds: Iterable[int] | None = None,
+) -> list[ChecklistSheet]:
+    """Gather the sheets of one shift from the unit file, protocol and check schedule.
+
+    Parameters
+    ----------
+    unit : Unit
+        The validated unit file.
+    shift_name : str
+        A shift of the unit (``day``).
+    day : date
+        The local date the shift starts on.
+    protocol : Protocol
+        The unit's surveillance protocol.
+    beds : iterable of int, optional
+        Only these beds (each must hold a patient); every patient when omitted.
+
+    Raises
+    ------
+    InputError
+        Unknown shift or an empty bed.
+    """
+    from vascplan.surveillance.risk import assess_patient
+    from vascplan.surveillance.schedule import patient_schedule
+    from vascplan.surveillance.unit import shift_window
+
+    shift = unit.shift_named(shift_name)
+    start, end = shift_window(unit, shift, datetime.combine(day, shift.start))
+    patients = (
+        [unit.patient_at_bed(b) for b in beds]
+        if beds is not None
+        else sorted(unit.patients, key=lambda p: p.bed)
+    )
+    sheets = []
+    for p in patients:
+        risk = assess_patient(p, protocol, start)
+        checks = patient_schedule(unit, p, protocol, start, end)
+        rows = tuple(
+            CheckRow(c.due.astimezone(unit.unit.tz), c.phase, c.interval_min, tuple(c.items))
+            for c in checks
+            if start <= c.due < end
+        )
+        used = {i for r in rows for i in r.items}
+        nirs = bool(p.baseline.nirs)
+        dpc_in = p.dpc is not None
+        wanted = list(protocol.items_for(p.device.kind, nirs, dpc_in))
+        item_ids = [i for i in wanted if i in used] + sorted(used - set(wanted))
+        if not rows:
+            item_ids = wanted
+        if p.dpc is None:
+            advised = getattr(risk, "dpc_advised", None)
+            dpc = "none" + ("; the risk assessment advises one" if advised else "")
+        else:
+            dpc = f"{p.dpc.size_fr:g} Fr, in since {_when(p.dpc.inserted.astimezone(unit.unit.tz))}"
+            if p.dpc.removed is not None:
+                dpc += f", removed {_when(p.dpc.removed.astimezone(unit.unit.tz))}"
+        notes = []
+        if not rows:
+            notes.append("No check falls due for this patient in this shift.")
+        sheets.append(
+            ChecklistSheet(
+                unit_name=unit.unit.name,
+                shift_name=shift.name,
+                shift_start=start,
+                shift_end=end,
+                bed=p.bed,
+                ref=p.ref,
+                nurse=unit.nurse_for(p.bed, shift.name),
+                device=device_text(p.device),
+                inserted=p.device.inserted.astimezone(unit.unit.tz),
+                removed=p.device.removed.astimezone(unit.unit.tz) if p.device.removed else None,
+                dpc=dpc,
+                risk_tier=str(risk.tier),
+                risk_reasons=tuple(str(r) for r in getattr(risk, "reasons", ())),
+                baseline=baseline_rows(p.baseline),
+                items=tuple((i, protocol.item_text(i)) for i in item_ids),
+                rows=rows,
+                escalation=tuple((e.finding, e.call, e.within_min) for e in protocol.escalation),
+                notes=tuple(notes),
+            )
+        )
+    return sheets
+
+
+# ---------------------------------------------------------------------------
+# Rendering
+
+
+class VerticalText(Flowable):
+    """A column heading written bottom-to-top, to keep narrow columns legible."""
+
+    def __init__(self, text: str, size: float = 7.5) -> None:
+        super().__init__()
+        self.text = clean(text)
+        self.size = size
+
+    def wrap(self, avail_width: float, avail_height: float) -> tuple[float, float]:
+        from reportlab.pdfbase.pdfmetrics import stringWidth
+
+        self._length = stringWidth(self.text, fonts().bold, self.size)
+        return self.size + 2, self._length + 2
+
+    def draw(self) -> None:
+        c = self.canv
+        c.saveState()
+        c.setFont(fonts().bold, self.size)
+        c.translate(self.size, 1)
+        c.rotate(90)
+        c.drawString(0, 0, self.text)
+        c.restoreState()
+
+
+def _item_heading(item_id: str) -> str:
+    return item_id.replace("-", " ")
+
+
+def _header_table(sheet: ChecklistSheet, width: float) -> Table:
+    st = styles()
+    label, cell = st["cell-bold"], st["cell"]
+    shift = f"{sheet.shift_name}: {_when(sheet.shift_start)} to {_when(sheet.shift_end)}"
+    rows = [
+        [
+            para("Bed", label),
+            para(str(sheet.bed), st["alarm"]),
+            para("Ref", label),
+            para(sheet.ref, st["alarm"]),
+        ],
+        [para("Unit", label), para(sheet.unit_name, cell), para("Shift", label), para(shift, cell)],
+        [
+            para("Device", label),
+            para(sheet.device, cell),
+            para("Inserted", label),
+            para(
+                _when(sheet.inserted)
+                + (f"; removed {_when(sheet.removed)}" if sheet.removed else ""),
+                cell,
+            ),
+        ],
+        [
+            para("Distal perfusion cannula", label),
+            para(sheet.dpc, cell),
+            para("Nurse", label),
+            para(sheet.nurse or "not assigned in the unit file: write name", cell),
+        ],
+        [
+            para("Risk tier", label),
+            rich_para(
+                "<font size=10><b>{tier}</b></font>  {reasons}. <i>{note}</i>",
+                st["small"],
+                tier=sheet.risk_tier.upper(),
+                reasons="; ".join(sheet.risk_reasons) or "no risk factor recorded",
+                note=NOT_VALIDATED,
+            ),
+            "",
+            "",
+        ],
+    ]
+    t = Table(rows, colWidths=[0.2 * width, 0.33 * width, 0.11 * width, 0.36 * width])
+    t.setStyle(
+        TableStyle(
+            [
+                ("GRID", (0, 0), (-1, -1), 0.4, colors.grey),
+                ("SPAN", (1, -1), (-1, -1)),
+                ("BACKGROUND", (0, 0), (0, -1), colors.Color(0.92, 0.92, 0.92)),
+                ("BACKGROUND", (2, 0), (2, -2), colors.Color(0.92, 0.92, 0.92)),
+                ("VALIGN", (0, 0), (-1, -1), "TOP"),
+                ("TOPPADDING", (0, 0), (-1, -1), 2),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
+            ]
+        )
+    )
+    return t
+
+
+def _baseline_table(sheet: ChecklistSheet, width: float) -> Table:
+    st = styles()
+    rows = [
+        [para("Baseline", st["cell-bold"]), para("compare every check with these", st["small"])]
+    ]
+    rows += [[para(k, st["cell-bold"]), para(v, st["cell"])] for k, v in sheet.baseline]
+    t = Table(rows, colWidths=[0.2 * width, 0.8 * width])
+    t.setStyle(
+        TableStyle(
+            [
+                ("BACKGROUND", (0, 0), (-1, 0), colors.Color(0.92, 0.92, 0.92)),
+                ("BOX", (0, 0), (-1, -1), 0.4, colors.grey),
+                ("LINEBELOW", (0, 0), (-1, -2), 0.25, colors.lightgrey),
+                ("TOPPADDING", (0, 0), (-1, -1), 1.5),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 1.5),
+            ]
+        )
+    )
+    return t
+
+
+def due_text(row: CheckRow, sheet: ChecklistSheet) -> str:
+    """The due time as printed: ``HH:MM``, with the date when it is not the shift's first
+    day and the zone when the UTC offset differs from the shift start's."""
+    text = f"{row.due:%H:%M}"
+    if row.due.date() != sheet.shift_start.date():
+        text = f"{row.due:%d %b} {text}"
+    if row.due.utcoffset() != sheet.shift_start.utcoffset():
+        text += f" {row.due.tzname()}"
+    return text
+
+
+ROW_HEIGHT_PT = 16.0
+"""Height [pt] of a grid row: room for a handwritten value (common practice for forms)."""
+
+
+def _grid(sheet: ChecklistSheet, width: float) -> Table:
+    st = styles()
+    ids = [i for i, _ in sheet.items]
+    due_w, initials_w = 100.0, 38.0
+    item_w = (width - due_w - initials_w) / max(len(ids), 1)
+    head = [
+        rich_para(
+            "<b>Due</b> ({zone})<br/>bed {bed}<br/>{ref}",
+            st["small"],
+            zone=sheet.shift_start.tzname(),
+            bed=sheet.bed,
+            ref=sheet.ref,
+        )
+    ]
+    head += [VerticalText(_item_heading(i)) for i in ids]
+    head += [VerticalText("initials")]
+    rows: list[list[Any]] = [head]
+    for r in sheet.rows:
+        cells: list[Any] = [
+            rich_para(
+                "<b>{due}</b>  <font size=6>every {every} min</font>",
+                st["due"],
+                due=due_text(r, sheet),
+                every=r.interval_min,
+            )
+        ]
+        cells += ["" for _ in ids]
+        cells.append("")
+        rows.append(cells)
+    if not sheet.rows:
+        rows.append([para("none", st["cell"])] + ["" for _ in ids] + [""])
+    t = Table(
+        rows,
+        colWidths=[due_w] + [item_w] * len(ids) + [initials_w],
+        repeatRows=1,
+        rowHeights=[None] + [ROW_HEIGHT_PT] * (len(rows) - 1),
+    )
+    style = [
+        ("GRID", (0, 0), (-1, -1), 0.6, colors.black),
+        ("LINEAFTER", (0, 0), (0, -1), 1.4, colors.black),
+        ("LINEBEFORE", (-1, 0), (-1, -1), 1.4, colors.black),
+        ("LINEBELOW", (0, 0), (-1, 0), 1.4, colors.black),
+        ("VALIGN", (0, 0), (-1, 0), "BOTTOM"),
+        ("VALIGN", (0, 1), (-1, -1), "MIDDLE"),
+        ("ALIGN", (1, 0), (-1, 0), "CENTER"),
+        ("BACKGROUND", (0, 0), (-1, 0), colors.Color(0.90, 0.90, 0.90)),
+        ("TOPPADDING", (0, 1), (-1, -1), 1),
+        ("BOTTOMPADDING", (0, 1), (-1, -1), 1),
+    ]
+    for n, r in enumerate(sheet.rows, start=1):
+        for k, i in enumerate(ids, start=1):
+            if i not in r.items:  # not due at this check: shaded and crossed
+                style.append(("BACKGROUND", (k, n), (k, n), colors.Color(0.78, 0.78, 0.78)))
+    t.setStyle(TableStyle(style))
+    return t
+
+
+def _item_key(sheet: ChecklistSheet, width: float) -> Table:
+    """What each column means, in two columns of (heading, wording)."""
+    st = styles()
+    entries = [(_item_heading(i), text) for i, text in sheet.items]
+    entries.append(("shaded box", "not due at that check"))
+    half = (len(entries) + 1) // 2
+    rows = []
+    for k in range(half):
+        row: list[Any] = []
+        for j in (k, k + half):
+            if j < len(entries):
+                row += [para(entries[j][0], st["cell-bold"]), para(entries[j][1], st["tiny"])]
+            else:
+                row += ["", ""]
+        rows.append(row)
+    t = Table(rows, colWidths=[0.15 * width, 0.35 * width] * 2)
+    t.setStyle(
+        TableStyle(
+            [
+                ("VALIGN", (0, 0), (-1, -1), "TOP"),
+                ("TOPPADDING", (0, 0), (-1, -1), 0.5),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 0.5),
+                ("LEFTPADDING", (0, 0), (-1, -1), 2),
+            ]
+        )
+    )
+    return t
+
+
+def escalation_box(escalation: Sequence[tuple[str, str, int]], width: float) -> Table:
+    """The escalation criteria in a heavy box: finding, whom to call, how fast."""
+    st = styles()
+    rows: list[list[Any]] = [[para("CALL AT ONCE IF YOU FIND", st["alarm"]), "", ""]]
+    rows.append(
+        [
+            para("Finding", st["cell-bold"]),
+            para("Call", st["cell-bold"]),
+            para("Within", st["cell-bold"]),
+        ]
+    )
+    for finding, call, within in escalation:
+        rows.append(
+            [
+                para(finding, st["small"]),
+                para(call, st["small"]),
+                rich_para("<b>{m} min</b>", st["small"], m=within),
+            ]
+        )
+    t = Table(rows, colWidths=[0.58 * width, 0.33 * width, 0.09 * width])
+    t.setStyle(
+        TableStyle(
+            [
+                ("SPAN", (0, 0), (-1, 0)),
+                ("BOX", (0, 0), (-1, -1), 2.5, colors.black),
+                ("LINEBELOW", (0, 0), (-1, 0), 1.2, colors.black),
+                ("BACKGROUND", (0, 0), (-1, 0), colors.Color(0.82, 0.82, 0.82)),
+                ("LINEBELOW", (0, 1), (-1, -2), 0.3, colors.grey),
+                ("VALIGN", (0, 0), (-1, -1), "TOP"),
+                ("TOPPADDING", (0, 0), (-1, -1), 1.5),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 1.5),
+            ]
+        )
+    )
+    return t
+
+
+def _signatures(width: float) -> Table:
+    """One row of boxes: initials and full name of each nurse who signs the sheet."""
+    st = styles()
+    label = para("Initials and full name of each nurse who signs this sheet", st["small"])
+    t = Table([[label, "", "", ""]], colWidths=[0.22 * width] + [0.26 * width] * 3, rowHeights=[22])
+    t.setStyle(
+        TableStyle(
+            [("GRID", (1, 0), (-1, 0), 0.5, colors.black), ("VALIGN", (0, 0), (-1, -1), "MIDDLE")]
+        )
+    )
+    return t
+
+
+def sheet_story(sheet: ChecklistSheet, width: float) -> list[Any]:
+    """The flowables of one patient's sheet."""
+    st = styles()
+    story: list[Any] = [
+        PageLabel(f"bed {sheet.bed}, {sheet.ref}"),
+        rich_para(
+            "Limb-perfusion checklist: bed {bed}, {ref}", st["title"], bed=sheet.bed, ref=sheet.ref
+        ),
+        _header_table(sheet, width),
+        Spacer(1, 4),
+        escalation_box(sheet.escalation, width),
+        Spacer(1, 2),
+        _baseline_table(sheet, width),
+        Spacer(1, 4),
+        _grid(sheet, width),
+    ]
+    for note in sheet.notes:
+        story.append(para(note, st["alarm"]))
+    story += [
+        Spacer(1, 3),
+        _item_key(sheet, width),
+        Spacer(1, 4),
+        _signatures(width),
+    ]
+    return story
+
+
+def render_checklist(
+    sheets: Sequence[ChecklistSheet], *, paper: str = "a4", generated_at: datetime | None = None
+) -> bytes:
+    """The checklist PDF, one patient per page (a long shift's grid runs on overleaf)."""
+    if not sheets:
+        raise ValueError("no patient to print")
+    first = sheets[0]
+    at = generated_at or datetime.now(first.shift_start.tzinfo)
+    width = frame_box(paper)[2]
+    story: list[Any] = []
+    for n, sheet in enumerate(sheets):
+        if n:
+            story.append(PageBreak())
+        story += sheet_story(sheet, width)
+    title = (
+        f"Limb checks - {clean(first.unit_name)} - shift {first.shift_name} "
+        f"{first.shift_start:%Y-%m-%d}"
+    )
+    return build_pdf(story, PageSetup(paper=paper, title=title, generated_at=at))
+
+
+__all__ = [
+    "CheckRow",
+    "ChecklistSheet",
+    "checklist_sheets",
+    "escalation_box",
+    "render_checklist",
+    "sheet_story",
+]

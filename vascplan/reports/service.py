@@ -1,0 +1,112 @@
+"""What the ``report`` and ``checklist`` commands call: load, plan, render, write.
+
+Each function builds the whole PDF in memory first; only a finished document is written,
+atomically, so a failure at any step leaves no file (or the previous one) behind.
+"""
+
+from __future__ import annotations
+
+import os
+import re
+from collections.abc import Sequence
+from datetime import date, datetime
+from pathlib import Path
+from typing import Any
+
+from vascplan.errors import InputError
+from vascplan.fileio import output_inside
+from vascplan.reports.page import paper_size, write_pdf
+
+
+def plan_for(case: Any) -> dict[str, Any] | None:
+    """The route planner's result as its JSON dict, or None when there is no procedure."""
+    if case.procedure is None:
+        return None
+    from vascplan.routes.plan import plan_case
+
+    return plan_case(case).to_dict()
+
+
+def case_report_pdf(
+    case_path: str | os.PathLike[str], *, paper: str = "a4", generated_at: datetime | None = None
+) -> tuple[Any, bytes]:
+    """Load a case, plan its routes and render the report; return ``(case, pdf_bytes)``."""
+    from vascplan.anatomy.graph import build_tree
+    from vascplan.case.load import load_case
+    from vascplan.reports.case_report import render_case_report
+
+    paper_size(paper)
+    case = load_case(case_path)
+    tree = build_tree(case)
+    plan = plan_for(case)
+    return case, render_case_report(case, tree, plan, paper=paper, generated_at=generated_at)
+
+
+def parse_day(text: str, source: str = "--date") -> date:
+    """A ``YYYY-MM-DD`` option value.
+
+    >>> parse_day("2026-12-02")
+    datetime.date(2026, 12, 2)
+    """
+    if not re.fullmatch(r"\d{4}-\d{2}-\d{2}", text or ""):
+        raise InputError(source, "", f"{text!r} is not a date as YYYY-MM-DD, e.g. 2026-12-02")
+    try:
+        return date.fromisoformat(text)
+    except ValueError:
+        raise InputError(source, "", f"{text!r} is not a calendar date") from None
+
+
+def checklist_pdf(
+    unit_path: str | os.PathLike[str],
+    shift: str,
+    day: date,
+    *,
+    beds: Sequence[int] | None = None,
+    paper: str = "a4",
+    generated_at: datetime | None = None,
+) -> tuple[Any, list[Any], bytes]:
+    """Load a unit and its protocol and render a shift's checklist.
+
+    Returns ``(unit, sheets, pdf_bytes)``.
+    """
+    from vascplan.reports.checklist import checklist_sheets, render_checklist
+    from vascplan.surveillance.service import load_unit_and_protocol
+
+    paper_size(paper)
+    unit, protocol = load_unit_and_protocol(Path(unit_path))
+    if not unit.patients:
+        raise InputError(
+            str(unit_path), "patients", "the unit has no patient to print a checklist for"
+        )
+    sheets = checklist_sheets(unit, shift, day, protocol, beds=list(beds) if beds else None)
+    at = generated_at or datetime.now(unit.unit.tz)
+    return unit, sheets, render_checklist(sheets, paper=paper, generated_at=at)
+
+
+def default_report_name(ref: str) -> str:
+    """``<ref>-case-report.pdf``, the ref made safe for a file name.
+
+    >>> default_report_name("../<b>x")
+    'b_x-case-report.pdf'
+    """
+    from vascplan.fileio import safe_filename
+
+    return f"{safe_filename(ref)}-case-report.pdf"
+
+
+def default_checklist_name(shift: str, day: date, refs: Sequence[str] = ()) -> str:
+    """``checklist-<shift>-<date>[-<ref>].pdf`` (one ref when a single bed is printed)."""
+    from vascplan.fileio import safe_filename
+
+    tail = f"-{safe_filename(refs[0])}" if len(refs) == 1 else ""
+    return f"checklist-{safe_filename(shift)}-{day.isoformat()}{tail}.pdf"
+
+
+def write_output(
+    data: bytes, output: str | None, folder: str | os.PathLike[str], name: str
+) -> Path:
+    """Write to ``output`` when given, else to ``folder/name`` (a name kept inside the folder)."""
+    target = Path(output) if output else output_inside(folder, name)
+    if target.is_dir():
+        raise InputError(str(target), "", "is a folder; give a file name such as report.pdf")
+    return write_pdf(target, data)
