@@ -95,7 +95,7 @@ def test_pedal_loss_needs_a_signal_that_was_there(tmp_path):
             "IIb",
             "ali-IIb",
         ),
-        # The standard protocol has no ali-III criterion: its most urgent (IIb) is used, and said.
+        # Category III: the standard protocol's own ali-III criterion.
         (
             [
                 ("sensation", "R", "absent"),
@@ -104,7 +104,7 @@ def test_pedal_loss_needs_a_signal_that_was_there(tmp_path):
                 ("venous", "R", "absent"),
             ],
             "III",
-            "ali-IIb",
+            "ali-III",
         ),
     ],
 )
@@ -114,7 +114,7 @@ def test_ali_category_and_whom_to_call(tmp_path, findings, category, escalation)
     a = alerts[("ali-category", "R")]
     assert a.escalation == escalation
     if category == "III":
-        assert "the protocol has no ali-III criterion; its ali-IIb criterion used" in a.call
+        assert a.call.startswith("Vascular surgeon and consultant in charge, immediately")
 
 
 def test_a_correction_changes_the_review(tmp_path):
@@ -135,7 +135,7 @@ def test_overdue_against_the_schedule(tmp_path):
     assert p.overdue == []
     p, alerts = _alerts(store, minutes=46)  # 20:16: 20:05 + 10 has passed
     assert [(o.due.strftime("%H:%M"), o.minutes_late) for o in p.overdue] == [("20:05", 11)]
-    assert alerts[("check-overdue", None)].call is None
+    assert alerts[("check-overdue", None)].call == "Nurse in charge of the shift (within 15 min)"
 
 
 def test_refill_and_access_and_dpc(tmp_path):

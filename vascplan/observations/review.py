@@ -55,7 +55,7 @@ RULES: dict[str, Rule] = {
     for r in (
         Rule(
             "check-overdue",
-            (),
+            ("check-missed",),
             "the protocol's schedule and tolerance",
             "a scheduled check was not recorded",
         ),
@@ -79,7 +79,7 @@ RULES: dict[str, Rule] = {
         ),
         Rule(
             "refill-slow",
-            (),
+            ("perfusion-reduced",),
             "protocol review threshold capillary_refill_slow_s",
             "capillary refill slower than the threshold",
         ),
@@ -113,7 +113,7 @@ RULES: dict[str, Rule] = {
             "common practice",
             "distal perfusion cannula kinked or without flow",
         ),
-        Rule("abi-abnormal", (), ABI_SOURCE, "ankle-brachial index 0.90 or below"),
+        Rule("abi-abnormal", ("perfusion-reduced",), ABI_SOURCE, "ankle-brachial index 0.90 or below"),
     )
 }
 

@@ -314,7 +314,7 @@ def due_text(row: CheckRow, sheet: ChecklistSheet) -> str:
     return text
 
 
-ROW_HEIGHT_PT = 16.0
+ROW_HEIGHT_PT = 15.0
 """Height [pt] of a grid row: room for a handwritten value (common practice for forms)."""
 
 
@@ -376,21 +376,22 @@ def _grid(sheet: ChecklistSheet, width: float) -> Table:
 
 
 def _item_key(sheet: ChecklistSheet, width: float) -> Table:
-    """What each column means, in two columns of (heading, wording)."""
+    """What each column means, in three columns of (heading, wording)."""
     st = styles()
     entries = [(_item_heading(i), text) for i, text in sheet.items]
     entries.append(("shaded box", "not due at that check"))
-    half = (len(entries) + 1) // 2
+    columns = 3
+    per_column = -(-len(entries) // columns)
     rows = []
-    for k in range(half):
+    for k in range(per_column):
         row: list[Any] = []
-        for j in (k, k + half):
+        for j in range(k, k + columns * per_column, per_column):
             if j < len(entries):
                 row += [para(entries[j][0], st["cell-bold"]), para(entries[j][1], st["tiny"])]
             else:
                 row += ["", ""]
         rows.append(row)
-    t = Table(rows, colWidths=[0.15 * width, 0.35 * width] * 2)
+    t = Table(rows, colWidths=[0.13 * width, 0.2033 * width] * columns)
     t.setStyle(
         TableStyle(
             [
@@ -407,14 +408,13 @@ def _item_key(sheet: ChecklistSheet, width: float) -> Table:
 def escalation_box(escalation: Sequence[tuple[str, str, int]], width: float) -> Table:
     """The escalation criteria in a heavy box: finding, whom to call, how fast."""
     st = styles()
-    rows: list[list[Any]] = [[para("CALL AT ONCE IF YOU FIND", st["alarm"]), "", ""]]
-    rows.append(
+    rows: list[list[Any]] = [
         [
-            para("Finding", st["cell-bold"]),
+            para("CALL AT ONCE IF YOU FIND", st["alarm"]),
             para("Call", st["cell-bold"]),
             para("Within", st["cell-bold"]),
         ]
-    )
+    ]
     for finding, call, within in escalation:
         rows.append(
             [
@@ -423,18 +423,18 @@ def escalation_box(escalation: Sequence[tuple[str, str, int]], width: float) -> 
                 rich_para("<b>{m} min</b>", st["small"], m=within),
             ]
         )
-    t = Table(rows, colWidths=[0.58 * width, 0.33 * width, 0.09 * width])
+    t = Table(rows, colWidths=[0.61 * width, 0.29 * width, 0.10 * width])
     t.setStyle(
         TableStyle(
             [
-                ("SPAN", (0, 0), (-1, 0)),
                 ("BOX", (0, 0), (-1, -1), 2.5, colors.black),
                 ("LINEBELOW", (0, 0), (-1, 0), 1.2, colors.black),
                 ("BACKGROUND", (0, 0), (-1, 0), colors.Color(0.82, 0.82, 0.82)),
                 ("LINEBELOW", (0, 1), (-1, -2), 0.3, colors.grey),
                 ("VALIGN", (0, 0), (-1, -1), "TOP"),
-                ("TOPPADDING", (0, 0), (-1, -1), 1.5),
-                ("BOTTOMPADDING", (0, 0), (-1, -1), 1.5),
+                ("VALIGN", (0, 0), (-1, 0), "BOTTOM"),
+                ("TOPPADDING", (0, 0), (-1, -1), 0.8),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 0.8),
             ]
         )
     )
