@@ -113,7 +113,9 @@ RULES: dict[str, Rule] = {
             "common practice",
             "distal perfusion cannula kinked or without flow",
         ),
-        Rule("abi-abnormal", ("perfusion-reduced",), ABI_SOURCE, "ankle-brachial index 0.90 or below"),
+        Rule(
+            "abi-abnormal", ("perfusion-reduced",), ABI_SOURCE, "ankle-brachial index 0.90 or below"
+        ),
     )
 }
 
