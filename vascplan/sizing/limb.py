@@ -191,6 +191,7 @@ def limb_flow_with_device(
             p_mmhg,
             0.0,
             assumptions,
+            tuple(defaults_used),
         )
 
     left_mm2 = open_mm2 - math.pi * device_od_mm**2 / 4.0
