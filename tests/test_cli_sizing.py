@@ -139,11 +139,14 @@ def test_device_larger_than_artery_gives_zero_flow():
         ([*BASE, "--viscosity-mpa-s", "0.5"],
          "error: --viscosity-mpa-s: must be between 1 and 20 mPa s (plausible range, "
          "data/sizing/input_ranges.csv), got '0.5'"),
+        # Hagen-Poiseuille by hand: 128 mu L Q / (pi D^4) = 128 * 0.0035 * 0.4 *
+        # (350e-6/60) / (pi * 0.002**4) Pa = 156 mmHg.
         (["sheath-flow", "--vessel-mm", "2", "--device-fr", "4", "--label", "outer",
           "--occupied-cm", "40"],
-         "error: sheath-flow: the open artery alone would carry less than the resting limb "
-         "flow at this perfusion pressure: check vessel_mm, occupied_cm, limb_flow_ml_min, "
-         "perfusion_mmhg"),
+         "error: --vessel-mm: an open 2 mm artery over 40 cm would need 156 mmHg to carry "
+         "the resting limb flow of 350 mL/min, more than the 80 mmHg perfusion pressure: "
+         "check the vessel diameter and occupied length, or give the limb flow and perfusion "
+         "pressure of this limb"),
     ],
 )
 def test_bad_options_are_one_line_exit_2(args, line):
