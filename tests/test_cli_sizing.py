@@ -196,3 +196,21 @@ def test_connecting_line_in_the_json():
     assert data["dpc"]["line"]["inner_mm"] == 2.0 and data["dpc"]["line"]["length_cm"] == 25
     assert data["dpc"]["flow_ml_min"] < plain["dpc"]["flow_ml_min"]
     assert plain["dpc"]["line"] is None
+
+
+def test_blood_density_is_overridable():
+    # Issue 4: viscosity 3.5 mPa s and density 1,060 kg/m3 are defaults, overridable.
+    args = [*BASE, *DPC, "--format", "json"]
+    plain = json.loads(run(args).output)
+    lighter = json.loads(run([*args, "--density-kg-m3", "1000"]).output)
+    assert "density_kg_m3" in plain["reference_defaults_used"]
+    assert "density_kg_m3" not in lighter["reference_defaults_used"]
+    # Re = rho V D / mu: a lighter fluid at a similar speed has a lower Reynolds number.
+    assert lighter["dpc"]["reynolds"] < plain["dpc"]["reynolds"]
+    assert not any("Blood density" in a for a in lighter["assumptions"])
+    res = run([*args, "--density-kg-m3", "13"])
+    assert res.exit_code == 2
+    assert res.output.strip() == (
+        "error: --density-kg-m3: must be between 1000 and 1100 kg/m3 (plausible range, "
+        "data/sizing/input_ranges.csv), got '13'"
+    )

@@ -154,6 +154,12 @@ EPILOG = (
     default=None,
     help="Blood viscosity [mPa s]; default 3.5.",
 )
+@click.option(
+    "--density-kg-m3",
+    type=_Positive("kg/m3", "density_kg_m3"),
+    default=None,
+    help="Blood density [kg/m3]; default 1060.",
+)
 @click.option("--format", "fmt", type=_OneOf("table", "json"), default="table", show_default=True)
 def sheath_flow(
     vessel_mm: float | None,
@@ -170,6 +176,7 @@ def sheath_flow(
     limb_flow_ml_min: float | None,
     perfusion_mmhg: float | None,
     viscosity_mpa_s: float | None,
+    density_kg_m3: float | None,
     fmt: str,
 ) -> None:
     """SAR, lumen left and distal flow with a device in an artery.
@@ -229,6 +236,7 @@ def sheath_flow(
             limb_flow_ml_min=limb_flow_ml_min,
             perfusion_mmhg=perfusion_mmhg,
             viscosity_pa_s=None if viscosity_mpa_s is None else viscosity_mpa_s / 1000.0,
+            density_kg_m3=density_kg_m3,
             line_mm=line_mm,
             line_cm=line_cm,
         )

@@ -147,6 +147,7 @@ def assess_sheath_flow(
     limb_flow_ml_min: float | None = None,
     perfusion_mmhg: float | None = None,
     viscosity_pa_s: float | None = None,
+    density_kg_m3: float | None = None,
     line_mm: float | None = None,
     line_cm: float | None = None,
 ) -> SheathFlowAssessment:
@@ -169,8 +170,8 @@ def assess_sheath_flow(
         all three or none.
     dpc_label : {"outer", "inner"}
         How the cannula is labelled (``"inner"`` for a sheath used as one).
-    limb_flow_ml_min, perfusion_mmhg, viscosity_pa_s : float, optional
-        Overrides of the limb and blood defaults.
+    limb_flow_ml_min, perfusion_mmhg, viscosity_pa_s, density_kg_m3 : float, optional
+        Overrides of the limb and blood defaults [mL/min, mmHg, Pa s, kg/m3].
     line_mm, line_cm : float, optional
         Connecting line in series with the cannula: inner diameter [mm], length [cm].
 
@@ -206,6 +207,7 @@ def assess_sheath_flow(
         "limb_flow_ml_min": limb_flow_ml_min,
         "perfusion_mmhg": perfusion_mmhg,
         "viscosity_mpa_s": None if viscosity_pa_s is None else viscosity_pa_s * 1000.0,
+        "density_kg_m3": density_kg_m3,
     }
     for name, value in checks.items():
         if value is not None:
@@ -263,6 +265,7 @@ def assess_sheath_flow(
         limb_flow_ml_min=limb_flow_ml_min,
         perfusion_mmhg=perfusion_mmhg,
         viscosity_pa_s=viscosity_pa_s,
+        density_kg_m3=density_kg_m3,
     )
     assumptions.extend(limb.assumptions)
     dpc = None
@@ -273,6 +276,7 @@ def assess_sheath_flow(
             cast(float, driving_mmhg),
             label=dpc_label,
             viscosity_pa_s=viscosity_pa_s,
+            density_kg_m3=density_kg_m3,
             line_mm=line_mm,
             line_cm=line_cm,
         )
