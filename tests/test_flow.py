@@ -327,3 +327,12 @@ def test_hagen_poiseuille_textbook_worked_example():
     dp, length, d, q = 40 * psi, 1 * ft, 0.1 * inch, 0.00398 * ft3_min
     mu = 0.492
     assert dp / flow.tube_resistance(d, length, mu) == pytest.approx(q, rel=0.01)
+
+
+@pytest.mark.parametrize("re", [2300.0, 2600.0, 3000.0, 3500.0, 3999.0])
+def test_transitional_friction_lies_between_the_laminar_and_turbulent_laws_of_fluids(re):
+    # In the transition neither law holds; the interpolated factor must stay between
+    # the laminar 64/Re and the turbulent Colebrook value at the same Re (fluids).
+    lam = fluids.friction.friction_laminar(re)
+    turb = fluids.friction.Colebrook(re, 0.0)
+    assert lam * (1 - 1e-12) <= flow.darcy_friction(re) <= turb
