@@ -122,8 +122,11 @@ def test_device_larger_than_artery_gives_zero_flow():
          "error: --vessel-mm: must be between 1 and 40 mm (plausible range, "
          "data/sizing/input_ranges.csv), got '0.001'"),
         ([*BASE[:4], "1e-6", *BASE[5:]],
-         "error: --device-fr: must be between 1 and 40 Fr (plausible range, "
+         "error: --device-fr: must be between 0.5 and 40 Fr (plausible range, "
          "data/sizing/input_ranges.csv), got '1e-6'"),
+        ([*BASE[:-1], "0.15"],
+         "error: --occupied-cm: must be between 1 and 100 cm (plausible range, "
+         "data/sizing/input_ranges.csv), got '0.15'"),
         ([*BASE, "--device-fr", "x"],
          "error: --device-fr: must be a positive number of Fr, got 'x'"),
         ([*BASE, *DPC, "--line-mm", "2"],
