@@ -12,9 +12,10 @@ reportlab is imported inside :func:`render_trend_pdf`.
 from __future__ import annotations
 
 import io
+import math
 import os
 from dataclasses import dataclass
-from datetime import datetime, timedelta
+from datetime import UTC, datetime, timedelta
 from pathlib import Path
 
 from vascplan.fileio import atomic_write_bytes
@@ -30,6 +31,91 @@ LEG_DASH: dict[str, list[float]] = {"L": [], "R": [4, 2]}
 LEG_MARKER = {"L": "circle", "R": "square"}
 """Marker per leg: left filled circle, right open square."""
 GRADE_MARK = {"palpable": "filled", "doppler": "open", "absent": "cross"}
+TICK_STEPS_MIN = (15, 30, 60, 120, 180, 240, 360, 720, 1440)
+"""Time-axis tick spacings [min]: ticks fall on these round times of the unit's clock."""
+MAX_TIME_TICKS = 8
+
+
+def time_ticks(
+    t0: datetime, t1: datetime, tz, max_ticks: int = MAX_TIME_TICKS
+) -> tuple[int, list[datetime]]:
+    """Round ticks of the unit's local clock between ``t0`` and ``t1`` (both aware).
+
+    The spacing is the smallest of :data:`TICK_STEPS_MIN` (or whole days) that keeps at
+    most ``max_ticks`` ticks; ticks fall where the local wall clock reads a multiple of
+    it (``14:00``, ``14:30``; ``00:00``, ``06:00``), also across a clock change, and a
+    wall time that a clock change skips is left out.
+
+    Returns
+    -------
+    (step_min, ticks)
+
+    >>> from zoneinfo import ZoneInfo
+    >>> tz = ZoneInfo("Europe/London")
+    >>> a = datetime(2026, 12, 1, 14, 37, tzinfo=tz)
+    >>> step, ticks = time_ticks(a, a + timedelta(minutes=170), tz)
+    >>> step, [f"{t:%H:%M}" for t in ticks]
+    (30, ['15:00', '15:30', '16:00', '16:30', '17:00'])
+    """
+    span_min = max((t1 - t0).total_seconds() / 60, 1.0)
+    step = next((s for s in TICK_STEPS_MIN if span_min / s <= max_ticks), None)
+    if step is None:
+        step = 1440 * math.ceil(span_min / 1440 / max_ticks)
+    wall = t0.astimezone(tz).replace(tzinfo=None, hour=0, minute=0, second=0, microsecond=0)
+    end = t1.astimezone(tz).replace(tzinfo=None)
+    ticks = []
+    while wall <= end:
+        minute_of_day = wall.hour * 60 + wall.minute
+        on = (
+            minute_of_day == 0 and wall.toordinal() % (step // 1440) == 0
+            if step >= 1440
+            else minute_of_day % step == 0
+        )
+        if on:
+            aware = wall.replace(tzinfo=tz)
+            exists = aware.astimezone(UTC).astimezone(tz).replace(tzinfo=None) == wall
+            if exists and t0 <= aware <= t1:
+                ticks.append(aware)
+        wall += timedelta(minutes=15 if step < 1440 else 1440)
+    return step, ticks
+
+
+def floor_to_step(moment: datetime, tz, step_min: int) -> datetime:
+    """The latest time at or before ``moment`` when the local clock shows a round ``step_min``."""
+    local = moment.astimezone(tz)
+    if step_min >= 1440:
+        wall = local.replace(tzinfo=None, hour=0, minute=0, second=0, microsecond=0)
+    else:
+        minute_of_day = local.hour * 60 + local.minute
+        minute_of_day -= minute_of_day % step_min
+        wall = local.replace(
+            tzinfo=None,
+            hour=minute_of_day // 60,
+            minute=minute_of_day % 60,
+            second=0,
+            microsecond=0,
+        )
+    aware = wall.replace(tzinfo=tz)
+    return aware if aware <= moment else moment
+
+
+def value_ticks(lo: float, hi: float, max_ticks: int = 6) -> tuple[float, float, list[float]]:
+    """A round axis covering ``lo``-``hi``: spacing 1, 2 or 5 times a power of ten.
+
+    >>> value_ticks(40, 81)
+    (40.0, 90.0, [40.0, 50.0, 60.0, 70.0, 80.0, 90.0])
+    >>> value_ticks(0, 7)
+    (0.0, 8.0, [0.0, 2.0, 4.0, 6.0, 8.0])
+    """
+    if hi <= lo:
+        hi = lo + 1
+    raw = (hi - lo) / (max_ticks - 1)
+    power = 10 ** math.floor(math.log10(raw))
+    step = next(m * power for m in (1, 2, 5, 10) if m * power >= raw)
+    first = math.floor(lo / step + 1e-9) * step
+    last = math.ceil(hi / step - 1e-9) * step
+    n = round((last - first) / step)
+    return float(first), float(last), [float(first + i * step) for i in range(n + 1)]
 
 
 @dataclass
@@ -167,6 +253,8 @@ def _page(
     else:
         t0 = at - timedelta(hours=12)
     t1 = at
+    step_min, _ = time_ticks(t0, t1, tz)
+    t0 = floor_to_step(t0, tz, step_min)
     span = t1 - t0
     left, right = 80, width - 40
     th = protocol.review
@@ -185,8 +273,9 @@ def _page(
             (f"{s} {th.nirs_relative_fall_pct.value:g}% fall from {b:g}", limit, [6, 2, 1, 2])
         )
     values = [v for pts in nirs.values() for _, v in pts] + [v for _, v, _ in lines]
-    lo = max(0.0, min(values, default=40) - 10)
-    hi = min(100.0, max(values, default=80) + 10)
+    lo, hi, _ = value_ticks(
+        max(0.0, min(values, default=40) - 5), min(100.0, max(values, default=80) + 5)
+    )
     top = height - 100
     _panel(
         c,
@@ -224,7 +313,7 @@ def _page(
         t0,
         t1,
         0,
-        max([slow * 2, *rv]) + 1,
+        value_ticks(0, max([slow * 2, *rv]) + 0.5)[1],
         refill,
         [(f"slow above {slow:g} s", slow, [1, 2])],
         tz,
@@ -249,8 +338,8 @@ def _axes(c, trend: PatientTrend, title: str, left, bottom, right, top, t0, t1, 
     c.setFont("Helvetica-Bold", 9)
     c.drawString(left, top + 4, title)
     c.setFont("Helvetica", 6.5)
-    for i in range(7):
-        t = t0 + span * i / 6
+    _, ticks = time_ticks(t0, t1, tz)
+    for t in ticks:
         x = _x(t, t0, t1, left, right)
         c.line(x, bottom, x, bottom - 3)
         c.drawCentredString(x, bottom - 10, _fmt(t, tz, span))
@@ -305,9 +394,10 @@ def _panel(
 
     c.setFont("Helvetica", 6.5)
     c.setFillGray(0)
-    for i in range(5):
-        v = lo + (hi - lo) * i / 4
-        c.drawRightString(left - 3, y(v) - 2, f"{v:.0f}" if hi - lo >= 8 else f"{v:.1f}")
+    for v in value_ticks(lo, hi)[2]:
+        if lo <= v <= hi:
+            c.drawRightString(left - 3, y(v) - 2, f"{v:g}")
+            c.line(left - 2, y(v), left, y(v))
     for label, value, dash in lines:
         if lo <= value <= hi:
             c.setStrokeGray(0.35)
