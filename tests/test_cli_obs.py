@@ -12,6 +12,7 @@ from click.testing import CliRunner
 from tests.obs_fixtures import UNIT, db_url  # noqa: F401 - fixture
 from vascplan.cli import cli
 from vascplan.observations.csvio import COLUMNS, EXPORT_COLUMNS
+from vascplan.observations.findings import ITEMS
 from vascplan.observations.store import open_store
 from vascplan.safety import CAUTION
 
@@ -68,8 +69,8 @@ def test_template_imports_cleanly(tmp_path, db_url):  # noqa: F811
         (
             "2026-12-01T16:00,1,DEMO-11,RN-A,pulse,R,absent",
             "line 3: site: site 'R' is not allowed for pulse; use a side and an artery such as "
-            "R-DPA "
-            "(arteries DPA, PTA, PER, ATA, POP, CFA, SFA)",
+            "R-DPA (arteries DPA, PTA, PER, ATA, PLA, TPT, POP, SFA, PFA, CFA, EIA, IIA, CIA, "
+            "SCA, AXA, BRA, RAD, ULN)",
         ),
         ("2026-12-01T16:00,1,DEMO-11,RN-A,nirs,L", "line 3: expected 7 columns, got 6"),
         (
@@ -341,8 +342,23 @@ def test_help_does_not_load_sqlalchemy_or_reportlab():
     assert out.stdout.strip() == "[]"
 
 
-def test_export_to_stdout_keeps_data_clean_and_cautions_on_stderr(tmp_path):
+def test_export_to_stdout_keeps_the_data_clean(tmp_path):
+    # Captured output (a script, a pipe) is the data alone, so that it parses as it is.
     r = run("obs", "export", "--unit", U, "--format", "csv", "--db", tmp_path / "o.db")
     assert r.exit_code == 0
-    assert r.stdout == ",".join(EXPORT_COLUMNS) + "\n"
-    assert r.stderr == f"Caution: {CAUTION}\n"
+    assert r.output == ",".join(EXPORT_COLUMNS) + "\n"
+    r = run("obs", "export", "--unit", U, "--format", "fhir", "--db", tmp_path / "o.db")
+    assert r.exit_code == 0
+    doc = json.loads(r.output)
+    assert doc["resourceType"] == "Bundle"
+    assert doc["meta"]["tag"][0]["display"] == CAUTION
+
+
+def test_template_guide_names_the_sites_of_every_item():
+    r = run("obs", "template", "--guide")
+    assert r.exit_code == 0
+    lines = r.output.splitlines()
+    assert "colour: site L or R; value normal | pale | mottled | blue" in lines
+    assert "pain: site empty, L or R; value a whole number 0-10" in lines
+    assert "access: site empty, L, R or an artery such as R-CFA; value " in "\n".join(lines)
+    assert len([x for x in lines if x.split(":")[0] in ITEMS]) == len(ITEMS)

@@ -170,3 +170,49 @@ def test_abi_in_review_uses_the_statement_and_says_when(tmp_path):
     assert p.abi["R"].index == 0.72 and p.abi["R"].band == "abnormal"
     assert p.abi["L"].index is None
     assert "pressures taken 19:30 to 19:35" in alerts[("abi-abnormal", "R")].detail
+
+
+def test_every_rule_names_whom_to_call_with_the_bundled_protocol():
+    # data/protocols/standard.yaml has a criterion for every finding the review flags
+    # (ali-III, perfusion-reduced and check-missed were added for that).
+    from vascplan.observations.review import _ALI_ESCALATION_FALLBACK, RULES
+
+    ids = {e.id for e in PROTOCOL.escalation}
+    for rule in RULES.values():
+        wanted = (
+            [c[0] for c in _ALI_ESCALATION_FALLBACK.values()]
+            if rule.id == "ali-category"
+            else [rule.escalation[0]]
+        )
+        assert set(wanted) <= ids, rule.id
+
+
+def test_refill_and_abi_call_the_perfusion_criterion(tmp_path):
+    store = _store(
+        tmp_path,
+        [
+            (0, "refill", "R", "5"),
+            (0, "pressure", "R-PTA", "80"),
+            (0, "pressure", "R-ARM", "120"),
+        ],
+    )
+    _, alerts = _alerts(store)
+    for rule in ("refill-slow", "abi-abnormal"):
+        assert alerts[(rule, "R")].escalation == "perfusion-reduced"
+        assert alerts[(rule, "R")].call == "Doctor in charge of the patient (within 30 min)"
+
+
+def test_abi_takes_a_brachial_pressure_as_the_arm_pressure(tmp_path):
+    # Aboyans 2012: the arm pressure is the brachial systolic pressure; 100 / 125 = 0.80.
+    store = _store(
+        tmp_path,
+        [
+            (0, "pressure", "L-PTA", "100"),
+            (0, "pressure", "L-DPA", "90"),
+            (0, "pressure", "L-BRA", "118"),
+            (0, "pressure", "R-BRA", "125"),
+        ],
+    )
+    p, _ = _alerts(store)
+    assert p.abi["L"].index == 0.80 and p.abi["L"].band == "abnormal"
+    assert "R-ARM 125 mmHg (higher arm)" in p.abi["L"].basis

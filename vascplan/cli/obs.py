@@ -144,23 +144,33 @@ def import_(csv_path: str, unit_path: str, db: str | None) -> None:
     click.echo(f"stored {len(ids)} findings from {csv_path} in {store.shown}")
 
 
-@obs.command("template", epilog="Example: vascplan obs template -o checks.csv")
+@obs.command(
+    "template",
+    epilog="Example: vascplan obs template -o checks.csv\n\nExample: vascplan obs template --guide",
+)
 @click.option(
     "-o",
     "--output",
     type=click.Path(dir_okay=False),
     default=None,
-    help="Write here instead of standard output.",
+    help="Write here instead of standard output (and show the guide to the columns).",
 )
-def template(output: str | None) -> None:
+@click.option(
+    "--guide", is_flag=True, help="Show what each item takes as site and value, not the CSV."
+)
+def template(output: str | None, guide: bool) -> None:
     """Write the CSV template for `obs import` (header and one example row per item)."""
     from vascplan.fileio import atomic_write_text
-    from vascplan.observations.csvio import template_text
+    from vascplan.observations.csvio import template_guide, template_text
 
+    if guide:
+        click.echo(template_guide(), nl=False)
+        return
     text = template_text()
     if output:
         atomic_write_text(output, text)
         click.echo(f"wrote {output}")
+        click.echo(template_guide(), nl=False)
     else:
         click.echo(text, nl=False)
 
@@ -297,7 +307,10 @@ def export(unit_path: str, fmt: str, output: str | None, db: str | None) -> None
         click.echo(f"Caution: {CAUTION}")
     else:
         click.echo(text, nl=False)
-        click.echo(f"Caution: {CAUTION}", err=True)
+        # The FHIR Bundle carries the caution in meta.tag. A CSV has no place for it: it goes
+        # to a terminal on stderr, never into a captured stream that a script parses.
+        if fmt == "csv" and sys.stderr.isatty():
+            click.echo(f"Caution: {CAUTION}", err=True)
 
 
 def _at(text: str | None, unit) -> datetime:

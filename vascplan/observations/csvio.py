@@ -43,8 +43,8 @@ def template_text() -> str:
         ("motor", "R", "normal"),
         ("calf", "R", "soft"),
         ("pain", "", "2"),
-        ("access", "R", "dry"),
-        ("dpc", "", "ok"),
+        ("access", "R-CFA", "dry"),
+        ("dpc", "R", "ok"),
         ("pressure", "R-PTA", "112"),
         ("pressure", "R-ARM", "124"),
     ]
@@ -55,6 +55,32 @@ def template_text() -> str:
     for item, site, value in examples:
         w.writerow(("2026-12-01T16:00", 1, "DEMO-11", "RN-A", item, site, value))
     return out.getvalue()
+
+
+def template_guide() -> str:
+    """What each item takes as ``site`` and ``value``: one line an item (for ``obs template``).
+
+    >>> template_guide().splitlines()[1]
+    'pulse: site a side and an artery such as R-DPA (arteries DPA, PTA, PER, ATA, PLA, \
+TPT, POP, SFA, PFA, CFA, EIA, IIA, CIA, SCA, AXA, BRA, RAD, ULN); value palpable | doppler | absent'
+    """
+    from vascplan.observations.findings import site_help
+
+    lines = ["Columns time,bed,ref,by,item,site,value; per item:"]
+    for spec in ITEMS.values():
+        if spec.numeric:
+            lo, hi = spec.number_range  # type: ignore[misc]
+            unit = {"{score}": "", "mm[Hg]": " mmHg", "%": " %"}.get(spec.unit, f" {spec.unit}")
+            whole = "a whole number " if spec.integer else ""
+            value = f"{whole}{lo:g}-{hi:g}{unit}"
+        else:
+            value = " | ".join(spec.values)
+        lines.append(f"{spec.name}: site {site_help(spec.name)}; value {value}")
+    lines.append(
+        "Sides may be written L/R or left/right; times without a UTC offset are local to the "
+        "unit's time zone."
+    )
+    return "\n".join(lines) + "\n"
 
 
 def _read_text(path: str | os.PathLike[str]) -> str:

@@ -20,9 +20,16 @@ from vascplan.fileio import did_you_mean
 SIDES = ("L", "R")
 PEDAL_ARTERIES = ("DPA", "PTA", "PER", "ATA")
 """Arteries whose signal at the ankle or foot counts as a pedal signal."""
-ARTERIES = (*PEDAL_ARTERIES, "POP", "CFA", "SFA")
-"""Arteries a pulse or pressure may be taken at, written with a side: ``R-DPA``."""
+ARTERIES = (
+    *PEDAL_ARTERIES,
+    *("PLA", "TPT", "POP", "SFA", "PFA", "CFA", "EIA", "IIA", "CIA"),
+    *("SCA", "AXA", "BRA", "RAD", "ULN"),
+)
+"""Arteries a site may name, written with a side (``R-DPA``): the ids of the sided segments
+of ``data/anatomy/segments.csv`` (a test keeps the two the same)."""
 ARMS = ("L-ARM", "R-ARM")
+SIDE_WORDS = {"LEFT": "L", "RIGHT": "R"}
+"""Whole words accepted for a side and stored as ``L`` / ``R``."""
 
 _ARTERY_SITE = re.compile(r"^([LR])-(" + "|".join(ARTERIES) + r")$")
 
@@ -42,7 +49,8 @@ class ItemSpec:
         The item word used in the CSV and as the ``obs add`` option.
     sites : str
         ``side`` (L or R), ``artery`` (``R-DPA``), ``artery-or-side``,
-        ``artery-or-arm`` (``L-ARM``), or ``optional-side`` (empty, L or R).
+        ``artery-or-arm`` (``L-ARM``), ``optional-side`` (empty, L or R), or
+        ``optional-artery-or-side`` (empty, L, R or an artery such as ``R-CFA``).
     values : tuple of str
         Allowed words, or empty for a number.
     number_range : tuple of float, optional
@@ -116,13 +124,13 @@ ITEMS: dict[str, ItemSpec] = {
         ),
         ItemSpec(
             "access",
-            "optional-side",
+            "optional-artery-or-side",
             ("dry", "ooze", "bleeding", "haematoma"),
             meaning="access-site finding",
         ),
         ItemSpec(
             "dpc",
-            "optional-side",
+            "optional-artery-or-side",
             ("ok", "kinked", "no-flow"),
             meaning="distal perfusion cannula: connection and flow",
         ),
@@ -144,7 +152,13 @@ _SITE_HELP = {
     "artery-or-side": "L, R or an artery such as R-CFA",
     "artery-or-arm": "an artery such as R-PTA, or L-ARM / R-ARM",
     "optional-side": "empty, L or R",
+    "optional-artery-or-side": "empty, L, R or an artery such as R-CFA",
 }
+
+
+def site_help(item: str) -> str:
+    """What ``item`` takes as its site, in words."""
+    return _SITE_HELP[ITEMS[item].sites]
 
 
 @dataclass(frozen=True)
@@ -194,13 +208,16 @@ def check_site(item: str, site: str) -> str:
     """Return the canonical site for ``item`` or raise ``ValueError`` saying what is allowed."""
     spec = ITEMS[item]
     site = site.strip().upper()
+    site = SIDE_WORDS.get(site, site)
     kind = spec.sites
+    artery = bool(_ARTERY_SITE.match(site))
     ok = (
         (kind == "side" and site in SIDES)
-        or (kind == "artery" and bool(_ARTERY_SITE.match(site)))
-        or (kind == "artery-or-side" and (site in SIDES or bool(_ARTERY_SITE.match(site))))
-        or (kind == "artery-or-arm" and (site in ARMS or bool(_ARTERY_SITE.match(site))))
+        or (kind == "artery" and artery)
+        or (kind == "artery-or-side" and (site in SIDES or artery))
+        or (kind == "artery-or-arm" and (site in ARMS or artery))
         or (kind == "optional-side" and site in ("", *SIDES))
+        or (kind == "optional-artery-or-side" and (site in ("", *SIDES) or artery))
     )
     if not ok:
         shown = repr(site) if site else "empty"
@@ -223,7 +240,8 @@ def check_value(item: str, value: str) -> str:
         except ValueError:
             raise ValueError(f"{item} must be a number {lo:g}-{hi:g}, got {text!r}") from None
         if number != number or not lo <= number <= hi:
-            raise ValueError(f"{item} must be {lo:g}-{hi:g} {spec.unit}, got {text}".rstrip())
+            unit = {"{score}": "", "mm[Hg]": " mmHg"}.get(spec.unit, f" {spec.unit}")
+            raise ValueError(f"{item} must be {lo:g}-{hi:g}{unit}, got {text}")
         if spec.integer and number != int(number):
             raise ValueError(f"{item} must be a whole number {lo:g}-{hi:g}, got {text}")
         return f"{number:g}"

@@ -367,11 +367,14 @@ def review_patient(
                 )
             )
 
-    arms = {
-        s[0]: float(latest[("pressure", s)].value)
-        for s in ("L-ARM", "R-ARM")
-        if ("pressure", s) in latest
+    # The arm pressure is the cuff pressure at L-ARM / R-ARM; a pressure recorded at the
+    # brachial artery (L-BRA / R-BRA) is the same measurement and stands in for it.
+    arm_sites = {
+        s: next(a for a in (f"{s}-ARM", f"{s}-BRA") if ("pressure", a) in latest)
+        for s in SIDES
+        if ("pressure", f"{s}-ARM") in latest or ("pressure", f"{s}-BRA") in latest
     }
+    arms = {s: float(latest[("pressure", a)].value) for s, a in arm_sites.items()}
     for side in SIDES:
         ankle = {
             a: float(latest[("pressure", f"{side}-{a}")].value)
@@ -380,7 +383,7 @@ def review_patient(
         }
         r = ankle_brachial_index(ankle, arms)
         used = [latest[("pressure", f"{side}-{a}")].time for a in ankle]
-        used += [latest[("pressure", f"{s}-ARM")].time for s in arms]
+        used += [latest[("pressure", a)].time for a in arm_sites.values()]
         if r.index is not None and min(used) != max(used):
             # Pressures from different checks: say when, so a stale one is seen.
             r = replace(
