@@ -21,7 +21,7 @@ from datetime import UTC, datetime, timedelta
 from pathlib import Path
 from typing import Any
 
-from vascplan.observations.abi import AbiResult, ankle_brachial_index
+from vascplan.observations.abi import AbiResult, ankle_brachial_index, arm_sites
 from vascplan.observations.ali import AliResult, classify_leg, worst
 from vascplan.observations.findings import PEDAL_ARTERIES, SIDES
 from vascplan.observations.store import CurrentFinding, ObservationStore
@@ -369,12 +369,8 @@ def review_patient(
 
     # The arm pressure is the cuff pressure at L-ARM / R-ARM; a pressure recorded at the
     # brachial artery (L-BRA / R-BRA) is the same measurement and stands in for it.
-    arm_sites = {
-        s: next(a for a in (f"{s}-ARM", f"{s}-BRA") if ("pressure", a) in latest)
-        for s in SIDES
-        if ("pressure", f"{s}-ARM") in latest or ("pressure", f"{s}-BRA") in latest
-    }
-    arms = {s: float(latest[("pressure", a)].value) for s, a in arm_sites.items()}
+    arms_at = arm_sites({site for item, site in latest if item == "pressure"})
+    arms = {s: float(latest[("pressure", a)].value) for s, a in arms_at.items()}
     for side in SIDES:
         ankle = {
             a: float(latest[("pressure", f"{side}-{a}")].value)
@@ -383,7 +379,7 @@ def review_patient(
         }
         r = ankle_brachial_index(ankle, arms)
         used = [latest[("pressure", f"{side}-{a}")].time for a in ankle]
-        used += [latest[("pressure", a)].time for a in arm_sites.values()]
+        used += [latest[("pressure", a)].time for a in arms_at.values()]
         if r.index is not None and min(used) != max(used):
             # Pressures from different checks: say when, so a stale one is seen.
             r = replace(
