@@ -116,3 +116,16 @@ def test_a_worse_finding_never_lowers_the_category():
                 worse = list(combo)
                 worse[i] = order[key][idx + 1]
                 assert CATEGORIES.index(classify_leg(*worse).category) >= base
+
+
+def test_category_iii_on_the_venous_signal_alone_says_so():
+    # Rutherford 1997 table: an inaudible venous signal belongs to category III only; the
+    # other findings of III (profound sensory loss, paralysis) are absent here, which is said.
+    from vascplan.observations.ali import classify_leg
+
+    r = classify_leg("normal", "normal", "audible", "inaudible")
+    assert r.category == "III"
+    assert any("rests on the inaudible venous signal alone" in b for b in r.basis)
+    full = classify_leg("absent", "paralysed", "inaudible", "inaudible")
+    assert full.category == "III"
+    assert not any("rests on" in b for b in full.basis)

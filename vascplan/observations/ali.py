@@ -130,7 +130,15 @@ def classify_leg(
         basis.append(f"{key} {value} ({grade.wording!r}: category {grade.category} or worse)")
     if any(k in missing for k in REQUIRED):
         return AliResult(None, basis, missing)
-    return AliResult(CATEGORIES[worst], basis, missing)
+    category = CATEGORIES[worst]
+    if category == "III" and sensation != "absent" and motor != "paralysed":
+        # The table's category III also has profound sensory loss and paralysis; a silent
+        # vein alone (a venous cannula, a thrombosis) deserves a second look, not less urgency.
+        basis.append(
+            "category III rests on the inaudible venous signal alone (sensation and movement "
+            "are not those of category III): confirm the venous Doppler"
+        )
+    return AliResult(category, basis, missing)
 
 
 def worst(categories: list[str | None]) -> str | None:
