@@ -216,3 +216,27 @@ def test_abi_takes_a_brachial_pressure_as_the_arm_pressure(tmp_path):
     p, _ = _alerts(store)
     assert p.abi["L"].index == 0.80 and p.abi["L"].band == "abnormal"
     assert "R-ARM 125 mmHg (higher arm)" in p.abi["L"].basis
+
+
+def test_a_pale_cold_leg_against_the_other_leg_and_its_own_earlier_check(tmp_path):
+    # Six Ps (pallor, poikilothermia; REFERENCES.md): a change against the other leg or the
+    # leg's own earlier check opens an alert; a leg that was never normal alone does not.
+    store = _store(
+        tmp_path,
+        [
+            (0, "temperature", "R", "warm"),
+            (0, "temperature", "L", "warm"),
+            (30, "temperature", "R", "cold"),
+            (30, "colour", "R", "mottled"),
+            (30, "colour", "L", "normal"),
+        ],
+    )
+    _, alerts = _alerts(store, 30)
+    t = alerts[("skin-change", "R")]
+    assert t.escalation == "perfusion-reduced"
+    details = [a.detail for a in _alerts(store, 30)[0].alerts if a.rule == "skin-change"]
+    assert "R leg temperature cold at 20:00; warm at 19:30" in details
+    assert "R leg colour mottled at 20:00; the other leg normal" in details
+    assert ("skin-change", "L") not in alerts
+    store2 = _store(tmp_path, [(0, "colour", "L", "pale")], name="o2.db")
+    assert not [a for a in _alerts(store2)[0].alerts if a.rule == "skin-change"]

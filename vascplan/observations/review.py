@@ -90,6 +90,14 @@ RULES: dict[str, Rule] = {
             "a pedal pulse or Doppler signal present at baseline or an earlier check is now absent",
         ),
         Rule(
+            "skin-change",
+            ("perfusion-reduced",),
+            "six Ps: pallor and poikilothermia (REFERENCES.md, seen); compared with the "
+            "other leg and the earlier check: common practice",
+            "a leg pale, mottled or blue, or cool or cold, where the other leg at the same "
+            "check or the same leg earlier was normal and warm",
+        ),
+        Rule(
             "ali-category",
             ("ali-{category}",),
             ALI_SOURCE,
@@ -310,6 +318,7 @@ def review_patient(
             )
 
     _pedal_rules(out, patient, protocol, findings, latest, tz)
+    _skin_rules(out, protocol, findings, latest, tz)
 
     for side in SIDES:
         sens = latest.get(("sensation", side))
@@ -508,6 +517,46 @@ def _pedal_rules(
                     time=f.time,
                 )
             )
+
+
+SKIN_NORMAL = {"colour": "normal", "temperature": "warm"}
+"""The normal value of the skin items; any other value is a change worth comparing."""
+
+
+def _skin_rules(
+    out: PatientReview,
+    protocol: Protocol,
+    findings: list[CurrentFinding],
+    latest: dict,
+    tz,
+) -> None:
+    for item, normal in SKIN_NORMAL.items():
+        for side in SIDES:
+            f = latest.get((item, side))
+            if f is None or f.value == normal:
+                continue
+            other = latest.get((item, "R" if side == "L" else "L"))
+            earlier = [
+                x
+                for x in findings
+                if x.item == item and x.site == side and x.time < f.time and x.value == normal
+            ]
+            reasons = []
+            if other is not None and other.time == f.time and other.value == normal:
+                reasons.append(f"the other leg {normal}")
+            if earlier:
+                reasons.append(f"{normal} at {_hm(earlier[-1].time, tz)}")
+            if reasons:
+                out.alerts.append(
+                    _alert(
+                        protocol,
+                        "skin-change",
+                        f"{side} leg {item} {f.value} at {_hm(f.time, tz)}; "
+                        + " and ".join(reasons),
+                        side=side,
+                        time=f.time,
+                    )
+                )
 
 
 def _arterial(latest: dict, side: str) -> str | None:
