@@ -362,3 +362,20 @@ def test_template_guide_names_the_sites_of_every_item():
     assert "pain: site empty, L or R; value a whole number 0-10" in lines
     assert "access: site empty, L, R or an artery such as R-CFA; value " in "\n".join(lines)
     assert len([x for x in lines if x.split(":")[0] in ITEMS]) == len(ITEMS)
+
+
+def test_export_marks_every_superseded_row(tmp_path):
+    db = tmp_path / "o.db"
+    p = _csv(tmp_path, ["2026-12-01T16:00,1,DEMO-11,RN-A,nirs,L,60"])
+    assert run("obs", "import", p, "--unit", U, "--db", db).exit_code == 0
+    for args in (["--value", "62"], ["--withdraw"]):
+        r = run("obs", "correct", "--entry", 1, *args, "--by", "RN-B", "--reason", "r", "--db", db)
+        assert r.exit_code == 0, r.output
+    r = run("obs", "export", "--unit", U, "--format", "csv", "--db", db)
+    rows = list(csv.DictReader(io.StringIO(r.output)))
+    marks = [(x["entry"], x["value"], x["corrects"], x["superseded_by"]) for x in rows]
+    assert marks == [
+        ("1", "60", "", "3"),  # the original, kept
+        ("2", "62", "1", "3"),  # the first correction, itself superseded
+        ("3", "entered-in-error", "1", ""),  # the row that stands
+    ]

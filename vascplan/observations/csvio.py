@@ -210,7 +210,8 @@ def export_rows(rows: Sequence) -> str:  # Sequence[Entry]
     """Every stored row as CSV text, originals and corrections, each marked.
 
     ``entry`` is the row's id; ``corrects`` the id it corrects (empty for an original);
-    ``reason`` why; ``superseded_by`` the id of the latest correction of an original.
+    ``reason`` why; ``superseded_by`` the id of the latest correction, on the original and
+    on every earlier correction of it (empty on the row that stands).
     Times are written in the unit's local time with their UTC offset.
     """
     latest: dict[int, int] = {}
@@ -233,10 +234,15 @@ def export_rows(rows: Sequence) -> str:  # Sequence[Entry]
                 e.id,
                 e.corrects or "",
                 _safe_cell(e.reason or ""),
-                latest.get(e.id, ""),
+                _superseded_by(e, latest),
             )
         )
     return out.getvalue()
+
+
+def _superseded_by(e, latest: dict[int, int]) -> int | str:  # e: Entry
+    newest = latest.get(e.corrects if e.corrects is not None else e.id)
+    return newest if newest is not None and newest != e.id else ""
 
 
 def _safe_cell(text: str) -> str:
