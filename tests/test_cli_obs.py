@@ -379,3 +379,23 @@ def test_export_marks_every_superseded_row(tmp_path):
         ("2", "62", "1", "3"),  # the first correction, itself superseded
         ("3", "entered-in-error", "1", ""),  # the row that stands
     ]
+
+
+def test_a_date_without_a_time_of_day_is_refused(tmp_path):
+    p = _csv(tmp_path, ["2026-12-01,1,DEMO-11,RN-A,nirs,L,60"])
+    r = run("obs", "import", p, "--unit", U, "--db", tmp_path / "o.db")
+    assert r.exit_code == 2
+    assert r.output == (
+        f"error: {p}: line 2: time: '2026-12-01' has no time of day; give one, "
+        "e.g. 2026-12-01T16:00\n"
+    )
+    r = run(
+        "obs", "add", "--unit", U, "--bed", 1, "--time", "2026-12-01", "--by", "RN-A",
+        "--nirs", "L=60", "--db", tmp_path / "o.db",
+    )  # fmt: skip
+    assert r.exit_code == 2
+    assert r.output == (
+        "error: --time: '2026-12-01' has no time of day; give one, e.g. 2026-12-01T16:00\n"
+    )
+    with open_store(str(tmp_path / "o.db")) as store:
+        assert store.count() == 0

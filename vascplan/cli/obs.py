@@ -87,13 +87,12 @@ def add(
     unit_path: str, bed: int, time_text: str, by: str, db: str | None, **items: tuple[str, ...]
 ) -> None:
     """Record one check: each item option is one finding (repeat an option for each site)."""
-    from vascplan.observations.findings import make_finding, split_option
+    from vascplan.observations.findings import check_time, make_finding, split_option
     from vascplan.observations.store import open_store
-    from vascplan.surveillance.unit import parse_local_time
 
     unit = _unit(unit_path)
     patient = unit.patient_at_bed(bed)
-    moment = parse_local_time(time_text, unit.unit.tz, "--time")
+    moment = check_time(time_text, unit.unit.tz, "--time")
     findings = []
     for name, _, _ in _ITEM_OPTIONS:
         for text in items[name]:

@@ -15,8 +15,8 @@ from collections.abc import Sequence
 from pathlib import Path
 
 from vascplan.errors import InputError
-from vascplan.observations.findings import ITEMS, Finding, make_finding
-from vascplan.surveillance.unit import Unit, parse_local_time
+from vascplan.observations.findings import ITEMS, Finding, check_time, make_finding
+from vascplan.surveillance.unit import Unit
 
 COLUMNS = ("time", "bed", "ref", "by", "item", "site", "value")
 EXPORT_COLUMNS = (*COLUMNS, "entry", "corrects", "reason", "superseded_by")
@@ -174,7 +174,7 @@ def _row_finding(cells: dict[str, str], unit: Unit, tz, src: str, n: int) -> Fin
     if not cells["time"]:
         raise InputError(src, f"{where}time", "required, an ISO 8601 time such as 2026-12-01T16:00")
     try:
-        moment = parse_local_time(cells["time"], tz, src)
+        moment = check_time(cells["time"], tz, src)
     except InputError as exc:
         raise InputError(src, f"{where}time", exc.message) from None
     try:

@@ -13,6 +13,7 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 from datetime import datetime
+from zoneinfo import ZoneInfo
 
 from vascplan.errors import InputError
 from vascplan.fileio import did_you_mean
@@ -252,6 +253,27 @@ def check_value(item: str, value: str) -> str:
             f"{item} value {text!r} is not allowed; use one of {', '.join(spec.values)}"
         )
     return word
+
+
+_DATE_ONLY = re.compile(r"^\d{4}-?\d{2}-?\d{2}$")
+
+
+def check_time(text: str, tz: ZoneInfo, source: str) -> datetime:
+    """Parse the time of a check: ISO 8601 with a time of day; naive means local to ``tz``.
+
+    A date alone is refused (it would be read as midnight, which a check rarely is).
+
+    >>> from zoneinfo import ZoneInfo
+    >>> check_time("2026-12-01T16:00", ZoneInfo("Europe/London"), "t").isoformat()
+    '2026-12-01T16:00:00+00:00'
+    """
+    from vascplan.surveillance.unit import parse_local_time
+
+    if _DATE_ONLY.match(text.strip()):
+        raise InputError(
+            source, "", f"{text.strip()!r} has no time of day; give one, e.g. {text.strip()}T16:00"
+        )
+    return parse_local_time(text.strip(), tz, source)
 
 
 def check_item(item: str) -> str:
