@@ -50,8 +50,12 @@ _ITEM_OPTIONS = [
     ("motor", "SIDE=WORD", "movement, e.g. R=weak (normal | weak | paralysed)"),
     ("calf", "SIDE=WORD", "calf tension, e.g. R=soft (soft | tense)"),
     ("pain", "[SIDE=]N", "pain score 0-10, e.g. 3 or R=3"),
-    ("access", "[SIDE=]WORD", "access site, e.g. R=dry (dry | ooze | bleeding | haematoma)"),
-    ("dpc", "[SIDE=]WORD", "distal perfusion cannula, e.g. ok (ok | kinked | no-flow)"),
+    (
+        "access",
+        "[SITE=]WORD",
+        "access site, e.g. R-CFA=dry or R=dry (dry | ooze | bleeding | haematoma)",
+    ),
+    ("dpc", "[SITE=]WORD", "distal perfusion cannula, e.g. ok or R-SFA=ok (ok | kinked | no-flow)"),
     ("pressure", "SITE=MMHG", "systolic pressure, e.g. R-PTA=110 or R-ARM=124"),
 ]
 
