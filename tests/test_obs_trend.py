@@ -169,3 +169,17 @@ def test_trend_axis_labels_are_round_half_hours(tmp_path):
     for label in ("14:30", "15:00", "15:30", "16:00", "16:30", "17:00"):
         assert label in text
     assert "14:37" not in text  # no alert opened at 14:37, so it is on no axis either
+
+
+def test_trend_marks_checks_overdue_now(tmp_path):
+    # Bed 1 (unit_minimal.yaml): raised tier, maintenance every 30 min; one check at 19:30,
+    # then none: at 21:00 the 20:05 and 20:35 checks are past their 10-min tolerance.
+    db = tmp_path / "o.db"
+    csv = tmp_path / "c.csv"
+    csv.write_text("time,bed,ref,by,item,site,value\n2026-12-01T19:30,1,DEMO-11,RN-A,nirs,L,66\n")
+    assert run("obs", "import", csv, "--unit", UNIT, "--db", db).exit_code == 0
+    out = tmp_path / "t.pdf"
+    r = run("obs", "trend", UNIT, "--bed", 1, "-o", out, "--at", "2026-12-01T21:00", "--db", db)
+    assert r.exit_code == 0, r.output
+    text = " ".join(_text(out)[0].split())
+    assert "2 scheduled check(s) not recorded, due 20:05, 20:35" in text

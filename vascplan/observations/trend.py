@@ -14,7 +14,7 @@ from __future__ import annotations
 import io
 import math
 import os
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from datetime import UTC, datetime, timedelta
 from pathlib import Path
 
@@ -128,6 +128,8 @@ class PatientTrend:
     onsets: list[tuple[datetime, Alert]]
     open_alerts: list[Alert]
     nirs_baseline: dict[str, float]
+    overdue: list[datetime] = field(default_factory=list)
+    """Due times of the scheduled checks overdue at ``at`` (not recorded)."""
 
 
 def patient_trend(
@@ -143,14 +145,16 @@ def patient_trend(
         now = {(a.rule, a.side) for a in alerts}
         onsets += [(t, a) for a in alerts if (a.rule, a.side) not in before]
         before = now
-    final = review_patient(unit, patient, protocol, mine, at).alerts
+    final_review = review_patient(unit, patient, protocol, mine, at)
+    final = final_review.alerts
     base: dict[str, float] = {s: float(v) for s, v in patient.baseline.nirs.items()}
     for side in SIDES:
         if side not in base:
             first = next((f for f in mine if f.item == "nirs" and f.site == side), None)
             if first is not None:
                 base[side] = float(first.value)
-    return PatientTrend(patient, mine, times, onsets, final, base)
+    overdue = [o.due for o in final_review.overdue]
+    return PatientTrend(patient, mine, times, onsets, final, base, overdue)
 
 
 def write_trend_pdf(
@@ -349,6 +353,19 @@ def _axes(c, trend: PatientTrend, title: str, left, bottom, right, top, t0, t1, 
         if t0 <= t <= t1:
             x = _x(t, t0, t1, left, right)
             c.line(x, bottom, x, bottom + 5)
+    # Overdue checks: an open triangle inside the bottom edge at each due time.
+    c.setLineWidth(0.8)
+    for t in trend.overdue:
+        if t0 <= t <= t1:
+            x = _x(t, t0, t1, left, right)
+            path = c.beginPath()
+            path.moveTo(x, bottom + 2)
+            path.lineTo(x - 3.5, bottom + 8)
+            path.lineTo(x + 3.5, bottom + 8)
+            path.close()
+            c.setFillGray(1)
+            c.drawPath(path, stroke=1, fill=1)
+            c.setFillGray(0)
     # Alert onsets: a triangle inside the top edge, numbered as in the list below the panels.
     numbers: dict[datetime, list[int]] = {}
     for i, (t, _) in enumerate(trend.onsets, start=1):
@@ -481,13 +498,20 @@ def _alert_list(c, trend: PatientTrend, tz, top: float, width: float) -> None:
 
     c.setFillGray(0)
     c.setFont("Helvetica-Bold", 9)
-    c.drawString(36, top, "Alerts (triangle = the check where each first opened)")
+    c.drawString(36, top, "Alerts (filled triangle at the top = the check where each first opened)")
     c.setFont("Helvetica", 7)
     y = top - 12
     rows = [
         f"{i}. {t.astimezone(tz):%d %b %H:%M} {a.rule}: {a.detail}"
         for i, (t, a) in enumerate(trend.onsets, 1)
     ]
+    if trend.overdue:
+        rows.append(
+            f"Overdue now (open triangle at the foot of each panel): {len(trend.overdue)} "
+            f"scheduled check(s) not recorded, due "
+            + ", ".join(f"{t.astimezone(tz):%H:%M}" for t in trend.overdue[:12])
+            + (" ..." if len(trend.overdue) > 12 else "")
+        )
     rows.append(f"Open now: {', '.join(sorted({a.rule for a in trend.open_alerts})) or 'none'}")
     for row in rows:
         for line in simpleSplit(row, "Helvetica", 7, width - 72):
