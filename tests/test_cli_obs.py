@@ -5,6 +5,7 @@ from __future__ import annotations
 import csv
 import io
 import json
+from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
@@ -62,9 +63,10 @@ def test_template_imports_cleanly(tmp_path, db_url):  # noqa: F811
         ),
         (
             "2026-10-25T01:30,1,DEMO-11,RN-A,nirs,L,60",
+            # Europe/London leaves BST (+01:00) for GMT (+00:00) at 02:00 on 2026-10-25.
             "line 3: time: 2026-10-25 01:30 happens twice in Europe/London (clocks go back); "
-            "give the time "
-            "with its UTC offset, e.g. +01:00",
+            "give it with its UTC offset: 2026-10-25T01:30+01:00 (the first) or "
+            "2026-10-25T01:30+00:00 (the second)",
         ),
         (
             "2026-12-01T16:00,1,DEMO-11,RN-A,pulse,R,absent",
@@ -399,3 +401,19 @@ def test_a_date_without_a_time_of_day_is_refused(tmp_path):
     )
     with open_store(str(tmp_path / "o.db")) as store:
         assert store.count() == 0
+
+
+def test_an_ambiguous_time_names_the_two_real_offsets_of_the_unit_zone(tmp_path):
+    # America/New_York leaves EDT (-04:00) for EST (-05:00) at 02:00 on 2026-11-01.
+    unit = tmp_path / "unit.yaml"
+    unit.write_text(Path(U).read_text().replace("Europe/London", "America/New_York"))
+    p = _csv(tmp_path, ["2026-11-01T01:30,1,DEMO-11,RN-A,nirs,L,60"])
+    r = run("obs", "import", p, "--unit", unit, "--db", tmp_path / "o.db")
+    assert r.exit_code == 2
+    assert r.output == (
+        f"error: {p}: line 2: time: 2026-11-01 01:30 happens twice in America/New_York "
+        "(clocks go back); give it with its UTC offset: 2026-11-01T01:30-04:00 (the first) "
+        "or 2026-11-01T01:30-05:00 (the second)\n"
+    )
+    ok = _csv(tmp_path, ["2026-11-01T01:30-05:00,1,DEMO-11,RN-A,nirs,L,60"], name="ok.csv")
+    assert run("obs", "import", ok, "--unit", unit, "--db", tmp_path / "o.db").exit_code == 0

@@ -273,7 +273,24 @@ def check_time(text: str, tz: ZoneInfo, source: str) -> datetime:
         raise InputError(
             source, "", f"{text.strip()!r} has no time of day; give one, e.g. {text.strip()}T16:00"
         )
-    return parse_local_time(text.strip(), tz, source)
+    text = text.strip()
+    try:
+        naive = datetime.fromisoformat(text)
+    except ValueError:
+        naive = None
+    if naive is not None and naive.tzinfo is None:
+        first, second = (naive.replace(tzinfo=tz, fold=f) for f in (0, 1))
+        if first.utcoffset() != second.utcoffset():
+            later = first.utcoffset() is not None and first.utcoffset() > second.utcoffset()
+            if later:  # the wall time happens twice: name both real offsets
+                raise InputError(
+                    source,
+                    "",
+                    f"{naive:%Y-%m-%d %H:%M} happens twice in {tz.key} (clocks go back); "
+                    f"give it with its UTC offset: {first.isoformat(timespec='minutes')} "
+                    f"(the first) or {second.isoformat(timespec='minutes')} (the second)",
+                )
+    return parse_local_time(text, tz, source)
 
 
 def check_item(item: str) -> str:
