@@ -280,16 +280,17 @@ def check_time(text: str, tz: ZoneInfo, source: str) -> datetime:
         naive = None
     if naive is not None and naive.tzinfo is None:
         first, second = (naive.replace(tzinfo=tz, fold=f) for f in (0, 1))
-        if first.utcoffset() != second.utcoffset():
-            later = first.utcoffset() is not None and first.utcoffset() > second.utcoffset()
-            if later:  # the wall time happens twice: name both real offsets
-                raise InputError(
-                    source,
-                    "",
-                    f"{naive:%Y-%m-%d %H:%M} happens twice in {tz.key} (clocks go back); "
-                    f"give it with its UTC offset: {first.isoformat(timespec='minutes')} "
-                    f"(the first) or {second.isoformat(timespec='minutes')} (the second)",
-                )
+        off1, off2 = first.utcoffset(), second.utcoffset()
+        if off1 is not None and off2 is not None and off1 > off2:
+            # The clocks went back: the wall time happens twice; name both real offsets.
+            # (In a gap fold 0 has the smaller offset; parse_local_time refuses it below.)
+            raise InputError(
+                source,
+                "",
+                f"{naive:%Y-%m-%d %H:%M} happens twice in {tz.key} (clocks go back); "
+                f"give it with its UTC offset: {first.isoformat(timespec='minutes')} "
+                f"(the first) or {second.isoformat(timespec='minutes')} (the second)",
+            )
     return parse_local_time(text, tz, source)
 
 
