@@ -129,3 +129,13 @@ def test_category_iii_on_the_venous_signal_alone_says_so():
     full = classify_leg("absent", "paralysed", "inaudible", "inaudible")
     assert full.category == "III"
     assert not any("rests on" in b for b in full.basis)
+
+
+def test_a_category_iii_finding_decides_even_with_others_unrecorded():
+    # Rutherford 1997: III is the most severe category; a profound sensory loss or paralysis
+    # places the leg there whatever the unrecorded findings are. Below III a missing finding
+    # could still raise the category, so none is given.
+    r = classify_leg("absent", None, None, None)
+    assert r.category == "III" and r.missing == ["motor", "arterial", "venous"]
+    assert classify_leg(None, "paralysed", None, None).category == "III"
+    assert classify_leg("beyond-toes", "weak", None, None).category is None
