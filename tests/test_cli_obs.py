@@ -417,3 +417,14 @@ def test_an_ambiguous_time_names_the_two_real_offsets_of_the_unit_zone(tmp_path)
     )
     ok = _csv(tmp_path, ["2026-11-01T01:30-05:00,1,DEMO-11,RN-A,nirs,L,60"], name="ok.csv")
     assert run("obs", "import", ok, "--unit", unit, "--db", tmp_path / "o.db").exit_code == 0
+
+
+def test_every_obs_command_takes_db(tmp_path):
+    # The issue: "Every `obs` command takes `--db PATH-OR-URL`".
+    from vascplan.cli.obs import obs
+
+    for name, command in obs.commands.items():
+        assert "--db" in [o for p in command.params for o in p.opts], name
+    r = run("obs", "template", "--db", tmp_path / "never.db")
+    assert r.exit_code == 0 and r.output.startswith(HEADER + "\n")
+    assert not (tmp_path / "never.db").exists()

@@ -161,7 +161,14 @@ def import_(csv_path: str, unit_path: str, db: str | None) -> None:
 @click.option(
     "--guide", is_flag=True, help="Show what each item takes as site and value, not the CSV."
 )
-def template(output: str | None, guide: bool) -> None:
+@click.option(
+    "--db",
+    "db",
+    metavar="PATH-OR-URL",
+    default=None,
+    help="Accepted like every obs command; the template does not open the store.",
+)
+def template(output: str | None, guide: bool, db: str | None) -> None:
     """Write the CSV template for `obs import` (header and one example row per item)."""
     from vascplan.fileio import atomic_write_text
     from vascplan.observations.csvio import template_guide, template_text
