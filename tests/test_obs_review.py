@@ -54,11 +54,17 @@ def test_nirs_fall_from_unit_baseline(tmp_path):
     assert ("nirs-floor", "R") not in alerts  # 52 is above the 50 % floor
 
 
-def test_nirs_limb_difference_only_at_the_same_check(tmp_path):
+def test_nirs_limb_difference_only_within_one_check(tmp_path):
     _, alerts = _alerts(_store(tmp_path, [(0, "nirs", "L", "68"), (0, "nirs", "R", "53")]))
     assert "15 points apart" in alerts[("nirs-limb-difference", "R")].detail  # threshold 15
+    # One minute apart: one check (the standard protocol's check takes 5 min).
     _, alerts = _alerts(
         _store(tmp_path, [(0, "nirs", "L", "68"), (1, "nirs", "R", "53")], "b.db"), 1
+    )
+    assert "NIRS L 68% vs R 53% at 19:30/19:31" in alerts[("nirs-limb-difference", "R")].detail
+    # Twenty minutes apart: two checks, not compared.
+    _, alerts = _alerts(
+        _store(tmp_path, [(0, "nirs", "L", "68"), (20, "nirs", "R", "53")], "c.db"), 20
     )
     assert ("nirs-limb-difference", "R") not in alerts
 

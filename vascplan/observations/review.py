@@ -460,7 +460,9 @@ def _nirs_rules(
                 )
             )
     left, right = latest.get(("nirs", "L")), latest.get(("nirs", "R"))
-    if left is not None and right is not None and left.time == right.time:
+    # Readings within one check's duration (the protocol's check_duration_min) are one check.
+    same_check = timedelta(minutes=protocol.check_duration_min.value)
+    if left is not None and right is not None and abs(left.time - right.time) <= same_check:
         diff = abs(float(left.value) - float(right.value))
         limit = th.nirs_limb_difference_pct.value
         if diff >= limit:
@@ -469,11 +471,13 @@ def _nirs_rules(
                 _alert(
                     protocol,
                     "nirs-limb-difference",
-                    f"NIRS L {left.value}% vs R {right.value}% at {_hm(left.time, tz)}: "
+                    f"NIRS L {left.value}% vs R {right.value}% at {_hm(left.time, tz)}"
+                    + (f"/{_hm(right.time, tz)}" if right.time != left.time else "")
+                    + ": "
                     f"{diff:g} points apart "
                     f"(threshold {limit:g} points); {low} is lower",
                     side=low,
-                    time=left.time,
+                    time=max(left.time, right.time),
                     extra_source=f"{th.nirs_limb_difference_pct.source}; {th.note}",
                 )
             )
