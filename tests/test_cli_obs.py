@@ -5,6 +5,7 @@ from __future__ import annotations
 import csv
 import io
 import json
+from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
@@ -12,6 +13,7 @@ from click.testing import CliRunner
 from tests.obs_fixtures import UNIT, db_url  # noqa: F401 - fixture
 from vascplan.cli import cli
 from vascplan.observations.csvio import COLUMNS, EXPORT_COLUMNS
+from vascplan.observations.findings import ITEMS
 from vascplan.observations.store import open_store
 from vascplan.safety import CAUTION
 
@@ -61,15 +63,16 @@ def test_template_imports_cleanly(tmp_path, db_url):  # noqa: F811
         ),
         (
             "2026-10-25T01:30,1,DEMO-11,RN-A,nirs,L,60",
+            # Europe/London leaves BST (+01:00) for GMT (+00:00) at 02:00 on 2026-10-25.
             "line 3: time: 2026-10-25 01:30 happens twice in Europe/London (clocks go back); "
-            "give the time "
-            "with its UTC offset, e.g. +01:00",
+            "give it with its UTC offset: 2026-10-25T01:30+01:00 (the first) or "
+            "2026-10-25T01:30+00:00 (the second)",
         ),
         (
             "2026-12-01T16:00,1,DEMO-11,RN-A,pulse,R,absent",
             "line 3: site: site 'R' is not allowed for pulse; use a side and an artery such as "
-            "R-DPA "
-            "(arteries DPA, PTA, PER, ATA, POP, CFA, SFA)",
+            "R-DPA (arteries DPA, PTA, PER, ATA, PLA, TPT, POP, SFA, PFA, CFA, EIA, IIA, CIA, "
+            "SCA, AXA, BRA, RAD, ULN)",
         ),
         ("2026-12-01T16:00,1,DEMO-11,RN-A,nirs,L", "line 3: expected 7 columns, got 6"),
         (
@@ -341,8 +344,87 @@ def test_help_does_not_load_sqlalchemy_or_reportlab():
     assert out.stdout.strip() == "[]"
 
 
-def test_export_to_stdout_keeps_data_clean_and_cautions_on_stderr(tmp_path):
+def test_export_to_stdout_keeps_the_data_clean(tmp_path):
+    # Captured output (a script, a pipe) is the data alone, so that it parses as it is.
     r = run("obs", "export", "--unit", U, "--format", "csv", "--db", tmp_path / "o.db")
     assert r.exit_code == 0
-    assert r.stdout == ",".join(EXPORT_COLUMNS) + "\n"
-    assert r.stderr == f"Caution: {CAUTION}\n"
+    assert r.output == ",".join(EXPORT_COLUMNS) + "\n"
+    r = run("obs", "export", "--unit", U, "--format", "fhir", "--db", tmp_path / "o.db")
+    assert r.exit_code == 0
+    doc = json.loads(r.output)
+    assert doc["resourceType"] == "Bundle"
+    assert doc["meta"]["tag"][0]["display"] == CAUTION
+
+
+def test_template_guide_names_the_sites_of_every_item():
+    r = run("obs", "template", "--guide")
+    assert r.exit_code == 0
+    lines = r.output.splitlines()
+    assert "colour: site L or R; value normal | pale | mottled | blue" in lines
+    assert "pain: site empty, L or R; value a whole number 0-10" in lines
+    assert "access: site empty, L, R or an artery such as R-CFA; value " in "\n".join(lines)
+    assert len([x for x in lines if x.split(":")[0] in ITEMS]) == len(ITEMS)
+
+
+def test_export_marks_every_superseded_row(tmp_path):
+    db = tmp_path / "o.db"
+    p = _csv(tmp_path, ["2026-12-01T16:00,1,DEMO-11,RN-A,nirs,L,60"])
+    assert run("obs", "import", p, "--unit", U, "--db", db).exit_code == 0
+    for args in (["--value", "62"], ["--withdraw"]):
+        r = run("obs", "correct", "--entry", 1, *args, "--by", "RN-B", "--reason", "r", "--db", db)
+        assert r.exit_code == 0, r.output
+    r = run("obs", "export", "--unit", U, "--format", "csv", "--db", db)
+    rows = list(csv.DictReader(io.StringIO(r.output)))
+    marks = [(x["entry"], x["value"], x["corrects"], x["superseded_by"]) for x in rows]
+    assert marks == [
+        ("1", "60", "", "3"),  # the original, kept
+        ("2", "62", "1", "3"),  # the first correction, itself superseded
+        ("3", "entered-in-error", "1", ""),  # the row that stands
+    ]
+
+
+def test_a_date_without_a_time_of_day_is_refused(tmp_path):
+    p = _csv(tmp_path, ["2026-12-01,1,DEMO-11,RN-A,nirs,L,60"])
+    r = run("obs", "import", p, "--unit", U, "--db", tmp_path / "o.db")
+    assert r.exit_code == 2
+    assert r.output == (
+        f"error: {p}: line 2: time: '2026-12-01' has no time of day; give one, "
+        "e.g. 2026-12-01T16:00\n"
+    )
+    r = run(
+        "obs", "add", "--unit", U, "--bed", 1, "--time", "2026-12-01", "--by", "RN-A",
+        "--nirs", "L=60", "--db", tmp_path / "o.db",
+    )  # fmt: skip
+    assert r.exit_code == 2
+    assert r.output == (
+        "error: --time: '2026-12-01' has no time of day; give one, e.g. 2026-12-01T16:00\n"
+    )
+    with open_store(str(tmp_path / "o.db")) as store:
+        assert store.count() == 0
+
+
+def test_an_ambiguous_time_names_the_two_real_offsets_of_the_unit_zone(tmp_path):
+    # America/New_York leaves EDT (-04:00) for EST (-05:00) at 02:00 on 2026-11-01.
+    unit = tmp_path / "unit.yaml"
+    unit.write_text(Path(U).read_text().replace("Europe/London", "America/New_York"))
+    p = _csv(tmp_path, ["2026-11-01T01:30,1,DEMO-11,RN-A,nirs,L,60"])
+    r = run("obs", "import", p, "--unit", unit, "--db", tmp_path / "o.db")
+    assert r.exit_code == 2
+    assert r.output == (
+        f"error: {p}: line 2: time: 2026-11-01 01:30 happens twice in America/New_York "
+        "(clocks go back); give it with its UTC offset: 2026-11-01T01:30-04:00 (the first) "
+        "or 2026-11-01T01:30-05:00 (the second)\n"
+    )
+    ok = _csv(tmp_path, ["2026-11-01T01:30-05:00,1,DEMO-11,RN-A,nirs,L,60"], name="ok.csv")
+    assert run("obs", "import", ok, "--unit", unit, "--db", tmp_path / "o.db").exit_code == 0
+
+
+def test_every_obs_command_takes_db(tmp_path):
+    # The issue: "Every `obs` command takes `--db PATH-OR-URL`".
+    from vascplan.cli.obs import obs
+
+    for name, command in obs.commands.items():
+        assert "--db" in [o for p in command.params for o in p.opts], name
+    r = run("obs", "template", "--db", tmp_path / "never.db")
+    assert r.exit_code == 0 and r.output.startswith(HEADER + "\n")
+    assert not (tmp_path / "never.db").exists()

@@ -116,3 +116,26 @@ def test_a_worse_finding_never_lowers_the_category():
                 worse = list(combo)
                 worse[i] = order[key][idx + 1]
                 assert CATEGORIES.index(classify_leg(*worse).category) >= base
+
+
+def test_category_iii_on_the_venous_signal_alone_says_so():
+    # Rutherford 1997 table: an inaudible venous signal belongs to category III only; the
+    # other findings of III (profound sensory loss, paralysis) are absent here, which is said.
+    from vascplan.observations.ali import classify_leg
+
+    r = classify_leg("normal", "normal", "audible", "inaudible")
+    assert r.category == "III"
+    assert any("rests on the inaudible venous signal alone" in b for b in r.basis)
+    full = classify_leg("absent", "paralysed", "inaudible", "inaudible")
+    assert full.category == "III"
+    assert not any("rests on" in b for b in full.basis)
+
+
+def test_a_category_iii_finding_decides_even_with_others_unrecorded():
+    # Rutherford 1997: III is the most severe category; a profound sensory loss or paralysis
+    # places the leg there whatever the unrecorded findings are. Below III a missing finding
+    # could still raise the category, so none is given.
+    r = classify_leg("absent", None, None, None)
+    assert r.category == "III" and r.missing == ["motor", "arterial", "venous"]
+    assert classify_leg(None, "paralysed", None, None).category == "III"
+    assert classify_leg("beyond-toes", "weak", None, None).category is None

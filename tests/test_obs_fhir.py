@@ -139,3 +139,28 @@ def test_fhir_validator_catches_a_broken_bundle(tmp_path, db_url, field, bad):  
         doc["entry"][0]["resource"][field] = bad
     with pytest.raises(ValueError):
         Bundle.model_validate(doc)
+
+
+def test_fhir_abi_from_brachial_pressures_validates(tmp_path):
+    # Aboyans 2012: higher ankle (DPA 99) over higher arm (R-BRA 132) = 0.75.
+    p = tmp_path / "c.csv"
+    p.write_text(
+        "time,bed,ref,by,item,site,value\n"
+        "2026-12-01T16:00,1,DEMO-11,RN-A,pressure,L-PTA,92\n"
+        "2026-12-01T16:00,1,DEMO-11,RN-A,pressure,L-DPA,99\n"
+        "2026-12-01T16:00,1,DEMO-11,RN-A,pressure,L-BRA,120\n"
+        "2026-12-01T16:00,1,DEMO-11,RN-A,pressure,R-BRA,132\n"
+    )
+    db = tmp_path / "o.db"
+    assert run("obs", "import", p, "--unit", UNIT, "--db", db).exit_code == 0
+    r = run("obs", "export", "--unit", UNIT, "--format", "fhir", "--db", db)
+    assert r.exit_code == 0, r.output
+    doc = json.loads(r.output)
+    Bundle.model_validate(doc)
+    abi = [
+        e["resource"]
+        for e in doc["entry"]
+        if e["resource"]["code"]["coding"][0]["code"] == "446841001"
+    ]
+    assert [(a["bodySite"]["text"], a["valueQuantity"]["value"]) for a in abi] == [("L", 0.75)]
+    assert len(abi[0]["derivedFrom"]) == 4  # both ankle and both arm pressures were read

@@ -124,3 +124,54 @@ def test_any_value_is_accepted_canonically_or_refused_with_valueerror(item, text
 
 def test_side_of():
     assert [side_of(s) for s in ("L-PTA", "R", "R-ARM", "")] == ["L", "R", None, None]
+
+
+# --- Sites where the issue is silent: liberal, documented in the README and the template ----
+
+
+@pytest.mark.parametrize(
+    "item, site, stored",
+    [
+        ("access", "R-CFA", "R-CFA"),  # the puncture is at an artery
+        ("access", "l-axa", "L-AXA"),  # axillary access
+        ("access", "", ""),
+        ("dpc", "R-SFA", "R-SFA"),  # a distal perfusion cannula sits in the SFA
+        ("dpc", "R", "R"),
+        ("colour", "left", "L"),
+        ("temperature", "Right", "R"),
+        ("pain", "LEFT", "L"),
+        ("pulse", "R-RAD", "R-RAD"),
+        ("pressure", "L-BRA", "L-BRA"),
+    ],
+)
+def test_liberal_sites(item, site, stored):
+    assert check_site(item, site) == stored
+
+
+@pytest.mark.parametrize("item", ["colour", "temperature", "sensation", "motor", "calf"])
+def test_leg_findings_need_a_leg(item):
+    # A leg finding without a side cannot be compared with the other leg or classified.
+    with pytest.raises(ValueError, match=f"site empty is not allowed for {item}; use L or R"):
+        check_site(item, "")
+
+
+def test_artery_ids_are_the_anatomy_sided_segment_ids():
+    import csv
+
+    from vascplan.observations.findings import ARTERIES
+    from vascplan.paths import data_dir
+
+    with open(data_dir() / "anatomy" / "segments.csv", newline="", encoding="utf-8") as fh:
+        sided = {r["id"][2:] for r in csv.DictReader(fh) if r["side"] in ("L", "R")}
+    assert set(ARTERIES) == sided
+
+
+def test_pain_and_pressure_range_errors_read_plainly():
+    from vascplan.observations.findings import check_value
+
+    with pytest.raises(ValueError) as exc:
+        check_value("pain", "11")
+    assert str(exc.value) == "pain must be 0-10, got 11"
+    with pytest.raises(ValueError) as exc:
+        check_value("pressure", "350")
+    assert str(exc.value) == "pressure must be 0-300 mmHg, got 350"

@@ -54,11 +54,17 @@ def test_nirs_fall_from_unit_baseline(tmp_path):
     assert ("nirs-floor", "R") not in alerts  # 52 is above the 50 % floor
 
 
-def test_nirs_limb_difference_only_at_the_same_check(tmp_path):
+def test_nirs_limb_difference_only_within_one_check(tmp_path):
     _, alerts = _alerts(_store(tmp_path, [(0, "nirs", "L", "68"), (0, "nirs", "R", "53")]))
     assert "15 points apart" in alerts[("nirs-limb-difference", "R")].detail  # threshold 15
+    # One minute apart: one check (the standard protocol's check takes 5 min).
     _, alerts = _alerts(
         _store(tmp_path, [(0, "nirs", "L", "68"), (1, "nirs", "R", "53")], "b.db"), 1
+    )
+    assert "NIRS L 68% vs R 53% at 19:30/19:31" in alerts[("nirs-limb-difference", "R")].detail
+    # Twenty minutes apart: two checks, not compared.
+    _, alerts = _alerts(
+        _store(tmp_path, [(0, "nirs", "L", "68"), (20, "nirs", "R", "53")], "c.db"), 20
     )
     assert ("nirs-limb-difference", "R") not in alerts
 
@@ -170,3 +176,73 @@ def test_abi_in_review_uses_the_statement_and_says_when(tmp_path):
     assert p.abi["R"].index == 0.72 and p.abi["R"].band == "abnormal"
     assert p.abi["L"].index is None
     assert "pressures taken 19:30 to 19:35" in alerts[("abi-abnormal", "R")].detail
+
+
+def test_every_rule_names_whom_to_call_with_the_bundled_protocol():
+    # data/protocols/standard.yaml has a criterion for every finding the review flags
+    # (ali-III, perfusion-reduced and check-missed were added for that).
+    from vascplan.observations.review import _ALI_ESCALATION_FALLBACK, RULES
+
+    ids = {e.id for e in PROTOCOL.escalation}
+    for rule in RULES.values():
+        wanted = (
+            [c[0] for c in _ALI_ESCALATION_FALLBACK.values()]
+            if rule.id == "ali-category"
+            else [rule.escalation[0]]
+        )
+        assert set(wanted) <= ids, rule.id
+
+
+def test_refill_and_abi_call_the_perfusion_criterion(tmp_path):
+    store = _store(
+        tmp_path,
+        [
+            (0, "refill", "R", "5"),
+            (0, "pressure", "R-PTA", "80"),
+            (0, "pressure", "R-ARM", "120"),
+        ],
+    )
+    _, alerts = _alerts(store)
+    for rule in ("refill-slow", "abi-abnormal"):
+        assert alerts[(rule, "R")].escalation == "perfusion-reduced"
+        assert alerts[(rule, "R")].call == "Doctor in charge of the patient (within 30 min)"
+
+
+def test_abi_takes_a_brachial_pressure_as_the_arm_pressure(tmp_path):
+    # Aboyans 2012: the arm pressure is the brachial systolic pressure; 100 / 125 = 0.80.
+    store = _store(
+        tmp_path,
+        [
+            (0, "pressure", "L-PTA", "100"),
+            (0, "pressure", "L-DPA", "90"),
+            (0, "pressure", "L-BRA", "118"),
+            (0, "pressure", "R-BRA", "125"),
+        ],
+    )
+    p, _ = _alerts(store)
+    assert p.abi["L"].index == 0.80 and p.abi["L"].band == "abnormal"
+    assert "R-ARM 125 mmHg (higher arm)" in p.abi["L"].basis
+
+
+def test_a_pale_cold_leg_against_the_other_leg_and_its_own_earlier_check(tmp_path):
+    # Six Ps (pallor, poikilothermia; REFERENCES.md): a change against the other leg or the
+    # leg's own earlier check opens an alert; a leg that was never normal alone does not.
+    store = _store(
+        tmp_path,
+        [
+            (0, "temperature", "R", "warm"),
+            (0, "temperature", "L", "warm"),
+            (30, "temperature", "R", "cold"),
+            (30, "colour", "R", "mottled"),
+            (30, "colour", "L", "normal"),
+        ],
+    )
+    _, alerts = _alerts(store, 30)
+    t = alerts[("skin-change", "R")]
+    assert t.escalation == "perfusion-reduced"
+    details = [a.detail for a in _alerts(store, 30)[0].alerts if a.rule == "skin-change"]
+    assert "R leg temperature cold at 20:00; warm at 19:30" in details
+    assert "R leg colour mottled at 20:00; the other leg normal" in details
+    assert ("skin-change", "L") not in alerts
+    store2 = _store(tmp_path, [(0, "colour", "L", "pale")], name="o2.db")
+    assert not [a for a in _alerts(store2)[0].alerts if a.rule == "skin-change"]

@@ -22,6 +22,7 @@ SITES = {
     "artery-or-side": ["L", "R-CFA"],
     "artery-or-arm": ["R-PTA", "L-ARM"],
     "optional-side": ["", "R"],
+    "optional-artery-or-side": ["", "L", "R-CFA"],
 }
 
 

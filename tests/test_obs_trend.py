@@ -91,3 +91,95 @@ def test_trend_unknown_bed(tmp_path):
     r = run("obs", "trend", UNIT, "--bed", 9, "-o", tmp_path / "t.pdf", "--db", tmp_path / "o.db")
     assert (r.exit_code, r.output) == (2, "error: --bed: no patient in bed 9; occupied beds: 1\n")
     assert not (tmp_path / "t.pdf").exists()
+
+
+# --- Time axis on round times of the unit's clock -------------------------------------------
+# The expected ticks are read off a wall clock by hand (a tick at every full or half hour),
+# not taken from the code.
+
+
+def test_time_ticks_fall_on_round_local_times_for_odd_check_times():
+    from datetime import datetime
+    from zoneinfo import ZoneInfo
+
+    from vascplan.observations.trend import time_ticks
+
+    tz = ZoneInfo("Europe/London")
+    step, ticks = time_ticks(
+        datetime(2026, 12, 1, 14, 37, tzinfo=tz), datetime(2026, 12, 1, 17, 13, tzinfo=tz), tz
+    )
+    assert step == 30
+    assert [f"{t:%H:%M}" for t in ticks] == ["15:00", "15:30", "16:00", "16:30", "17:00"]
+
+
+def test_time_ticks_are_local_not_utc_in_a_half_hour_zone():
+    from datetime import UTC, datetime
+    from zoneinfo import ZoneInfo
+
+    from vascplan.observations.trend import time_ticks
+
+    tz = ZoneInfo("Asia/Kolkata")  # UTC+05:30: a local full hour is a UTC half hour
+    _, ticks = time_ticks(
+        datetime(2026, 12, 1, 3, 10, tzinfo=UTC), datetime(2026, 12, 1, 9, 50, tzinfo=UTC), tz
+    )
+    local = [t.astimezone(tz) for t in ticks]
+    assert local and all(t.minute == 0 for t in local)
+    assert [t.hour for t in local] == [9, 10, 11, 12, 13, 14, 15]
+
+
+def test_time_ticks_keep_round_local_hours_across_a_clock_change():
+    from datetime import datetime
+    from zoneinfo import ZoneInfo
+
+    from vascplan.observations.trend import time_ticks
+
+    tz = ZoneInfo("America/New_York")  # clocks go back at 02:00 EDT on 2026-11-01
+    step, ticks = time_ticks(
+        datetime(2026, 10, 31, 20, 5, tzinfo=tz), datetime(2026, 11, 1, 12, 0, tzinfo=tz), tz
+    )
+    assert step == 120
+    assert [f"{t.astimezone(tz):%H:%M}" for t in ticks] == [
+        "22:00", "00:00", "02:00", "04:00", "06:00", "08:00", "10:00", "12:00",
+    ]  # fmt: skip
+
+
+def test_value_ticks_are_round():
+    from vascplan.observations.trend import value_ticks
+
+    lo, hi, ticks = value_ticks(43, 77)
+    assert (lo, hi) == (40, 80)
+    assert ticks == [40, 50, 60, 70, 80]
+
+
+def test_trend_axis_labels_are_round_half_hours(tmp_path):
+    db = tmp_path / "o.db"
+    csv = tmp_path / "c.csv"
+    csv.write_text(
+        "time,bed,ref,by,item,site,value\n"
+        "2026-12-01T14:37,1,DEMO-11,RN-A,nirs,L,66\n"
+        "2026-12-01T15:24,1,DEMO-11,RN-A,nirs,L,64\n"
+        "2026-12-01T16:51,1,DEMO-11,RN-A,nirs,L,62\n"
+    )
+    assert run("obs", "import", csv, "--unit", UNIT, "--db", db).exit_code == 0
+    out = tmp_path / "t.pdf"
+    r = run("obs", "trend", UNIT, "--bed", 1, "-o", out, "--at", "2026-12-01T17:13", "--db", db)
+    assert r.exit_code == 0, r.output
+    text = _text(out)[0]
+    # 14:37 to 17:13 is under 3 h: a tick every half hour, the axis starting at 14:30.
+    for label in ("14:30", "15:00", "15:30", "16:00", "16:30", "17:00"):
+        assert label in text
+    assert "14:37" not in text  # no alert opened at 14:37, so it is on no axis either
+
+
+def test_trend_marks_checks_overdue_now(tmp_path):
+    # Bed 1 (unit_minimal.yaml): raised tier, maintenance every 30 min; one check at 19:30,
+    # then none: at 21:00 the 20:05 and 20:35 checks are past their 10-min tolerance.
+    db = tmp_path / "o.db"
+    csv = tmp_path / "c.csv"
+    csv.write_text("time,bed,ref,by,item,site,value\n2026-12-01T19:30,1,DEMO-11,RN-A,nirs,L,66\n")
+    assert run("obs", "import", csv, "--unit", UNIT, "--db", db).exit_code == 0
+    out = tmp_path / "t.pdf"
+    r = run("obs", "trend", UNIT, "--bed", 1, "-o", out, "--at", "2026-12-01T21:00", "--db", db)
+    assert r.exit_code == 0, r.output
+    text = " ".join(_text(out)[0].split())
+    assert "2 scheduled check(s) not recorded, due 20:05, 20:35" in text

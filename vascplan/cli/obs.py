@@ -50,8 +50,12 @@ _ITEM_OPTIONS = [
     ("motor", "SIDE=WORD", "movement, e.g. R=weak (normal | weak | paralysed)"),
     ("calf", "SIDE=WORD", "calf tension, e.g. R=soft (soft | tense)"),
     ("pain", "[SIDE=]N", "pain score 0-10, e.g. 3 or R=3"),
-    ("access", "[SIDE=]WORD", "access site, e.g. R=dry (dry | ooze | bleeding | haematoma)"),
-    ("dpc", "[SIDE=]WORD", "distal perfusion cannula, e.g. ok (ok | kinked | no-flow)"),
+    (
+        "access",
+        "[SITE=]WORD",
+        "access site, e.g. R-CFA=dry or R=dry (dry | ooze | bleeding | haematoma)",
+    ),
+    ("dpc", "[SITE=]WORD", "distal perfusion cannula, e.g. ok or R-SFA=ok (ok | kinked | no-flow)"),
     ("pressure", "SITE=MMHG", "systolic pressure, e.g. R-PTA=110 or R-ARM=124"),
 ]
 
@@ -87,13 +91,12 @@ def add(
     unit_path: str, bed: int, time_text: str, by: str, db: str | None, **items: tuple[str, ...]
 ) -> None:
     """Record one check: each item option is one finding (repeat an option for each site)."""
-    from vascplan.observations.findings import make_finding, split_option
+    from vascplan.observations.findings import check_time, make_finding, split_option
     from vascplan.observations.store import open_store
-    from vascplan.surveillance.unit import parse_local_time
 
     unit = _unit(unit_path)
     patient = unit.patient_at_bed(bed)
-    moment = parse_local_time(time_text, unit.unit.tz, "--time")
+    moment = check_time(time_text, unit.unit.tz, "--time")
     findings = []
     for name, _, _ in _ITEM_OPTIONS:
         for text in items[name]:
@@ -144,23 +147,40 @@ def import_(csv_path: str, unit_path: str, db: str | None) -> None:
     click.echo(f"stored {len(ids)} findings from {csv_path} in {store.shown}")
 
 
-@obs.command("template", epilog="Example: vascplan obs template -o checks.csv")
+@obs.command(
+    "template",
+    epilog="Example: vascplan obs template -o checks.csv\n\nExample: vascplan obs template --guide",
+)
 @click.option(
     "-o",
     "--output",
     type=click.Path(dir_okay=False),
     default=None,
-    help="Write here instead of standard output.",
+    help="Write here instead of standard output (and show the guide to the columns).",
 )
-def template(output: str | None) -> None:
+@click.option(
+    "--guide", is_flag=True, help="Show what each item takes as site and value, not the CSV."
+)
+@click.option(
+    "--db",
+    "db",
+    metavar="PATH-OR-URL",
+    default=None,
+    help="Accepted like every obs command; the template does not open the store.",
+)
+def template(output: str | None, guide: bool, db: str | None) -> None:
     """Write the CSV template for `obs import` (header and one example row per item)."""
     from vascplan.fileio import atomic_write_text
-    from vascplan.observations.csvio import template_text
+    from vascplan.observations.csvio import template_guide, template_text
 
+    if guide:
+        click.echo(template_guide(), nl=False)
+        return
     text = template_text()
     if output:
         atomic_write_text(output, text)
         click.echo(f"wrote {output}")
+        click.echo(template_guide(), nl=False)
     else:
         click.echo(text, nl=False)
 
@@ -297,7 +317,10 @@ def export(unit_path: str, fmt: str, output: str | None, db: str | None) -> None
         click.echo(f"Caution: {CAUTION}")
     else:
         click.echo(text, nl=False)
-        click.echo(f"Caution: {CAUTION}", err=True)
+        # The FHIR Bundle carries the caution in meta.tag. A CSV has no place for it: it goes
+        # to a terminal on stderr, never into a captured stream that a script parses.
+        if fmt == "csv" and sys.stderr.isatty():
+            click.echo(f"Caution: {CAUTION}", err=True)
 
 
 def _at(text: str | None, unit) -> datetime:

@@ -16,6 +16,7 @@ so the band is shown as a reading, not a diagnosis.
 from __future__ import annotations
 
 import csv
+from collections.abc import Collection
 from dataclasses import dataclass
 from decimal import ROUND_HALF_UP, Decimal
 from functools import lru_cache
@@ -24,6 +25,22 @@ from vascplan.paths import data_dir
 
 ANKLE_ARTERIES = ("PTA", "DPA")
 """The two ankle pressures the statement uses."""
+
+
+def arm_sites(pressure_sites: Collection[str]) -> dict[str, str]:
+    """Which recorded site gives each arm's pressure: ``L-ARM`` / ``R-ARM``, else the
+    brachial artery (``L-BRA`` / ``R-BRA``), which is the same cuff measurement.
+
+    >>> arm_sites({"R-BRA", "L-ARM", "L-BRA", "R-PTA"})
+    {'L': 'L-ARM', 'R': 'R-BRA'}
+    """
+    out = {}
+    for side in ("L", "R"):
+        for site in (f"{side}-ARM", f"{side}-BRA"):
+            if site in pressure_sites:
+                out[side] = site
+                break
+    return out
 
 
 @dataclass(frozen=True)

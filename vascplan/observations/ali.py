@@ -73,7 +73,8 @@ class AliResult:
     Attributes
     ----------
     category : str or None
-        ``I``, ``IIa``, ``IIb``, ``III``, or None when a required finding is missing.
+        ``I``, ``IIa``, ``IIb``, ``III``, or None when a required finding is missing
+        (unless a recorded finding already places the leg in III, which nothing can raise).
     basis : list of str
         Each finding with the standard's wording and the category it belongs to.
     missing : list of str
@@ -128,9 +129,19 @@ def classify_leg(
         grade = table[(key, value)]
         worst = max(worst, CATEGORIES.index(grade.category))
         basis.append(f"{key} {value} ({grade.wording!r}: category {grade.category} or worse)")
-    if any(k in missing for k in REQUIRED):
+    category = CATEGORIES[worst]
+    if any(k in missing for k in REQUIRED) and category != CATEGORIES[-1]:
+        # A missing finding could still raise the category; once a finding of the most
+        # severe category is recorded, nothing missing can change it.
         return AliResult(None, basis, missing)
-    return AliResult(CATEGORIES[worst], basis, missing)
+    if category == "III" and sensation != "absent" and motor != "paralysed":
+        # The table's category III also has profound sensory loss and paralysis; a silent
+        # vein alone (a venous cannula, a thrombosis) deserves a second look, not less urgency.
+        basis.append(
+            "category III rests on the inaudible venous signal alone (neither profound sensory "
+            "loss nor paralysis is recorded): confirm the venous Doppler"
+        )
+    return AliResult(category, basis, missing)
 
 
 def worst(categories: list[str | None]) -> str | None:

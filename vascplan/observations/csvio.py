@@ -15,8 +15,8 @@ from collections.abc import Sequence
 from pathlib import Path
 
 from vascplan.errors import InputError
-from vascplan.observations.findings import ITEMS, Finding, make_finding
-from vascplan.surveillance.unit import Unit, parse_local_time
+from vascplan.observations.findings import ITEMS, Finding, check_time, make_finding
+from vascplan.surveillance.unit import Unit
 
 COLUMNS = ("time", "bed", "ref", "by", "item", "site", "value")
 EXPORT_COLUMNS = (*COLUMNS, "entry", "corrects", "reason", "superseded_by")
@@ -43,8 +43,8 @@ def template_text() -> str:
         ("motor", "R", "normal"),
         ("calf", "R", "soft"),
         ("pain", "", "2"),
-        ("access", "R", "dry"),
-        ("dpc", "", "ok"),
+        ("access", "R-CFA", "dry"),
+        ("dpc", "R", "ok"),
         ("pressure", "R-PTA", "112"),
         ("pressure", "R-ARM", "124"),
     ]
@@ -55,6 +55,32 @@ def template_text() -> str:
     for item, site, value in examples:
         w.writerow(("2026-12-01T16:00", 1, "DEMO-11", "RN-A", item, site, value))
     return out.getvalue()
+
+
+def template_guide() -> str:
+    """What each item takes as ``site`` and ``value``: one line an item (for ``obs template``).
+
+    >>> template_guide().splitlines()[1]
+    'pulse: site a side and an artery such as R-DPA (arteries DPA, PTA, PER, ATA, PLA, \
+TPT, POP, SFA, PFA, CFA, EIA, IIA, CIA, SCA, AXA, BRA, RAD, ULN); value palpable | doppler | absent'
+    """
+    from vascplan.observations.findings import site_help
+
+    lines = ["Columns time,bed,ref,by,item,site,value; per item:"]
+    for spec in ITEMS.values():
+        if spec.numeric:
+            lo, hi = spec.number_range  # type: ignore[misc]
+            unit = {"{score}": "", "mm[Hg]": " mmHg", "%": " %"}.get(spec.unit, f" {spec.unit}")
+            whole = "a whole number " if spec.integer else ""
+            value = f"{whole}{lo:g}-{hi:g}{unit}"
+        else:
+            value = " | ".join(spec.values)
+        lines.append(f"{spec.name}: site {site_help(spec.name)}; value {value}")
+    lines.append(
+        "Sides may be written L/R or left/right; times without a UTC offset are local to the "
+        "unit's time zone."
+    )
+    return "\n".join(lines) + "\n"
 
 
 def _read_text(path: str | os.PathLike[str]) -> str:
@@ -148,7 +174,7 @@ def _row_finding(cells: dict[str, str], unit: Unit, tz, src: str, n: int) -> Fin
     if not cells["time"]:
         raise InputError(src, f"{where}time", "required, an ISO 8601 time such as 2026-12-01T16:00")
     try:
-        moment = parse_local_time(cells["time"], tz, src)
+        moment = check_time(cells["time"], tz, src)
     except InputError as exc:
         raise InputError(src, f"{where}time", exc.message) from None
     try:
@@ -184,7 +210,8 @@ def export_rows(rows: Sequence) -> str:  # Sequence[Entry]
     """Every stored row as CSV text, originals and corrections, each marked.
 
     ``entry`` is the row's id; ``corrects`` the id it corrects (empty for an original);
-    ``reason`` why; ``superseded_by`` the id of the latest correction of an original.
+    ``reason`` why; ``superseded_by`` the id of the latest correction, on the original and
+    on every earlier correction of it (empty on the row that stands).
     Times are written in the unit's local time with their UTC offset.
     """
     latest: dict[int, int] = {}
@@ -207,10 +234,15 @@ def export_rows(rows: Sequence) -> str:  # Sequence[Entry]
                 e.id,
                 e.corrects or "",
                 _safe_cell(e.reason or ""),
-                latest.get(e.id, ""),
+                _superseded_by(e, latest),
             )
         )
     return out.getvalue()
+
+
+def _superseded_by(e, latest: dict[int, int]) -> int | str:  # e: Entry
+    newest = latest.get(e.corrects if e.corrects is not None else e.id)
+    return newest if newest is not None and newest != e.id else ""
 
 
 def _safe_cell(text: str) -> str:

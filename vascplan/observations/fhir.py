@@ -18,7 +18,7 @@ from collections.abc import Sequence
 from datetime import datetime
 from typing import Any
 
-from vascplan.observations.abi import ankle_brachial_index
+from vascplan.observations.abi import ankle_brachial_index, arm_sites
 from vascplan.observations.findings import ENTERED_IN_ERROR, ITEMS, SIDES
 from vascplan.observations.store import CurrentFinding, Entry, current_findings
 from vascplan.safety import CAUTION
@@ -39,17 +39,16 @@ STAFF_ID = "urn:vascplan:staff-id"
 ENTRY_ID = "urn:vascplan:obs-entry"
 
 STANDARD_CODES: dict[str, tuple[str, str, str]] = {
-    # item -> (system, code, where it was confirmed)
-    "refill": (LOINC, "44963-7", "capillary refill, LOINC 44963-7 (REFERENCES.md, seen)"),
-    "pain": (LOINC, "72514-3", "pain severity 0-10, LOINC 72514-3 (REFERENCES.md, seen)"),
+    # item -> (system, code, display as published; confirmed in REFERENCES.md (seen) and in
+    # FHIR implementation guides that use the code with this display)
+    "refill": (LOINC, "44963-7", "Capillary refill [Time] of Nail bed"),
+    "pain": (LOINC, "72514-3", "Pain severity - 0-10 verbal numeric rating [Score] - Reported"),
 }
 """Items with a confirmed standard code. ``pulse`` keeps a local code: LOINC 44974-4 is
 pulse intensity *by palpation*, and our grade ``doppler`` is not a palpation finding."""
-ABI_CODE = (
-    SNOMED,
-    "446841001",
-    "ankle brachial pressure index, SNOMED CT 446841001 (REFERENCES.md, seen)",
-)
+ABI_CODE = (SNOMED, "446841001", "Ankle brachial pressure index (observable entity)")
+"""SNOMED CT 446841001 (REFERENCES.md, seen in a draft implementation guide; the same
+fully specified name is used by HL7 Lithuania's CVD guide)."""
 
 
 def _full_url(unit: str, key: str) -> str:
@@ -60,8 +59,8 @@ def _code(item: str) -> dict[str, Any]:
     spec = ITEMS[item]
     coding = [{"system": LOCAL_ITEM, "code": item, "display": spec.meaning}]
     if item in STANDARD_CODES:
-        system, code, _ = STANDARD_CODES[item]
-        coding.insert(0, {"system": system, "code": code})
+        system, code, display = STANDARD_CODES[item]
+        coding.insert(0, {"system": system, "code": code, "display": display})
     return {"coding": coding, "text": spec.meaning}
 
 
@@ -131,7 +130,8 @@ def _abi_observations(
             by_ref.setdefault(f.entry.ref, []).append(f)
     for ref, rows in by_ref.items():
         latest = {f.site: f for f in rows}  # time order: the latest per site wins
-        arms = {s[0]: float(latest[s].value) for s in ("L-ARM", "R-ARM") if s in latest}
+        arms_at = arm_sites(latest)
+        arms = {s: float(latest[a].value) for s, a in arms_at.items()}
         for side in SIDES:
             ankle_rows = {
                 a: latest[f"{side}-{a}"] for a in ("PTA", "DPA") if f"{side}-{a}" in latest
@@ -139,16 +139,16 @@ def _abi_observations(
             r = ankle_brachial_index({a: float(f.value) for a, f in ankle_rows.items()}, arms)
             if r.index is None:
                 continue
-            used = list(ankle_rows.values()) + [latest[f"{s}-ARM"] for s in arms]
+            used = list(ankle_rows.values()) + [latest[a] for a in arms_at.values()]
             when = max(f.time for f in used)
-            system, code, _ = ABI_CODE
+            system, code, display = ABI_CODE
             out.append(
                 {
                     "resourceType": "Observation",
                     "status": "final",
                     "category": [{"coding": [{"system": CATEGORY_SYSTEM, "code": "exam"}]}],
                     "code": {
-                        "coding": [{"system": system, "code": code}],
+                        "coding": [{"system": system, "code": code, "display": display}],
                         "text": "ankle-brachial index",
                     },
                     "subject": {

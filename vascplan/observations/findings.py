@@ -13,6 +13,7 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 from datetime import datetime
+from zoneinfo import ZoneInfo
 
 from vascplan.errors import InputError
 from vascplan.fileio import did_you_mean
@@ -20,9 +21,16 @@ from vascplan.fileio import did_you_mean
 SIDES = ("L", "R")
 PEDAL_ARTERIES = ("DPA", "PTA", "PER", "ATA")
 """Arteries whose signal at the ankle or foot counts as a pedal signal."""
-ARTERIES = (*PEDAL_ARTERIES, "POP", "CFA", "SFA")
-"""Arteries a pulse or pressure may be taken at, written with a side: ``R-DPA``."""
+ARTERIES = (
+    *PEDAL_ARTERIES,
+    *("PLA", "TPT", "POP", "SFA", "PFA", "CFA", "EIA", "IIA", "CIA"),
+    *("SCA", "AXA", "BRA", "RAD", "ULN"),
+)
+"""Arteries a site may name, written with a side (``R-DPA``): the ids of the sided segments
+of ``data/anatomy/segments.csv`` (a test keeps the two the same)."""
 ARMS = ("L-ARM", "R-ARM")
+SIDE_WORDS = {"LEFT": "L", "RIGHT": "R"}
+"""Whole words accepted for a side and stored as ``L`` / ``R``."""
 
 _ARTERY_SITE = re.compile(r"^([LR])-(" + "|".join(ARTERIES) + r")$")
 
@@ -42,7 +50,8 @@ class ItemSpec:
         The item word used in the CSV and as the ``obs add`` option.
     sites : str
         ``side`` (L or R), ``artery`` (``R-DPA``), ``artery-or-side``,
-        ``artery-or-arm`` (``L-ARM``), or ``optional-side`` (empty, L or R).
+        ``artery-or-arm`` (``L-ARM``), ``optional-side`` (empty, L or R), or
+        ``optional-artery-or-side`` (empty, L, R or an artery such as ``R-CFA``).
     values : tuple of str
         Allowed words, or empty for a number.
     number_range : tuple of float, optional
@@ -116,13 +125,13 @@ ITEMS: dict[str, ItemSpec] = {
         ),
         ItemSpec(
             "access",
-            "optional-side",
+            "optional-artery-or-side",
             ("dry", "ooze", "bleeding", "haematoma"),
             meaning="access-site finding",
         ),
         ItemSpec(
             "dpc",
-            "optional-side",
+            "optional-artery-or-side",
             ("ok", "kinked", "no-flow"),
             meaning="distal perfusion cannula: connection and flow",
         ),
@@ -144,7 +153,13 @@ _SITE_HELP = {
     "artery-or-side": "L, R or an artery such as R-CFA",
     "artery-or-arm": "an artery such as R-PTA, or L-ARM / R-ARM",
     "optional-side": "empty, L or R",
+    "optional-artery-or-side": "empty, L, R or an artery such as R-CFA",
 }
+
+
+def site_help(item: str) -> str:
+    """What ``item`` takes as its site, in words."""
+    return _SITE_HELP[ITEMS[item].sites]
 
 
 @dataclass(frozen=True)
@@ -194,13 +209,16 @@ def check_site(item: str, site: str) -> str:
     """Return the canonical site for ``item`` or raise ``ValueError`` saying what is allowed."""
     spec = ITEMS[item]
     site = site.strip().upper()
+    site = SIDE_WORDS.get(site, site)
     kind = spec.sites
+    artery = bool(_ARTERY_SITE.match(site))
     ok = (
         (kind == "side" and site in SIDES)
-        or (kind == "artery" and bool(_ARTERY_SITE.match(site)))
-        or (kind == "artery-or-side" and (site in SIDES or bool(_ARTERY_SITE.match(site))))
-        or (kind == "artery-or-arm" and (site in ARMS or bool(_ARTERY_SITE.match(site))))
+        or (kind == "artery" and artery)
+        or (kind == "artery-or-side" and (site in SIDES or artery))
+        or (kind == "artery-or-arm" and (site in ARMS or artery))
         or (kind == "optional-side" and site in ("", *SIDES))
+        or (kind == "optional-artery-or-side" and (site in ("", *SIDES) or artery))
     )
     if not ok:
         shown = repr(site) if site else "empty"
@@ -223,7 +241,8 @@ def check_value(item: str, value: str) -> str:
         except ValueError:
             raise ValueError(f"{item} must be a number {lo:g}-{hi:g}, got {text!r}") from None
         if number != number or not lo <= number <= hi:
-            raise ValueError(f"{item} must be {lo:g}-{hi:g} {spec.unit}, got {text}".rstrip())
+            unit = {"{score}": "", "mm[Hg]": " mmHg"}.get(spec.unit, f" {spec.unit}")
+            raise ValueError(f"{item} must be {lo:g}-{hi:g}{unit}, got {text}")
         if spec.integer and number != int(number):
             raise ValueError(f"{item} must be a whole number {lo:g}-{hi:g}, got {text}")
         return f"{number:g}"
@@ -234,6 +253,45 @@ def check_value(item: str, value: str) -> str:
             f"{item} value {text!r} is not allowed; use one of {', '.join(spec.values)}"
         )
     return word
+
+
+_DATE_ONLY = re.compile(r"^\d{4}-?\d{2}-?\d{2}$")
+
+
+def check_time(text: str, tz: ZoneInfo, source: str) -> datetime:
+    """Parse the time of a check: ISO 8601 with a time of day; naive means local to ``tz``.
+
+    A date alone is refused (it would be read as midnight, which a check rarely is).
+
+    >>> from zoneinfo import ZoneInfo
+    >>> check_time("2026-12-01T16:00", ZoneInfo("Europe/London"), "t").isoformat()
+    '2026-12-01T16:00:00+00:00'
+    """
+    from vascplan.surveillance.unit import parse_local_time
+
+    if _DATE_ONLY.match(text.strip()):
+        raise InputError(
+            source, "", f"{text.strip()!r} has no time of day; give one, e.g. {text.strip()}T16:00"
+        )
+    text = text.strip()
+    try:
+        naive = datetime.fromisoformat(text)
+    except ValueError:
+        naive = None
+    if naive is not None and naive.tzinfo is None:
+        first, second = (naive.replace(tzinfo=tz, fold=f) for f in (0, 1))
+        off1, off2 = first.utcoffset(), second.utcoffset()
+        if off1 is not None and off2 is not None and off1 > off2:
+            # The clocks went back: the wall time happens twice; name both real offsets.
+            # (In a gap fold 0 has the smaller offset; parse_local_time refuses it below.)
+            raise InputError(
+                source,
+                "",
+                f"{naive:%Y-%m-%d %H:%M} happens twice in {tz.key} (clocks go back); "
+                f"give it with its UTC offset: {first.isoformat(timespec='minutes')} "
+                f"(the first) or {second.isoformat(timespec='minutes')} (the second)",
+            )
+    return parse_local_time(text, tz, source)
 
 
 def check_item(item: str) -> str:

@@ -21,7 +21,7 @@ from datetime import UTC, datetime, timedelta
 from pathlib import Path
 from typing import Any
 
-from vascplan.observations.abi import AbiResult, ankle_brachial_index
+from vascplan.observations.abi import AbiResult, ankle_brachial_index, arm_sites
 from vascplan.observations.ali import AliResult, classify_leg, worst
 from vascplan.observations.findings import PEDAL_ARTERIES, SIDES
 from vascplan.observations.store import CurrentFinding, ObservationStore
@@ -88,6 +88,14 @@ RULES: dict[str, Rule] = {
             ("pulse-lost",),
             "common practice (a lost pedal signal that was present)",
             "a pedal pulse or Doppler signal present at baseline or an earlier check is now absent",
+        ),
+        Rule(
+            "skin-change",
+            ("perfusion-reduced",),
+            "six Ps: pallor and poikilothermia (REFERENCES.md, seen); compared with the "
+            "other leg and the earlier check: common practice",
+            "a leg pale, mottled or blue, or cool or cold, where the other leg at the same "
+            "check or the same leg earlier was normal and warm",
         ),
         Rule(
             "ali-category",
@@ -310,6 +318,7 @@ def review_patient(
             )
 
     _pedal_rules(out, patient, protocol, findings, latest, tz)
+    _skin_rules(out, protocol, findings, latest, tz)
 
     for side in SIDES:
         sens = latest.get(("sensation", side))
@@ -367,11 +376,10 @@ def review_patient(
                 )
             )
 
-    arms = {
-        s[0]: float(latest[("pressure", s)].value)
-        for s in ("L-ARM", "R-ARM")
-        if ("pressure", s) in latest
-    }
+    # The arm pressure is the cuff pressure at L-ARM / R-ARM; a pressure recorded at the
+    # brachial artery (L-BRA / R-BRA) is the same measurement and stands in for it.
+    arms_at = arm_sites({site for item, site in latest if item == "pressure"})
+    arms = {s: float(latest[("pressure", a)].value) for s, a in arms_at.items()}
     for side in SIDES:
         ankle = {
             a: float(latest[("pressure", f"{side}-{a}")].value)
@@ -380,7 +388,7 @@ def review_patient(
         }
         r = ankle_brachial_index(ankle, arms)
         used = [latest[("pressure", f"{side}-{a}")].time for a in ankle]
-        used += [latest[("pressure", f"{s}-ARM")].time for s in arms]
+        used += [latest[("pressure", a)].time for a in arms_at.values()]
         if r.index is not None and min(used) != max(used):
             # Pressures from different checks: say when, so a stale one is seen.
             r = replace(
@@ -452,7 +460,9 @@ def _nirs_rules(
                 )
             )
     left, right = latest.get(("nirs", "L")), latest.get(("nirs", "R"))
-    if left is not None and right is not None and left.time == right.time:
+    # Readings within one check's duration (the protocol's check_duration_min) are one check.
+    same_check = timedelta(minutes=protocol.check_duration_min.value)
+    if left is not None and right is not None and abs(left.time - right.time) <= same_check:
         diff = abs(float(left.value) - float(right.value))
         limit = th.nirs_limb_difference_pct.value
         if diff >= limit:
@@ -461,11 +471,13 @@ def _nirs_rules(
                 _alert(
                     protocol,
                     "nirs-limb-difference",
-                    f"NIRS L {left.value}% vs R {right.value}% at {_hm(left.time, tz)}: "
+                    f"NIRS L {left.value}% vs R {right.value}% at {_hm(left.time, tz)}"
+                    + (f"/{_hm(right.time, tz)}" if right.time != left.time else "")
+                    + ": "
                     f"{diff:g} points apart "
                     f"(threshold {limit:g} points); {low} is lower",
                     side=low,
-                    time=left.time,
+                    time=max(left.time, right.time),
                     extra_source=f"{th.nirs_limb_difference_pct.source}; {th.note}",
                 )
             )
@@ -509,6 +521,46 @@ def _pedal_rules(
                     time=f.time,
                 )
             )
+
+
+SKIN_NORMAL = {"colour": "normal", "temperature": "warm"}
+"""The normal value of the skin items; any other value is a change worth comparing."""
+
+
+def _skin_rules(
+    out: PatientReview,
+    protocol: Protocol,
+    findings: list[CurrentFinding],
+    latest: dict,
+    tz,
+) -> None:
+    for item, normal in SKIN_NORMAL.items():
+        for side in SIDES:
+            f = latest.get((item, side))
+            if f is None or f.value == normal:
+                continue
+            other = latest.get((item, "R" if side == "L" else "L"))
+            earlier = [
+                x
+                for x in findings
+                if x.item == item and x.site == side and x.time < f.time and x.value == normal
+            ]
+            reasons = []
+            if other is not None and other.time == f.time and other.value == normal:
+                reasons.append(f"the other leg {normal}")
+            if earlier:
+                reasons.append(f"{normal} at {_hm(earlier[-1].time, tz)}")
+            if reasons:
+                out.alerts.append(
+                    _alert(
+                        protocol,
+                        "skin-change",
+                        f"{side} leg {item} {f.value} at {_hm(f.time, tz)}; "
+                        + " and ".join(reasons),
+                        side=side,
+                        time=f.time,
+                    )
+                )
 
 
 def _arterial(latest: dict, side: str) -> str | None:

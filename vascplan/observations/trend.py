@@ -12,9 +12,10 @@ reportlab is imported inside :func:`render_trend_pdf`.
 from __future__ import annotations
 
 import io
+import math
 import os
-from dataclasses import dataclass
-from datetime import datetime, timedelta
+from dataclasses import dataclass, field
+from datetime import UTC, datetime, timedelta
 from pathlib import Path
 
 from vascplan.fileio import atomic_write_bytes
@@ -30,6 +31,91 @@ LEG_DASH: dict[str, list[float]] = {"L": [], "R": [4, 2]}
 LEG_MARKER = {"L": "circle", "R": "square"}
 """Marker per leg: left filled circle, right open square."""
 GRADE_MARK = {"palpable": "filled", "doppler": "open", "absent": "cross"}
+TICK_STEPS_MIN = (15, 30, 60, 120, 180, 240, 360, 720, 1440)
+"""Time-axis tick spacings [min]: ticks fall on these round times of the unit's clock."""
+MAX_TIME_TICKS = 8
+
+
+def time_ticks(
+    t0: datetime, t1: datetime, tz, max_ticks: int = MAX_TIME_TICKS
+) -> tuple[int, list[datetime]]:
+    """Round ticks of the unit's local clock between ``t0`` and ``t1`` (both aware).
+
+    The spacing is the smallest of :data:`TICK_STEPS_MIN` (or whole days) that keeps at
+    most ``max_ticks`` ticks; ticks fall where the local wall clock reads a multiple of
+    it (``14:00``, ``14:30``; ``00:00``, ``06:00``), also across a clock change, and a
+    wall time that a clock change skips is left out.
+
+    Returns
+    -------
+    (step_min, ticks)
+
+    >>> from zoneinfo import ZoneInfo
+    >>> tz = ZoneInfo("Europe/London")
+    >>> a = datetime(2026, 12, 1, 14, 37, tzinfo=tz)
+    >>> step, ticks = time_ticks(a, a + timedelta(minutes=170), tz)
+    >>> step, [f"{t:%H:%M}" for t in ticks]
+    (30, ['15:00', '15:30', '16:00', '16:30', '17:00'])
+    """
+    span_min = max((t1 - t0).total_seconds() / 60, 1.0)
+    step = next((s for s in TICK_STEPS_MIN if span_min / s <= max_ticks), None)
+    if step is None:
+        step = 1440 * math.ceil(span_min / 1440 / max_ticks)
+    wall = t0.astimezone(tz).replace(tzinfo=None, hour=0, minute=0, second=0, microsecond=0)
+    end = t1.astimezone(tz).replace(tzinfo=None)
+    ticks = []
+    while wall <= end:
+        minute_of_day = wall.hour * 60 + wall.minute
+        on = (
+            minute_of_day == 0 and wall.toordinal() % (step // 1440) == 0
+            if step >= 1440
+            else minute_of_day % step == 0
+        )
+        if on:
+            aware = wall.replace(tzinfo=tz)
+            exists = aware.astimezone(UTC).astimezone(tz).replace(tzinfo=None) == wall
+            if exists and t0 <= aware <= t1:
+                ticks.append(aware)
+        wall += timedelta(minutes=15 if step < 1440 else 1440)
+    return step, ticks
+
+
+def floor_to_step(moment: datetime, tz, step_min: int) -> datetime:
+    """The latest time at or before ``moment`` when the local clock shows a round ``step_min``."""
+    local = moment.astimezone(tz)
+    if step_min >= 1440:
+        wall = local.replace(tzinfo=None, hour=0, minute=0, second=0, microsecond=0)
+    else:
+        minute_of_day = local.hour * 60 + local.minute
+        minute_of_day -= minute_of_day % step_min
+        wall = local.replace(
+            tzinfo=None,
+            hour=minute_of_day // 60,
+            minute=minute_of_day % 60,
+            second=0,
+            microsecond=0,
+        )
+    aware = wall.replace(tzinfo=tz)
+    return aware if aware <= moment else moment
+
+
+def value_ticks(lo: float, hi: float, max_ticks: int = 6) -> tuple[float, float, list[float]]:
+    """A round axis covering ``lo``-``hi``: spacing 1, 2 or 5 times a power of ten.
+
+    >>> value_ticks(40, 81)
+    (40.0, 90.0, [40.0, 50.0, 60.0, 70.0, 80.0, 90.0])
+    >>> value_ticks(0, 7)
+    (0.0, 8.0, [0.0, 2.0, 4.0, 6.0, 8.0])
+    """
+    if hi <= lo:
+        hi = lo + 1
+    raw = (hi - lo) / (max_ticks - 1)
+    power = 10 ** math.floor(math.log10(raw))
+    step = next(m * power for m in (1, 2, 5, 10) if m * power >= raw)
+    first = math.floor(lo / step + 1e-9) * step
+    last = math.ceil(hi / step - 1e-9) * step
+    n = round((last - first) / step)
+    return float(first), float(last), [float(first + i * step) for i in range(n + 1)]
 
 
 @dataclass
@@ -42,6 +128,8 @@ class PatientTrend:
     onsets: list[tuple[datetime, Alert]]
     open_alerts: list[Alert]
     nirs_baseline: dict[str, float]
+    overdue: list[datetime] = field(default_factory=list)
+    """Due times of the scheduled checks overdue at ``at`` (not recorded)."""
 
 
 def patient_trend(
@@ -57,14 +145,16 @@ def patient_trend(
         now = {(a.rule, a.side) for a in alerts}
         onsets += [(t, a) for a in alerts if (a.rule, a.side) not in before]
         before = now
-    final = review_patient(unit, patient, protocol, mine, at).alerts
+    final_review = review_patient(unit, patient, protocol, mine, at)
+    final = final_review.alerts
     base: dict[str, float] = {s: float(v) for s, v in patient.baseline.nirs.items()}
     for side in SIDES:
         if side not in base:
             first = next((f for f in mine if f.item == "nirs" and f.site == side), None)
             if first is not None:
                 base[side] = float(first.value)
-    return PatientTrend(patient, mine, times, onsets, final, base)
+    overdue = [o.due for o in final_review.overdue]
+    return PatientTrend(patient, mine, times, onsets, final, base, overdue)
 
 
 def write_trend_pdf(
@@ -167,6 +257,8 @@ def _page(
     else:
         t0 = at - timedelta(hours=12)
     t1 = at
+    step_min, _ = time_ticks(t0, t1, tz)
+    t0 = floor_to_step(t0, tz, step_min)
     span = t1 - t0
     left, right = 80, width - 40
     th = protocol.review
@@ -185,8 +277,9 @@ def _page(
             (f"{s} {th.nirs_relative_fall_pct.value:g}% fall from {b:g}", limit, [6, 2, 1, 2])
         )
     values = [v for pts in nirs.values() for _, v in pts] + [v for _, v, _ in lines]
-    lo = max(0.0, min(values, default=40) - 10)
-    hi = min(100.0, max(values, default=80) + 10)
+    lo, hi, _ = value_ticks(
+        max(0.0, min(values, default=40) - 5), min(100.0, max(values, default=80) + 5)
+    )
     top = height - 100
     _panel(
         c,
@@ -224,7 +317,7 @@ def _page(
         t0,
         t1,
         0,
-        max([slow * 2, *rv]) + 1,
+        value_ticks(0, max([slow * 2, *rv]) + 0.5)[1],
         refill,
         [(f"slow above {slow:g} s", slow, [1, 2])],
         tz,
@@ -249,8 +342,8 @@ def _axes(c, trend: PatientTrend, title: str, left, bottom, right, top, t0, t1, 
     c.setFont("Helvetica-Bold", 9)
     c.drawString(left, top + 4, title)
     c.setFont("Helvetica", 6.5)
-    for i in range(7):
-        t = t0 + span * i / 6
+    _, ticks = time_ticks(t0, t1, tz)
+    for t in ticks:
         x = _x(t, t0, t1, left, right)
         c.line(x, bottom, x, bottom - 3)
         c.drawCentredString(x, bottom - 10, _fmt(t, tz, span))
@@ -260,6 +353,19 @@ def _axes(c, trend: PatientTrend, title: str, left, bottom, right, top, t0, t1, 
         if t0 <= t <= t1:
             x = _x(t, t0, t1, left, right)
             c.line(x, bottom, x, bottom + 5)
+    # Overdue checks: an open triangle inside the bottom edge at each due time.
+    c.setLineWidth(0.8)
+    for t in trend.overdue:
+        if t0 <= t <= t1:
+            x = _x(t, t0, t1, left, right)
+            path = c.beginPath()
+            path.moveTo(x, bottom + 2)
+            path.lineTo(x - 3.5, bottom + 8)
+            path.lineTo(x + 3.5, bottom + 8)
+            path.close()
+            c.setFillGray(1)
+            c.drawPath(path, stroke=1, fill=1)
+            c.setFillGray(0)
     # Alert onsets: a triangle inside the top edge, numbered as in the list below the panels.
     numbers: dict[datetime, list[int]] = {}
     for i, (t, _) in enumerate(trend.onsets, start=1):
@@ -305,9 +411,10 @@ def _panel(
 
     c.setFont("Helvetica", 6.5)
     c.setFillGray(0)
-    for i in range(5):
-        v = lo + (hi - lo) * i / 4
-        c.drawRightString(left - 3, y(v) - 2, f"{v:.0f}" if hi - lo >= 8 else f"{v:.1f}")
+    for v in value_ticks(lo, hi)[2]:
+        if lo <= v <= hi:
+            c.drawRightString(left - 3, y(v) - 2, f"{v:g}")
+            c.line(left - 2, y(v), left, y(v))
     for label, value, dash in lines:
         if lo <= value <= hi:
             c.setStrokeGray(0.35)
@@ -391,13 +498,20 @@ def _alert_list(c, trend: PatientTrend, tz, top: float, width: float) -> None:
 
     c.setFillGray(0)
     c.setFont("Helvetica-Bold", 9)
-    c.drawString(36, top, "Alerts (triangle = the check where each first opened)")
+    c.drawString(36, top, "Alerts (filled triangle at the top = the check where each first opened)")
     c.setFont("Helvetica", 7)
     y = top - 12
     rows = [
         f"{i}. {t.astimezone(tz):%d %b %H:%M} {a.rule}: {a.detail}"
         for i, (t, a) in enumerate(trend.onsets, 1)
     ]
+    if trend.overdue:
+        rows.append(
+            f"Overdue now (open triangle at the foot of each panel): {len(trend.overdue)} "
+            f"scheduled check(s) not recorded, due "
+            + ", ".join(f"{t.astimezone(tz):%H:%M}" for t in trend.overdue[:12])
+            + (" ..." if len(trend.overdue) > 12 else "")
+        )
     rows.append(f"Open now: {', '.join(sorted({a.rule for a in trend.open_alerts})) or 'none'}")
     for row in rows:
         for line in simpleSplit(row, "Helvetica", 7, width - 72):
