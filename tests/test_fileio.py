@@ -28,7 +28,14 @@ def test_duplicate_key(tmp_path):
 
 
 def test_duplicate_key_json(tmp_path):
-    assert _err(tmp_path, "c.json", b'{"a": 1, "a": 2}') == "c.json: JSON error: duplicate key 'a'"
+    msg = _err(tmp_path, "c.json", b'{\n "b": 0,\n "a": 1,\n "a": 2}')
+    assert msg == "c.json: line 4: JSON error: duplicate key 'a' (first on line 3)"
+
+
+def test_duplicate_key_json_that_yaml_cannot_read(tmp_path):
+    # A tab before a key is valid JSON but not YAML: the message keeps no line then.
+    msg = _err(tmp_path, "c.json", b'{"a": 1,\n\t"a": 2}')
+    assert msg == "c.json: JSON error: duplicate key 'a'"
 
 
 def test_empty_file(tmp_path):
