@@ -60,9 +60,7 @@ EXPECTED = {
     "caps-on-stenosis.yaml": "lesions.0.proximal_cap: cap morphology is for occlusions only"
     " (this lesion is a stenosis)",
     "lesion-past-end.yaml": "lesions.0.length_cm: lesion reaches 30 cm, past the end of L-SFA"
-    " (25.5 cm, "
-    + REFERENCE_END.format("L-SFA")
-    + ")",
+    " (25.5 cm, " + REFERENCE_END.format("L-SFA") + ")",
     "lesion-past-measured-end.yaml": "lesions.0.length_cm: lesion reaches 15 cm, past the end"
     " of L-POP"
     " (14.0 cm, measured)",
