@@ -20,6 +20,26 @@ _SEGMENT_FIELDS = {
 }
 
 
+_LESION_RULES: list[dict[str, Any]] = [
+    # The cross-field rules of Lesion._kind_matches, as far as JSON Schema can say them.
+    {
+        "if": {"required": ["kind"], "properties": {"kind": {"const": "occlusion"}}},
+        "then": {"properties": {"stenosis_pct": {"anyOf": [{"const": 100}, {"type": "null"}]}}},
+    },
+    {
+        "if": {"required": ["kind"], "properties": {"kind": {"const": "stenosis"}}},
+        "then": {
+            "required": ["stenosis_pct"],
+            "properties": {
+                "stenosis_pct": {"type": "number", "minimum": 0, "exclusiveMaximum": 100},
+                "proximal_cap": {"type": "null"},
+                "distal_cap": {"type": "null"},
+            },
+        },
+    },
+]
+
+
 def case_json_schema() -> dict[str, Any]:
     """JSON Schema (draft 2020-12) of ``vascplan-case/1``.
 
@@ -40,6 +60,7 @@ def case_json_schema() -> dict[str, Any]:
         for name in fields:
             props[name]["enum"] = ids
     schema["properties"]["vessels"]["propertyNames"] = {"enum": ids}
+    schema["$defs"]["Lesion"]["allOf"] = _LESION_RULES
     return {
         "$schema": "https://json-schema.org/draft/2020-12/schema",
         "$id": SCHEMA_ID,
