@@ -193,3 +193,17 @@ def test_validate_several_files_reports_each_and_exits_2(tmp_path):
         f"error: {bad_b}: {EXPECTED['stent-implausible-diameter.yaml']}",
     ]
     assert f"ok: {good} (DEMO-21)" in result.stdout
+
+
+def test_validate_names_a_folder_and_still_checks_the_other_files(tmp_path):
+    good = Path(__file__).parent.parent / "examples" / "case-DEMO-07-sfa-occlusion.yaml"
+    result = CliRunner().invoke(cli, ["validate", str(tmp_path), str(good)])
+    assert result.exit_code == 2
+    assert result.stderr == f"error: {tmp_path}: is a folder, expected a YAML or JSON file\n"
+    assert f"ok: {good} (DEMO-07)" in result.stdout
+
+
+def test_tree_of_a_missing_file_is_one_line():
+    result = CliRunner().invoke(cli, ["tree", "no-such-case.yaml"])
+    assert result.exit_code == 2
+    assert result.stderr == "error: no-such-case.yaml: file not found\n"
