@@ -72,7 +72,7 @@ EXPECTED = {
     "height-too-small.yaml": "patient.height_cm: must be 100-230 cm (got 95)",
     "height-too-large.yaml": "patient.height_cm: must be 100-230 cm (got 250)",
     "height-as-text.yaml": "patient.height_cm: must be a number, got text '160'",
-    "bool-as-number.yaml": "patient.anticoagulated: must be true or false, got int 1",
+    "bool-as-number.yaml": "patient.anticoagulated: must be true or false, got the number 1",
     "sex-misspelt.yaml": "patient.sex: must be one of: female, male, unspecified (got 'femal')"
     " (did you mean 'female'?)",
     "vessels-as-list.yaml": "vessels: must be a mapping of fields, got a list",
@@ -97,7 +97,7 @@ EXPECTED = {
     "diameter-nan.yaml": "vessels.R-CFA.diameter_mm: must be a finite number, got nan",
     "vessel-empty-value.yaml": "vessels.R-CFA: must be a mapping of fields,"
     " got nothing (an empty value)",
-    "ref-as-number.yaml": "patient.ref: must be text, got int 458"
+    "ref-as-number.yaml": "patient.ref: must be text, got the number 458"
     " (put it in quotes to keep it as written)",
     "target-unknown-segment.yaml": "procedure.target.segment: unknown segment 'L-ATX'"
     " (did you mean 'L-ATA' or 'L-AXA'?)",

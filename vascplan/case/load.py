@@ -68,16 +68,22 @@ def validate_case(source: str, data: Any) -> Case:
         raise case_error(source, exc) from None
 
 
+_KINDS = {dict: "a mapping", list: "a list", str: "text", bool: "true/false"}
+_NUMBERS = (int, float)
+
+
 def _kind(value: Any) -> str:
     if value is None:
         return "nothing (an empty value)"
-    return {dict: "a mapping", list: "a list", str: "text", bool: "true/false"}.get(
-        type(value), type(value).__name__
-    )
+    if type(value) in _NUMBERS:
+        return "a number"
+    return _KINDS.get(type(value), type(value).__name__)
 
 
 def _shown(value: Any) -> str:
-    if isinstance(value, str | int | float | bool):
+    if type(value) in _NUMBERS:
+        return f"the number {value!r}"
+    if isinstance(value, str | bool):
         return f"{_kind(value)} {value!r}"
     return _kind(value)
 
