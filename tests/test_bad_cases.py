@@ -113,6 +113,8 @@ EXPECTED = {
     "nested-too-deep.yaml": "nested far too deeply to be a case or unit file",
     "not-utf8.json": "not UTF-8 text (byte 53 cannot be decoded); save the file as UTF-8",
     "empty.json": "file is empty",
+    "key-as-number.yaml": "patient: keys must be text (field names such as height_cm), got 5",
+    "top-key-as-number.yaml": "keys must be text (field names such as patient), got 2",
 }
 
 
@@ -207,3 +209,22 @@ def test_tree_of_a_missing_file_is_one_line():
     result = CliRunner().invoke(cli, ["tree", "no-such-case.yaml"])
     assert result.exit_code == 2
     assert result.stderr == "error: no-such-case.yaml: file not found\n"
+
+
+def test_an_empty_section_means_none(tmp_path):
+    # A section left empty, or holding only commented-out entries, is read as none.
+    path = tmp_path / "case.yaml"
+    path.write_text(
+        "format: vascplan-case/1\npatient: {ref: DEMO-87, sex: female, height_cm: 150}\n"
+        "vessels:\nlesions:\n  # - {segment: L-SFA, kind: occlusion}\nstents:\ngrafts:\n"
+        "avoid:\nprocedure:\n"
+    )
+    case = load_case(path)
+    assert (case.vessels, case.lesions, case.stents, case.grafts, case.avoid) == (
+        {},
+        [],
+        [],
+        [],
+        [],
+    )
+    assert case.procedure is None

@@ -162,6 +162,13 @@ def case_error(source: str, exc: ValidationError) -> InputError:
     if kind == FIELD_ERROR:
         ctx = err.get("ctx") or {}
         return InputError(source, field_path((*loc, ctx["field"])), str(ctx["message"]))
+    if kind == "invalid_key":
+        return InputError(
+            source,
+            field_path(loc[:-1]),
+            f"keys must be text (field names such as {'height_cm' if loc[:-1] else 'patient'}),"
+            f" got {value!r}",
+        )
     if kind == "missing":
         msg = "required field is missing"
     elif kind == "extra_forbidden":

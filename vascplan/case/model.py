@@ -219,6 +219,10 @@ class Procedure(_Strict):
     device: Device
 
 
+SECTIONS = ("vessels", "lesions", "stents", "grafts", "avoid", "weights", "limits")
+"""Optional sections that may be left empty in the file (read as none)."""
+
+
 class Case(_Strict):
     """One case file (``format: vascplan-case/1``)."""
 
@@ -237,6 +241,14 @@ class Case(_Strict):
     limits: dict[str, float] = Field(
         default_factory=dict, description="route-planner hard-limit overrides (name -> value)"
     )
+
+    @model_validator(mode="before")
+    @classmethod
+    def _empty_sections_are_none(cls, data: Any) -> Any:
+        # "lesions:" with nothing (or only comments) under it means no lesions.
+        if isinstance(data, dict):
+            return {k: v for k, v in data.items() if not (k in SECTIONS and v is None)}
+        return data
 
     def segment_lengths_cm(self) -> dict[str, float]:
         """Each segment's length for this patient [cm]: measured, else the reference rule."""

@@ -5,7 +5,7 @@ from __future__ import annotations
 from typing import Any
 
 from vascplan.anatomy.reference import segment_ids
-from vascplan.case.model import CASE_FORMAT, Case
+from vascplan.case.model import CASE_FORMAT, SECTIONS, Case
 from vascplan.safety import CAUTION
 
 SCHEMA_ID = "https://vascplan.invalid/schema/vascplan-case-1.json"
@@ -61,6 +61,10 @@ def case_json_schema() -> dict[str, Any]:
             props[name]["enum"] = ids
     schema["properties"]["vessels"]["propertyNames"] = {"enum": ids}
     schema["$defs"]["Lesion"]["allOf"] = _LESION_RULES
+    for name in SECTIONS:  # an empty section in the file is read as none
+        prop = schema["properties"][name]
+        keep = {k: prop.pop(k) for k in ("title", "description") if k in prop}
+        schema["properties"][name] = {**keep, "anyOf": [prop, {"type": "null"}]}
     return {
         "$schema": "https://json-schema.org/draft/2020-12/schema",
         "$id": SCHEMA_ID,
