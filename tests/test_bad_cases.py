@@ -28,7 +28,7 @@ EXPECTED = {
     "duplicate-key.json": "line 1: JSON error: duplicate key 'sex' (first on line 1)",
     "duplicate-key-lines.json": "line 4: JSON error: duplicate key 'height_cm' (first on line 4)",
     "empty.yaml": "file is empty",
-    "not-utf8.yaml": "not UTF-8 text (byte 113 cannot be decoded); save the file as UTF-8",
+    "not-utf8.yaml": "line 4: not UTF-8 text (byte 113 cannot be decoded); save the file as UTF-8",
     "top-level-list.yaml": "expected a mapping of case fields at the top, got a list",
     "wrong-format.yaml": "format: must be one of: vascplan-case/1 (got 'vascplan-case/2')"
     " (did you mean 'vascplan-case/1'?)",
@@ -111,7 +111,7 @@ EXPECTED = {
     "two-documents.yaml": "line 3: YAML error: expected a single document in the stream,"
     " but found another document",
     "nested-too-deep.yaml": "nested far too deeply to be a case or unit file",
-    "not-utf8.json": "not UTF-8 text (byte 53 cannot be decoded); save the file as UTF-8",
+    "not-utf8.json": "line 1: not UTF-8 text (byte 53 cannot be decoded); save the file as UTF-8",
     "empty.json": "file is empty",
     "key-as-number.yaml": "patient: keys must be text (field names such as height_cm), got 5",
     "top-key-as-number.yaml": "keys must be text (field names such as patient), got 2",

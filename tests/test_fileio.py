@@ -43,8 +43,11 @@ def test_empty_file(tmp_path):
 
 
 def test_not_utf8(tmp_path):
-    msg = _err(tmp_path, "c.yaml", b"ref: caf\xe9\n")
-    assert msg == "c.yaml: not UTF-8 text (byte 8 cannot be decoded); save the file as UTF-8"
+    msg = _err(tmp_path, "c.yaml", b"a: 1\nref: caf\xe9\n")
+    # byte 13 (0-based) is the Latin-1 e-acute on the second line
+    assert msg == (
+        "c.yaml: line 2: not UTF-8 text (byte 13 cannot be decoded); save the file as UTF-8"
+    )
 
 
 def test_too_large(tmp_path):

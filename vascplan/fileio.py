@@ -107,8 +107,11 @@ def read_document(path: str | os.PathLike[str], *, max_bytes: int = MAX_INPUT_BY
     try:
         text = raw.decode("utf-8")
     except UnicodeDecodeError as exc:
+        line = raw[: exc.start].count(b"\n") + 1
         raise InputError(
-            src, "", f"not UTF-8 text (byte {exc.start} cannot be decoded); save the file as UTF-8"
+            src,
+            f"line {line}",
+            f"not UTF-8 text (byte {exc.start} cannot be decoded); save the file as UTF-8",
         ) from None
     if text.startswith("\ufeff"):
         text = text[1:]
