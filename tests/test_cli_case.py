@@ -280,3 +280,16 @@ def test_schema_accepts_examples_and_refuses_field_errors_with_jsonschema():
     bad = Path(__file__).parent / "data" / "bad_cases"
     for name in ("occlusion-not-100.yaml", "caps-on-stenosis.yaml", "unknown-segment.yaml"):
         assert list(validator.iter_errors(yaml.safe_load((bad / name).read_text())))
+
+
+def test_version_is_the_package_version_and_single_sourced():
+    import tomllib
+
+    import vascplan
+
+    result = run("--version")
+    assert result.exit_code == 0
+    assert result.stdout == f"vascplan, version {vascplan.__version__}\n"
+    project = tomllib.loads((examples_dir().parent / "pyproject.toml").read_text())
+    assert "version" in project["project"]["dynamic"]
+    assert project["tool"]["setuptools"]["dynamic"]["version"] == {"attr": "vascplan.__version__"}
