@@ -148,14 +148,19 @@ def _parse_json(src: str, text: str) -> Any:
         raise InputError(src, f"line {exc.lineno}", f"JSON syntax error: {exc.msg}") from None
     except ValueError as exc:
         # A duplicate key: JSON's parser gives no position, the YAML one does (valid JSON
-        # is YAML); fall back to the bare message when YAML cannot read this JSON.
-        try:
-            _parse_yaml(src, text)
-        except InputError as located:
-            if located.field.startswith("line ") and "duplicate key" in located.message:
-                message = located.message.replace("YAML", "JSON")
-                raise InputError(src, located.field, message) from None
+        # is YAML); fall back to the bare message when YAML cannot read this JSON, or
+        # when the file is too big for the slower YAML parser to be worth it.
+        if len(text) <= _LOCATE_DUPLICATE_MAX_CHARS:
+            try:
+                _parse_yaml(src, text)
+            except InputError as located:
+                if located.field.startswith("line ") and "duplicate key" in located.message:
+                    message = located.message.replace("YAML", "JSON")
+                    raise InputError(src, located.field, message) from None
         raise InputError(src, "", f"JSON error: {exc}") from None
+
+
+_LOCATE_DUPLICATE_MAX_CHARS = 200_000
 
 
 def field_path(loc: Iterable[Any]) -> str:
