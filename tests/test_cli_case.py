@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
@@ -50,7 +51,8 @@ def test_tree_table_marks_reference_values():
     sfa = rows["L-SFA"].split()
     assert sfa[5:9] == ["5.2", "0.0", "29.0", "none*"]
     # R-EIA: nothing measured.
-    assert rows["R-EIA"].split()[5:9] == ["7.0*", "7.0", "9.0*", "none*"]
+    # R-EIA: nothing measured, so its MLD (the reference diameter) is marked too.
+    assert rows["R-EIA"].split()[5:9] == ["7.0*", "7.0*", "9.0*", "none*"]
     assert "AVOID: dialysis fistula planned" in rows["L-RAD"]
     assert result.stdout.rstrip().endswith(f"Caution: {CAUTION}")
     assert "Legend: * = reference value" in result.stdout
@@ -153,3 +155,141 @@ def test_tree_assumptions_lists_each_reference_value():
     assert any(
         line.startswith("Assumption: R-EIA diameter is a reference value") for line in listed
     )
+
+
+def test_mld_marked_when_it_rests_on_a_reference_diameter():
+    # R-CIA reference 10.9 mm (Kim 2022, pooled) with a 50% stenosis: MLD 5.45 mm, assumed.
+    # L-CIA measured 9 mm with a 50% stenosis: 4.5 mm, measured. R-EIA reference with a 6 mm
+    # stent narrower than the 8 mm (male) reference: the stent's 6 mm is the case's figure.
+    # L-SFA occlusion: 0, whatever its diameter.
+    from vascplan.anatomy.summary import tree_summary
+
+    case = Case.model_validate(
+        {
+            "format": "vascplan-case/1",
+            "patient": {"ref": "DEMO-81", "sex": "male", "height_cm": 175},
+            "vessels": {"L-CIA": {"diameter_mm": 9.0}},
+            "lesions": [
+                {
+                    "segment": "R-CIA",
+                    "kind": "stenosis",
+                    "stenosis_pct": 50,
+                    "start_cm": 1,
+                    "length_cm": 2,
+                },
+                {
+                    "segment": "L-CIA",
+                    "kind": "stenosis",
+                    "stenosis_pct": 50,
+                    "start_cm": 1,
+                    "length_cm": 2,
+                },
+                {"segment": "L-SFA", "kind": "occlusion", "start_cm": 5, "length_cm": 10},
+            ],
+            "stents": [{"segment": "R-EIA", "start_cm": 1, "length_cm": 4, "diameter_mm": 6}],
+        }
+    )
+    segs = {s["id"]: s for s in tree_summary(build_tree(case))["segments"]}
+    assert (segs["R-CIA"]["mld_mm"], segs["R-CIA"]["mld_source"]) == (
+        pytest.approx(5.45, abs=0.01),
+        "reference",
+    )
+    assert segs["R-CIA"]["lesions"][0]["mld_source"] == "reference"
+    assert (segs["L-CIA"]["mld_mm"], segs["L-CIA"]["mld_source"]) == (4.5, "measured")
+    assert (segs["R-EIA"]["mld_mm"], segs["R-EIA"]["mld_source"]) == (6.0, "measured")
+    assert (segs["L-SFA"]["mld_mm"], segs["L-SFA"]["mld_source"]) == (0.0, "measured")
+    assert segs["R-SFA"]["mld_source"] == "reference"
+
+
+# Keywords of JSON Schema draft 2020-12 (json-schema.org, Core and Validation vocabularies)
+# that the case schema may use; anything else would be silently ignored by validators.
+_KEYWORDS = {
+    "$schema",
+    "$id",
+    "$defs",
+    "$ref",
+    "title",
+    "description",
+    "default",
+    "type",
+    "enum",
+    "const",
+    "properties",
+    "additionalProperties",
+    "propertyNames",
+    "required",
+    "items",
+    "anyOf",
+    "allOf",
+    "if",
+    "then",
+    "minimum",
+    "maximum",
+    "exclusiveMinimum",
+    "exclusiveMaximum",
+    "minLength",
+    "maxLength",
+    "pattern",
+}
+_TYPES = {"null", "boolean", "object", "array", "number", "string", "integer"}
+
+
+def _walk_schema(node, root, where="#"):
+    assert isinstance(node, dict), where
+    assert set(node) <= _KEYWORDS, (where, set(node) - _KEYWORDS)
+    if "type" in node:
+        assert node["type"] in _TYPES, where
+    if "$ref" in node:
+        assert node["$ref"].startswith("#/$defs/"), where
+        assert node["$ref"].split("/")[-1] in root["$defs"], where
+    for key in ("properties", "$defs"):
+        for name, sub in node.get(key, {}).items():
+            _walk_schema(sub, root, f"{where}/{key}/{name}")
+    for key in ("items", "additionalProperties", "propertyNames", "if", "then"):
+        if isinstance(node.get(key), dict):
+            _walk_schema(node[key], root, f"{where}/{key}")
+    for key in ("anyOf", "allOf"):
+        for i, sub in enumerate(node.get(key, [])):
+            _walk_schema(sub, root, f"{where}/{key}/{i}")
+    if "required" in node and "properties" in node and "if" not in node:
+        assert set(node["required"]) <= set(node["properties"]), where
+
+
+def test_schema_is_well_formed_draft_2020_12():
+    schema = json.loads(run("schema").stdout)
+    assert schema["$schema"] == "https://json-schema.org/draft/2020-12/schema"
+    _walk_schema(schema, schema)
+    lesion = schema["$defs"]["Lesion"]
+    # The cross-field lesion rules are stated, not only the per-field ranges.
+    stenosis_rule = next(
+        r for r in lesion["allOf"] if r["if"]["properties"]["kind"]["const"] == "stenosis"
+    )
+    assert stenosis_rule["then"]["required"] == ["stenosis_pct"]
+    assert stenosis_rule["then"]["properties"]["stenosis_pct"]["exclusiveMaximum"] == 100
+
+
+def test_schema_accepts_examples_and_refuses_field_errors_with_jsonschema():
+    jsonschema = pytest.importorskip("jsonschema")  # test-only, when installed
+    import yaml
+
+    schema = json.loads(run("schema").stdout)
+    jsonschema.Draft202012Validator.check_schema(schema)
+    validator = jsonschema.Draft202012Validator(schema)
+    for path in EXAMPLES:
+        assert list(validator.iter_errors(yaml.safe_load(path.read_text()))) == []
+    bad = Path(__file__).parent / "data" / "bad_cases"
+    for name in ("occlusion-not-100.yaml", "caps-on-stenosis.yaml", "unknown-segment.yaml"):
+        assert list(validator.iter_errors(yaml.safe_load((bad / name).read_text())))
+
+
+def test_version_is_the_package_version_and_single_sourced():
+    import tomllib
+
+    import vascplan
+
+    result = run("--version")
+    assert result.exit_code == 0
+    assert result.stdout == f"vascplan, version {vascplan.__version__}\n"
+    project = tomllib.loads((examples_dir().parent / "pyproject.toml").read_text())
+    assert "version" in project["project"]["dynamic"]
+    assert project["tool"]["setuptools"]["dynamic"]["version"] == {"attr": "vascplan.__version__"}

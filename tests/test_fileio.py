@@ -28,7 +28,14 @@ def test_duplicate_key(tmp_path):
 
 
 def test_duplicate_key_json(tmp_path):
-    assert _err(tmp_path, "c.json", b'{"a": 1, "a": 2}') == "c.json: JSON error: duplicate key 'a'"
+    msg = _err(tmp_path, "c.json", b'{\n "b": 0,\n "a": 1,\n "a": 2}')
+    assert msg == "c.json: line 4: JSON error: duplicate key 'a' (first on line 3)"
+
+
+def test_duplicate_key_json_that_yaml_cannot_read(tmp_path):
+    # A tab before a key is valid JSON but not YAML: the message keeps no line then.
+    msg = _err(tmp_path, "c.json", b'{"a": 1,\n\t"a": 2}')
+    assert msg == "c.json: JSON error: duplicate key 'a'"
 
 
 def test_empty_file(tmp_path):
@@ -36,8 +43,11 @@ def test_empty_file(tmp_path):
 
 
 def test_not_utf8(tmp_path):
-    msg = _err(tmp_path, "c.yaml", b"ref: caf\xe9\n")
-    assert msg == "c.yaml: not UTF-8 text (byte 8 cannot be decoded); save the file as UTF-8"
+    msg = _err(tmp_path, "c.yaml", b"a: 1\nref: caf\xe9\n")
+    # byte 13 (0-based) is the Latin-1 e-acute on the second line
+    assert msg == (
+        "c.yaml: line 2: not UTF-8 text (byte 13 cannot be decoded); save the file as UTF-8"
+    )
 
 
 def test_too_large(tmp_path):
@@ -72,3 +82,34 @@ def test_atomic_write_leaves_old_file_on_failure(tmp_path, monkeypatch):
 
 def test_output_inside_cannot_escape(tmp_path):
     assert output_inside(tmp_path, "../../x.pdf").parent == tmp_path.resolve()
+
+
+def test_installed_copy_of_data_is_found_when_the_source_tree_has_none(tmp_path, monkeypatch):
+    # A non-editable install has no data/ beside the package: pyproject's data-files put
+    # it under <prefix>/share/vascplan, where vascplan.paths must look.
+    from vascplan import paths
+
+    installed = tmp_path / "share" / "vascplan"
+    (installed / "data").mkdir(parents=True)
+    (installed / "examples").mkdir()
+    monkeypatch.delenv("VASCPLAN_DATA", raising=False)
+    monkeypatch.setattr(paths, "_SOURCE_TREE", tmp_path / "site-packages")
+    monkeypatch.setattr(paths, "_INSTALLED", installed)
+    assert paths.data_dir() == installed / "data"
+    assert paths.examples_dir() == installed / "examples"
+
+
+def test_pyproject_ships_every_data_folder():
+    import tomllib
+
+    from vascplan.paths import data_dir
+
+    root = data_dir().parent
+    shipped = tomllib.loads((root / "pyproject.toml").read_text())["tool"]["setuptools"][
+        "data-files"
+    ]
+    folders = {p.name for p in data_dir().iterdir() if p.is_dir()}
+    assert {
+        k.rsplit("/", 1)[-1] for k in shipped if k.startswith("share/vascplan/data/")
+    } == folders
+    assert shipped["share/vascplan/examples"] == ["examples/*"]

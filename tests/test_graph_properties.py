@@ -78,7 +78,9 @@ def cases(draw) -> tuple[Case, dict]:
                     "segment": seg,
                     "start_cm": start,
                     "length_cm": end - start,
-                    "diameter_mm": draw(st.floats(2.0, 30.0)),
+                    "diameter_mm": draw(
+                        st.floats(REF[seg].diameter_min_mm, REF[seg].diameter_max_mm)
+                    ),
                 }
             )
     grafts = []

@@ -164,3 +164,58 @@ def test_malformed_table_names_line_and_column(tmp_path):
     with pytest.raises(InputError) as exc:
         load_reference(str(folder))
     assert str(exc.value) == f"{table}: line 4.parent: parent 'AO-ARC' must be an earlier row's id"
+
+
+def test_more_published_diameters():
+    ref = load_reference()
+    # Kim et al., PLoS One 2022: common iliac 10.9 +/- 1.7 mm (sexes pooled).
+    for sex in ("female", "male"):
+        assert (ref["R-CIA"].diameter_mean_mm(sex), ref["R-CIA"].diameter_sd_mm(sex)) == (10.9, 1.7)
+    # Sandgren et al., J Vasc Surg 1999;29:503 (values from memory): CFA men 9.8, women 8.2 mm.
+    assert ref["L-CFA"].diameter_male_mean_mm == 9.8
+    assert ref["L-CFA"].diameter_female_mean_mm == 8.2
+    # SFA/CFA ratio men 0.78, women 0.74 (REFERENCES.md, seen): SFA = ratio x CFA, 0.05 mm.
+    assert ref["L-SFA"].diameter_male_mean_mm == pytest.approx(0.78 * 9.8, abs=0.05)
+    assert ref["L-SFA"].diameter_female_mean_mm == pytest.approx(0.74 * 8.2, abs=0.05)
+    # Axillary minimal lumen 6.0 +/- 1.1 mm (Catheter Cardiovasc Interv 2018;91:150).
+    assert (ref["R-AXA"].diameter_male_mean_mm, ref["R-AXA"].diameter_male_sd_mm) == (6.0, 1.1)
+
+
+# Men's 95th-percentile upper limits by MR angiography (Lorbeer et al., PLoS One
+# 2018;13:e0197559): a male reference mean must lie below them, and the plausible range
+# must not refuse a diameter at that limit.
+LORBEER_2018_MEN_P95_MM = {
+    "CIA": 11.8,
+    "EIA": 10.3,
+    "CFA": 10.2,  # "proximal femoral"
+    "SFA": 7.7,  # "distal femoral"; the SFA mean is taken over the whole artery
+    "POP": 6.9,
+    "ATA": 4.2,
+    "PTA": 3.8,
+    "PER": 4.0,
+}
+
+
+@pytest.mark.parametrize(("seg", "p95_mm"), sorted(LORBEER_2018_MEN_P95_MM.items()))
+def test_male_means_below_lorbeer_95th_centile(seg, p95_mm):
+    ref = load_reference()
+    for side in "LR":
+        r = ref[f"{side}-{seg}"]
+        assert r.diameter_male_mean_mm < p95_mm
+        assert r.diameter_min_mm < p95_mm <= r.diameter_max_mm
+
+
+def test_plausible_range_holds_three_sd_either_side():
+    # Mean +/- 3 SD covers 99.7% of a normal distribution: a normal patient's measured
+    # diameter must never be refused as implausible.
+    for r in load_reference().values():
+        for sex in ("female", "male"):
+            mean, sd = r.diameter_mean_mm(sex), r.diameter_sd_mm(sex)
+            assert r.diameter_min_mm <= mean - 3 * sd + 1e-9, (r.id, sex)
+            assert mean + 3 * sd <= r.diameter_max_mm + 1e-9, (r.id, sex)
+
+
+def test_suggestions_for_plain_names_and_ties():
+    assert suggest_segment("radial") == " (did you mean 'L-RAD' or 'R-RAD'?)"
+    assert suggest_segment("L-ATX") == " (did you mean 'L-ATA' or 'L-AXA'?)"
+    assert suggest_segment("R-POPL") == " (did you mean 'R-POP'?)"

@@ -91,41 +91,76 @@ def read_document(path: str | os.PathLike[str], *, max_bytes: int = MAX_INPUT_BY
         raise InputError(src, "", f"cannot read file ({exc.strerror})") from None
     if p.is_dir():
         raise InputError(src, "", "is a folder, expected a YAML or JSON file")
+    if not p.is_file():
+        raise InputError(src, "", "is not a regular file, expected a YAML or JSON file")
     if size > max_bytes:
         raise InputError(
             src, "", f"file is {size:,} bytes, far too large (at most {max_bytes:,} bytes)"
         )
-    raw = p.read_bytes()
+    try:
+        with p.open("rb") as fh:
+            raw = fh.read(max_bytes + 1)
+    except OSError as exc:
+        raise InputError(src, "", f"cannot read file ({exc.strerror})") from None
+    if len(raw) > max_bytes:  # grew since stat
+        raise InputError(src, "", f"file is far too large (more than {max_bytes:,} bytes)")
     try:
         text = raw.decode("utf-8")
     except UnicodeDecodeError as exc:
+        line = raw[: exc.start].count(b"\n") + 1
         raise InputError(
-            src, "", f"not UTF-8 text (byte {exc.start} cannot be decoded); save the file as UTF-8"
+            src,
+            f"line {line}",
+            f"not UTF-8 text (byte {exc.start} cannot be decoded); save the file as UTF-8",
         ) from None
     if text.startswith("\ufeff"):
         text = text[1:]
     if not text.strip():
         raise InputError(src, "", "file is empty")
-    if p.suffix.lower() == ".json":
-        try:
-            data = json.loads(text, object_pairs_hook=_json_pairs)
-        except json.JSONDecodeError as exc:
-            raise InputError(src, f"line {exc.lineno}", f"JSON syntax error: {exc.msg}") from None
-        except ValueError as exc:
-            raise InputError(src, "", f"JSON error: {exc}") from None
-    else:
-        try:
-            data = yaml.load(text, Loader=_UniqueKeyLoader)  # noqa: S506 - safe loader subclass
-        except yaml.MarkedYAMLError as exc:
-            mark = exc.problem_mark or exc.context_mark
-            line = f"line {mark.line + 1}" if mark is not None else ""
-            problem = exc.problem or exc.context or "syntax error"
-            raise InputError(src, line, f"YAML error: {problem}") from None
-        except yaml.YAMLError as exc:
-            raise InputError(src, "", f"YAML error: {exc}") from None
+    try:
+        data = _parse_json(src, text) if p.suffix.lower() == ".json" else _parse_yaml(src, text)
+    except RecursionError:
+        raise InputError(src, "", "nested far too deeply to be a case or unit file") from None
     if data is None:
         raise InputError(src, "", "file holds no data")
     return data
+
+
+def _parse_yaml(src: str, text: str) -> Any:
+    try:
+        return yaml.load(text, Loader=_UniqueKeyLoader)  # noqa: S506 - safe loader subclass
+    except yaml.MarkedYAMLError as exc:
+        mark = exc.problem_mark or exc.context_mark
+        line = f"line {mark.line + 1}" if mark is not None else ""
+        problem = exc.problem or exc.context or "syntax error"
+        if exc.context and problem.startswith("but "):
+            # "expected a single document in the stream, but found another document"
+            problem = f"{exc.context}, {problem}"
+        raise InputError(src, line, f"YAML error: {problem}") from None
+    except yaml.YAMLError as exc:
+        raise InputError(src, "", f"YAML error: {exc}") from None
+
+
+def _parse_json(src: str, text: str) -> Any:
+    try:
+        return json.loads(text, object_pairs_hook=_json_pairs)
+    except json.JSONDecodeError as exc:
+        raise InputError(src, f"line {exc.lineno}", f"JSON syntax error: {exc.msg}") from None
+    except ValueError as exc:
+        # A duplicate key: JSON's parser gives no position, the YAML one does (valid JSON
+        # is YAML); fall back to the bare message when YAML cannot read this JSON, or
+        # when the file is too big for the slower YAML parser to be worth it.
+        if len(text) <= _LOCATE_DUPLICATE_MAX_CHARS:
+            try:
+                _parse_yaml(src, text)
+            except InputError as located:
+                if located.field.startswith("line ") and "duplicate key" in located.message:
+                    message = located.message.replace("YAML", "JSON")
+                    raise InputError(src, located.field, message) from None
+        raise InputError(src, "", f"JSON error: {exc}") from None
+
+
+_LOCATE_DUPLICATE_MAX_CHARS = 200_000
 
 
 def field_path(loc: Iterable[Any]) -> str:

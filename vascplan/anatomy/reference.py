@@ -276,21 +276,45 @@ def segment_ids() -> list[str]:
 def suggest_segment(word: str) -> str:
     """A did-you-mean hint for an unknown segment id (``" (did you mean 'L-SFA'?)"``).
 
-    Tries the upper-cased word, then a side prefix for a bare id, then close spellings.
+    Tries the upper-cased word, then a side prefix for a bare id, then a word of the
+    plain names (``radial``), then close spellings (all equally close ones, up to two).
 
     >>> suggest_segment("l-sfa")
     " (did you mean 'L-SFA'?)"
     >>> suggest_segment("SFA")
     " (did you mean 'L-SFA' or 'R-SFA'?)"
+    >>> suggest_segment("radial")
+    " (did you mean 'L-RAD' or 'R-RAD'?)"
     >>> suggest_segment("R-CFX")
     " (did you mean 'R-CFA'?)"
+    >>> suggest_segment("L-ATX")        # equally close: both are offered
+    " (did you mean 'L-ATA' or 'L-AXA'?)"
     """
-    from vascplan.fileio import did_you_mean
+    import difflib
 
     ids = load_reference()
     upper = word.strip().upper()
     if upper in ids:
-        return f" (did you mean {upper!r}?)"
+        return _offer([upper])
     if f"L-{upper}" in ids:
-        return f" (did you mean 'L-{upper}' or 'R-{upper}'?)"
-    return did_you_mean(upper, ids)
+        return _offer([f"L-{upper}", f"R-{upper}"])
+    lower = word.strip().lower()
+    if len(lower) >= 4:
+        named = [seg_id for seg_id, r in ids.items() if lower in r.name.lower().split()]
+        if 0 < len(named) <= 4:
+            return _offer(named)
+    scored = sorted(
+        ((difflib.SequenceMatcher(None, upper, seg_id).ratio(), seg_id) for seg_id in ids),
+        key=lambda item: (-item[0], item[1]),
+    )
+    return _offer(
+        [seg_id for score, seg_id in scored if score >= 0.5 and score == scored[0][0]][:2]
+    )
+
+
+def _offer(choices: list[str]) -> str:
+    if not choices:
+        return ""
+    quoted = [repr(x) for x in choices]
+    listed = quoted[0] if len(quoted) == 1 else f"{', '.join(quoted[:-1])} or {quoted[-1]}"
+    return f" (did you mean {listed}?)"

@@ -4,20 +4,20 @@
 :func:`render_tree_table` only lays the summary out. The JSON contract (format
 ``vascplan-tree/1``) holds at least ``case``, ``segments`` (each with ``id``, ``name``,
 ``side``, ``diameter_mm``, ``diameter_source``, ``length_cm``, ``length_source``,
-``mld_mm``, ``lesions``), ``assumptions`` and ``caution``.
+``mld_mm``, ``mld_source``, ``lesions``), ``assumptions`` and ``caution``.
 """
 
 from __future__ import annotations
 
 from typing import Any
 
-from vascplan.anatomy.graph import REFERENCE, ArterialTree
+from vascplan.anatomy.graph import MEASURED, REFERENCE, ArterialTree
 from vascplan.safety import CAUTION, REFERENCE_MARK
 
 TREE_FORMAT = "vascplan-tree/1"
 LEGEND = (
     f"{REFERENCE_MARK} = reference value from the adult anatomy table, not measured for this "
-    "patient: check against imaging"
+    "patient (an MLD so marked is worked out from a reference diameter): check against imaging"
 )
 
 
@@ -30,7 +30,29 @@ def _lesion(tree: ArterialTree, seg_id: str, lesion: Any) -> dict[str, Any]:
     out["end_cm"] = _r(lesion.end_cm)
     out["stenosis_pct"] = lesion.percent
     out["mld_mm"] = _r(tree.mld(seg_id, lesion.start_cm, lesion.end_cm))
+    out["mld_source"] = mld_source(tree, seg_id, lesion.start_cm, lesion.end_cm)
     return out
+
+
+def mld_source(
+    tree: ArterialTree, node_id: str, start_cm: float = 0.0, end_cm: float | None = None
+) -> str:
+    """Whether an MLD rests on a reference diameter (``reference``) or on the case (``measured``).
+
+    The MLD is the case's own figure when it is set by an occlusion (0), a graft that is
+    not patent or a stent's nominal diameter; otherwise it is the vessel diameter, or a
+    percent of it, and takes that diameter's provenance.
+    """
+    n = tree.segment(node_id)
+    mld = tree.mld(node_id, start_cm, end_cm)
+    end = n["length_cm"] if end_cm is None else end_cm
+    if mld <= 0.0:
+        return MEASURED
+    for stent in n["stents"]:
+        overlaps = stent.start_cm <= end and stent.end_cm >= start_cm
+        if overlaps and stent.diameter_mm == mld and mld < n["diameter_mm"]:
+            return MEASURED
+    return str(n["diameter_source"])
 
 
 def _node(tree: ArterialTree, node_id: str) -> dict[str, Any]:
@@ -46,6 +68,7 @@ def _node(tree: ArterialTree, node_id: str) -> dict[str, Any]:
         "length_cm": _r(n["length_cm"], 1),
         "length_source": n["length_source"],
         "mld_mm": _r(tree.mld(node_id)),
+        "mld_source": mld_source(tree, node_id),
         "calcification": n["calcification"],
         "calcification_source": n["calcification_source"],
         "lesions": [_lesion(tree, node_id, x) for x in n["lesions"]],
@@ -121,7 +144,8 @@ def _findings(seg: dict[str, Any]) -> str:
             parts.append(f"occlusion {where}, {x['calcification']} Ca{caps}")
         else:
             parts.append(
-                f"stenosis {x['stenosis_pct']:g}% {where} (MLD {x['mld_mm']:.1f}), "
+                f"stenosis {x['stenosis_pct']:g}% {where} "
+                f"(MLD {_mark(format(x['mld_mm'], '.1f'), x['mld_source']).rstrip()}), "
                 f"{x['calcification']} Ca"
             )
     for x in seg["stents"]:
@@ -163,7 +187,7 @@ def render_tree_table(summary: dict[str, Any], *, every_assumption: bool = False
                 seg["id"],
                 seg["name"],
                 _mark(f"{seg['diameter_mm']:.1f}", seg["diameter_source"]),
-                f"{seg['mld_mm']:.1f}",
+                _mark(f"{seg['mld_mm']:.1f}", seg["mld_source"]),
                 _mark(f"{seg['length_cm']:.1f}", seg["length_source"]),
                 _mark(seg["calcification"], seg["calcification_source"]),
                 _findings(seg),
@@ -176,7 +200,7 @@ def render_tree_table(summary: dict[str, Any], *, every_assumption: bool = False
                 g["id"],
                 f"graft {g['from']} {g['from_cm']:g} cm -> {g['to']} {g['to_cm']:g} cm",
                 f"{g['diameter_mm']:.1f} ",
-                f"{g['mld_mm']:.1f}",
+                f"{g['mld_mm']:.1f} ",
                 f"{g['length_cm']:.1f}~",
                 "",
                 f"{state}; length estimated (~)",

@@ -16,7 +16,7 @@ import annotated_types
 from pydantic import BaseModel, ValidationError
 from pydantic.fields import FieldInfo
 
-from vascplan.case.model import Case
+from vascplan.case.model import FIELD_ERROR, Case
 from vascplan.errors import InputError
 from vascplan.fileio import did_you_mean, field_path, read_document
 
@@ -68,14 +68,22 @@ def validate_case(source: str, data: Any) -> Case:
         raise case_error(source, exc) from None
 
 
+_KINDS = {dict: "a mapping", list: "a list", str: "text", bool: "true/false"}
+_NUMBERS = (int, float)
+
+
 def _kind(value: Any) -> str:
-    return {dict: "a mapping", list: "a list", str: "text", bool: "true/false"}.get(
-        type(value), type(value).__name__
-    )
+    if value is None:
+        return "nothing (an empty value)"
+    if type(value) in _NUMBERS:
+        return "a number"
+    return _KINDS.get(type(value), type(value).__name__)
 
 
 def _shown(value: Any) -> str:
-    if isinstance(value, str | int | float | bool):
+    if type(value) in _NUMBERS:
+        return f"the number {value!r}"
+    if isinstance(value, str | bool):
         return f"{_kind(value)} {value!r}"
     return _kind(value)
 
@@ -151,6 +159,16 @@ def case_error(source: str, exc: ValidationError) -> InputError:
     name = str(loc[-1]) if loc else ""
     model, info = _walk(loc)
     got = f" (got {value!r})" if isinstance(value, str | int | float | bool) else ""
+    if kind == FIELD_ERROR:
+        ctx = err.get("ctx") or {}
+        return InputError(source, field_path((*loc, ctx["field"])), str(ctx["message"]))
+    if kind == "invalid_key":
+        return InputError(
+            source,
+            field_path(loc[:-1]),
+            f"keys must be text (field names such as {'height_cm' if loc[:-1] else 'patient'}),"
+            f" got {value!r}",
+        )
     if kind == "missing":
         msg = "required field is missing"
     elif kind == "extra_forbidden":
@@ -167,10 +185,14 @@ def case_error(source: str, exc: ValidationError) -> InputError:
         msg = f"must be one of: {', '.join(words)}{got}{hint}"
     elif kind in ("float_type", "int_type", "float_parsing", "int_parsing"):
         msg = f"must be a number, got {_shown(value)}"
+    elif kind == "finite_number":
+        msg = f"must be a finite number, got {value!r}"
     elif kind == "bool_type":
         msg = f"must be true or false, got {_shown(value)}"
     elif kind == "string_type":
         msg = f"must be text, got {_shown(value)}"
+        if isinstance(value, int | float | bool):
+            msg += " (put it in quotes to keep it as written)"
     elif kind in ("dict_type", "model_type", "model_attributes_type"):
         msg = f"must be a mapping of fields, got {_kind(value)}"
     elif kind == "list_type":

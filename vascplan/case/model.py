@@ -14,6 +14,7 @@ from __future__ import annotations
 from typing import Any, Literal
 
 from pydantic import BaseModel, ConfigDict, Field, ValidationInfo, model_validator
+from pydantic_core import PydanticCustomError
 
 from vascplan.anatomy.reference import load_reference, suggest_segment
 from vascplan.errors import InputError
@@ -38,8 +39,18 @@ VESSEL_LENGTH_MAX_CM = 100.0
 LENGTH_TOLERANCE_CM = 1e-6
 
 
+FIELD_ERROR = "case_field"
+"""Error type of a check on one field made by a model validator (``ctx["field"]`` names it)."""
+
+
+def field_error(field: str, message: str) -> PydanticCustomError:
+    """A model-validator error that points at ``field`` of the model, not the whole model."""
+    return PydanticCustomError(FIELD_ERROR, "{message}", {"field": field, "message": message})
+
+
 class _Strict(BaseModel):
-    model_config = ConfigDict(extra="forbid", strict=True, frozen=True)
+    # NaN and infinity are refused everywhere: no measurement is either.
+    model_config = ConfigDict(extra="forbid", strict=True, frozen=True, allow_inf_nan=False)
 
 
 class Patient(_Strict):
@@ -91,21 +102,33 @@ class Lesion(_Strict):
         if (
             isinstance(data, dict)
             and data.get("kind") == "occlusion"
-            and "stenosis_pct" not in data
+            and data.get("stenosis_pct") is None
         ):
             data = {**data, "stenosis_pct": 100}
         return data
 
     @model_validator(mode="after")
     def _kind_matches(self) -> Lesion:
-        if self.stenosis_pct is None:
-            raise ValueError("stenosis_pct is required for a stenosis (percent diameter, 0-100)")
-        if self.kind == "occlusion" and self.stenosis_pct != 100:
-            raise ValueError("an occlusion has stenosis_pct 100; use kind: stenosis for less")
-        if self.kind == "stenosis" and self.stenosis_pct == 100:
-            raise ValueError("a 100% stenosis is an occlusion; use kind: occlusion")
-        if self.kind == "stenosis" and (self.proximal_cap or self.distal_cap):
-            raise ValueError("proximal_cap and distal_cap are for occlusions only")
+        pct = self.stenosis_pct
+        if pct is None:
+            raise field_error(
+                "stenosis_pct", "required for a stenosis (percent diameter stenosis, 0-100)"
+            )
+        if self.kind == "occlusion" and pct != 100:
+            raise field_error(
+                "stenosis_pct",
+                f"an occlusion has stenosis_pct 100 (got {pct:g}); use kind: stenosis for less",
+            )
+        if self.kind == "stenosis" and pct == 100:
+            raise field_error(
+                "stenosis_pct", "a 100% stenosis is an occlusion; use kind: occlusion"
+            )
+        if self.kind == "stenosis":
+            for cap in ("proximal_cap", "distal_cap"):
+                if getattr(self, cap) is not None:
+                    raise field_error(
+                        cap, "cap morphology is for occlusions only (this lesion is a stenosis)"
+                    )
         return self
 
     @property
@@ -196,6 +219,10 @@ class Procedure(_Strict):
     device: Device
 
 
+SECTIONS = ("vessels", "lesions", "stents", "grafts", "avoid", "weights", "limits")
+"""Optional sections that may be left empty in the file (read as none)."""
+
+
 class Case(_Strict):
     """One case file (``format: vascplan-case/1``)."""
 
@@ -215,6 +242,14 @@ class Case(_Strict):
         default_factory=dict, description="route-planner hard-limit overrides (name -> value)"
     )
 
+    @model_validator(mode="before")
+    @classmethod
+    def _empty_sections_are_none(cls, data: Any) -> Any:
+        # "lesions:" with nothing (or only comments) under it means no lesions.
+        if isinstance(data, dict):
+            return {k: v for k, v in data.items() if not (k in SECTIONS and v is None)}
+        return data
+
     def segment_lengths_cm(self) -> dict[str, float]:
         """Each segment's length for this patient [cm]: measured, else the reference rule."""
         out = {}
@@ -233,24 +268,31 @@ class Case(_Strict):
 
         def known(seg_id: str, field: str) -> None:
             if seg_id not in ref:
+                hint = suggest_segment(seg_id) or (
+                    "; allowed: the ids of data/anatomy/segments.csv such as L-CFA, R-RAD, "
+                    "AO-INFRA (vascplan schema lists them)"
+                )
+                raise InputError(source, field, f"unknown segment {seg_id!r}{hint}")
+
+        def plausible(seg_id: str, field: str, d: float, what: str) -> None:
+            r = ref[seg_id]
+            if not r.diameter_min_mm <= d <= r.diameter_max_mm:
                 raise InputError(
-                    source, field, f"unknown segment {seg_id!r}{suggest_segment(seg_id)}"
+                    source,
+                    field,
+                    f"{d:g} mm is outside the plausible range for {what}{seg_id} "
+                    f"({r.diameter_min_mm:g}-{r.diameter_max_mm:g} mm)",
                 )
 
         for seg_id, measure in self.vessels.items():
             known(seg_id, f"vessels.{seg_id}")
-            r = ref[seg_id]
-            d = measure.diameter_mm
-            if d is not None and not r.diameter_min_mm <= d <= r.diameter_max_mm:
-                raise InputError(
-                    source,
-                    f"vessels.{seg_id}.diameter_mm",
-                    f"{d:g} mm is outside the plausible range for {seg_id} "
-                    f"({r.diameter_min_mm:g}-{r.diameter_max_mm:g} mm)",
-                )
+            if measure.diameter_mm is not None:
+                plausible(seg_id, f"vessels.{seg_id}.diameter_mm", measure.diameter_mm, "")
         lengths = self.segment_lengths_cm()
 
-        def within(seg_id: str, field: str, end_cm: float, what: str) -> None:
+        def within(
+            seg_id: str, field: str, end_cm: float, what: str, verb: str = "reaches"
+        ) -> None:
             seg_len = lengths[seg_id]
             if end_cm > seg_len + LENGTH_TOLERANCE_CM:
                 basis = (
@@ -262,16 +304,23 @@ class Case(_Strict):
                 raise InputError(
                     source,
                     field,
-                    f"{what} reaches {end_cm:g} cm, past the end of {seg_id} "
+                    f"{what} {verb} {end_cm:g} cm, past the end of {seg_id} "
                     f"({seg_len:.1f} cm, {basis})",
                 )
 
+        def extent(seg_id: str, field: str, start_cm: float, end_cm: float, what: str) -> None:
+            # Name the field that puts it past the end: its start, else its length.
+            if start_cm > lengths[seg_id] + LENGTH_TOLERANCE_CM:
+                within(seg_id, f"{field}.start_cm", start_cm, what, "starts at")
+            within(seg_id, f"{field}.length_cm", end_cm, what)
+
         for i, lesion in enumerate(self.lesions):
             known(lesion.segment, f"lesions.{i}.segment")
-            within(lesion.segment, f"lesions.{i}", lesion.end_cm, "lesion")
+            extent(lesion.segment, f"lesions.{i}", lesion.start_cm, lesion.end_cm, "lesion")
         for i, stent in enumerate(self.stents):
             known(stent.segment, f"stents.{i}.segment")
-            within(stent.segment, f"stents.{i}", stent.end_cm, "stent")
+            extent(stent.segment, f"stents.{i}", stent.start_cm, stent.end_cm, "stent")
+            plausible(stent.segment, f"stents.{i}.diameter_mm", stent.diameter_mm, "a stent in ")
         names: set[str] = set()
         for i, graft in enumerate(self.grafts):
             if graft.name in names:

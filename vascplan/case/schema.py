@@ -5,7 +5,7 @@ from __future__ import annotations
 from typing import Any
 
 from vascplan.anatomy.reference import segment_ids
-from vascplan.case.model import CASE_FORMAT, Case
+from vascplan.case.model import CASE_FORMAT, SECTIONS, Case
 from vascplan.safety import CAUTION
 
 SCHEMA_ID = "https://vascplan.invalid/schema/vascplan-case-1.json"
@@ -18,6 +18,26 @@ _SEGMENT_FIELDS = {
     "Avoid": ["site"],
     "Target": ["segment"],
 }
+
+
+_LESION_RULES: list[dict[str, Any]] = [
+    # The cross-field rules of Lesion._kind_matches, as far as JSON Schema can say them.
+    {
+        "if": {"required": ["kind"], "properties": {"kind": {"const": "occlusion"}}},
+        "then": {"properties": {"stenosis_pct": {"anyOf": [{"const": 100}, {"type": "null"}]}}},
+    },
+    {
+        "if": {"required": ["kind"], "properties": {"kind": {"const": "stenosis"}}},
+        "then": {
+            "required": ["stenosis_pct"],
+            "properties": {
+                "stenosis_pct": {"type": "number", "minimum": 0, "exclusiveMaximum": 100},
+                "proximal_cap": {"type": "null"},
+                "distal_cap": {"type": "null"},
+            },
+        },
+    },
+]
 
 
 def case_json_schema() -> dict[str, Any]:
@@ -40,6 +60,11 @@ def case_json_schema() -> dict[str, Any]:
         for name in fields:
             props[name]["enum"] = ids
     schema["properties"]["vessels"]["propertyNames"] = {"enum": ids}
+    schema["$defs"]["Lesion"]["allOf"] = _LESION_RULES
+    for name in SECTIONS:  # an empty section in the file is read as none
+        prop = schema["properties"][name]
+        keep = {k: prop.pop(k) for k in ("title", "description") if k in prop}
+        schema["properties"][name] = {**keep, "anyOf": [prop, {"type": "null"}]}
     return {
         "$schema": "https://json-schema.org/draft/2020-12/schema",
         "$id": SCHEMA_ID,

@@ -76,8 +76,8 @@ def cli() -> None:
     """Plan arterial access and watch the limbs of patients on large-bore support.
 
     Case files describe one patient's arterial tree and procedure; unit files
-    describe a unit's patients on large-bore support. Run ``vascplan COMMAND
-    --help`` for each command, with an example.
+    describe a unit's patients on large-bore support. Run "vascplan COMMAND
+    --help" for each command, with an example.
     """
 
 

@@ -11,14 +11,12 @@ from vascplan.fileio import atomic_write_text
 from vascplan.safety import CAUTION
 
 
-@click.command(
-    epilog="Example: vascplan validate examples/case-DEMO-07-sfa-occlusion.yaml examples/*.yaml"
-)
-@click.argument("cases", nargs=-1, required=True, type=click.Path(dir_okay=False))
+@click.command(epilog="Example: vascplan validate examples/case-*.yaml")
+@click.argument("cases", nargs=-1, required=True, type=click.Path())
 def validate(cases: tuple[str, ...]) -> None:
     """Check case files (YAML or JSON).
 
-    Prints one line per file: ``ok: FILE (REF)``, or ``error: FILE: FIELD: MESSAGE``
+    Prints one line per file: "ok: FILE (REF)", or "error: FILE: FIELD: MESSAGE"
     (on standard error) naming what is wrong and what is allowed; then the caution.
     Exit status 0 when every file is valid, 2 when any is not.
     """
@@ -45,7 +43,7 @@ def validate(cases: tuple[str, ...]) -> None:
         "examples/case-DEMO-07-sfa-occlusion.yaml"
     )
 )
-@click.argument("case", type=click.Path(dir_okay=False))
+@click.argument("case", type=click.Path())
 @click.option(
     "--format",
     "fmt",
