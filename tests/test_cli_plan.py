@@ -100,7 +100,7 @@ def test_bad_assignment_exact_error_line():
     res = _run(DEMO07, "--limit", "sar_max")
     assert res.exit_code == 2
     assert res.output.strip() == ("error: --limit: sar_max: expected NAME=VALUE, "
-                                  "for example crossover=2.5")
+                                  "for example sar_max=1.0")
 
 
 def test_unknown_explain_site_exact_error_line():
@@ -128,3 +128,30 @@ def test_missing_file_exact_error_line():
 def test_help_has_an_example():
     res = _run("--help")
     assert res.exit_code == 0 and "vascplan plan examples/" in res.output
+
+
+def test_explain_accepts_lower_case_and_marks_unchecked_limits():
+    res = _run(DEMO07, "--explain", "l-cfa")
+    assert res.exit_code == 0, res.output
+    # L-CFA retrograde cannot reach the left SFA: the path limits are not checked.
+    assert "BROKEN unreachable at L-CFA" in res.output
+    assert "-      sheath-too-large (not checked: no path)" in res.output
+    assert "ok     site-diseased" in res.output
+
+
+def test_jsonl_many_cases_one_line_each(tmp_path):
+    paths = []
+    for i in range(3):
+        data = case_data(patient={"ref": f"TEST-{i:02d}"})
+        p = tmp_path / f"case-{i}.yaml"
+        p.write_text(yaml.safe_dump(data), encoding="utf-8")
+        paths.append(str(p))
+    res = _run(*paths, DEMO07, "--format", "jsonl", "--top", "2")
+    assert res.exit_code == 0, res.output
+    lines = res.output.splitlines()
+    assert [json.loads(line)["case"] for line in lines] == ["TEST-00", "TEST-01", "TEST-02",
+                                                            "DEMO-07"]
+    for line in lines:
+        data = json.loads(line)
+        assert len(data["routes"]) == 2 and data["caution"] == CAUTION
+        assert all(set(r) >= ROUTE_KEYS for r in data["routes"])

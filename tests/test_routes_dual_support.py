@@ -27,9 +27,12 @@ def test_pairs_one_route_to_each_cap_no_shared_puncture():
         assert pair.proximal.segment != pair.distal.segment
     scores = [p.score for p in result.pairs]
     assert scores == sorted(scores)
-    # The popliteal (prone) with a groin route needs the patient turned.
-    prone = [p for p in result.pairs if p.distal.site == "L-POP"]
-    assert prone and "turn the patient" in prone[0].notes[0]
+    # The popliteal needs the patient prone, the groin supine: both sheaths cannot be
+    # in place at once, so the popliteal is in no pair although its route is feasible.
+    (pop,) = routes_from(result, "L-POP")
+    assert pop.feasible and pop.approach == "distal-cap"
+    assert all(p.proximal.position == p.distal.position for p in result.pairs)
+    assert all("L-POP" not in (p.proximal.site, p.distal.site) for p in result.pairs)
 
 
 def test_no_pairs_when_the_target_is_not_an_occlusion():

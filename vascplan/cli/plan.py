@@ -51,6 +51,8 @@ def plan(cases: tuple[str, ...], fmt: str, top: int | None, explain: str | None,
 
     w = parse_assignments(weights, "--weight")
     lim = parse_assignments(limits, "--limit")
+    if explain is not None and not site_ids_for(explain) and site_ids_for(explain.upper()):
+        explain = explain.upper()  # site ids are upper case: accept l-cfa for L-CFA
     if explain is not None and not site_ids_for(explain):
         from vascplan.fileio import did_you_mean
 

@@ -32,8 +32,9 @@ def rank_pairs(routes: list[Route], max_pairs: int = MAX_PAIRS) -> list[Pair]:
     Notes
     -----
     Two sites on the same artery (radial and distal radial of one arm) count as a shared
-    puncture: one artery takes one sheath (common practice). A prone site paired with a
-    supine one needs the patient turned between the two; the pair says so.
+    puncture: one artery takes one sheath (common practice). A prone site (popliteal)
+    and a supine one (a groin, a tibial or pedal artery) cannot be worked at the same
+    time, so they never make a pair (common practice).
     """
     proximal = [r for r in routes if r.feasible and r.approach == "proximal-cap"]
     distal = [r for r in routes if r.feasible and r.approach == "distal-cap"]
@@ -43,11 +44,10 @@ def rank_pairs(routes: list[Route], max_pairs: int = MAX_PAIRS) -> list[Pair]:
         for b in distal:
             if a.site == b.site or a.segment == b.segment or (a.site, b.site) in seen:
                 continue
+            if a.position != b.position:
+                continue  # one prone, one supine: not both in place at once
             seen.add((a.site, b.site))
             notes = []
-            if a.position != b.position:
-                notes.append("one site needs the patient prone, the other supine: "
-                             "turn the patient between them")
             side = _side(a.segment)
             if side is not None and side == _side(b.segment):
                 notes.append(f"both punctures on the {side} side")

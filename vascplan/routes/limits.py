@@ -98,10 +98,15 @@ def check_unreachable(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
     """``unreachable``: no path at all."""
     if facts.path is not None:
         return []
-    target = ctx.view.target_segment
+    view = ctx.view
+    target = view.target_segment
+    why = "without doubling back"
+    if facts.crossover_dropped:
+        why += (" (up-and-over the aortic bifurcation is offered only from the common "
+                "femoral; a puncture below the groin serves its own leg)")
     return [Block("unreachable", facts.site.segment,
                   f"no {facts.direction} path from {facts.site.id} reaches {target} at "
-                  f"{ctx.view.target_cm:g} cm without doubling back")]
+                  f"{view.target_cm:g} cm {why}")]
 
 
 def check_site_avoided(facts: RouteFacts, ctx: LimitContext) -> list[Block]:

@@ -149,6 +149,10 @@ def render_support(support: dict[str, Any]) -> list[str]:
     return lines
 
 
+_SITE_CHECKS = ("unreachable", "site-avoided", "site-diseased")
+"""Limits that hold for a site even when no path reaches the target."""
+
+
 def render_explain(plan: dict[str, Any], routes: list[dict[str, Any]]) -> str:
     """Every factor and every hard limit for the given routes of a plan."""
     lines = [f"{plan['case']}: {_target_line(plan)}"]
@@ -180,6 +184,8 @@ def render_explain(plan: dict[str, Any], routes: list[dict[str, Any]]) -> str:
             if code in broken:
                 for b in broken[code]:
                     lines.append(f"    BROKEN {code} at {b['segment']}: {b['detail']}")
+            elif route["length_cm"] is None and code not in _SITE_CHECKS:
+                lines.append(f"    -      {code} (not checked: no path)")
             else:
                 lines.append(f"    ok     {code} (broken when: {meaning})")
         lines.append("  soft factors (points):")
