@@ -105,3 +105,14 @@ def test_support_device_kind_stated_in_the_case_wins():
     assert "stated in the case file" in support["device_kind_basis"]
     # Labelled by outer size: 17 Fr = 17/3 mm = 5.67 mm (1 Fr = 1/3 mm, REFERENCES.md).
     assert support["device_od_mm"] == pytest.approx(17 / 3, abs=0.005)
+
+
+def test_support_axillary_axis_warns_for_the_arm():
+    # R-AXA 6 mm (tests/routes_cases.py), device outer 5.7 mm: the annulus left is
+    # (6^2 - 5.7^2) / 6^2 = (36 - 32.49) / 36 = 9.75%, printed as 10%. A leg's distal
+    # perfusion cannula does not apply to the arm, so the axis says what does.
+    result = plan_case(_support_case())
+    axes = {a["site"]: a for a in result.support["axes"]}
+    note = axes["R-AXA"]["arm_note"]
+    assert "10% of the R-AXA lumen" in note and "side graft" in note
+    assert "arm_note" not in axes["R-CFA"]

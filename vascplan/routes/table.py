@@ -144,6 +144,8 @@ def render_support(support: dict[str, Any]) -> list[str]:
             advised = "advised" if axis["dpc"]["advised"] else "not advised"
             basis = "; ".join(axis["dpc"]["basis"])
             lines.append(f"      distal perfusion cannula {advised}: {basis}")
+        if axis.get("arm_note"):
+            lines.append(f"      arm: {axis['arm_note']}")
     if support.get("best_site"):
         lines.append(f"  lowest SAR among feasible axes: {support['best_site']}")
     return lines
