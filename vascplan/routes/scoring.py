@@ -193,7 +193,8 @@ def f_approach(facts: RouteFacts, ctx: ScoreContext) -> list[Factor]:
     out: list[Factor] = []
     if facts.approach == "distal-cap":
         out.append(Factor("approach_distal_cap", ctx.weights["approach_distal_cap"],
-                          "retrograde approach to the distal cap (usually the second choice)"))
+                          "retrograde approach to the distal cap (below the groin usually the "
+                          "second choice after an antegrade one)"))
         cap = getattr(lesion.item, "distal_cap", None)
         which = "distal"
     else:
