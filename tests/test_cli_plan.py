@@ -131,8 +131,9 @@ def test_help_has_an_example():
 
 
 def test_explain_accepts_lower_case_and_marks_unchecked_limits():
-    res = _run(DEMO07, "--explain", "l-cfa")
+    res = _run(DEMO07, "--explain", "l-cfa", "--weight", "crossover=2")
     assert res.exit_code == 0, res.output
+    assert ", crossover=2, " in res.output.split("weights used: ")[1].splitlines()[0]
     # L-CFA retrograde cannot reach the left SFA: the path limits are not checked.
     assert "BROKEN unreachable at L-CFA" in res.output
     assert "-      sheath-too-large (not checked: no path)" in res.output

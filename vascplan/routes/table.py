@@ -197,6 +197,7 @@ def render_explain(plan: dict[str, Any], routes: list[dict[str, Any]]) -> str:
             lines.append(f"    {f['points']:5.2f}  {f['name']}: {f['detail']}")
     lines.append("")
     lines.append("limits used: " + ", ".join(f"{k}={v:g}" for k, v in limits.items()))
+    lines.append("weights used: " + ", ".join(f"{k}={v:g}" for k, v in plan["weights"].items()))
     lines.append("")
     lines.append(f"Caution: {CAUTION}")
     return "\n".join(lines) + "\n"
