@@ -116,3 +116,28 @@ def test_support_axillary_axis_warns_for_the_arm():
     note = axes["R-AXA"]["arm_note"]
     assert "10% of the R-AXA lumen" in note and "side graft" in note
     assert "arm_note" not in axes["R-CFA"]
+
+
+def test_no_pair_of_sheaths_in_series_on_one_line():
+    # L-ATA occluded 8-18 cm (of 30), target at 12; 4 Fr sheath (outer 1.9 mm) so the
+    # tibial punctures pass. L-CFA antegrade reaches the distal cap round the pedal loop:
+    # down L-POP, L-TPT and the whole L-PTA to the plantar arch. The L-PTA retrograde
+    # puncture (0.9 x 30 = 27 cm) lies on that path, so a catheter would run through the
+    # other sheath's puncture: no pair. Likewise the mid-thigh L-SFA puncture (15 cm)
+    # lies on the L-CFA antegrade route. The L-ATA puncture (0.85 x 30 = 25.5 cm) lies
+    # beyond the target, off the L-CFA direct route: that pair stands (common practice).
+    case = make_case(
+        lesions=[{"segment": "L-ATA", "kind": "occlusion", "start_cm": 8, "length_cm": 10,
+                  "proximal_cap": "tapered", "distal_cap": "tapered"}],
+        procedure={"target": {"segment": "L-ATA", "at_cm": 12},
+                   "sheath": {"size_fr": 4, "length_cm": 11, "outer_mm": 1.9},
+                   "device": {"profile_fr": 4, "working_length_cm": 150}})
+    result = plan_case(case)
+    loop = [r for r in routes_from(result, "L-CFA", "antegrade") if r.approach == "distal-cap"]
+    assert loop and loop[0].feasible and "L-PLA" in loop[0].path
+    (pta,) = routes_from(result, "L-PTA")
+    assert pta.feasible and pta.approach == "proximal-cap"
+    pairs = {(p.proximal.site, p.distal.site) for p in result.pairs}
+    assert ("L-PTA", "L-CFA") not in pairs
+    assert ("L-CFA", "L-SFA") not in pairs
+    assert ("L-CFA", "L-ATA") in pairs

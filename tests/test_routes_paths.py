@@ -121,7 +121,8 @@ def test_round_the_pedal_loop_to_the_distal_cap():
     assert loop.path == ["L-CFA", "L-SFA", "L-POP", "L-ATA", "L-DPA", "L-PLA", "L-PTA"]
     assert loop.length_cm == pytest.approx(113.0, abs=1e-3)
     assert loop.approach == "distal-cap"
-    assert "pedal_loop" in [f.name for f in loop.factors]
+    # weights.yaml pedal_loop: 2 points
+    assert [f.points for f in loop.factors if f.name == "pedal_loop"] == [2.0]
     direct = next(r for r in routes if "L-TPT" in r.path)
     assert direct.approach == "proximal-cap"
     assert direct.length_cm == pytest.approx(4 + 2 + 30 + 16 + 2.5 + 12, abs=1e-3)
