@@ -106,8 +106,11 @@ def test_bad_assignment_exact_error_line():
 def test_unknown_explain_site_exact_error_line():
     res = _run(DEMO07, "--explain", "L-CFX")
     assert res.exit_code == 2
-    assert res.output.strip() == ("error: --explain: L-CFX: unknown site (did you mean "
-                                  "'L-CFA'?); e.g. L-CFA, R-RAD-DIST")
+    assert res.output.strip() == (
+        "error: --explain: L-CFX: unknown site (did you mean 'L-CFA'?); allowed: a site id "
+        "(R-CFA, R-RAD, R-RAD-DIST, R-BRA, R-AXA, R-SFA, R-POP, R-ATA, R-PTA, R-PER, R-DPA, "
+        "L-CFA, L-RAD, L-RAD-DIST, L-BRA, L-AXA, L-SFA, L-POP, L-ATA, L-PTA, L-PER, L-DPA) "
+        "or the segment id of one")
 
 
 def test_unknown_weight_in_the_case_file(tmp_path):

@@ -58,7 +58,8 @@ def plan(cases: tuple[str, ...], fmt: str, top: int | None, explain: str | None,
 
         sites = load_sites()
         raise InputError("--explain", explain,
-                         f"unknown site{did_you_mean(explain, sites)}; e.g. L-CFA, R-RAD-DIST")
+                         f"unknown site{did_you_mean(explain.upper(), sites)}; allowed: a "
+                         f"site id ({', '.join(sites)}) or the segment id of one")
     progress = sys.stderr.isatty() and len(cases) > 1
     results = []
     for i, path in enumerate(cases, start=1):
