@@ -253,7 +253,8 @@ def f_pedal_loop(facts: RouteFacts, ctx: ScoreContext) -> list[Factor]:
 
 FACTORS: tuple[FactorFn, ...] = (
     f_sar, f_puncture_calcification, f_puncture_plaque, f_site_risk, f_sheath_size,
-    f_stenoses, f_crossover, f_arch, f_prone, f_length_margin, f_anticoagulation, f_approach, f_graft, f_pedal_loop,
+    f_stenoses, f_crossover, f_arch, f_prone, f_length_margin, f_anticoagulation, f_approach,
+    f_graft, f_pedal_loop,
 )
 """The registry of soft factors, in the order they are listed."""
 
