@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 
+import pytest
 import yaml
 from click.testing import CliRunner
 
@@ -159,3 +160,20 @@ def test_jsonl_many_cases_one_line_each(tmp_path):
         data = json.loads(line)
         assert len(data["routes"]) == 2 and data["caution"] == CAUTION
         assert all(set(r) >= ROUTE_KEYS for r in data["routes"])
+
+
+def test_json_score_is_the_sum_of_the_points_shown_and_ranks_in_order():
+    # The contract: score = sum of factors[].points; feasible first, lower score first.
+    for path in sorted(examples_dir().glob("case-*.yaml")):
+        res = _run(str(path), "--format", "json")
+        assert res.exit_code == 0, res.output
+        routes = json.loads(res.output)["routes"]
+        for r in routes:
+            assert r["score"] == pytest.approx(sum(f["points"] for f in r["factors"]),
+                                               abs=1e-9)
+            assert r["feasible"] == (r["blocked_by"] == [])
+        assert [r["rank"] for r in routes] == list(range(1, len(routes) + 1))
+        feasible = [r["score"] for r in routes if r["feasible"]]
+        assert feasible == sorted(feasible)
+        assert [r["feasible"] for r in routes] == sorted((r["feasible"] for r in routes),
+                                                         reverse=True)
