@@ -243,3 +243,11 @@ def test_k_best_agrees_with_brute_force_enumeration(site_id, direction):
                  for r in routes_from(plan_case(case), site_id, direction))
     assert len(expected) >= 3
     assert got == pytest.approx(expected[:3], abs=1e-3)
+
+
+def test_only_the_common_femoral_goes_up_and_over():
+    # Up-and-over the aortic bifurcation is a common femoral technique (common practice):
+    # the catalogue allows it there only, and every value has its source.
+    sites = load_sites()
+    assert {s.id for s in sites.values() if s.crossover} == {"L-CFA", "R-CFA"}
+    assert all(s.sources["crossover"] for s in sites.values())

@@ -135,7 +135,7 @@ def load_sites() -> dict[str, AccessSite]:
             skin_depth_cm=_number(src, i, "skin_depth_cm", row["skin_depth_cm"]),
             directions=directions,
             compressible=row["compressible"].strip().lower() == "yes",
-            crossover=row["crossover"].strip().lower() == "yes",
+            crossover=row.get("crossover", "no").strip().lower() == "yes",
             position=row["position"],
             upper_sheath_fr=_number(src, i, "upper_sheath_fr", row["upper_sheath_fr"]),
             complication_relative=_number(src, i, "complication_relative",
