@@ -266,3 +266,73 @@ def test_bundled_table_row_is_reproduced_by_the_solver():
     row = rows["0.300"]
     fresh = solve_annulus_factor(0.3, 1.0, int(row["cells"]))
     assert fresh == pytest.approx(float(row["factor_touching"]), rel=1e-8)
+
+
+# --- Laminar entry loss (Shah 1978) against a numerical solution of developing flow ---
+
+
+def test_laminar_entry_loss_against_numerical_developing_flow():
+    # Shah's correlation (J Fluids Eng 1978;100:177, stated within about 2 % of the
+    # full solutions) against the boundary-layer equations marched numerically
+    # (tests/developing_flow.py). Compared as the whole apparent pressure drop,
+    # 64 xi + K_entry, with xi = L/(D Re); 3 % allows for the grid and for the
+    # boundary-layer model itself.
+    from tests.developing_flow import developing_pressure_drop
+
+    xis = [0.001, 0.005, 0.01, 0.02, 0.05, 0.1]
+    numeric = developing_pressure_drop(xis)
+    re = 1000.0
+    for xi in xis:
+        ours = 64.0 * xi + flow.laminar_entry_k(xi * re, re)
+        assert ours == pytest.approx(numeric[xi], rel=0.03), xi
+    # Far downstream the extra loss settles near Shah's 1.25 velocity heads.
+    assert numeric[0.1] - 6.4 == pytest.approx(flow.SHAH_K_INFINITY, rel=0.08)
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    lod=st.floats(min_value=1.0, max_value=2000.0),
+    re=st.floats(min_value=1.0, max_value=2300.0),
+    more=st.floats(min_value=1.0, max_value=3.0),
+)
+def test_entry_loss_grows_with_length_and_stays_below_the_long_tube_value(lod, re, more):
+    k = flow.laminar_entry_k(lod, re)
+    assert 0.0 <= k <= flow.SHAH_K_INFINITY
+    assert flow.laminar_entry_k(lod * more, re) >= k - 1e-12
+
+
+@settings(max_examples=80, deadline=None)
+@given(
+    d_mm=st.floats(min_value=0.8, max_value=8.0),
+    lod=st.floats(min_value=5.0, max_value=2000.0),
+    q_ml_min=st.floats(min_value=1.0, max_value=8000.0),
+    more=st.floats(min_value=1.001, max_value=2.0),
+)
+def test_pressure_drop_increases_with_flow_in_every_regime(d_mm, lod, q_ml_min, more):
+    # The cannula solver relies on a unique root: the loss must rise with the flow,
+    # through the transition too, even with no minor losses.
+    d = d_mm / 1000
+    kw = dict(density_kg_m3=RHO, viscosity_pa_s=MU, developing=True)
+    low = flow.pipe_pressure_drop(q_ml_min / 60e6, d, lod * d, **kw)
+    high = flow.pipe_pressure_drop(q_ml_min * more / 60e6, d, lod * d, **kw)
+    assert high > low
+
+
+# Bird, Stewart and Lightfoot, Transport Phenomena, 2nd ed., Example 2.3-1 (from
+# memory): glycerine in a horizontal tube 1 ft long, 0.1 in inside diameter; 40 psi
+# drives 0.00398 ft3/min; the Hagen-Poiseuille equation (eq. 2.3-21) gives the
+# viscosity 4.92 g/(cm s) = 0.492 Pa s. Tolerance 1 % (the book rounds to 3 figures).
+def test_hagen_poiseuille_textbook_worked_example():
+    psi, ft, inch, ft3_min = 6894.757, 0.3048, 0.0254, 0.3048**3 / 60
+    dp, length, d, q = 40 * psi, 1 * ft, 0.1 * inch, 0.00398 * ft3_min
+    mu = 0.492
+    assert dp / flow.tube_resistance(d, length, mu) == pytest.approx(q, rel=0.01)
+
+
+@pytest.mark.parametrize("re", [2300.0, 2600.0, 3000.0, 3500.0, 3999.0])
+def test_transitional_friction_lies_between_the_laminar_and_turbulent_laws_of_fluids(re):
+    # In the transition neither law holds; the interpolated factor must stay between
+    # the laminar 64/Re and the turbulent Colebrook value at the same Re (fluids).
+    lam = fluids.friction.friction_laminar(re)
+    turb = fluids.friction.Colebrook(re, 0.0)
+    assert lam * (1 - 1e-12) <= flow.darcy_friction(re) <= turb

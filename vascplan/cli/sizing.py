@@ -19,8 +19,9 @@ class _Positive(click.ParamType):
 
     name = "number"
 
-    def __init__(self, unit: str) -> None:
+    def __init__(self, unit: str, range_name: str | None = None) -> None:
         self.unit = unit
+        self.range_name = range_name
 
     def convert(self, value: Any, param: click.Parameter | None, ctx: click.Context | None):
         if isinstance(value, float):
@@ -32,6 +33,17 @@ class _Positive(click.ParamType):
             number = math.nan
         if not math.isfinite(number) or number <= 0.0:
             raise InputError(option, "", f"must be a positive number of {self.unit}, got {value!r}")
+        if self.range_name is not None:
+            from vascplan.sizing._tables import input_range
+
+            low, high, unit = input_range(self.range_name)
+            if not low <= number <= high:
+                raise InputError(
+                    option,
+                    "",
+                    f"must be between {low:g} and {high:g} {unit} (plausible range, "
+                    f"data/sizing/input_ranges.csv), got {value!r}",
+                )
         return number
 
 
@@ -66,33 +78,41 @@ EPILOG = (
 @click.command("sheath-flow", epilog=EPILOG)
 @click.option(
     "--vessel-mm",
-    type=_Positive("mm"),
+    type=_Positive("mm", "vessel_mm"),
     help="Minimal lumen diameter of the artery the device occupies [mm].",
 )
-@click.option("--device-fr", type=_Positive("Fr"), help="Device size label [Fr].")
+@click.option("--device-fr", type=_Positive("Fr", "device_fr"), help="Device size label [Fr].")
 @click.option(
     "--label",
     type=_OneOf("outer", "inner"),
     help="outer: catheter or cannula (labelled by outer size); inner: introducer sheath.",
 )
 @click.option(
-    "--occupied-cm", type=_Positive("cm"), help="Length of artery the device occupies [cm]."
+    "--occupied-cm",
+    type=_Positive("cm", "occupied_cm"),
+    help="Length of artery the device occupies [cm].",
 )
 @click.option(
     "--outer-mm",
-    type=_Positive("mm"),
+    type=_Positive("mm", "outer_mm"),
     default=None,
     help="Measured outer diameter of the device [mm]; overrides the label.",
 )
 @click.option(
-    "--dpc-fr", type=_Positive("Fr"), default=None, help="Distal perfusion cannula size [Fr]."
+    "--dpc-fr",
+    type=_Positive("Fr", "dpc_fr"),
+    default=None,
+    help="Distal perfusion cannula size [Fr].",
 )
 @click.option(
-    "--dpc-cm", type=_Positive("cm"), default=None, help="Distal perfusion cannula length [cm]."
+    "--dpc-cm",
+    type=_Positive("cm", "dpc_cm"),
+    default=None,
+    help="Distal perfusion cannula length [cm].",
 )
 @click.option(
     "--driving-mmhg",
-    type=_Positive("mmHg"),
+    type=_Positive("mmHg", "driving_mmhg"),
     default=None,
     help="Pressure driving the cannula flow: return line minus distal artery [mmHg].",
 )
@@ -104,22 +124,41 @@ EPILOG = (
     help="inner when a sheath serves as the perfusion line.",
 )
 @click.option(
+    "--line-mm",
+    type=_Positive("mm", "line_mm"),
+    default=None,
+    help="Inner diameter of a connecting line (side-arm, extension) upstream of the "
+    "cannula [mm]; with --line-cm.",
+)
+@click.option(
+    "--line-cm",
+    type=_Positive("cm", "line_cm"),
+    default=None,
+    help="Length of that connecting line [cm]; with --line-mm.",
+)
+@click.option(
     "--limb-flow-ml-min",
-    type=_Positive("mL/min"),
+    type=_Positive("mL/min", "limb_flow_ml_min"),
     default=None,
     help="Resting limb flow [mL/min]; default from data/sizing/limb_defaults.yaml.",
 )
 @click.option(
     "--perfusion-mmhg",
-    type=_Positive("mmHg"),
+    type=_Positive("mmHg", "perfusion_mmhg"),
     default=None,
     help="Perfusion pressure across the leg [mmHg]; default likewise.",
 )
 @click.option(
     "--viscosity-mpa-s",
-    type=_Positive("mPa s"),
+    type=_Positive("mPa s", "viscosity_mpa_s"),
     default=None,
     help="Blood viscosity [mPa s]; default 3.5.",
+)
+@click.option(
+    "--density-kg-m3",
+    type=_Positive("kg/m3", "density_kg_m3"),
+    default=None,
+    help="Blood density [kg/m3]; default 1060.",
 )
 @click.option("--format", "fmt", type=_OneOf("table", "json"), default="table", show_default=True)
 def sheath_flow(
@@ -132,9 +171,12 @@ def sheath_flow(
     dpc_cm: float | None,
     driving_mmhg: float | None,
     dpc_label: str,
+    line_mm: float | None,
+    line_cm: float | None,
     limb_flow_ml_min: float | None,
     perfusion_mmhg: float | None,
     viscosity_mpa_s: float | None,
+    density_kg_m3: float | None,
     fmt: str,
 ) -> None:
     """SAR, lumen left and distal flow with a device in an artery.
@@ -144,6 +186,7 @@ def sheath_flow(
     flow (device centred .. device against the wall) and, given --dpc-fr, --dpc-cm and
     --driving-mmhg, the distal perfusion cannula's flow. Every assumption is listed.
     """
+    from vascplan.sizing._tables import SizingValueError
     from vascplan.sizing.assess import assess_sheath_flow
 
     for option, value, allowed in (
@@ -163,6 +206,22 @@ def sheath_flow(
             "",
             f"is needed with {' and '.join(given)} (give all three cannula options or none)",
         )
+    line = {"--line-mm": line_mm, "--line-cm": line_cm}
+    line_given = [k for k, v in line.items() if v is not None]
+    if len(line_given) == 1:
+        missing_line = next(k for k in line if k not in line_given)
+        raise InputError(
+            missing_line,
+            "",
+            f"is needed with {line_given[0]} (give both line options or none)",
+        )
+    if line_given and not given:
+        raise InputError(
+            "--dpc-fr",
+            "",
+            "is needed with --line-mm and --line-cm (the line feeds a perfusion cannula: "
+            "give --dpc-fr, --dpc-cm and --driving-mmhg)",
+        )
     try:
         result = assess_sheath_flow(
             cast(float, vessel_mm),
@@ -177,7 +236,12 @@ def sheath_flow(
             limb_flow_ml_min=limb_flow_ml_min,
             perfusion_mmhg=perfusion_mmhg,
             viscosity_pa_s=None if viscosity_mpa_s is None else viscosity_mpa_s / 1000.0,
+            density_kg_m3=density_kg_m3,
+            line_mm=line_mm,
+            line_cm=line_cm,
         )
+    except SizingValueError as exc:
+        raise InputError("--" + exc.field.replace("_", "-"), "", str(exc)) from None
     except ValueError as exc:
         raise InputError("sheath-flow", "", str(exc)) from None
     if fmt == "json":
@@ -220,6 +284,16 @@ def render_table(result: Any) -> str:
             f"{d.velocity_m_s:.2f} m/s, Re {d.reynolds:.0f}, {d.regime})"
             f"{f' {REFERENCE_MARK}' if d.inner_assumed else ''}"
         )
+        if d.line_mm is not None:
+            lines.append(
+                f"    through a line       {d.line_mm:g} mm x {d.line_cm:g} cm "
+                f"(Re {d.line_reynolds:.0f})"
+            )
+        if d.above_typical:
+            lines.append(
+                "    above the flows usually measured through such a cannula: "
+                "an upper estimate (see the assumptions)"
+            )
     else:
         lines.append(
             "  perfusion cannula      not described (give --dpc-fr, --dpc-cm, --driving-mmhg)"
@@ -231,6 +305,8 @@ def render_table(result: Any) -> str:
         or (result.dpc is not None and result.dpc.inner_assumed)
         or (result.device_od.source == "wall-allowance")
     ):
-        lines.append(f"  {REFERENCE_MARK} rests on reference values, not measurements (see below)")
+        lines.append(
+            f"  {REFERENCE_MARK} rests on reference values, not measurements (see the assumptions)"
+        )
     lines += ["", f"Caution: {CAUTION}"]
     return "\n".join(lines)

@@ -11,6 +11,14 @@ from vascplan.fileio import read_document
 from vascplan.paths import data_dir
 
 
+class SizingValueError(ValueError):
+    """A sizing input out of range or inconsistent; ``field`` names the parameter."""
+
+    def __init__(self, field: str, message: str) -> None:
+        super().__init__(message)
+        self.field = field
+
+
 @dataclass(frozen=True)
 class ReferenceValue:
     """A default with its unit and where it comes from."""
@@ -66,3 +74,33 @@ def threshold(name: str) -> tuple[float, dict[str, str]]:
         if row["name"] == name:
             return float(row["value"]), row
     raise KeyError(name)
+
+
+def input_range(name: str) -> tuple[float, float, str]:
+    """Plausible range of an input of ``data/sizing/input_ranges.csv``: low, high, unit.
+
+    These are plausibility bounds (common practice), not clinical limits: a value outside
+    them is almost surely a typing error (a diameter in micrometres, a size in mm).
+    """
+    for row in read_csv("input_ranges.csv"):
+        if row["name"] == name:
+            return float(row["low"]), float(row["high"]), row["unit"]
+    raise KeyError(name)
+
+
+def check_range(name: str, value: float) -> float:
+    """``value`` as a float when it lies in the plausible range of ``name``.
+
+    Raises
+    ------
+    SizingValueError
+        Not a finite number, or outside ``data/sizing/input_ranges.csv``; the message
+        names the parameter and the allowed range.
+    """
+    low, high, unit = input_range(name)
+    number = float(value)
+    if not (low <= number <= high):  # also refuses nan
+        raise SizingValueError(
+            name, f"{name} must be between {low:g} and {high:g} {unit}, got {value:g}"
+        )
+    return number

@@ -10,7 +10,7 @@ from dataclasses import dataclass, field
 from typing import Any, Literal, cast
 
 from vascplan.safety import CAUTION
-from vascplan.sizing._tables import threshold
+from vascplan.sizing._tables import SizingValueError, check_range, threshold
 from vascplan.sizing.cannula import CannulaFlow, cannula_flow
 from vascplan.sizing.french import OuterDiameter, device_outer_mm, sar
 from vascplan.sizing.limb import LimbFlowEstimate, limb_flow_with_device
@@ -110,6 +110,14 @@ class SheathFlowAssessment:
                 "inner_mm": r(self.dpc.inner_mm),
                 "velocity_m_s": r(self.dpc.velocity_m_s),
                 "inner_assumed": self.dpc.inner_assumed,
+                "line": None
+                if self.dpc.line_mm is None
+                else {
+                    "inner_mm": self.dpc.line_mm,
+                    "length_cm": self.dpc.line_cm,
+                    "reynolds": r(cast(float, self.dpc.line_reynolds), 1),
+                },
+                "above_typical": self.dpc.above_typical,
             },
             "reference_defaults_used": list(limb.defaults_used),
             "assumptions": list(self.assumptions),
@@ -139,6 +147,9 @@ def assess_sheath_flow(
     limb_flow_ml_min: float | None = None,
     perfusion_mmhg: float | None = None,
     viscosity_pa_s: float | None = None,
+    density_kg_m3: float | None = None,
+    line_mm: float | None = None,
+    line_cm: float | None = None,
 ) -> SheathFlowAssessment:
     """Assess a device in an artery, and the distal perfusion cannula if given.
 
@@ -159,8 +170,10 @@ def assess_sheath_flow(
         all three or none.
     dpc_label : {"outer", "inner"}
         How the cannula is labelled (``"inner"`` for a sheath used as one).
-    limb_flow_ml_min, perfusion_mmhg, viscosity_pa_s : float, optional
-        Overrides of the limb and blood defaults.
+    limb_flow_ml_min, perfusion_mmhg, viscosity_pa_s, density_kg_m3 : float, optional
+        Overrides of the limb and blood defaults [mL/min, mmHg, Pa s, kg/m3].
+    line_mm, line_cm : float, optional
+        Connecting line in series with the cannula: inner diameter [mm], length [cm].
 
     Returns
     -------
@@ -168,8 +181,12 @@ def assess_sheath_flow(
 
     Raises
     ------
+    SizingValueError
+        A value outside its plausible range (``data/sizing/input_ranges.csv``), a
+        measured outer diameter not larger than a sheath's inner label, or the cannula
+        or its line only partly described; ``field`` names the parameter.
     ValueError
-        Bad sizes, or the cannula only partly described.
+        A cannula with no lumen, or a limb bed that the open artery alone cannot feed.
 
     Examples
     --------
@@ -177,11 +194,46 @@ def assess_sheath_flow(
     >>> round(a.sar, 3), a.dpc is None
     (0.872, True)
     """
+    checks = {
+        "vessel_mm": vessel_mm,
+        "device_fr": device_fr,
+        "occupied_cm": occupied_cm,
+        "outer_mm": outer_mm,
+        "dpc_fr": dpc_fr,
+        "dpc_cm": dpc_cm,
+        "driving_mmhg": driving_mmhg,
+        "line_mm": line_mm,
+        "line_cm": line_cm,
+        "limb_flow_ml_min": limb_flow_ml_min,
+        "perfusion_mmhg": perfusion_mmhg,
+        "viscosity_mpa_s": None if viscosity_pa_s is None else viscosity_pa_s * 1000.0,
+        "density_kg_m3": density_kg_m3,
+    }
+    for name, value in checks.items():
+        if value is not None:
+            check_range(name, value)
     dpc_args = {"dpc_fr": dpc_fr, "dpc_cm": dpc_cm, "driving_mmhg": driving_mmhg}
     given = [k for k, v in dpc_args.items() if v is not None]
     if given and len(given) < 3:
         missing = [k for k in dpc_args if k not in given]
-        raise ValueError(f"the perfusion cannula needs {', '.join(missing)} as well")
+        raise SizingValueError(
+            missing[0], f"the perfusion cannula needs {', '.join(missing)} as well"
+        )
+    if (line_mm is None) != (line_cm is None):
+        missing_line = "line_cm" if line_cm is None else "line_mm"
+        raise SizingValueError(missing_line, "a connecting line needs line_mm and line_cm")
+    if line_mm is not None and not given:
+        raise SizingValueError(
+            "dpc_fr", "a connecting line belongs to a perfusion cannula: give the cannula too"
+        )
+    label_mm = float(device_fr) / 3.0  # 1 Fr = 1/3 mm (French scale)
+    if outer_mm is not None and label == "inner" and outer_mm <= label_mm:
+        raise SizingValueError(
+            "outer_mm",
+            f"outer diameter {outer_mm:g} mm is not larger than the {device_fr:g} Fr "
+            f"sheath's inner size {label_mm:.2f} mm (a sheath is labelled by inner size; "
+            "use label outer for a catheter or cannula)",
+        )
     od = device_outer_mm(device_fr, label, outer_mm)
     ratio = sar(od.mm, vessel_mm)
     assumptions: list[str] = []
@@ -192,6 +244,14 @@ def assess_sheath_flow(
             f"{device_fr:g} Fr labelled by outer size: outer diameter {od.mm:.2f} mm "
             "(1 Fr = 1/3 mm)."
         )
+    else:
+        note = f"Outer diameter {od.mm:.2f} mm as measured or given by the maker"
+        if label == "outer" and abs(od.mm - label_mm) > 1.0 / 3.0:
+            note += (
+                f"; it differs from the {device_fr:g} Fr label's {label_mm:.2f} mm by more "
+                "than 1 Fr: check the label and the measurement"
+            )
+        assumptions.append(note + ".")
     th = sar_threshold()
     assumptions.append(
         f"SAR threshold {th.value:g}: {th.meaning} ({th.source}; {th.certainty}); derived "
@@ -205,6 +265,7 @@ def assess_sheath_flow(
         limb_flow_ml_min=limb_flow_ml_min,
         perfusion_mmhg=perfusion_mmhg,
         viscosity_pa_s=viscosity_pa_s,
+        density_kg_m3=density_kg_m3,
     )
     assumptions.extend(limb.assumptions)
     dpc = None
@@ -215,6 +276,9 @@ def assess_sheath_flow(
             cast(float, driving_mmhg),
             label=dpc_label,
             viscosity_pa_s=viscosity_pa_s,
+            density_kg_m3=density_kg_m3,
+            line_mm=line_mm,
+            line_cm=line_cm,
         )
         assumptions.extend(a for a in dpc.assumptions if a not in assumptions)
     return SheathFlowAssessment(

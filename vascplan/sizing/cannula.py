@@ -3,12 +3,24 @@
 The driving pressure is, for a distal perfusion cannula, the return-line pressure of
 the extracorporeal circuit minus the distal arterial pressure. The flow solves
 
-    driving pressure = (f(Re) L / D + K_entrance + K_exit) * rho V**2 / 2
+    driving pressure = sum over the tubes of (f(Re) L / D + K_entry(Re)) rho V**2 / 2
+                       + K_entrance rho V_first**2 / 2 + K_junction rho V**2 / 2
+                       + K_exit rho V_cannula**2 / 2
 
 where the Darcy friction factor ``f`` depends on the Reynolds number and so on the
 flow itself (laminar 64/Re, Colebrook when turbulent, a line between; see
-:func:`vascplan.sizing.flow.darcy_friction`). The right-hand side increases with the
-flow, so the root is unique; it is found with Brent's method (scipy ``brentq``).
+:func:`vascplan.sizing.flow.darcy_friction`), ``K_entry`` is the extra loss of laminar
+flow still developing in a short tube (Shah 1978; a 15 cm, 7 Fr cannula at the usual
+flows is shorter than its laminar entry length, so this matters), and the tubes are
+the cannula and, when given, a connecting line (side-arm or extension tubing) in
+series, joined by a sharp contraction or expansion. The right-hand side increases
+with the flow, so the root is unique; it is found with Brent's method (scipy
+``brentq``).
+
+The figure is an upper estimate: connectors, stopcocks and side-ports are counted only
+when described as a line, and the driving pressure is taken as given. Flows measured
+through 6-8 Fr distal perfusion cannulas are of the order of 100-400 mL/min (from
+memory); a higher figure is flagged.
 """
 
 from __future__ import annotations
@@ -49,6 +61,13 @@ class CannulaFlow:
         Every assumption behind the figure.
     inner_assumed : bool
         True when the inner diameter is not a measurement (wall table or sheath label).
+    line_mm, line_cm : float or None
+        Inner diameter [mm] and length [cm] of the connecting line in series, if any.
+    line_reynolds : float or None
+        Reynolds number in that line [-].
+    above_typical : bool
+        True when the flow is above what is usually measured through such a cannula
+        (``typical_flow_ml_min_high`` of ``data/sizing/cannula_defaults.yaml``).
     """
 
     flow_ml_min: float
@@ -59,6 +78,10 @@ class CannulaFlow:
     friction_factor: float
     assumptions: list[str] = field(default_factory=list)
     inner_assumed: bool = False
+    line_mm: float | None = None
+    line_cm: float | None = None
+    line_reynolds: float | None = None
+    above_typical: bool = False
 
 
 def cannula_defaults() -> dict[str, ReferenceValue]:
@@ -142,6 +165,48 @@ def cannula_inner_mm(
     )
 
 
+def junction_k(upstream_mm: float, downstream_mm: float) -> float:
+    """Loss coefficient of a sharp change of bore, on the downstream tube's velocity.
+
+    Parameters
+    ----------
+    upstream_mm, downstream_mm : float
+        Inner diameters of the tube the flow leaves and the tube it enters [mm].
+
+    Returns
+    -------
+    float
+        Sharp contraction (narrower downstream): Rennels' fit,
+        ``0.0696 (1 - b**5) l**2 + (l - 1)**2`` with ``l = 1 + 0.622 (1 - 0.215 b**2 -
+        0.785 b**5)`` and ``b`` the diameter ratio (Rennels and Hudson, *Pipe Flow*,
+        Wiley 2012, via the ``fluids`` library). Sudden expansion: Borda-Carnot,
+        ``(1 - b**2)**2`` on the upstream velocity, i.e. ``(1/b**2 - 1)**2`` on the
+        downstream one. 0 for the same bore.
+
+    Examples
+    --------
+    >>> junction_k(2.0, 2.0)
+    0.0
+    >>> round(junction_k(1.0, 2.0), 4)   # expansion to twice the bore
+    9.0
+    """
+    if upstream_mm == downstream_mm:
+        return 0.0
+    if downstream_mm < upstream_mm:
+        b = downstream_mm / upstream_mm
+        lam = 1.0 + 0.622 * (1.0 - 0.215 * b * b - 0.785 * b**5)
+        return 0.0696 * (1.0 - b**5) * lam * lam + (lam - 1.0) ** 2
+    b = upstream_mm / downstream_mm
+    return (1.0 / (b * b) - 1.0) ** 2
+
+
+def _positive_finite(name: str, value: float) -> float:
+    value = float(value)
+    if not math.isfinite(value) or value <= 0.0:
+        raise ValueError(f"{name} must be a positive number, got {value}")
+    return value
+
+
 def cannula_flow(
     size_fr: float,
     length_cm: float,
@@ -153,6 +218,8 @@ def cannula_flow(
     density_kg_m3: float | None = None,
     minor_k: float | None = None,
     roughness_mm: float | None = None,
+    line_mm: float | None = None,
+    line_cm: float | None = None,
 ) -> CannulaFlow:
     """Flow through a distal perfusion cannula driven by a pressure difference.
 
@@ -161,7 +228,7 @@ def cannula_flow(
     size_fr : float
         Cannula label [Fr].
     length_cm : float
-        Length of the cannula and any line in series of the same bore [cm].
+        Length of the cannula [cm].
     driving_mmhg : float
         Pressure difference driving the flow [mmHg] (return-line minus distal arterial).
     label : {"outer", "inner"}
@@ -175,6 +242,9 @@ def cannula_flow(
         ``data/sizing/cannula_defaults.yaml`` (0.5 + 1.0).
     roughness_mm : float, optional
         Wall roughness [mm]; default smooth.
+    line_mm, line_cm : float, optional
+        Inner diameter [mm] and length [cm] of a connecting line (side-arm, extension
+        tubing, connector) in series upstream of the cannula; both or neither.
 
     Returns
     -------
@@ -183,12 +253,15 @@ def cannula_flow(
     Raises
     ------
     ValueError
-        A size, length or pressure that is not a positive number.
+        A size, length or pressure that is not a positive number, or a line only
+        partly described.
 
     Notes
     -----
-    Steady flow, fully developed friction along the whole length (the laminar
-    entrance length is neglected), a straight line, no kinks or connectors.
+    Steady flow; laminar flow enters each tube with a uniform profile and develops
+    along it (Shah 1978, :func:`vascplan.sizing.flow.laminar_entry_k`); straight tubes
+    without kinks. Unless a line is given, no connector, stopcock or side-port is
+    counted, so the flow is an upper estimate.
 
     Examples
     --------
@@ -198,9 +271,13 @@ def cannula_flow(
     """
     from scipy.optimize import brentq
 
-    for name, value in (("length_cm", length_cm), ("driving_mmhg", driving_mmhg)):
-        if not math.isfinite(value) or value <= 0.0:
-            raise ValueError(f"{name} must be a positive number, got {value}")
+    length_cm = _positive_finite("length_cm", length_cm)
+    driving_mmhg = _positive_finite("driving_mmhg", driving_mmhg)
+    if (line_mm is None) != (line_cm is None):
+        raise ValueError("a connecting line needs both line_mm and line_cm")
+    if line_mm is not None and line_cm is not None:
+        line_mm = _positive_finite("line_mm", line_mm)
+        line_cm = _positive_finite("line_cm", line_cm)
     d_mm, inner_note = cannula_inner_mm(size_fr, label, inner_mm)
     assumptions: list[str] = [inner_note] if inner_note else []
     blood = flow.blood_defaults()
@@ -222,55 +299,96 @@ def cannula_flow(
     rho = pick(density_kg_m3, "density_kg_m3", blood, "Blood density")
     if minor_k is None:
         k_in, k_out = extra["entrance_k"], extra["exit_k"]
-        k = k_in.value + k_out.value
+        k_entrance, k_exit = k_in.value, k_out.value
         assumptions.append(
             f"Entrance loss K {k_in.value:g} ({k_in.cite()}) and exit loss K "
             f"{k_out.value:g} ({k_out.cite()})."
         )
     else:
-        k = pick(minor_k, "minor_k", extra, "Minor losses")
+        total = pick(minor_k, "minor_k", extra, "Minor losses")
+        k_entrance, k_exit = 0.0, total
     rough = pick(roughness_mm, "roughness_mm", extra, "Wall roughness")
     if mu <= 0.0 or rho <= 0.0:
         raise ValueError("viscosity_pa_s and density_kg_m3 must be positive")
     assumptions.append(
-        "Steady flow, friction fully developed along the whole length, straight line "
-        "without kinks or narrower connectors; the driving pressure is taken as given."
+        "Steady flow entering each tube with a uniform profile; the extra loss of laminar "
+        "flow still developing along a short tube is counted (Shah, J Fluids Eng "
+        "1978;100:177; from memory); straight tubes without kinks."
     )
 
+    # Tubes in flow order: (diameter m, length m, relative roughness).
+    tubes: list[tuple[float, float, float]] = []
+    if line_mm is not None and line_cm is not None:
+        tubes.append((line_mm * 1e-3, line_cm * 1e-2, rough / line_mm))
+        k_joint = junction_k(line_mm, d_mm)
+        assumptions.append(
+            f"Connecting line {line_mm:g} mm x {line_cm:g} cm in series upstream of the "
+            f"cannula, joined by a sharp change of bore (K {k_joint:.2f} on the cannula's "
+            "velocity; Rennels and Hudson 2012 contraction, Borda-Carnot expansion)."
+        )
+    else:
+        k_joint = 0.0
+        assumptions.append(
+            "No connecting line, side-arm, stopcock or connector is counted (describe one "
+            "as a connecting line, --line-mm and --line-cm): each lowers the flow, so the "
+            "figure is an upper estimate; the driving pressure is taken as given."
+        )
     d = d_mm * 1e-3
-    length = length_cm * 1e-2
+    tubes.append((d, length_cm * 1e-2, rough / d_mm))
     dp = driving_mmhg * flow.MMHG_PA
-    area = math.pi * d * d / 4.0
-    rel = rough / d_mm
+
+    def head(q: float, diameter: float) -> float:
+        v = q / (math.pi * diameter * diameter / 4.0)
+        return rho * v * v / 2.0
 
     def residual(q: float) -> float:
-        return (
-            flow.pipe_pressure_drop(
+        total = 0.0
+        for diameter, length, rel in tubes:
+            total += flow.pipe_pressure_drop(
                 q,
-                d,
+                diameter,
                 length,
                 density_kg_m3=rho,
                 viscosity_pa_s=mu,
                 relative_roughness=rel,
-                minor_k=k,
+                developing=True,
             )
-            - dp
-        )
+        total += k_entrance * head(q, tubes[0][0]) + (k_joint + k_exit) * head(q, d)
+        return total - dp
 
-    # Upper bound: the laminar friction alone is never larger than the true loss.
-    q_high = dp / flow.tube_resistance(d, length, mu) * 1.01
+    # Upper bound: the laminar friction of the cannula alone is never larger than the loss.
+    q_high = dp / flow.tube_resistance(d, length_cm * 1e-2, mu) * 1.01
     q = brentq(residual, 0.0, q_high, xtol=1e-15, rtol=1e-12)
+    area = math.pi * d * d / 4.0
     velocity = q / area
     re = flow.reynolds(velocity, d, rho, mu)
     regime = flow.regime_of(re)
+    rel = rough / d_mm
     if regime == "transitional":
         assumptions.append(
             f"Re {re:.0f} is in the transitional range ({flow.LAMINAR_MAX_RE:.0f}-"
             f"{flow.TURBULENT_MIN_RE:.0f}): the friction factor there is interpolated and "
             "the flow less certain."
         )
+    line_re = None
+    if line_mm is not None:
+        line_d = line_mm * 1e-3
+        line_re = flow.reynolds(q / (math.pi * line_d * line_d / 4.0), line_d, rho, mu)
+    flow_ml_min = q * 60e6
+    typical = extra["typical_flow_ml_min_high"]
+    # The typical range is for the 5-10 Fr cannulas used for distal perfusion
+    # (REFERENCES.md, Limb ischaemia); larger tubes are not compared with it.
+    above = flow_ml_min > typical.value and float(size_fr) <= 10.0
+    if above:
+        assumptions.append(
+            f"The computed {flow_ml_min:.0f} mL/min is above the {typical.value:g} mL/min or "
+            f"so usually measured through a 6-8 Fr distal perfusion cannula ({typical.cite()}): "
+            "the driving pressure is taken as given (the pressure at the take-off is often "
+            "lower than the return-line pressure), and connectors, stopcocks and side-ports "
+            "are not counted unless described; read the figure as an upper estimate."
+        )
     return CannulaFlow(
-        flow_ml_min=q * 60e6,
+        flow_ml_min=flow_ml_min,
         reynolds=re,
         regime=regime,
         inner_mm=d_mm,
@@ -278,4 +396,8 @@ def cannula_flow(
         friction_factor=flow.darcy_friction(re, rel),
         assumptions=assumptions,
         inner_assumed=inner_note is not None,
+        line_mm=line_mm,
+        line_cm=line_cm,
+        line_reynolds=line_re,
+        above_typical=above,
     )

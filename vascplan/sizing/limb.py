@@ -16,7 +16,7 @@ import math
 from dataclasses import dataclass, field
 
 from vascplan.sizing import flow
-from vascplan.sizing._tables import ReferenceValue, read_values
+from vascplan.sizing._tables import ReferenceValue, SizingValueError, read_values
 
 LIMB_DEFAULTS = "limb_defaults.yaml"
 
@@ -191,6 +191,7 @@ def limb_flow_with_device(
             p_mmhg,
             0.0,
             assumptions,
+            tuple(defaults_used),
         )
 
     left_mm2 = open_mm2 - math.pi * device_od_mm**2 / 4.0
@@ -199,9 +200,13 @@ def limb_flow_with_device(
     d_v, d_d, length = vessel_mm * 1e-3, device_od_mm * 1e-3, occupied_cm * 1e-2
     r_open = flow.tube_resistance(d_v, length, mu)
     if r_open >= r_total:
-        raise ValueError(
-            "the open artery alone would carry less than the resting limb flow at this "
-            "perfusion pressure: check vessel_mm, occupied_cm, limb_flow_ml_min, perfusion_mmhg"
+        need_mmhg = r_open * q_base / flow.MMHG_PA
+        raise SizingValueError(
+            "vessel_mm",
+            f"an open {vessel_mm:g} mm artery over {occupied_cm:g} cm would need "
+            f"{need_mmhg:.0f} mmHg to carry the resting limb flow of {q_base_ml_min:g} mL/min, "
+            f"more than the {p_mmhg:g} mmHg perfusion pressure: check the vessel diameter and "
+            "occupied length, or give the limb flow and perfusion pressure of this limb",
         )
     pct: dict[float, float] = {}
     for ecc in (0.0, 1.0):
