@@ -251,3 +251,16 @@ def test_only_the_common_femoral_goes_up_and_over():
     sites = load_sites()
     assert {s.id for s in sites.values() if s.crossover} == {"L-CFA", "R-CFA"}
     assert all(s.sources["crossover"] for s in sites.values())
+
+
+def test_antegrade_brachial_reaches_the_forearm():
+    # Target L-RAD at 5 cm (a forearm lesion). L-BRA antegrade: puncture 0.9 x 25 =
+    # 22.5 cm, skin 1 cm: 1 + (25 - 22.5) + 5 = 8.5 cm, down the arm. Retrograde from the
+    # brachial points away from the forearm: unreachable. (Lengths: tests/routes_cases.py.)
+    case = make_case(procedure={"target": {"segment": "L-RAD", "at_cm": 5}})
+    result = plan_case(case)
+    (down,) = routes_from(result, "L-BRA", "antegrade")
+    assert down.path == ["L-BRA", "L-RAD"] and down.feasible
+    assert down.length_cm == pytest.approx(8.5, abs=1e-3)
+    (up,) = routes_from(result, "L-BRA", "retrograde")
+    assert [b.code for b in up.blocked_by] == ["unreachable"]

@@ -58,7 +58,7 @@ def test_anticoagulation_weighs_the_site_bleeding_risk():
     case = make_case(patient={"anticoagulated": True})
     result = plan_case(case)
     (cfa,) = routes_from(result, "L-CFA", "antegrade")
-    (bra,) = routes_from(result, "L-BRA")
+    (bra,) = routes_from(result, "L-BRA", "retrograde")
     assert _points(cfa, "anticoagulation") == pytest.approx(1.0)        # 1 x 1.0
     assert _points(bra, "anticoagulation") == pytest.approx(3.0)        # 1 x 3.0
 
