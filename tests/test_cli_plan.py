@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 
+import pytest
 import yaml
 from click.testing import CliRunner
 
@@ -100,14 +101,17 @@ def test_bad_assignment_exact_error_line():
     res = _run(DEMO07, "--limit", "sar_max")
     assert res.exit_code == 2
     assert res.output.strip() == ("error: --limit: sar_max: expected NAME=VALUE, "
-                                  "for example crossover=2.5")
+                                  "for example sar_max=1.0")
 
 
 def test_unknown_explain_site_exact_error_line():
     res = _run(DEMO07, "--explain", "L-CFX")
     assert res.exit_code == 2
-    assert res.output.strip() == ("error: --explain: L-CFX: unknown site (did you mean "
-                                  "'L-CFA'?); e.g. L-CFA, R-RAD-DIST")
+    assert res.output.strip() == (
+        "error: --explain: L-CFX: unknown site (did you mean 'L-CFA'?); allowed: a site id "
+        "(R-CFA, R-RAD, R-RAD-DIST, R-BRA, R-AXA, R-SFA, R-POP, R-ATA, R-PTA, R-PER, R-DPA, "
+        "L-CFA, L-RAD, L-RAD-DIST, L-BRA, L-AXA, L-SFA, L-POP, L-ATA, L-PTA, L-PER, L-DPA) "
+        "or the segment id of one")
 
 
 def test_unknown_weight_in_the_case_file(tmp_path):
@@ -128,3 +132,48 @@ def test_missing_file_exact_error_line():
 def test_help_has_an_example():
     res = _run("--help")
     assert res.exit_code == 0 and "vascplan plan examples/" in res.output
+
+
+def test_explain_accepts_lower_case_and_marks_unchecked_limits():
+    res = _run(DEMO07, "--explain", "l-cfa", "--weight", "crossover=2")
+    assert res.exit_code == 0, res.output
+    assert ", crossover=2, " in res.output.split("weights used: ")[1].splitlines()[0]
+    # L-CFA retrograde cannot reach the left SFA: the path limits are not checked.
+    assert "BROKEN unreachable at L-CFA" in res.output
+    assert "-      sheath-too-large (not checked: no path)" in res.output
+    assert "ok     site-diseased" in res.output
+
+
+def test_jsonl_many_cases_one_line_each(tmp_path):
+    paths = []
+    for i in range(3):
+        data = case_data(patient={"ref": f"TEST-{i:02d}"})
+        p = tmp_path / f"case-{i}.yaml"
+        p.write_text(yaml.safe_dump(data), encoding="utf-8")
+        paths.append(str(p))
+    res = _run(*paths, DEMO07, "--format", "jsonl", "--top", "2")
+    assert res.exit_code == 0, res.output
+    lines = res.output.splitlines()
+    assert [json.loads(line)["case"] for line in lines] == ["TEST-00", "TEST-01", "TEST-02",
+                                                            "DEMO-07"]
+    for line in lines:
+        data = json.loads(line)
+        assert len(data["routes"]) == 2 and data["caution"] == CAUTION
+        assert all(set(r) >= ROUTE_KEYS for r in data["routes"])
+
+
+def test_json_score_is_the_sum_of_the_points_shown_and_ranks_in_order():
+    # The contract: score = sum of factors[].points; feasible first, lower score first.
+    for path in sorted(examples_dir().glob("case-*.yaml")):
+        res = _run(str(path), "--format", "json")
+        assert res.exit_code == 0, res.output
+        routes = json.loads(res.output)["routes"]
+        for r in routes:
+            assert r["score"] == pytest.approx(sum(f["points"] for f in r["factors"]),
+                                               abs=1e-9)
+            assert r["feasible"] == (r["blocked_by"] == [])
+        assert [r["rank"] for r in routes] == list(range(1, len(routes) + 1))
+        feasible = [r["score"] for r in routes if r["feasible"]]
+        assert feasible == sorted(feasible)
+        assert [r["feasible"] for r in routes] == sorted((r["feasible"] for r in routes),
+                                                         reverse=True)

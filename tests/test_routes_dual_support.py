@@ -27,9 +27,12 @@ def test_pairs_one_route_to_each_cap_no_shared_puncture():
         assert pair.proximal.segment != pair.distal.segment
     scores = [p.score for p in result.pairs]
     assert scores == sorted(scores)
-    # The popliteal (prone) with a groin route needs the patient turned.
-    prone = [p for p in result.pairs if p.distal.site == "L-POP"]
-    assert prone and "turn the patient" in prone[0].notes[0]
+    # The popliteal needs the patient prone, the groin supine: both sheaths cannot be
+    # in place at once, so the popliteal is in no pair although its route is feasible.
+    (pop,) = routes_from(result, "L-POP")
+    assert pop.feasible and pop.approach == "distal-cap"
+    assert all(p.proximal.position == p.distal.position for p in result.pairs)
+    assert all("L-POP" not in (p.proximal.site, p.distal.site) for p in result.pairs)
 
 
 def test_no_pairs_when_the_target_is_not_an_occlusion():
@@ -102,3 +105,58 @@ def test_support_device_kind_stated_in_the_case_wins():
     assert "stated in the case file" in support["device_kind_basis"]
     # Labelled by outer size: 17 Fr = 17/3 mm = 5.67 mm (1 Fr = 1/3 mm, REFERENCES.md).
     assert support["device_od_mm"] == pytest.approx(17 / 3, abs=0.005)
+
+
+def test_support_axillary_axis_warns_for_the_arm():
+    # R-AXA 6 mm (tests/routes_cases.py), device outer 5.7 mm: the annulus left is
+    # (6^2 - 5.7^2) / 6^2 = (36 - 32.49) / 36 = 9.75%, printed as 10%. A leg's distal
+    # perfusion cannula does not apply to the arm, so the axis says what does.
+    result = plan_case(_support_case())
+    axes = {a["site"]: a for a in result.support["axes"]}
+    note = axes["R-AXA"]["arm_note"]
+    assert "10% of the R-AXA lumen" in note and "side graft" in note
+    assert "arm_note" not in axes["R-CFA"]
+
+
+def test_no_pair_of_sheaths_in_series_on_one_line():
+    # L-ATA occluded 8-18 cm (of 30), target at 12; 4 Fr sheath (outer 1.9 mm) so the
+    # tibial punctures pass. L-CFA antegrade reaches the distal cap round the pedal loop:
+    # down L-POP, L-TPT and the whole L-PTA to the plantar arch. The L-PTA retrograde
+    # puncture (0.9 x 30 = 27 cm) lies on that path, so a catheter would run through the
+    # other sheath's puncture: no pair. Likewise the mid-thigh L-SFA puncture (15 cm)
+    # lies on the L-CFA antegrade route. The L-ATA puncture (0.85 x 30 = 25.5 cm) lies
+    # beyond the target, off the L-CFA direct route: that pair stands (common practice).
+    case = make_case(
+        lesions=[{"segment": "L-ATA", "kind": "occlusion", "start_cm": 8, "length_cm": 10,
+                  "proximal_cap": "tapered", "distal_cap": "tapered"}],
+        procedure={"target": {"segment": "L-ATA", "at_cm": 12},
+                   "sheath": {"size_fr": 4, "length_cm": 11, "outer_mm": 1.9},
+                   "device": {"profile_fr": 4, "working_length_cm": 150}})
+    result = plan_case(case)
+    loop = [r for r in routes_from(result, "L-CFA", "antegrade") if r.approach == "distal-cap"]
+    assert loop and loop[0].feasible and "L-PLA" in loop[0].path
+    (pta,) = routes_from(result, "L-PTA")
+    assert pta.feasible and pta.approach == "proximal-cap"
+    pairs = {(p.proximal.site, p.distal.site) for p in result.pairs}
+    assert ("L-PTA", "L-CFA") not in pairs
+    assert ("L-CFA", "L-SFA") not in pairs
+    assert ("L-CFA", "L-ATA") in pairs
+
+
+def test_support_example_prefers_the_roomy_left_groin():
+    # DEMO-12: right EIA 5.8 mm with a 30% stenosis, severely calcified: MLD 5.8 x 0.7 =
+    # 4.06 mm, SAR 5.7 / 4.06 = 1.40, over the calcified limit 1.00: blocked there. The
+    # left groin is roomy (CFA 9.1 mm with a 20% plaque: 7.28 mm, SAR 0.78) and its
+    # minimal plaque is punctured beside, not a block. A practitioner takes the left
+    # femoral before an axillary cut-down or puncture (common practice), and the arch
+    # costs nothing when the pump must sit in the ascending aorta whatever the route.
+    result = plan_case(load_case(examples_dir() / "case-DEMO-12-support-small-iliac.yaml"))
+    first = result.routes[0]
+    assert (first.site, first.feasible) == ("L-CFA", True)
+    assert first.sar == pytest.approx(5.7 / (9.1 * 0.8), abs=1e-9)
+    names = [f.name for f in first.factors]
+    assert "puncture_plaque" in names and "arch_traversal" not in names
+    (right,) = routes_from(result, "R-CFA")
+    assert [(b.code, b.segment) for b in right.blocked_by] == [("sheath-too-large", "R-EIA")]
+    assert right.sar == pytest.approx(5.7 / (5.8 * 0.7), abs=1e-9)
+    assert result.support["best_site"] == "L-CFA"

@@ -185,3 +185,45 @@ def test_a_route_breaking_several_limits_lists_each():
                      procedure={"device": {"profile_fr": 6, "working_length_cm": 149}})
     (route,) = routes_from(plan_case(case), "R-RAD")
     assert codes(route) == [("site-avoided", "R-RAD"), ("too-short", "L-SFA")]
+
+
+def test_sheath_stopping_at_a_calcified_target_keeps_the_published_limit():
+    # L-SFA occlusion 2-12 cm, severely calcified; the vessels are not calcified.
+    # L-CFA antegrade: puncture 0.5 x 4 = 2 cm, skin 4 cm; the 11 cm sheath has 7 cm
+    # inside: L-CFA 2 cm + L-SFA 0-5 cm, cut short at the occlusion's edge (2 cm). The
+    # stretch only touches the calcified lesion, so the limit stays sar_max 1.05
+    # (Hayashida 2011), not sar_max_calcified 1.00.
+    case = make_case(lesions=[{"segment": "L-SFA", "kind": "occlusion", "start_cm": 2,
+                               "length_cm": 10, "calcification": "severe"}],
+                     procedure={"target": {"segment": "L-SFA", "at_cm": 6}})
+    (route,) = routes_from(plan_case(case), "L-CFA", "antegrade")
+    assert route.sar_limit == pytest.approx(1.05)
+
+
+@pytest.mark.parametrize("site", ["R-SFA", "R-POP", "R-ATA", "R-PTA", "R-PER", "R-DPA"])
+def test_no_up_and_over_from_below_the_groin(site):
+    # Target L-SFA. A puncture below the right groin serves the right leg; going up it and
+    # over the bifurcation to the left leg is not a usable route (common practice;
+    # sites.csv column crossover), so the site is unreachable, with the reason.
+    result = plan_case(make_case())
+    (route,) = routes_from(result, site, "retrograde")
+    assert codes(route) == [("unreachable", site)]
+    assert "offered only from the common femoral" in route.blocked_by[0].detail
+    # the common femoral still goes up-and-over
+    (cfa,) = routes_from(result, "R-CFA", "retrograde")
+    assert cfa.feasible and "crossover" in [f.name for f in cfa.factors]
+
+
+@pytest.mark.parametrize(("pct", "diseased"), [(10, False), (24, False), (25, True),
+                                               (60, True)])
+def test_minimal_plaque_at_the_puncture_scores_instead_of_blocking(pct, diseased):
+    # R-CFA puncture at 0.5 x 4 = 2 cm; zone 1-3 cm; plaque at 1.5-2.5 cm. Below
+    # puncture_plaque_max_pct 25 (the "minimal" 1-24% grade, CAD-RADS; limits.yaml) the
+    # operator punctures beside it: not site-diseased, 1 point of puncture_plaque
+    # (weights.yaml). From 25% on the site is diseased.
+    case = make_case(lesions=[{"segment": "R-CFA", "kind": "stenosis", "stenosis_pct": pct,
+                               "start_cm": 1.5, "length_cm": 1}])
+    (route,) = routes_from(plan_case(case), "R-CFA", "retrograde")
+    assert (("site-diseased", "R-CFA") in codes(route)) is diseased
+    plaque = [f.points for f in route.factors if f.name == "puncture_plaque"]
+    assert plaque == ([] if diseased else [1.0])

@@ -58,7 +58,7 @@ def test_anticoagulation_weighs_the_site_bleeding_risk():
     case = make_case(patient={"anticoagulated": True})
     result = plan_case(case)
     (cfa,) = routes_from(result, "L-CFA", "antegrade")
-    (bra,) = routes_from(result, "L-BRA")
+    (bra,) = routes_from(result, "L-BRA", "retrograde")
     assert _points(cfa, "anticoagulation") == pytest.approx(1.0)        # 1 x 1.0
     assert _points(bra, "anticoagulation") == pytest.approx(3.0)        # 1 x 3.0
 
@@ -126,3 +126,36 @@ def test_parse_assignments_errors():
         parse_assignments(["crossover"], "--weight")
     with pytest.raises(InputError, match="value must be a number"):
         parse_assignments(["crossover=lots"], "--weight")
+
+
+def test_a_sheath_above_the_sites_usual_size_counts():
+    # Target a proximal L-ATA stenosis (5-7 cm), 6 Fr sheath (outer 2.6 mm given).
+    # sites.csv: a tibial site usually takes at most 4 Fr, so L-ATA retrograde pays
+    # site_sheath_size 1.5 (weights.yaml) x (6 - 4) = 3.0 points; L-CFA antegrade (upper
+    # 24 Fr) pays none. The antegrade femoral route must rank above the 6 Fr tibial one,
+    # as an interventionalist would choose (common practice).
+    case = make_case(lesions=[{"segment": "L-ATA", "kind": "stenosis", "stenosis_pct": 80,
+                               "start_cm": 5, "length_cm": 2}],
+                     procedure={"target": {"segment": "L-ATA", "at_cm": 6}})
+    result = plan_case(case)
+    (ata,) = routes_from(result, "L-ATA")
+    cfa = routes_from(result, "L-CFA", "antegrade")[0]  # the direct path; then the loop
+    assert [f.points for f in ata.factors if f.name == "site_sheath_size"] == [3.0]
+    assert not [f for f in cfa.factors if f.name == "site_sheath_size"]
+    assert ata.feasible and cfa.feasible and cfa.rank < ata.rank
+
+
+def test_demo07_contralateral_femoral_before_arm_and_tibial_routes():
+    # DEMO-07 (left SFA occlusion): after the ipsilateral antegrade femoral, the
+    # contralateral femoral up-and-over (moderately calcified) should come before any
+    # arm route and before a 6 Fr sheath in a 2.6 mm tibial artery (common practice).
+    from vascplan.case.load import load_case
+    from vascplan.paths import examples_dir
+
+    result = plan_case(load_case(examples_dir() / "case-DEMO-07-sfa-occlusion.yaml"))
+    first = result.routes[0]
+    assert (first.site, first.direction) == ("L-CFA", "antegrade")
+    (cross,) = routes_from(result, "R-CFA", "retrograde")
+    later = [r for r in result.routes if r.feasible
+             and r.site in ("L-AXA", "R-AXA", "L-BRA", "R-BRA", "L-ATA", "L-PTA")]
+    assert later and all(cross.rank < r.rank for r in later)

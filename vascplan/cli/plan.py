@@ -51,12 +51,15 @@ def plan(cases: tuple[str, ...], fmt: str, top: int | None, explain: str | None,
 
     w = parse_assignments(weights, "--weight")
     lim = parse_assignments(limits, "--limit")
+    if explain is not None and not site_ids_for(explain) and site_ids_for(explain.upper()):
+        explain = explain.upper()  # site ids are upper case: accept l-cfa for L-CFA
     if explain is not None and not site_ids_for(explain):
         from vascplan.fileio import did_you_mean
 
         sites = load_sites()
         raise InputError("--explain", explain,
-                         f"unknown site{did_you_mean(explain, sites)}; e.g. L-CFA, R-RAD-DIST")
+                         f"unknown site{did_you_mean(explain.upper(), sites)}; allowed: a "
+                         f"site id ({', '.join(sites)}) or the segment id of one")
     progress = sys.stderr.isatty() and len(cases) > 1
     results = []
     for i, path in enumerate(cases, start=1):

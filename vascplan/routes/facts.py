@@ -64,6 +64,9 @@ class RouteFacts:
         ``proximal-cap``, ``distal-cap`` or ``none``.
     sar : float or None
         Sheath outer diameter over ``min_lumen`` [-].
+    crossover_dropped : bool
+        True when the only paths found went up-and-over from a site that does not
+        allow it (``sites.csv`` column ``crossover``), so the route is unreachable.
     """
 
     site: AccessSite
@@ -76,6 +79,7 @@ class RouteFacts:
     min_lumen: tuple[float, str] | None = None
     approach: str = "none"
     sar: float | None = None
+    crossover_dropped: bool = False
 
 
 def route_facts(view: VesselView, site: AccessSite, direction: str,

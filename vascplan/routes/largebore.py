@@ -122,6 +122,12 @@ def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], device
     advised, basis = dpc_advice(kind, limiting_sar, _pad_on_side(view, site.side),
                                 view.case.patient.sex, vessel_mm, False, access_vessel=vessel)
     out["dpc"] = {"advised": advised, "basis": basis}
+    if out["limb"] == "arm" and out["lumen_left_pct"] is not None:
+        out["arm_note"] = (
+            f"no leg cannula helps the arm: with {out['lumen_left_pct']:.0f}% of the "
+            f"{limiting['segment']} lumen left beside the device, check the hand's perfusion; "
+            "for an axillary cannula a side graft sewn to the artery keeps the arm perfused "
+            "(common practice)")
     return out
 
 

@@ -98,10 +98,15 @@ def check_unreachable(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
     """``unreachable``: no path at all."""
     if facts.path is not None:
         return []
-    target = ctx.view.target_segment
+    view = ctx.view
+    target = view.target_segment
+    why = "without doubling back"
+    if facts.crossover_dropped:
+        why += (" (up-and-over the aortic bifurcation is offered only from the common "
+                "femoral; a puncture below the groin serves its own leg)")
     return [Block("unreachable", facts.site.segment,
                   f"no {facts.direction} path from {facts.site.id} reaches {target} at "
-                  f"{ctx.view.target_cm:g} cm without doubling back")]
+                  f"{view.target_cm:g} cm {why}")]
 
 
 def check_site_avoided(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
@@ -115,12 +120,19 @@ def check_site_avoided(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
 
 
 def check_site_diseased(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
-    """``site-diseased``: a lesion or stent within the puncture zone."""
+    """``site-diseased``: a lesion or stent within the puncture zone.
+
+    A stenosis below ``puncture_plaque_max_pct`` is a mild plaque the operator punctures
+    beside: it does not block (the ``puncture_plaque`` soft factor counts it).
+    """
     half = ctx.limits["puncture_zone_cm"]
     spans = ctx.view.disease_near(facts.site.segment, facts.puncture_cm, half)
+    mild_below = ctx.limits["puncture_plaque_max_pct"]
     out = []
     for span in spans:
         kind = getattr(span.item, "kind", "stent")
+        if kind == "stenosis" and span.item.percent < mild_below:
+            continue  # a mild plaque: punctured beside, scored as puncture_plaque
         what = f"{kind} ({span.item.percent:g}%)" if kind == "stenosis" else kind
         out.append(Block("site-diseased", facts.site.segment,
                          f"{what} at {span.start_cm:g}-{span.end_cm:g} cm lies within "

@@ -199,11 +199,20 @@ def plan_case(case: Any, *, top: int | None = None, weights: Mapping[str, float]
         if site.segment not in tree.graph:
             continue
         length = view.length_cm(site.segment)
-        paths: list[CatheterPath | None] = list(points.paths(
+        paths: list[CatheterPath] = list(points.paths(
             site.segment, site.puncture_cm(length), direction, view.target_segment,
-            view.target_cm, k=K_PATHS)) or [None]
-        for i, path in enumerate(paths):
+            view.target_cm, k=K_PATHS))
+        dropped = False
+        if not site.crossover:
+            # Up-and-over only from the common femoral: a puncture below the groin
+            # (or an arm) does not cross the bifurcation (sites.csv, common practice).
+            kept = [p for p in paths if not view.crosses_bifurcation(p)]
+            dropped = bool(paths) and not kept
+            paths = kept
+        candidates: list[CatheterPath | None] = list(paths) or [None]
+        for i, path in enumerate(candidates):
             facts = route_facts(view, site, direction, path, devices)
+            facts.crossover_dropped = dropped
             blocks = hard_limits(facts, limit_ctx)
             factors = soft_factors(facts, score_ctx)
             routes.append(_route(view, facts, blocks, factors, devices, limit_ctx))

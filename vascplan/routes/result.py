@@ -103,8 +103,12 @@ class Route:
 
     @property
     def score(self) -> float:
-        """Sum of the factors' points; lower is better."""
-        return sum(f.points for f in self.factors)
+        """Sum of the factors' points as shown (each to 2 decimals); lower is better.
+
+        Summing the shown points keeps the JSON self-consistent: ``score`` is exactly the
+        sum of ``factors[].points``, and the ranking follows the scores shown.
+        """
+        return sum(round(f.points, 2) for f in self.factors)
 
     def sort_key(self) -> tuple:
         """Feasible first (unreachable last), then lower score, shorter path, site id."""

@@ -18,6 +18,9 @@ from dataclasses import dataclass
 from vascplan.routes.facts import Devices, RouteFacts
 from vascplan.routes.vessels import CALCIFICATION_GRADES, VesselView
 
+ARCH_TARGETS = ("AO-ASC", "AO-ARCH")
+"""Targets every route must reach through the arch: no arch_traversal points."""
+
 SCORE_CONVENTION = "lower is better: the sum of the factors' points; feasible routes first"
 
 
@@ -80,6 +83,21 @@ def f_puncture_calcification(facts: RouteFacts, ctx: ScoreContext) -> list[Facto
                    f"(grade {step} x {w:g}): harder puncture, compression and closure")]
 
 
+def f_puncture_plaque(facts: RouteFacts, ctx: ScoreContext) -> list[Factor]:
+    """Mild plaques (below ``puncture_plaque_max_pct``) in the puncture zone."""
+    half = ctx.limits["puncture_zone_cm"]
+    mild_below = ctx.limits["puncture_plaque_max_pct"]
+    mild = [s for s in ctx.view.disease_near(facts.site.segment, facts.puncture_cm, half)
+            if getattr(s.item, "kind", "stent") == "stenosis" and s.item.percent < mild_below]
+    if not mild:
+        return []
+    w = ctx.weights["puncture_plaque"]
+    where = ", ".join(f"{s.item.percent:g}% at {s.start_cm:g}-{s.end_cm:g} cm" for s in mild)
+    return [Factor("puncture_plaque", w * len(mild),
+                   f"mild plaque in the puncture zone ({where}): puncture beside it under "
+                   f"ultrasound x {w:g}")]
+
+
 def f_site_risk(facts: RouteFacts, ctx: ScoreContext) -> list[Factor]:
     """The site's relative complication risk."""
     w = ctx.weights["site_risk"]
@@ -138,8 +156,13 @@ def f_crossover(facts: RouteFacts, ctx: ScoreContext) -> list[Factor]:
 
 
 def f_arch(facts: RouteFacts, ctx: ScoreContext) -> list[Factor]:
-    """Catheter work in the aortic arch, more the more of it is crossed."""
-    if facts.path is None:
+    """Catheter work in the aortic arch, more the more of it is crossed.
+
+    Not counted when the target lies in the ascending aorta or the arch itself (a
+    microaxial pump, a valve): every route must then reach the arch, and the arch is
+    the destination, not a detour (common practice).
+    """
+    if facts.path is None or ctx.view.target_segment in ARCH_TARGETS:
         return []
     share = ctx.view.arch_share(facts.path)
     if share is None:
@@ -193,7 +216,8 @@ def f_approach(facts: RouteFacts, ctx: ScoreContext) -> list[Factor]:
     out: list[Factor] = []
     if facts.approach == "distal-cap":
         out.append(Factor("approach_distal_cap", ctx.weights["approach_distal_cap"],
-                          "retrograde approach to the distal cap (usually the second choice)"))
+                          "retrograde approach to the distal cap (below the groin usually the "
+                          "second choice after an antegrade one)"))
         cap = getattr(lesion.item, "distal_cap", None)
         which = "distal"
     else:
@@ -228,8 +252,9 @@ def f_pedal_loop(facts: RouteFacts, ctx: ScoreContext) -> list[Factor]:
 
 
 FACTORS: tuple[FactorFn, ...] = (
-    f_sar, f_puncture_calcification, f_site_risk, f_sheath_size, f_stenoses, f_crossover,
-    f_arch, f_prone, f_length_margin, f_anticoagulation, f_approach, f_graft, f_pedal_loop,
+    f_sar, f_puncture_calcification, f_puncture_plaque, f_site_risk, f_sheath_size,
+    f_stenoses, f_crossover, f_arch, f_prone, f_length_margin, f_anticoagulation, f_approach,
+    f_graft, f_pedal_loop,
 )
 """The registry of soft factors, in the order they are listed."""
 

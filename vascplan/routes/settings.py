@@ -104,7 +104,8 @@ def parse_assignments(pairs: Iterable[str], option: str) -> dict[str, float]:
         name, sep, raw = pair.partition("=")
         name = name.strip()
         if not sep or not name:
-            raise InputError(option, pair, "expected NAME=VALUE, for example crossover=2.5")
+            example = "sar_max=1.0" if option == "--limit" else "crossover=2.5"
+            raise InputError(option, pair, f"expected NAME=VALUE, for example {example}")
         try:
             value = float(raw)
         except ValueError:

@@ -42,6 +42,10 @@ class AccessSite:
         Directions the site allows (``retrograde``, ``antegrade``).
     compressible : bool
         Whether the puncture can be compressed over bone.
+    crossover : bool
+        Whether a route from this site may go up-and-over the aortic bifurcation to
+        the other leg (the common femoral only; a puncture below the groin serves its
+        own leg, common practice).
     position : str
         Patient position needed (``supine`` or ``prone``).
     upper_sheath_fr : float
@@ -64,6 +68,7 @@ class AccessSite:
     skin_depth_cm: float
     directions: tuple[str, ...]
     compressible: bool
+    crossover: bool
     position: str
     upper_sheath_fr: float
     complication_relative: float
@@ -130,6 +135,7 @@ def load_sites() -> dict[str, AccessSite]:
             skin_depth_cm=_number(src, i, "skin_depth_cm", row["skin_depth_cm"]),
             directions=directions,
             compressible=row["compressible"].strip().lower() == "yes",
+            crossover=row.get("crossover", "no").strip().lower() == "yes",
             position=row["position"],
             upper_sheath_fr=_number(src, i, "upper_sheath_fr", row["upper_sheath_fr"]),
             complication_relative=_number(src, i, "complication_relative",

@@ -144,9 +144,15 @@ def render_support(support: dict[str, Any]) -> list[str]:
             advised = "advised" if axis["dpc"]["advised"] else "not advised"
             basis = "; ".join(axis["dpc"]["basis"])
             lines.append(f"      distal perfusion cannula {advised}: {basis}")
+        if axis.get("arm_note"):
+            lines.append(f"      arm: {axis['arm_note']}")
     if support.get("best_site"):
         lines.append(f"  lowest SAR among feasible axes: {support['best_site']}")
     return lines
+
+
+_SITE_CHECKS = ("unreachable", "site-avoided", "site-diseased")
+"""Limits that hold for a site even when no path reaches the target."""
 
 
 def render_explain(plan: dict[str, Any], routes: list[dict[str, Any]]) -> str:
@@ -180,6 +186,8 @@ def render_explain(plan: dict[str, Any], routes: list[dict[str, Any]]) -> str:
             if code in broken:
                 for b in broken[code]:
                     lines.append(f"    BROKEN {code} at {b['segment']}: {b['detail']}")
+            elif route["length_cm"] is None and code not in _SITE_CHECKS:
+                lines.append(f"    -      {code} (not checked: no path)")
             else:
                 lines.append(f"    ok     {code} (broken when: {meaning})")
         lines.append("  soft factors (points):")
@@ -189,6 +197,7 @@ def render_explain(plan: dict[str, Any], routes: list[dict[str, Any]]) -> str:
             lines.append(f"    {f['points']:5.2f}  {f['name']}: {f['detail']}")
     lines.append("")
     lines.append("limits used: " + ", ".join(f"{k}={v:g}" for k, v in limits.items()))
+    lines.append("weights used: " + ", ".join(f"{k}={v:g}" for k, v in plan["weights"].items()))
     lines.append("")
     lines.append(f"Caution: {CAUTION}")
     return "\n".join(lines) + "\n"

@@ -119,7 +119,9 @@ class VesselView:
         """Worst calcification grade step over a stretch: the vessel's and its lesions'."""
         step = grade_step(self.node(node).get("calcification"))
         for span in self.lesions.get(node, []):
-            if span.overlaps(lo_cm, hi_cm):
+            # Strictly inside: a stretch that stops at a lesion's edge (the sheath tip
+            # short of the target occlusion) does not take on its calcification.
+            if span.start_cm < hi_cm - _EDGE_CM and span.end_cm > lo_cm + _EDGE_CM:
                 step = max(step, grade_step(getattr(span.item, "calcification", None)))
         return step
 
