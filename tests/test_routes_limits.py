@@ -216,14 +216,25 @@ def test_no_up_and_over_from_below_the_groin(site):
 
 @pytest.mark.parametrize(("pct", "diseased"), [(10, False), (24, False), (25, True),
                                                (60, True)])
-def test_minimal_plaque_at_the_puncture_scores_instead_of_blocking(pct, diseased):
-    # R-CFA puncture at 0.5 x 4 = 2 cm; zone 1-3 cm; plaque at 1.5-2.5 cm. Below
-    # puncture_plaque_max_pct 25 (the "minimal" 1-24% grade, CAD-RADS; limits.yaml) the
-    # operator punctures beside it: not site-diseased, 1 point of puncture_plaque
+def test_minimal_plaque_at_the_puncture_scores_when_the_unit_allows_it(pct, diseased):
+    # R-CFA puncture at 0.5 x 4 = 2 cm; zone 1-3 cm; plaque at 1.5-2.5 cm. With
+    # puncture_plaque_max_pct raised to 25 (a unit that punctures beside minimal plaque)
+    # a smaller plaque is not site-diseased but 1 point of puncture_plaque
     # (weights.yaml). From 25% on the site is diseased.
     case = make_case(lesions=[{"segment": "R-CFA", "kind": "stenosis", "stenosis_pct": pct,
                                "start_cm": 1.5, "length_cm": 1}])
-    (route,) = routes_from(plan_case(case), "R-CFA", "retrograde")
+    result = plan_case(case, limits={"puncture_plaque_max_pct": 25})
+    (route,) = routes_from(result, "R-CFA", "retrograde")
     assert (("site-diseased", "R-CFA") in codes(route)) is diseased
     plaque = [f.points for f in route.factors if f.name == "puncture_plaque"]
     assert plaque == ([] if diseased else [1.0])
+
+
+@pytest.mark.parametrize("pct", [10, 20, 60])
+def test_any_stenosis_in_the_puncture_zone_blocks_by_default(pct):
+    # Issue 3: site-diseased = stenosis, occlusion or stent in the puncture zone; the
+    # default puncture_plaque_max_pct is 0 (limits.yaml), so even a 10% plaque blocks.
+    case = make_case(lesions=[{"segment": "R-CFA", "kind": "stenosis", "stenosis_pct": pct,
+                               "start_cm": 1.5, "length_cm": 1}])
+    (route,) = routes_from(plan_case(case), "R-CFA", "retrograde")
+    assert ("site-diseased", "R-CFA") in codes(route) and not route.feasible
