@@ -12,7 +12,7 @@ from tests.reports_helpers import HOSTILE, page_sizes, pdf_pages, pdf_text, rend
 from vascplan.anatomy.graph import build_tree
 from vascplan.case.load import load_case
 from vascplan.paths import examples_dir
-from vascplan.reports.case_report import render_case_report
+from vascplan.reports.case_report import DEFAULT_TOP, render_case_report
 from vascplan.routes.plan import plan_case
 from vascplan.safety import CAUTION
 
@@ -21,16 +21,25 @@ CASE_07 = examples_dir() / "case-DEMO-07-sfa-occlusion.yaml"
 CASE_12 = examples_dir() / "case-DEMO-12-support-small-iliac.yaml"
 
 
-def _report(path, paper="a4"):
+def _report(path, paper="a4", top=None):
     case = load_case(path)
     tree = build_tree(case)
     plan = plan_case(case).to_dict()
-    return case, tree, plan, render_case_report(case, tree, plan, paper=paper, generated_at=AT)
+    data = render_case_report(case, tree, plan, paper=paper, generated_at=AT, top=top)
+    return case, tree, plan, data
 
 
 @pytest.fixture(scope="module")
 def report_07():
-    return _report(CASE_07)
+    return _report(CASE_07)  # every route in full
+
+
+CASE_21 = examples_dir() / "case-DEMO-21-graft-and-pedal.yaml"
+
+
+@pytest.fixture(scope="module")
+def report_21_top():
+    return _report(CASE_21, top=DEFAULT_TOP)
 
 
 def test_summary_from_the_case_file(report_07):
@@ -150,3 +159,30 @@ def test_case_without_procedure(tmp_path):
     assert "No procedure in the case file: no routes were planned." in text
     assert "none given in the case file" in text
     assert "Legend" in text
+
+
+def test_top_routes_in_full_the_rest_in_brief(report_21_top):
+    _, _, plan, data = report_21_top
+    text = pdf_text(data)
+    routes = plan["routes"]
+    assert len(routes) > DEFAULT_TOP  # DEMO-21 has many routes, most of them ruled out
+    # Every route is still listed once with its verdict word.
+    assert len(re.findall(r"\busable\b", text)) == sum(r["feasible"] for r in routes)
+    assert len(re.findall(r"\bblocked\b", text)) == sum(not r["feasible"] for r in routes)
+    assert f"{len(routes)} routes in all: ranks 1-{DEFAULT_TOP} in full" in text
+    assert f"The other {len(routes) - DEFAULT_TOP} routes, in brief" in text
+    for r in routes[:DEFAULT_TOP]:  # in full: every limit with its detail
+        for b in r["blocked_by"]:
+            assert f"BLOCKED {b['code']} at {b['segment']}: " in text
+    brief = text.split("routes, in brief")[1]
+    assert "BLOCKED" not in brief  # in brief: each limit's code and where, no detail
+    for r in routes[DEFAULT_TOP:]:
+        codes = {b["code"] for b in r["blocked_by"]}
+        for code in codes:
+            segs = ", ".join(b["segment"] for b in r["blocked_by"] if b["code"] == code)
+            assert f"{code} at {segs}" in text
+
+
+def test_top_shortens_the_report(report_21_top):
+    full = _report(CASE_21)[3]
+    assert len(pdf_pages(report_21_top[3])) < len(pdf_pages(full))

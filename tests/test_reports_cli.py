@@ -56,7 +56,45 @@ def test_report_missing_case():
 def test_report_output_is_a_folder(tmp_path):
     res = _run(["report", str(CASE_07), "-o", str(tmp_path)])
     assert res.exit_code == 2
-    assert "is a directory" in res.output
+    assert res.output == f"error: {tmp_path}: is a folder; give a file name such as report.pdf\n"
+
+
+def test_report_output_folder_not_writable(tmp_path):
+    blocker = tmp_path / "a-file"
+    blocker.write_text("x")
+    out = blocker / "r.pdf"  # its "folder" is a file: cannot be written under any user
+    res = _run(["report", str(CASE_07), "-o", str(out)])
+    assert res.exit_code == 2
+    assert res.output.startswith(f"error: {out}: cannot write here (")
+    assert res.output.endswith("); choose a folder you can write to\n")
+    assert res.output.count("\n") == 1
+    assert blocker.read_text() == "x"
+
+
+def test_checklist_output_folder_not_writable(tmp_path):
+    blocker = tmp_path / "a-file"
+    blocker.write_text("x")
+    out = blocker / "c.pdf"
+    res = _run(["checklist", str(UNIT), "--shift", "day", "--date", "2026-12-02", "-o", str(out)])
+    assert res.exit_code == 2
+    assert res.output.startswith(f"error: {out}: cannot write here (")
+    assert res.output.count("\n") == 1
+
+
+@pytest.mark.parametrize("top", ["0", "-3"])
+def test_report_top_must_be_positive(tmp_path, top):
+    res = _run(["report", str(CASE_07), "-o", str(tmp_path / "r.pdf"), "--top", top])
+    assert res.exit_code == 2
+    assert res.output == (f"error: --top: {top} is not allowed; give a whole number of 1 or more\n")
+    assert not (tmp_path / "r.pdf").exists()
+
+
+def test_report_top_option(tmp_path):
+    out = tmp_path / "r.pdf"
+    res = _run(["report", str(CASE_07), "-o", str(out), "--top", "1"])
+    assert res.exit_code == 0, res.output
+    text = pdf_text(out.read_bytes())
+    assert "ranks 1-1 in full, ranks 2-" in text
 
 
 def test_checklist_writes_one_sheet_per_patient(tmp_path):

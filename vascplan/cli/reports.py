@@ -11,17 +11,25 @@ PAPER = click.Choice(["a4", "letter"], case_sensitive=False)
 
 @click.command(
     epilog="Example: vascplan report examples/case-DEMO-07-sfa-occlusion.yaml -o DEMO-07.pdf"
+    " --top 5"
     f"\n\nCaution: {CAUTION}",
 )
 @click.argument("case_file", metavar="CASE", type=click.Path(dir_okay=False))
 @click.option(
     "-o",
     "--output",
-    type=click.Path(dir_okay=False),
     help="PDF to write (atomically); default <ref>-case-report.pdf here.",
 )
 @click.option("--paper", type=PAPER, default="a4", show_default=True, help="ISO A4 or US Letter.")
-def report(case_file: str, output: str | None, paper: str) -> None:
+@click.option(
+    "--top",
+    type=int,
+    default=None,
+    metavar="N",
+    help="Routes (by rank) printed with their full reasons (default 10); every other "
+    "route still gets one line.",
+)
+def report(case_file: str, output: str | None, paper: str, top: int | None) -> None:
     """Case-conference PDF: summary, drawn arterial map, ranked routes, assumptions.
 
     The map draws the patient's tree with lesions, stents and grafts, the chosen route
@@ -30,7 +38,7 @@ def report(case_file: str, output: str | None, paper: str) -> None:
     """
     from vascplan.reports.service import case_report_pdf, default_report_name, write_output
 
-    case, data = case_report_pdf(case_file, paper=paper.lower())
+    case, data = case_report_pdf(case_file, paper=paper.lower(), top=top)
     path = write_output(data, output, ".", default_report_name(case.patient.ref))
     click.echo(f"wrote {path}")
 
@@ -60,7 +68,6 @@ def report(case_file: str, output: str | None, paper: str) -> None:
 @click.option(
     "-o",
     "--output",
-    type=click.Path(dir_okay=False),
     help="PDF to write (atomically); default checklist-<shift>-<date>.pdf here.",
 )
 @click.option("--paper", type=PAPER, default="a4", show_default=True, help="ISO A4 or US Letter.")
