@@ -389,7 +389,8 @@ def _route_sections(plan: Mapping[str, Any], width: float, top: int | None) -> l
         out += [
             para(f"The other {len(rest)} routes, in brief", st["h2"]),
             para(
-                "Every limit with its detail: vascplan report CASE --top N, or vascplan plan CASE --explain SITE.",
+                "Every limit with its detail: vascplan report CASE --top N, "
+                "or vascplan plan CASE --explain SITE.",
                 st["small"],
             ),
             brief,
