@@ -186,3 +186,24 @@ def test_top_routes_in_full_the_rest_in_brief(report_21_top):
 def test_top_shortens_the_report(report_21_top):
     full = _report(CASE_21)[3]
     assert len(pdf_pages(report_21_top[3])) < len(pdf_pages(full))
+
+
+def test_support_without_measured_outer_diameter_is_flagged(tmp_path):
+    # DEMO-12 with its sheath's measured outer diameter removed: the planner falls back to
+    # a reference outer diameter, which the report must mark wherever it is printed
+    # (HELPER_RULES: a reference value used instead of a measurement is flagged).
+    doc = yaml.safe_load(CASE_12.read_text())
+    del doc["procedure"]["sheath"]["outer_mm"]
+    doc["patient"]["ref"] = "DEMO-31"
+    path = tmp_path / "case.yaml"
+    path.write_text(yaml.safe_dump(doc))
+    _, _, plan, data = _report(path)
+    text = pdf_text(data)
+    od = plan["support"]["device_od_mm"]
+    assert f"Device outer diameter {od:.2f}* (reference value: the case file gives no outer" in text
+    first = next(r for r in plan["routes"] if r["feasible"])
+    assert "sheath_od_mm" in first["assumed"]
+    assert f"{first['sheath_od_mm']:.2f}* / " in text
+    # With the measured outer diameter (the example as written) there is no mark.
+    measured = pdf_text(_report(CASE_12)[3])
+    assert "Device outer diameter 5.70 mm" in measured  # outer_mm: 5.7 in the example file

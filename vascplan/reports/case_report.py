@@ -234,10 +234,14 @@ def route_table(
     for n, r in enumerate(usable):
         detailed = n < DETAILED_FEASIBLE
         assumed = set(r.get("assumed", ()))
-        mark = REFERENCE_MARK if ({"min_lumen_mm", "sar"} & assumed) else ""
+
+        def mark(key: str, assumed: set[str] = assumed) -> str:
+            return REFERENCE_MARK if key in assumed else ""
+
         sizes = (
-            f"{_num(r.get('sheath_od_mm'))} / {_num(r.get('min_lumen_mm'))}{mark} / "
-            f"{_num(r.get('sar'))}{mark}"
+            f"{_num(r.get('sheath_od_mm'))}{mark('sheath_od_mm')} / "
+            f"{_num(r.get('min_lumen_mm'))}{mark('min_lumen_mm')} / "
+            f"{_num(r.get('sar'))}{mark('sar')}"
         )
         path = r.get("path_words") or " > ".join(r.get("path", []))
         reasons = [
@@ -425,16 +429,23 @@ def _pairs(plan: Mapping[str, Any], width: float) -> list[Any]:
     return out
 
 
-def support_tables(support: Mapping[str, Any], width: float) -> list[Any]:
-    """The large-bore figures: each axis's SAR per segment, lumen left, distal flow."""
+def support_tables(support: Mapping[str, Any], width: float, od_assumed: bool = False) -> list[Any]:
+    """The large-bore figures: each axis's SAR per segment, lumen left, distal flow.
+
+    ``od_assumed``: the device's outer diameter is a reference value (the case file gave
+    no measured outer diameter), so it carries the reference mark and says so.
+    """
     st = styles()
     cell, bold, small = st["cell"], st["cell-bold"], st["small"]
+    od = _num(support.get("device_od_mm"))
+    if od_assumed:
+        od += f"{REFERENCE_MARK} (reference value: the case file gives no outer diameter)"
     out: list[Any] = [
         para("Large-bore support: what the device leaves for the limb", st["h2"]),
         rich_para(
             "Device outer diameter {od} mm ({kind}: {basis}). Best axis: <b>{best}</b>.",
             cell,
-            od=_num(support.get("device_od_mm")),
+            od=od,
             kind=support.get("device_kind"),
             basis=support.get("device_kind_basis"),
             best=support.get("best_site") or "none usable",
@@ -574,7 +585,8 @@ def case_report_story(
         story += _route_sections(plan, width, top)
         story += _pairs(plan, width)
         if plan.get("support"):
-            story += support_tables(plan["support"], width)
+            od_assumed = any("sheath_od_mm" in r.get("assumed", ()) for r in plan.get("routes", ()))
+            story += support_tables(plan["support"], width, od_assumed)
         assumptions = list(plan.get("assumptions", ()))
     else:
         story.append(para("No procedure in the case file: no routes were planned.", st["alarm"]))
