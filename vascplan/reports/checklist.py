@@ -19,10 +19,11 @@ from datetime import date, datetime
 from typing import Any
 
 from reportlab.lib import colors
+from reportlab.lib.styles import ParagraphStyle
 from reportlab.platypus import Flowable, PageBreak, Spacer, Table, TableStyle
 
 from vascplan.reports.page import PageLabel, PageSetup, build_pdf, fonts, frame_box, styles
-from vascplan.reports.text import clean, para, rich_para
+from vascplan.reports.text import clean, para, rich, rich_para
 
 DEVICE_NAMES = {
     "va-ecmo-arterial": "VA-ECMO arterial return cannula",
@@ -123,7 +124,8 @@ def checklist_sheets(
     protocol : Protocol
         The unit's surveillance protocol.
     beds : iterable of int, optional
-        Only these beds (each must hold a patient); every patient when omitted.
+        Only these beds, in the order given, each once (each must hold a patient);
+        every patient, by bed, when omitted.
 
     Raises
     ------
@@ -137,7 +139,7 @@ def checklist_sheets(
     shift = unit.shift_named(shift_name)
     start, end = shift_window(unit, shift, datetime.combine(day, shift.start))
     patients = (
-        [unit.patient_at_bed(b) for b in beds]
+        [unit.patient_at_bed(b) for b in dict.fromkeys(beds)]  # a bed asked twice: one sheet
         if beds is not None
         else sorted(unit.patients, key=lambda p: p.bed)
     )
@@ -199,7 +201,7 @@ def checklist_sheets(
 class VerticalText(Flowable):
     """A column heading written bottom-to-top, to keep narrow columns legible."""
 
-    def __init__(self, text: str, size: float = 7.5) -> None:
+    def __init__(self, text: str, size: float = 7.0) -> None:
         super().__init__()
         self.text = clean(text)
         self.size = size
@@ -235,7 +237,12 @@ def _header_table(sheet: ChecklistSheet, width: float) -> Table:
             para("Ref", label),
             para(sheet.ref, st["alarm"]),
         ],
-        [para("Unit", label), para(sheet.unit_name, cell), para("Shift", label), para(shift, cell)],
+        [
+            para("Unit", label),
+            para(sheet.unit_name, cell),
+            para("Shift", label),
+            para(shift, cell),
+        ],
         [
             para("Device", label),
             para(sheet.device, cell),
@@ -303,13 +310,22 @@ def _baseline_table(sheet: ChecklistSheet, width: float) -> Table:
     return t
 
 
+def _ambiguous(at: datetime) -> bool:
+    """True when the local wall time ``at`` shows happens twice (the hour repeated when
+    the clocks go back)."""
+    other = at.replace(fold=1 - at.fold)
+    return other.utcoffset() != at.utcoffset()
+
+
 def due_text(row: CheckRow, sheet: ChecklistSheet) -> str:
     """The due time as printed: ``HH:MM``, with the date when it is not the shift's first
-    day and the zone when the UTC offset differs from the shift start's."""
+    day, and the zone when the UTC offset differs from the shift start's or the wall
+    time happens twice that night (so the first 01:15 reads ``01:15 BST``, the second
+    ``01:15 GMT``)."""
     text = f"{row.due:%H:%M}"
     if row.due.date() != sheet.shift_start.date():
         text = f"{row.due:%d %b} {text}"
-    if row.due.utcoffset() != sheet.shift_start.utcoffset():
+    if row.due.utcoffset() != sheet.shift_start.utcoffset() or _ambiguous(row.due):
         text += f" {row.due.tzname()}"
     return text
 
@@ -321,8 +337,8 @@ ROW_HEIGHT_PT = 15.0
 def _grid(sheet: ChecklistSheet, width: float) -> Table:
     st = styles()
     ids = [i for i, _ in sheet.items]
-    due_w, initials_w = 100.0, 38.0
-    item_w = (width - due_w - initials_w) / max(len(ids), 1)
+    due_w, every_w, initials_w = 92.0, 20.0, 38.0
+    item_w = (width - due_w - every_w - initials_w) / max(len(ids), 1)
     head = [
         rich_para(
             "<b>Due</b> ({zone})<br/>bed {bed}<br/>{ref}",
@@ -332,32 +348,32 @@ def _grid(sheet: ChecklistSheet, width: float) -> Table:
             ref=sheet.ref,
         )
     ]
+    head += [VerticalText("every (min)")]
     head += [VerticalText(_item_heading(i)) for i in ids]
     head += [VerticalText("initials")]
     rows: list[list[Any]] = [head]
     for r in sheet.rows:
         cells: list[Any] = [
-            rich_para(
-                "<b>{due}</b>  <font size=6>every {every} min</font>",
-                st["due"],
-                due=due_text(r, sheet),
-                every=r.interval_min,
-            )
+            rich_para("<b>{due}</b>", st["due"], due=due_text(r, sheet)),
+            para(r.interval_min, st["tiny"]),
         ]
         cells += ["" for _ in ids]
         cells.append("")
         rows.append(cells)
     if not sheet.rows:
-        rows.append([para("none", st["cell"])] + ["" for _ in ids] + [""])
+        rows.append([para("none", st["cell"]), ""] + ["" for _ in ids] + [""])
     t = Table(
         rows,
-        colWidths=[due_w] + [item_w] * len(ids) + [initials_w],
+        colWidths=[due_w, every_w] + [item_w] * len(ids) + [initials_w],
         repeatRows=1,
         rowHeights=[None] + [ROW_HEIGHT_PT] * (len(rows) - 1),
     )
     style = [
         ("GRID", (0, 0), (-1, -1), 0.6, colors.black),
-        ("LINEAFTER", (0, 0), (0, -1), 1.4, colors.black),
+        ("LINEAFTER", (1, 0), (1, -1), 1.4, colors.black),
+        ("ALIGN", (1, 1), (1, -1), "CENTER"),
+        ("LEFTPADDING", (1, 0), (1, -1), 2),
+        ("RIGHTPADDING", (1, 0), (1, -1), 2),
         ("LINEBEFORE", (-1, 0), (-1, -1), 1.4, colors.black),
         ("LINEBELOW", (0, 0), (-1, 0), 1.4, colors.black),
         ("VALIGN", (0, 0), (-1, 0), "BOTTOM"),
@@ -368,41 +384,24 @@ def _grid(sheet: ChecklistSheet, width: float) -> Table:
         ("BOTTOMPADDING", (0, 1), (-1, -1), 1),
     ]
     for n, r in enumerate(sheet.rows, start=1):
-        for k, i in enumerate(ids, start=1):
+        for k, i in enumerate(ids, start=2):
             if i not in r.items:  # not due at this check: shaded and crossed
                 style.append(("BACKGROUND", (k, n), (k, n), colors.Color(0.78, 0.78, 0.78)))
     t.setStyle(TableStyle(style))
     return t
 
 
-def _item_key(sheet: ChecklistSheet, width: float) -> Table:
-    """What each column means, in three columns of (heading, wording)."""
+def _item_key(sheet: ChecklistSheet, width: float) -> Any:
+    """What each column means: one flowing paragraph of bold heading and wording, so the
+    key takes a few lines and a 12-check shift stays on one sheet (A4 and Letter)."""
+    from reportlab.platypus import Paragraph
+
     st = styles()
     entries = [(_item_heading(i), text) for i, text in sheet.items]
+    entries.append(("every (min)", "minutes to the next check at that point of the schedule"))
     entries.append(("shaded box", "not due at that check"))
-    columns = 3
-    per_column = -(-len(entries) // columns)
-    rows = []
-    for k in range(per_column):
-        row: list[Any] = []
-        for j in range(k, k + columns * per_column, per_column):
-            if j < len(entries):
-                row += [para(entries[j][0], st["cell-bold"]), para(entries[j][1], st["tiny"])]
-            else:
-                row += ["", ""]
-        rows.append(row)
-    t = Table(rows, colWidths=[0.13 * width, 0.2033 * width] * columns)
-    t.setStyle(
-        TableStyle(
-            [
-                ("VALIGN", (0, 0), (-1, -1), "TOP"),
-                ("TOPPADDING", (0, 0), (-1, -1), 0.5),
-                ("BOTTOMPADDING", (0, 0), (-1, -1), 0.5),
-                ("LEFTPADDING", (0, 0), (-1, -1), 2),
-            ]
-        )
-    )
-    return t
+    parts = [rich("<b>{h}</b>: {t}", h=h, t=t) for h, t in entries]
+    return Paragraph("<b>Key.</b> " + " &#183; ".join(parts), st["tiny"])
 
 
 def escalation_box(escalation: Sequence[tuple[str, str, int]], width: float) -> Table:
@@ -457,25 +456,27 @@ def _signatures(width: float) -> Table:
 def sheet_story(sheet: ChecklistSheet, width: float) -> list[Any]:
     """The flowables of one patient's sheet."""
     st = styles()
+    title = ParagraphStyle("sheet-title", parent=st["title"], fontSize=13, leading=15.5)
+    title.spaceAfter = 2
     story: list[Any] = [
         PageLabel(f"bed {sheet.bed}, {sheet.ref}"),
         rich_para(
-            "Limb-perfusion checklist: bed {bed}, {ref}", st["title"], bed=sheet.bed, ref=sheet.ref
+            "Limb-perfusion checklist: bed {bed}, {ref}", title, bed=sheet.bed, ref=sheet.ref
         ),
         _header_table(sheet, width),
-        Spacer(1, 4),
+        Spacer(1, 3),
         escalation_box(sheet.escalation, width),
         Spacer(1, 2),
         _baseline_table(sheet, width),
-        Spacer(1, 4),
+        Spacer(1, 3),
         _grid(sheet, width),
     ]
     for note in sheet.notes:
         story.append(para(note, st["alarm"]))
     story += [
-        Spacer(1, 3),
+        Spacer(1, 2),
         _item_key(sheet, width),
-        Spacer(1, 4),
+        Spacer(1, 3),
         _signatures(width),
     ]
     return story
