@@ -207,3 +207,15 @@ def test_support_without_measured_outer_diameter_is_flagged(tmp_path):
     # With the measured outer diameter (the example as written) there is no mark.
     measured = pdf_text(_report(CASE_12)[3])
     assert "Device outer diameter 5.70 mm" in measured  # outer_mm: 5.7 in the example file
+
+
+@pytest.mark.parametrize("ref", ["<b>&x</i>", "DEMO-9 & <i>co", "a</para>b"])
+def test_markup_in_a_ref_prints_literally(tmp_path, ref):
+    doc = yaml.safe_load(CASE_12.read_text())  # a support case: every section is drawn
+    doc["patient"]["ref"] = ref
+    path = tmp_path / "case.yaml"
+    path.write_text(yaml.safe_dump(doc))
+    pages = pdf_pages(_report(path)[3])
+    assert f"Case conference: {ref}" in pages[0]
+    for page in pages:  # the head line of every page names the case as written
+        assert f"Case conference - {ref}" in page

@@ -15,7 +15,7 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
-from datetime import date, datetime
+from datetime import UTC, date, datetime
 from typing import Any
 
 from reportlab.lib import colors
@@ -73,6 +73,12 @@ class ChecklistSheet:
     rows: tuple[CheckRow, ...]
     escalation: tuple[tuple[str, str, int], ...]  # (finding, call, within_min)
     notes: tuple[str, ...] = field(default_factory=tuple)
+
+
+def _utc(at: datetime) -> datetime:
+    """``at`` in UTC: aware datetimes sharing a tzinfo compare by wall clock, which is
+    wrong inside the hour repeated when the clocks go back."""
+    return at.astimezone(UTC)
 
 
 def _when(at: datetime) -> str:
@@ -150,7 +156,7 @@ def checklist_sheets(
         rows = tuple(
             CheckRow(c.due.astimezone(unit.unit.tz), c.phase, c.interval_min, tuple(c.items))
             for c in checks
-            if start <= c.due < end
+            if _utc(start) <= _utc(c.due) < _utc(end)  # real time, not wall clock
         )
         used = {i for r in rows for i in r.items}
         nirs = bool(p.baseline.nirs)
@@ -398,7 +404,7 @@ def _item_key(sheet: ChecklistSheet, width: float) -> Any:
 
     st = styles()
     entries = [(_item_heading(i), text) for i, text in sheet.items]
-    entries.append(("every (min)", "minutes to the next check at that point of the schedule"))
+    entries.append(("every (min)", "minutes of real time since the previous check"))
     entries.append(("shaded box", "not due at that check"))
     parts = [rich("<b>{h}</b>: {t}", h=h, t=t) for h, t in entries]
     return Paragraph("<b>Key.</b> " + " &#183; ".join(parts), st["tiny"])
