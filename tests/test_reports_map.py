@@ -161,3 +161,28 @@ def test_labels_moved_clear_of_each_other():
     assert not (a[0] < b[2] and b[0] < a[2] and a[1] < b[3] and b[1] < a[3])
     assert placed[0] == (100, 101, "occl. 18 cm", "start", f)  # the lesion label stays
     assert placed[2] == (300, 100, "POP 4.6", "start", f)  # nothing in its way: unmoved
+
+
+def test_puncture_next_to_the_target_moves_clear():
+    # A 1 cm route ending at its target (as a pedal puncture for a pedal target): the
+    # numbered puncture circle (radius 4.6 pt) would sit on the bullseye (radius 6 pt).
+    import math
+
+    from reportlab.graphics.shapes import Circle
+
+    from vascplan.reports.arterial_map import PUNCTURE_CLEAR_PT
+
+    chosen = MapRoute(1, (("L-SFA", 0.40, 0.43),))
+    d = draw_map(MapData(_segments(), chosen=chosen, target=("L-SFA", 0.43)), 300, 500)
+    circles = [s for s in _shapes(d) if isinstance(s, Circle)]
+    bullseye = max(circles, key=lambda c: c.r if c.strokeColor != CHOSEN else 0)
+    puncture = [c for c in circles if c.strokeColor == CHOSEN and c.r > 4]
+    assert len(puncture) == 1
+    gap = math.hypot(puncture[0].cx - bullseye.cx, puncture[0].cy - bullseye.cy)
+    assert gap >= PUNCTURE_CLEAR_PT > bullseye.r + puncture[0].r
+    # A leader line joins the moved circle to the puncture point on the vessel.
+    assert any(isinstance(s, Line) and s.strokeColor == CHOSEN for s in _shapes(d))
+    # A long route keeps its circle on the vessel, with no leader.
+    far = MapRoute(1, (("L-CFA", 0.5, 1.0), ("L-SFA", 0.0, 0.43)))
+    d2 = draw_map(MapData(_segments(), chosen=far, target=("L-SFA", 0.43)), 300, 500)
+    assert not any(isinstance(s, Line) and s.strokeColor == CHOSEN for s in _shapes(d2))
