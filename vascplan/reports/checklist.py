@@ -440,6 +440,7 @@ def escalation_box(escalation: Sequence[tuple[str, str, int]], width: float) -> 
                 ("VALIGN", (0, 0), (-1, 0), "BOTTOM"),
                 ("TOPPADDING", (0, 0), (-1, -1), 0.8),
                 ("BOTTOMPADDING", (0, 0), (-1, -1), 0.8),
+                ("BOTTOMPADDING", (0, -1), (-1, -1), 2.2),  # clear of the heavy frame
             ]
         )
     )
