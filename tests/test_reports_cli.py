@@ -134,6 +134,14 @@ def test_checklist_one_bed_default_name_is_safe(tmp_path, monkeypatch):
             ["--shift", "day", "--date", "2026-10-21", "--bed", "9"],
             "error: --bed: no patient in bed 9; occupied beds: 7, 8",
         ),
+        (
+            ["--shift", "day", "--date", "2026-10-21", "--bed", "7", "--bed", "9"],
+            "error: --bed: no patient in bed 9; occupied beds: 7, 8",
+        ),
+        (
+            ["--shift", "day", "--date", "2026-10-21", "--bed", "seven"],
+            "error: --bed: 'seven' is not a bed number; give a whole number such as 3",
+        ),
     ],
 )
 def test_checklist_errors_are_one_line_and_leave_no_file(tmp_path, args, line):
@@ -194,3 +202,18 @@ def test_demo_pdfs(tmp_path):
         for page in pdf_pages(path.read_bytes()):
             assert CAUTION in page
     assert written[-2].name == "checklist-day-2026-12-02.pdf"
+
+
+def test_checklist_bed_repeated_prints_each_once(tmp_path):
+    out = tmp_path / "c.pdf"
+    args = ["checklist", str(UNIT), "--shift", "day", "--date", "2026-10-21"]
+    res = _run(
+        [*args, "--bed", "8", "--bed", "7", "--bed", "8", "-o", str(out), "--paper", "letter"]
+    )
+    assert res.exit_code == 0, res.output
+    assert res.output == f"wrote {out} (2 patients)\n"
+    pages = pdf_pages(out.read_bytes())
+    firsts = [p for p in pages if "Limb-perfusion checklist: bed" in p]
+    assert len(firsts) == 2
+    assert "Limb-perfusion checklist: bed 8," in firsts[0]  # in the order asked
+    assert "Limb-perfusion checklist: bed 7," in firsts[1]

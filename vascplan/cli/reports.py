@@ -60,7 +60,6 @@ def report(case_file: str, output: str | None, paper: str, top: int | None) -> N
 @click.option(
     "--bed",
     "beds",
-    type=int,
     multiple=True,
     metavar="N",
     help="Only this bed (repeat for several); default every patient.",
@@ -72,7 +71,7 @@ def report(case_file: str, output: str | None, paper: str, top: int | None) -> N
 )
 @click.option("--paper", type=PAPER, default="a4", show_default=True, help="ISO A4 or US Letter.")
 def checklist(
-    unit_file: str, shift: str, day_text: str, beds: tuple[int, ...], output: str | None, paper: str
+    unit_file: str, shift: str, day_text: str, beds: tuple[str, ...], output: str | None, paper: str
 ) -> None:
     """Nursing checklist PDF for a shift: one patient per page.
 
@@ -83,12 +82,16 @@ def checklist(
     from vascplan.reports.service import (
         checklist_pdf,
         default_checklist_name,
+        parse_bed,
         parse_day,
         write_output,
     )
 
     day = parse_day(day_text)
-    _, sheets, data = checklist_pdf(unit_file, shift, day, beds=beds or None, paper=paper.lower())
+    numbers = [parse_bed(b) for b in beds]
+    _, sheets, data = checklist_pdf(
+        unit_file, shift, day, beds=numbers or None, paper=paper.lower()
+    )
     name = default_checklist_name(shift, day, [s.ref for s in sheets] if beds else ())
     path = write_output(data, output, ".", name)
     click.echo(f"wrote {path} ({len(sheets)} patient{'s' if len(sheets) != 1 else ''})")

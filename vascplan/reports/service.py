@@ -69,6 +69,20 @@ def parse_day(text: str, source: str = "--date") -> date:
         raise InputError(source, "", f"{text!r} is not a calendar date") from None
 
 
+def parse_bed(text: str, source: str = "--bed") -> int:
+    """A ``--bed`` value: a bed number.
+
+    >>> parse_bed(" 3")
+    3
+    """
+    try:
+        return int(text.strip())
+    except ValueError:
+        raise InputError(
+            source, "", f"{text!r} is not a bed number; give a whole number such as 3"
+        ) from None
+
+
 def checklist_pdf(
     unit_path: str | os.PathLike[str],
     shift: str,
