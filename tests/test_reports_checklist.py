@@ -207,3 +207,16 @@ def test_twelve_checks_fit_one_sheet(paper):
     for needle in ("CALL AT ONCE IF YOU FIND", "Key.", "Initials and full name", CAUTION):
         assert needle in pages[0]
     assert "every (min)" in pages[0]
+
+
+def test_tier_change_inside_the_shift_is_printed():
+    # examples/unit-demo.yaml: bed 5 (DEMO-15) has a team event at 2026-12-02T12:00
+    # setting tier high ("cool left foot, NIRS gap widening"), inside the day shift.
+    unit, protocol = load_unit_and_protocol(DEMO_UNIT)
+    day = checklist_sheets(unit, "day", date(2026, 12, 2), protocol, beds=[5])[0]
+    assert day.risk_tier != "high"  # the rules' tier at the shift start
+    text = pdf_text(render_checklist([day], generated_at=AT))
+    assert "From 12:00 GMT: HIGH (set by the team: cool left foot, NIRS gap widening)" in text
+    # The night shift starts after the event: the tier is high from the start, no change.
+    night = checklist_sheets(unit, "night", date(2026, 12, 2), protocol, beds=[5])[0]
+    assert night.risk_tier == "high" and night.tier_changes == ()

@@ -73,6 +73,8 @@ class ChecklistSheet:
     rows: tuple[CheckRow, ...]
     escalation: tuple[tuple[str, str, int], ...]  # (finding, call, within_min)
     notes: tuple[str, ...] = field(default_factory=tuple)
+    tier_changes: tuple[tuple[datetime, str, str], ...] = field(default_factory=tuple)
+    """(from when, new tier, the team's note): tier events of the unit file in the shift."""
 
 
 def _utc(at: datetime) -> datetime:
@@ -172,6 +174,11 @@ def checklist_sheets(
             dpc = f"{p.dpc.size_fr:g} Fr, in since {_when(p.dpc.inserted.astimezone(unit.unit.tz))}"
             if p.dpc.removed is not None:
                 dpc += f", removed {_when(p.dpc.removed.astimezone(unit.unit.tz))}"
+        changes = tuple(
+            (e.at.astimezone(unit.unit.tz), str(e.tier), e.note)
+            for e in sorted(getattr(p, "events", ()) or (), key=lambda e: _utc(e.at))
+            if _utc(start) < _utc(e.at) < _utc(end)
+        )
         notes = []
         if not rows:
             notes.append("No check falls due for this patient in this shift.")
@@ -195,6 +202,7 @@ def checklist_sheets(
                 rows=rows,
                 escalation=tuple((e.finding, e.call, e.within_min) for e in protocol.escalation),
                 notes=tuple(notes),
+                tier_changes=changes,
             )
         )
     return sheets
@@ -230,6 +238,26 @@ class VerticalText(Flowable):
 
 def _item_heading(item_id: str) -> str:
     return item_id.replace("-", " ")
+
+
+def _changes_markup(sheet: ChecklistSheet) -> str:
+    """``<b>From 12:00 GMT: HIGH</b> (set by the team: note).`` for each tier change in
+    the shift, escaped, ready to join our own markup."""
+    out = []
+    for at, tier, note in sheet.tier_changes:
+        when = f"{at:%H:%M} {at.tzname()}"
+        if at.date() != sheet.shift_start.date():
+            when = f"{at:%d %b} {when}"
+        out.append(
+            rich(
+                "<b>From {when}: {tier}</b> (set by the team{sep}{note}). ",
+                when=when,
+                tier=tier.upper(),
+                sep=": " if note else "",
+                note=note,
+            )
+        )
+    return "".join(out)
 
 
 def _header_table(sheet: ChecklistSheet, width: float) -> Table:
@@ -268,7 +296,9 @@ def _header_table(sheet: ChecklistSheet, width: float) -> Table:
         [
             para("Risk tier", label),
             rich_para(
-                "<font size=10><b>{tier}</b></font>  {reasons}. <i>{note}</i>",
+                "<font size=10><b>{tier}</b></font>  {reasons}. "
+                + _changes_markup(sheet)
+                + "<i>{note}</i>",
                 st["small"],
                 tier=sheet.risk_tier.upper(),
                 reasons="; ".join(sheet.risk_reasons) or "no risk factor recorded",
