@@ -51,7 +51,7 @@ def test_summary_from_the_case_file(report_07):
         "female, 158 cm, 61 kg",
         "treatment",
         "left superficial femoral artery (L-SFA) at 12 cm",
-        "6 Fr, 45 cm long",
+        "6 Fr, 45 cm long (inner size)",  # label defaults to inner (ISO 11070 sheaths)
         "crossing profile 6 Fr, working length 150 cm",
         "L-RAD: dialysis fistula planned",
         "Legend",
@@ -207,6 +207,8 @@ def test_support_without_measured_outer_diameter_is_flagged(tmp_path):
     # With the measured outer diameter (the example as written) there is no mark.
     measured = pdf_text(_report(CASE_12)[3])
     assert "Device outer diameter 5.70 mm" in measured  # outer_mm: 5.7 in the example file
+    # The example names the device kind (kind: microaxial-pump): the summary says it.
+    assert "microaxial pump: crossing profile 14 Fr" in pdf_pages(_report(CASE_12)[3])[0]
 
 
 @pytest.mark.parametrize("ref", ["<b>&x</i>", "DEMO-9 & <i>co", "a</para>b"])

@@ -71,12 +71,16 @@ def _summary(case: Any, tree: Any, plan: Mapping[str, Any] | None, width: float)
         tgt = proc.target
         target = f"{_node_name(tree, tgt.segment)} ({tgt.segment}) at {tgt.at_cm:g} cm"
         sh = proc.sheath
-        sheath = f"{sh.size_fr:g} Fr, {sh.length_cm:g} cm long"
+        sheath = f"{sh.size_fr:g} Fr, {sh.length_cm:g} cm long ({sh.label} size)"
         sheath += f", outer {sh.outer_mm:g} mm" if sh.outer_mm else ", outer diameter not given"
         dev = proc.device
         device = (
             f"crossing profile {dev.profile_fr:g} Fr, working length {dev.working_length_cm:g} cm"
         )
+        if getattr(dev, "kind", None):
+            from vascplan.reports.checklist import DEVICE_NAMES
+
+            device = f"{DEVICE_NAMES.get(dev.kind, dev.kind)}: {device}"
         rows += [
             [
                 para("Procedure", label),
