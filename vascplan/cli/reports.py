@@ -18,6 +18,7 @@ PAPER = click.Choice(["a4", "letter"], case_sensitive=False)
 @click.option(
     "-o",
     "--output",
+    metavar="FILE.pdf",
     help="PDF to write (atomically); default <ref>-case-report.pdf here.",
 )
 @click.option("--paper", type=PAPER, default="a4", show_default=True, help="ISO A4 or US Letter.")
@@ -67,6 +68,7 @@ def report(case_file: str, output: str | None, paper: str, top: int | None) -> N
 @click.option(
     "-o",
     "--output",
+    metavar="FILE.pdf",
     help="PDF to write (atomically); default checklist-<shift>-<date>.pdf here.",
 )
 @click.option("--paper", type=PAPER, default="a4", show_default=True, help="ISO A4 or US Letter.")
