@@ -220,3 +220,19 @@ def test_tier_change_inside_the_shift_is_printed():
     # The night shift starts after the event: the tier is high from the start, no change.
     night = checklist_sheets(unit, "night", date(2026, 12, 2), protocol, beds=[5])[0]
     assert night.risk_tier == "high" and night.tier_changes == ()
+
+
+def test_tier_change_note_with_braces_and_markup_prints_literally(tmp_path):
+    import yaml
+
+    doc = yaml.safe_load(DEMO_UNIT.read_text())
+    note = "{tier} {0} <b>&x</i> }{"
+    for p in doc["patients"]:
+        if p["bed"] == 5:
+            p["events"][0]["note"] = note
+    path = tmp_path / "unit.yaml"
+    path.write_text(yaml.safe_dump(doc))
+    unit, protocol = load_unit_and_protocol(path)
+    sheets = checklist_sheets(unit, "day", date(2026, 12, 2), protocol, beds=[5])
+    text = pdf_text(render_checklist(sheets, generated_at=AT))
+    assert f"From 12:00 GMT: HIGH (set by the team: {note})" in text

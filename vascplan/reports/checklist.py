@@ -20,7 +20,7 @@ from typing import Any
 
 from reportlab.lib import colors
 from reportlab.lib.styles import ParagraphStyle
-from reportlab.platypus import Flowable, PageBreak, Spacer, Table, TableStyle
+from reportlab.platypus import Flowable, PageBreak, Paragraph, Spacer, Table, TableStyle
 
 from vascplan.reports.page import PageLabel, PageSetup, build_pdf, fonts, frame_box, styles
 from vascplan.reports.text import clean, para, rich, rich_para
@@ -295,14 +295,15 @@ def _header_table(sheet: ChecklistSheet, width: float) -> Table:
         ],
         [
             para("Risk tier", label),
-            rich_para(
-                "<font size=10><b>{tier}</b></font>  {reasons}. "
+            Paragraph(  # each piece escaped on its own: user text never meets .format
+                rich(
+                    "<font size=10><b>{tier}</b></font>  {reasons}. ",
+                    tier=sheet.risk_tier.upper(),
+                    reasons="; ".join(sheet.risk_reasons) or "no risk factor recorded",
+                )
                 + _changes_markup(sheet)
-                + "<i>{note}</i>",
+                + rich("<i>{note}</i>", note=NOT_VALIDATED),
                 st["small"],
-                tier=sheet.risk_tier.upper(),
-                reasons="; ".join(sheet.risk_reasons) or "no risk factor recorded",
-                note=NOT_VALIDATED,
             ),
             "",
             "",
@@ -430,8 +431,6 @@ def _grid(sheet: ChecklistSheet, width: float) -> Table:
 def _item_key(sheet: ChecklistSheet, width: float) -> Any:
     """What each column means: one flowing paragraph of bold heading and wording, so the
     key takes a few lines and a 12-check shift stays on one sheet (A4 and Letter)."""
-    from reportlab.platypus import Paragraph
-
     st = styles()
     entries = [(_item_heading(i), text) for i, text in sheet.items]
     entries.append(("every (min)", "minutes of real time since the previous check"))
