@@ -230,7 +230,11 @@ def draw_map(data: MapData, width_pt: float, height_pt: float) -> Drawing:
         target_pt = cv.lines[data.target[0]].point_at(data.target[1])
         label_side = 1.0 if cv.places[data.target[0]].label_dx < 0 else -1.0
         target_label = (target_pt[0] + label_side * 20.0, target_pt[1])
+    marks = [target_pt] if target_pt is not None else []
     if data.runner_up is not None:
+        # The runner-up gives way: its circle keeps clear of the chosen route's too (two
+        # routes from one puncture site, antegrade and retrograde).
+        chosen_pts = route_points(cv, data.chosen, 1.0) if data.chosen is not None else []
         _route(
             d,
             cv,
@@ -240,7 +244,7 @@ def draw_map(data: MapData, width_pt: float, height_pt: float) -> Drawing:
             width=1.3,
             dash=(4, 2.2),
             font=f.bold,
-            avoid=target_pt,
+            avoid=marks + chosen_pts[:1],
             avoid_label=target_label,
         )
     if data.chosen is not None:
@@ -253,7 +257,7 @@ def draw_map(data: MapData, width_pt: float, height_pt: float) -> Drawing:
             width=2.0,
             dash=None,
             font=f.bold,
-            avoid=target_pt,
+            avoid=marks,
             avoid_label=target_label,
         )
     if data.target is not None and data.target[0] in cv.lines:
@@ -467,23 +471,26 @@ PUNCTURE_CLEAR_PT = 13.0
 4.6 and 6.0 pt, plus a gap)."""
 
 
-def _clear_spot(p: Point, target: Point, label: Point | None) -> Point:
-    """Where to put a puncture circle that starts at ``p``, too near ``target``: one of
-    eight directions, ``PUNCTURE_CLEAR_PT`` beyond the bullseye's reach, farthest from
-    the target's label (downwards first when there is a tie)."""
+def _clear_spot(p: Point, marks: list[Point], label: Point | None) -> Point:
+    """Where to put a puncture circle that starts at ``p`` but would cover one of
+    ``marks`` (the target's bullseye, another route's puncture circle): one of eight
+    directions round ``p`` or a mark, clear of every mark, farthest from the target's
+    label (downwards first when there is a tie)."""
     best: tuple[float, Point] | None = None
+    reach = PUNCTURE_CLEAR_PT * 1.1
     for k in range(8):
         a = -math.pi / 2 + k * math.pi / 4  # start straight down, then round
-        q = (
-            target[0] + math.cos(a) * PUNCTURE_CLEAR_PT * 1.1,
-            target[1] + math.sin(a) * PUNCTURE_CLEAR_PT * 1.1,
-        )
-        room = math.hypot(q[0] - label[0], q[1] - label[1]) if label else 0.0
-        reach = math.hypot(q[0] - p[0], q[1] - p[1])
-        score = min(room, 30.0) - 0.2 * reach
-        if best is None or score > best[0] + 1e-9:
-            best = (score, q)
-    assert best is not None
+        for base in (p, *marks):
+            q = (base[0] + math.cos(a) * reach, base[1] + math.sin(a) * reach)
+            clear = min(math.hypot(q[0] - m[0], q[1] - m[1]) for m in marks)
+            if clear < PUNCTURE_CLEAR_PT - 1e-9:
+                continue
+            room = math.hypot(q[0] - label[0], q[1] - label[1]) if label else 0.0
+            score = min(room, 30.0) - 0.2 * math.hypot(q[0] - p[0], q[1] - p[1])
+            if best is None or score > best[0] + 1e-9:
+                best = (score, q)
+    if best is None:  # pragma: no cover - eight directions always leave one clear
+        return p
     return best[1]
 
 
@@ -497,18 +504,21 @@ def _route(
     width: float,
     dash: tuple[float, float] | None,
     font: str,
-    avoid: Point | None = None,
+    avoid: list[Point] | None = None,
     avoid_label: Point | None = None,
-) -> None:
+) -> Point | None:
     """Draw one route: haloed line, arrowhead at the target end, numbered puncture circle.
 
-    ``avoid``: the target's point; a puncture circle closer than ``PUNCTURE_CLEAR_PT``
-    is moved out on a leader line so the two marks never cover each other, and away from
-    ``avoid_label`` (the centre of the target's label).
+    ``avoid``: marks already placed (the target's point, the other route's puncture
+    circle); a puncture circle closer than ``PUNCTURE_CLEAR_PT`` to one of them is moved
+    out on a leader line so that no two marks cover each other, and away from
+    ``avoid_label`` (the centre of the target's label). Every puncture circle is kept
+    clear of the labels placed after it. Returns where the circle was drawn (None when
+    the route has no drawable stretch).
     """
     pts = route_points(cv, route, side)
     if len(pts) < 2:
-        return
+        return None
     d.add(
         PolyLine(
             _flat(pts),
@@ -555,13 +565,14 @@ def _route(
     # Puncture: a numbered circle at the start; moved out on a leader line when it would
     # sit on the target's bullseye (a short route, such as a pedal puncture near its target).
     x, y = pts[0]
-    if avoid is not None and math.hypot(x - avoid[0], y - avoid[1]) < PUNCTURE_CLEAR_PT:
-        cx, cy = _clear_spot((x, y), avoid, avoid_label)
+    marks = list(avoid or ())
+    if any(math.hypot(x - m[0], y - m[1]) < PUNCTURE_CLEAR_PT for m in marks):
+        cx, cy = _clear_spot((x, y), marks, avoid_label)
         d.add(Line(x, y, cx, cy, strokeColor=colour, strokeWidth=0.8))
         d.add(Circle(x, y, 1.4, fillColor=colour, strokeColor=colour, strokeWidth=0.4))
         x, y = cx, cy
-        cv.obstacles.append((x - 5.5, y - 5.5, x + 5.5, y + 5.5))  # labels keep clear
     d.add(Circle(x, y, 4.6, fillColor=white, strokeColor=colour, strokeWidth=1.3))
+    cv.obstacles.append((x - 5.5, y - 5.5, x + 5.5, y + 5.5))  # labels keep clear of it
     d.add(
         String(
             x,
@@ -573,6 +584,7 @@ def _route(
             fillColor=INK,
         )
     )
+    return (x, y)
 
 
 def _target(d: Drawing, p: Point, font: str, side: float = 1.0, labels: list | None = None) -> None:
