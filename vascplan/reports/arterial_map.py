@@ -619,7 +619,11 @@ LEGEND_ROWS: tuple[tuple[str, str], ...] = (
     ("graft", "Graft: hollow double line between its ends."),
     ("chosen", "Chosen route (rank 1): heavy solid line, arrow at the target."),
     ("runner-up", "Runner-up (rank 2): dashed line on the other side of the vessel."),
-    ("puncture", "Puncture site: circle with the route's rank."),
+    (
+        "puncture",
+        "Puncture site: circle with the route's rank; on a thin leader to a dot when "
+        "it would cover another mark.",
+    ),
     ("target", "Target of the procedure."),
     ("avoid", "Segment the case says to avoid."),
 )
