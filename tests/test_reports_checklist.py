@@ -236,3 +236,14 @@ def test_tier_change_note_with_braces_and_markup_prints_literally(tmp_path):
     sheets = checklist_sheets(unit, "day", date(2026, 12, 2), protocol, beds=[5])
     text = pdf_text(render_checklist(sheets, generated_at=AT))
     assert f"From 12:00 GMT: HIGH (set by the team: {note})" in text
+
+
+def test_arm_device_sheet_says_to_check_the_arm():
+    # tests/reports_unit_ny.yaml: bed 11 has a microaxial pump in the right axillary
+    # artery, bed 10 a femoral cannula. The protocol's items name the legs (pedal pulses,
+    # calf), so an arm device's sheet must send the nurse to that arm and hand as well.
+    unit, protocol = load_unit_and_protocol(NY_UNIT)
+    sheets = checklist_sheets(unit, "night", date(2026, 10, 31), protocol, beds=[11, 10])
+    arm, leg = (pdf_text(render_checklist([s], generated_at=AT)) for s in sheets)
+    assert "Arm device (right AXA): check the right arm and hand too (radial pulse" in arm
+    assert "Arm device" not in leg

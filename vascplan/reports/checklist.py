@@ -34,6 +34,9 @@ DEVICE_NAMES = {
 
 SIDE_NAMES = {"L": "left", "R": "right"}
 
+ARM_VESSELS = ("AXA", "SCA")
+"""Access vessels of the arm (the unit file's ``ACCESS_VESSELS`` that are not the leg's)."""
+
 NOT_VALIDATED = (
     "The tier combines published risk factors; no validated score of limb-ischaemia risk on "
     "mechanical support exists."
@@ -75,6 +78,8 @@ class ChecklistSheet:
     notes: tuple[str, ...] = field(default_factory=tuple)
     tier_changes: tuple[tuple[datetime, str, str], ...] = field(default_factory=tuple)
     """(from when, new tier, the team's note): tier events of the unit file in the shift."""
+    arm_note: str = ""
+    """Said when the device sits in an arm artery: the protocol's items name the legs."""
 
 
 def _utc(at: datetime) -> datetime:
@@ -179,6 +184,14 @@ def checklist_sheets(
             for e in sorted(getattr(p, "events", ()) or (), key=lambda e: _utc(e.at))
             if _utc(start) < _utc(e.at) < _utc(end)
         )
+        arm_note = ""
+        if p.device.vessel in ARM_VESSELS:
+            side = SIDE_NAMES.get(p.device.side, p.device.side)
+            arm_note = (
+                f"Arm device ({side} {p.device.vessel}): check the {side} arm and hand too "
+                "(radial pulse, colour, warmth, sensation, movement; compare arms; "
+                "common practice)."
+            )
         notes = []
         if not rows:
             notes.append("No check falls due for this patient in this shift.")
@@ -203,6 +216,7 @@ def checklist_sheets(
                 escalation=tuple((e.finding, e.call, e.within_min) for e in protocol.escalation),
                 notes=tuple(notes),
                 tier_changes=changes,
+                arm_note=arm_note,
             )
         )
     return sheets
@@ -436,7 +450,8 @@ def _item_key(sheet: ChecklistSheet, width: float) -> Any:
     entries.append(("every (min)", "minutes of real time since the previous check"))
     entries.append(("shaded box", "not due at that check"))
     parts = [rich("<b>{h}</b>: {t}", h=h, t=t) for h, t in entries]
-    return Paragraph("<b>Key.</b> " + " &#183; ".join(parts), st["tiny"])
+    arm = rich(" <b>{n}</b>", n=sheet.arm_note) if sheet.arm_note else ""
+    return Paragraph("<b>Key.</b> " + " &#183; ".join(parts) + arm, st["tiny"])
 
 
 def escalation_box(escalation: Sequence[tuple[str, str, int]], width: float) -> Table:
@@ -480,7 +495,7 @@ def _signatures(width: float) -> Table:
     """One row of boxes: initials and full name of each nurse who signs the sheet."""
     st = styles()
     label = para("Initials and full name of each nurse who signs this sheet", st["small"])
-    t = Table([[label, "", "", ""]], colWidths=[0.22 * width] + [0.26 * width] * 3, rowHeights=[22])
+    t = Table([[label, "", "", ""]], colWidths=[0.31 * width] + [0.23 * width] * 3, rowHeights=[20])
     t.setStyle(
         TableStyle(
             [("GRID", (1, 0), (-1, 0), 0.5, colors.black), ("VALIGN", (0, 0), (-1, -1), "MIDDLE")]
