@@ -247,3 +247,20 @@ def test_arm_device_sheet_says_to_check_the_arm():
     arm, leg = (pdf_text(render_checklist([s], generated_at=AT)) for s in sheets)
     assert "Arm device (right AXA): check the right arm and hand too (radial pulse" in arm
     assert "Arm device" not in leg
+
+
+def test_shift_starting_in_the_skipped_hour_prints_a_real_time(tmp_path):
+    # Europe/London jumps from 01:00 GMT to 02:00 BST on 29 March 2026 (IANA tz
+    # database): no clock reads 01:30 that night. A shift set to start at 01:30 starts
+    # at the instant 01:30 UTC, which the wall clock shows as 02:30 BST.
+    import yaml
+
+    doc = yaml.safe_load(UNIT.read_text())
+    doc["shifts"].append({"name": "small", "start": "01:30"})
+    path = tmp_path / "unit.yaml"
+    path.write_text(yaml.safe_dump(doc))
+    unit, protocol = load_unit_and_protocol(path)
+    sheet = checklist_sheets(unit, "small", date(2026, 3, 29), protocol, beds=[7])[0]
+    text = pdf_text(render_checklist([sheet], generated_at=AT))
+    assert "01:30 GMT" not in text
+    assert "small: 2026-03-29 02:30 BST to 2026-03-29 07:30 BST" in text

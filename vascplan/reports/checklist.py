@@ -151,6 +151,9 @@ def checklist_sheets(
 
     shift = unit.shift_named(shift_name)
     start, end = shift_window(unit, shift, datetime.combine(day, shift.start))
+    # Through UTC and back: a start in the hour the clocks skip (01:30 on a spring-forward
+    # night in London) then prints as the wall time that exists at that instant (02:30 BST).
+    start, end = (_utc(t).astimezone(unit.unit.tz) for t in (start, end))
     patients = (
         [unit.patient_at_bed(b) for b in dict.fromkeys(beds)]  # a bed asked twice: one sheet
         if beds is not None
