@@ -12,7 +12,7 @@ from tests.reports_helpers import HOSTILE, page_sizes, pdf_pages, pdf_text, rend
 from vascplan.anatomy.graph import build_tree
 from vascplan.case.load import load_case
 from vascplan.paths import examples_dir
-from vascplan.reports.case_report import render_case_report
+from vascplan.reports.case_report import DEFAULT_TOP, render_case_report
 from vascplan.routes.plan import plan_case
 from vascplan.safety import CAUTION
 
@@ -21,16 +21,25 @@ CASE_07 = examples_dir() / "case-DEMO-07-sfa-occlusion.yaml"
 CASE_12 = examples_dir() / "case-DEMO-12-support-small-iliac.yaml"
 
 
-def _report(path, paper="a4"):
+def _report(path, paper="a4", top=None):
     case = load_case(path)
     tree = build_tree(case)
     plan = plan_case(case).to_dict()
-    return case, tree, plan, render_case_report(case, tree, plan, paper=paper, generated_at=AT)
+    data = render_case_report(case, tree, plan, paper=paper, generated_at=AT, top=top)
+    return case, tree, plan, data
 
 
 @pytest.fixture(scope="module")
 def report_07():
-    return _report(CASE_07)
+    return _report(CASE_07)  # every route in full
+
+
+CASE_21 = examples_dir() / "case-DEMO-21-graft-and-pedal.yaml"
+
+
+@pytest.fixture(scope="module")
+def report_21_top():
+    return _report(CASE_21, top=DEFAULT_TOP)
 
 
 def test_summary_from_the_case_file(report_07):
@@ -42,7 +51,7 @@ def test_summary_from_the_case_file(report_07):
         "female, 158 cm, 61 kg",
         "treatment",
         "left superficial femoral artery (L-SFA) at 12 cm",
-        "6 Fr, 45 cm long",
+        "6 Fr, 45 cm long (inner size)",  # label defaults to inner (ISO 11070 sheaths)
         "crossing profile 6 Fr, working length 150 cm",
         "L-RAD: dialysis fistula planned",
         "Legend",
@@ -150,3 +159,65 @@ def test_case_without_procedure(tmp_path):
     assert "No procedure in the case file: no routes were planned." in text
     assert "none given in the case file" in text
     assert "Legend" in text
+
+
+def test_top_routes_in_full_the_rest_in_brief(report_21_top):
+    _, _, plan, data = report_21_top
+    text = pdf_text(data)
+    routes = plan["routes"]
+    assert len(routes) > DEFAULT_TOP  # DEMO-21 has many routes, most of them ruled out
+    # Every route is still listed once with its verdict word.
+    assert len(re.findall(r"\busable\b", text)) == sum(r["feasible"] for r in routes)
+    assert len(re.findall(r"\bblocked\b", text)) == sum(not r["feasible"] for r in routes)
+    assert f"{len(routes)} routes in all: ranks 1-{DEFAULT_TOP} in full" in text
+    assert f"The other {len(routes) - DEFAULT_TOP} routes, in brief" in text
+    for r in routes[:DEFAULT_TOP]:  # in full: every limit with its detail
+        for b in r["blocked_by"]:
+            assert f"BLOCKED {b['code']} at {b['segment']}: " in text
+    brief = text.split("routes, in brief")[1]
+    assert "BLOCKED" not in brief  # in brief: each limit's code and where, no detail
+    for r in routes[DEFAULT_TOP:]:
+        codes = {b["code"] for b in r["blocked_by"]}
+        for code in codes:
+            segs = ", ".join(b["segment"] for b in r["blocked_by"] if b["code"] == code)
+            assert f"{code} at {segs}" in text
+
+
+def test_top_shortens_the_report(report_21_top):
+    full = _report(CASE_21)[3]
+    assert len(pdf_pages(report_21_top[3])) < len(pdf_pages(full))
+
+
+def test_support_without_measured_outer_diameter_is_flagged(tmp_path):
+    # DEMO-12 with its sheath's measured outer diameter removed: the planner falls back to
+    # a reference outer diameter, which the report must mark wherever it is printed
+    # (HELPER_RULES: a reference value used instead of a measurement is flagged).
+    doc = yaml.safe_load(CASE_12.read_text())
+    del doc["procedure"]["sheath"]["outer_mm"]
+    doc["patient"]["ref"] = "DEMO-31"
+    path = tmp_path / "case.yaml"
+    path.write_text(yaml.safe_dump(doc))
+    _, _, plan, data = _report(path)
+    text = pdf_text(data)
+    od = plan["support"]["device_od_mm"]
+    assert f"Device outer diameter {od:.2f}* (reference value: the case file gives no outer" in text
+    first = next(r for r in plan["routes"] if r["feasible"])
+    assert "sheath_od_mm" in first["assumed"]
+    assert f"{first['sheath_od_mm']:.2f}* / " in text
+    # With the measured outer diameter (the example as written) there is no mark.
+    measured = pdf_text(_report(CASE_12)[3])
+    assert "Device outer diameter 5.70 mm" in measured  # outer_mm: 5.7 in the example file
+    # The example names the device kind (kind: microaxial-pump): the summary says it.
+    assert "microaxial pump: crossing profile 14 Fr" in pdf_pages(_report(CASE_12)[3])[0]
+
+
+@pytest.mark.parametrize("ref", ["<b>&x</i>", "DEMO-9 & <i>co", "a</para>b"])
+def test_markup_in_a_ref_prints_literally(tmp_path, ref):
+    doc = yaml.safe_load(CASE_12.read_text())  # a support case: every section is drawn
+    doc["patient"]["ref"] = ref
+    path = tmp_path / "case.yaml"
+    path.write_text(yaml.safe_dump(doc))
+    pages = pdf_pages(_report(path)[3])
+    assert f"Case conference: {ref}" in pages[0]
+    for page in pages:  # the head line of every page names the case as written
+        assert f"Case conference - {ref}" in page

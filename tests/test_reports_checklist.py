@@ -46,8 +46,8 @@ def test_hourly_checks_of_a_day_shift(unit_and_protocol):
 
 def test_clock_change_inside_a_night_shift(unit_and_protocol):
     # Europe/London goes back from 02:00 BST to 01:00 GMT on 25 October 2026 (IANA tz
-    # database): 01:10 and 01:40 happen twice; the second pair is marked GMT, and the
-    # rows stay 30 real minutes apart.
+    # database): 01:10 and 01:40 happen twice; both pairs name their zone (BST first,
+    # then GMT) so no written time is ambiguous, and the rows stay 30 real minutes apart.
     sheets, data = _pdf(unit_and_protocol, "night", date(2026, 10, 24), beds=[7])
     rows = sheets[0].rows
     # Real elapsed time: subtract in UTC (datetimes sharing a tzinfo subtract wall clocks).
@@ -58,7 +58,10 @@ def test_clock_change_inside_a_night_shift(unit_and_protocol):
     # 19:40 BST (18:40 UTC) to 07:10 GMT (07:10 UTC) is 12.5 real hours: 26 checks.
     assert len(rows) == 26
     printed = [due_text(r, sheets[0]) for r in rows]
-    assert printed.index("25 Oct 01:40") + 1 == printed.index("25 Oct 01:10 GMT")
+    assert printed.index("25 Oct 01:40 BST") + 1 == printed.index("25 Oct 01:10 GMT")
+    assert printed.index("25 Oct 01:10 BST") + 1 == printed.index("25 Oct 01:40 BST")
+    assert printed.index("25 Oct 00:40") + 1 == printed.index("25 Oct 01:10 BST")  # before
+    assert "25 Oct 02:10 GMT" in printed  # after: offset differs from the shift start
     text = pdf_text(data)
     assert "25 Oct 01:10 GMT" in text and "25 Oct 01:40 GMT" in text
     assert "2026-10-24 19:30 BST to 2026-10-25 07:30 GMT" in text
@@ -160,3 +163,104 @@ def test_generation_time_defaults_to_the_unit_zone(unit_and_protocol):
         or f"Generated {now - timedelta(minutes=1):%Y-%m-%d}" in text
     )
     assert f"{now.tzname()} (UTC" in text
+
+
+NY_UNIT = Path(__file__).parent / "reports_unit_ny.yaml"
+
+
+def test_a_bed_asked_twice_prints_once():
+    unit, protocol = load_unit_and_protocol(NY_UNIT)
+    sheets = checklist_sheets(unit, "night", date(2026, 10, 31), protocol, beds=[11, 10, 11])
+    assert [s.bed for s in sheets] == [11, 10]  # the order asked, each bed once
+
+
+def test_repeated_hour_in_another_zone_prints_no_time_twice():
+    # America/New_York goes back from 02:00 EDT to 01:00 EST on 1 November 2026 (IANA tz
+    # database; US rule: first Sunday of November). The night shift 23:00-07:00 therefore
+    # lasts 9 real hours, and every hour from 01:00 to 01:59 happens twice: no two rows of
+    # a sheet may print the same time.
+    unit, protocol = load_unit_and_protocol(NY_UNIT)
+    sheets = checklist_sheets(unit, "night", date(2026, 10, 31), protocol)
+    s = sheets[0]
+    assert (s.shift_end - s.shift_start.astimezone(UTC)).total_seconds() == 9 * 3600
+    for sheet in sheets:
+        printed = [due_text(r, sheet) for r in sheet.rows]
+        assert len(printed) == len(set(printed)), printed
+        for r, text in zip(sheet.rows, printed, strict=True):
+            if (r.due.month, r.due.day, r.due.hour) == (11, 1, 1):  # the repeated hour
+                assert text.endswith((" EDT", " EST")), text
+    text = pdf_text(render_checklist(sheets, paper="letter", generated_at=AT))
+    assert "2026-10-31 23:00 EDT to 2026-11-01 07:00 EST" in text
+    assert "Generated 2026-10-21 07:00 UTC (UTC+00:00)" in text
+
+
+@pytest.mark.parametrize("paper", ["a4", "letter"])
+def test_twelve_checks_fit_one_sheet(paper):
+    # Demo bed 6 (microaxial pump, in for a day) is checked hourly in the night shift:
+    # twelve rows. Sheet, grid, key, escalation box and signatures must share one page
+    # on A4 and on the shorter US Letter, so that a nurse never turns a single sheet.
+    unit, protocol = load_unit_and_protocol(DEMO_UNIT)
+    sheets = checklist_sheets(unit, "night", date(2026, 12, 2), protocol, beds=[6])
+    assert len(sheets[0].rows) == 12
+    pages = pdf_pages(render_checklist(sheets, paper=paper, generated_at=AT))
+    assert len(pages) == 1
+    for needle in ("CALL AT ONCE IF YOU FIND", "Key.", "Initials and full name", CAUTION):
+        assert needle in pages[0]
+    assert "every (min)" in pages[0]
+
+
+def test_tier_change_inside_the_shift_is_printed():
+    # examples/unit-demo.yaml: bed 5 (DEMO-15) has a team event at 2026-12-02T12:00
+    # setting tier high ("cool left foot, NIRS gap widening"), inside the day shift.
+    unit, protocol = load_unit_and_protocol(DEMO_UNIT)
+    day = checklist_sheets(unit, "day", date(2026, 12, 2), protocol, beds=[5])[0]
+    assert day.risk_tier != "high"  # the rules' tier at the shift start
+    text = pdf_text(render_checklist([day], generated_at=AT))
+    assert "From 12:00 GMT: HIGH (set by the team: cool left foot, NIRS gap widening)" in text
+    # The night shift starts after the event: the tier is high from the start, no change.
+    night = checklist_sheets(unit, "night", date(2026, 12, 2), protocol, beds=[5])[0]
+    assert night.risk_tier == "high" and night.tier_changes == ()
+
+
+def test_tier_change_note_with_braces_and_markup_prints_literally(tmp_path):
+    import yaml
+
+    doc = yaml.safe_load(DEMO_UNIT.read_text())
+    note = "{tier} {0} <b>&x</i> }{"
+    for p in doc["patients"]:
+        if p["bed"] == 5:
+            p["events"][0]["note"] = note
+    path = tmp_path / "unit.yaml"
+    path.write_text(yaml.safe_dump(doc))
+    unit, protocol = load_unit_and_protocol(path)
+    sheets = checklist_sheets(unit, "day", date(2026, 12, 2), protocol, beds=[5])
+    text = pdf_text(render_checklist(sheets, generated_at=AT))
+    assert f"From 12:00 GMT: HIGH (set by the team: {note})" in text
+
+
+def test_arm_device_sheet_says_to_check_the_arm():
+    # tests/reports_unit_ny.yaml: bed 11 has a microaxial pump in the right axillary
+    # artery, bed 10 a femoral cannula. The protocol's items name the legs (pedal pulses,
+    # calf), so an arm device's sheet must send the nurse to that arm and hand as well.
+    unit, protocol = load_unit_and_protocol(NY_UNIT)
+    sheets = checklist_sheets(unit, "night", date(2026, 10, 31), protocol, beds=[11, 10])
+    arm, leg = (pdf_text(render_checklist([s], generated_at=AT)) for s in sheets)
+    assert "Arm device (right AXA): check the right arm and hand too (radial pulse" in arm
+    assert "Arm device" not in leg
+
+
+def test_shift_starting_in_the_skipped_hour_prints_a_real_time(tmp_path):
+    # Europe/London jumps from 01:00 GMT to 02:00 BST on 29 March 2026 (IANA tz
+    # database): no clock reads 01:30 that night. A shift set to start at 01:30 starts
+    # at the instant 01:30 UTC, which the wall clock shows as 02:30 BST.
+    import yaml
+
+    doc = yaml.safe_load(UNIT.read_text())
+    doc["shifts"].append({"name": "small", "start": "01:30"})
+    path = tmp_path / "unit.yaml"
+    path.write_text(yaml.safe_dump(doc))
+    unit, protocol = load_unit_and_protocol(path)
+    sheet = checklist_sheets(unit, "small", date(2026, 3, 29), protocol, beds=[7])[0]
+    text = pdf_text(render_checklist([sheet], generated_at=AT))
+    assert "01:30 GMT" not in text
+    assert "small: 2026-03-29 02:30 BST to 2026-03-29 07:30 BST" in text

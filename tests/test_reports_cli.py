@@ -56,7 +56,45 @@ def test_report_missing_case():
 def test_report_output_is_a_folder(tmp_path):
     res = _run(["report", str(CASE_07), "-o", str(tmp_path)])
     assert res.exit_code == 2
-    assert "is a directory" in res.output
+    assert res.output == f"error: {tmp_path}: is a folder; give a file name such as report.pdf\n"
+
+
+def test_report_output_folder_not_writable(tmp_path):
+    blocker = tmp_path / "a-file"
+    blocker.write_text("x")
+    out = blocker / "r.pdf"  # its "folder" is a file: cannot be written under any user
+    res = _run(["report", str(CASE_07), "-o", str(out)])
+    assert res.exit_code == 2
+    assert res.output.startswith(f"error: {out}: cannot write here (")
+    assert res.output.endswith("); choose a folder you can write to\n")
+    assert res.output.count("\n") == 1
+    assert blocker.read_text() == "x"
+
+
+def test_checklist_output_folder_not_writable(tmp_path):
+    blocker = tmp_path / "a-file"
+    blocker.write_text("x")
+    out = blocker / "c.pdf"
+    res = _run(["checklist", str(UNIT), "--shift", "day", "--date", "2026-12-02", "-o", str(out)])
+    assert res.exit_code == 2
+    assert res.output.startswith(f"error: {out}: cannot write here (")
+    assert res.output.count("\n") == 1
+
+
+@pytest.mark.parametrize("top", ["0", "-3"])
+def test_report_top_must_be_positive(tmp_path, top):
+    res = _run(["report", str(CASE_07), "-o", str(tmp_path / "r.pdf"), "--top", top])
+    assert res.exit_code == 2
+    assert res.output == (f"error: --top: {top} is not allowed; give a whole number of 1 or more\n")
+    assert not (tmp_path / "r.pdf").exists()
+
+
+def test_report_top_option(tmp_path):
+    out = tmp_path / "r.pdf"
+    res = _run(["report", str(CASE_07), "-o", str(out), "--top", "1"])
+    assert res.exit_code == 0, res.output
+    text = pdf_text(out.read_bytes())
+    assert "ranks 1-1 in full, ranks 2-" in text
 
 
 def test_checklist_writes_one_sheet_per_patient(tmp_path):
@@ -95,6 +133,14 @@ def test_checklist_one_bed_default_name_is_safe(tmp_path, monkeypatch):
         (
             ["--shift", "day", "--date", "2026-10-21", "--bed", "9"],
             "error: --bed: no patient in bed 9; occupied beds: 7, 8",
+        ),
+        (
+            ["--shift", "day", "--date", "2026-10-21", "--bed", "7", "--bed", "9"],
+            "error: --bed: no patient in bed 9; occupied beds: 7, 8",
+        ),
+        (
+            ["--shift", "day", "--date", "2026-10-21", "--bed", "seven"],
+            "error: --bed: 'seven' is not a bed number; give a whole number such as 3",
         ),
     ],
 )
@@ -156,3 +202,18 @@ def test_demo_pdfs(tmp_path):
         for page in pdf_pages(path.read_bytes()):
             assert CAUTION in page
     assert written[-2].name == "checklist-day-2026-12-02.pdf"
+
+
+def test_checklist_bed_repeated_prints_each_once(tmp_path):
+    out = tmp_path / "c.pdf"
+    args = ["checklist", str(UNIT), "--shift", "day", "--date", "2026-10-21"]
+    res = _run(
+        [*args, "--bed", "8", "--bed", "7", "--bed", "8", "-o", str(out), "--paper", "letter"]
+    )
+    assert res.exit_code == 0, res.output
+    assert res.output == f"wrote {out} (2 patients)\n"
+    pages = pdf_pages(out.read_bytes())
+    firsts = [p for p in pages if "Limb-perfusion checklist: bed" in p]
+    assert len(firsts) == 2
+    assert "Limb-perfusion checklist: bed 8," in firsts[0]  # in the order asked
+    assert "Limb-perfusion checklist: bed 7," in firsts[1]

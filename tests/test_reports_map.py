@@ -161,3 +161,80 @@ def test_labels_moved_clear_of_each_other():
     assert not (a[0] < b[2] and b[0] < a[2] and a[1] < b[3] and b[1] < a[3])
     assert placed[0] == (100, 101, "occl. 18 cm", "start", f)  # the lesion label stays
     assert placed[2] == (300, 100, "POP 4.6", "start", f)  # nothing in its way: unmoved
+
+
+def test_puncture_next_to_the_target_moves_clear():
+    # A 1 cm route ending at its target (as a pedal puncture for a pedal target): the
+    # numbered puncture circle (radius 4.6 pt) would sit on the bullseye (radius 6 pt).
+    import math
+
+    from reportlab.graphics.shapes import Circle
+
+    from vascplan.reports.arterial_map import PUNCTURE_CLEAR_PT
+
+    chosen = MapRoute(1, (("L-SFA", 0.40, 0.43),))
+    d = draw_map(MapData(_segments(), chosen=chosen, target=("L-SFA", 0.43)), 300, 500)
+    circles = [s for s in _shapes(d) if isinstance(s, Circle)]
+    bullseye = max(circles, key=lambda c: c.r if c.strokeColor != CHOSEN else 0)
+    puncture = [c for c in circles if c.strokeColor == CHOSEN and c.r > 4]
+    assert len(puncture) == 1
+    gap = math.hypot(puncture[0].cx - bullseye.cx, puncture[0].cy - bullseye.cy)
+    assert gap >= PUNCTURE_CLEAR_PT > bullseye.r + puncture[0].r
+    # A leader line joins the moved circle to the puncture point on the vessel.
+    assert any(isinstance(s, Line) and s.strokeColor == CHOSEN for s in _shapes(d))
+    # A long route keeps its circle on the vessel, with no leader.
+    far = MapRoute(1, (("L-CFA", 0.5, 1.0), ("L-SFA", 0.0, 0.43)))
+    d2 = draw_map(MapData(_segments(), chosen=far, target=("L-SFA", 0.43)), 300, 500)
+    assert not any(isinstance(s, Line) and s.strokeColor == CHOSEN for s in _shapes(d2))
+
+
+def test_two_routes_from_one_site_keep_their_circles_apart():
+    # Antegrade and retrograde from the same CFA point: the runner-up's numbered circle
+    # moves out (leader line), the chosen route's stays on the vessel.
+    import math
+
+    from reportlab.graphics.shapes import Circle
+
+    from vascplan.reports.arterial_map import PUNCTURE_CLEAR_PT
+
+    chosen = MapRoute(1, (("L-CFA", 0.5, 1.0), ("L-SFA", 0.0, 0.4)))
+    runner = MapRoute(2, (("L-CFA", 0.5, 0.0), ("L-EIA", 1.0, 0.0)))
+    d = draw_map(
+        MapData(_segments(), chosen=chosen, runner_up=runner, target=("L-SFA", 0.4)), 300, 500
+    )
+    shapes = _shapes(d)
+    one = [c for c in shapes if isinstance(c, Circle) and c.strokeColor == CHOSEN and c.r > 4]
+    two = [c for c in shapes if isinstance(c, Circle) and c.strokeColor == RUNNER_UP and c.r > 4]
+    assert len(one) == len(two) == 1
+    assert math.hypot(one[0].cx - two[0].cx, one[0].cy - two[0].cy) >= PUNCTURE_CLEAR_PT
+    assert any(isinstance(s, Line) and s.strokeColor == RUNNER_UP for s in shapes)
+    assert not any(isinstance(s, Line) and s.strokeColor == CHOSEN for s in shapes)
+
+
+def test_no_label_covers_a_puncture_circle():
+    # DEMO-12: both routes start at an axillary artery, right under the SCA labels.
+    from reportlab.graphics.shapes import Circle, Rect
+
+    from vascplan.routes.plan import plan_case
+
+    case = load_case(examples_dir() / "case-DEMO-12-support-small-iliac.yaml")
+    tree = build_tree(case)
+    d = draw_map(map_data(tree, plan_case(case).to_dict()), 330, 560)
+    shapes = _shapes(d)
+    circles = [
+        c
+        for c in shapes
+        if isinstance(c, Circle) and c.strokeColor in (CHOSEN, RUNNER_UP) and c.r > 4
+    ]
+    assert len(circles) == 2
+    halos = [r for r in shapes if isinstance(r, Rect) and r.fillColor == white]
+    assert halos
+    for c in circles:
+        for r in halos:
+            apart = (
+                r.x + r.width <= c.cx - c.r
+                or c.cx + c.r <= r.x
+                or r.y + r.height <= c.cy - c.r
+                or c.cy + c.r <= r.y
+            )
+            assert apart, (c.cx, c.cy, r.x, r.y)

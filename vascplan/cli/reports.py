@@ -11,17 +11,26 @@ PAPER = click.Choice(["a4", "letter"], case_sensitive=False)
 
 @click.command(
     epilog="Example: vascplan report examples/case-DEMO-07-sfa-occlusion.yaml -o DEMO-07.pdf"
+    " --top 5"
     f"\n\nCaution: {CAUTION}",
 )
 @click.argument("case_file", metavar="CASE", type=click.Path(dir_okay=False))
 @click.option(
     "-o",
     "--output",
-    type=click.Path(dir_okay=False),
+    metavar="FILE.pdf",
     help="PDF to write (atomically); default <ref>-case-report.pdf here.",
 )
 @click.option("--paper", type=PAPER, default="a4", show_default=True, help="ISO A4 or US Letter.")
-def report(case_file: str, output: str | None, paper: str) -> None:
+@click.option(
+    "--top",
+    type=int,
+    default=None,
+    metavar="N",
+    help="Routes (by rank) printed with their full reasons (default 10); every other "
+    "route still gets one line.",
+)
+def report(case_file: str, output: str | None, paper: str, top: int | None) -> None:
     """Case-conference PDF: summary, drawn arterial map, ranked routes, assumptions.
 
     The map draws the patient's tree with lesions, stents and grafts, the chosen route
@@ -30,7 +39,7 @@ def report(case_file: str, output: str | None, paper: str) -> None:
     """
     from vascplan.reports.service import case_report_pdf, default_report_name, write_output
 
-    case, data = case_report_pdf(case_file, paper=paper.lower())
+    case, data = case_report_pdf(case_file, paper=paper.lower(), top=top)
     path = write_output(data, output, ".", default_report_name(case.patient.ref))
     click.echo(f"wrote {path}")
 
@@ -52,7 +61,6 @@ def report(case_file: str, output: str | None, paper: str) -> None:
 @click.option(
     "--bed",
     "beds",
-    type=int,
     multiple=True,
     metavar="N",
     help="Only this bed (repeat for several); default every patient.",
@@ -60,12 +68,12 @@ def report(case_file: str, output: str | None, paper: str) -> None:
 @click.option(
     "-o",
     "--output",
-    type=click.Path(dir_okay=False),
+    metavar="FILE.pdf",
     help="PDF to write (atomically); default checklist-<shift>-<date>.pdf here.",
 )
 @click.option("--paper", type=PAPER, default="a4", show_default=True, help="ISO A4 or US Letter.")
 def checklist(
-    unit_file: str, shift: str, day_text: str, beds: tuple[int, ...], output: str | None, paper: str
+    unit_file: str, shift: str, day_text: str, beds: tuple[str, ...], output: str | None, paper: str
 ) -> None:
     """Nursing checklist PDF for a shift: one patient per page.
 
@@ -76,12 +84,16 @@ def checklist(
     from vascplan.reports.service import (
         checklist_pdf,
         default_checklist_name,
+        parse_bed,
         parse_day,
         write_output,
     )
 
     day = parse_day(day_text)
-    _, sheets, data = checklist_pdf(unit_file, shift, day, beds=beds or None, paper=paper.lower())
+    numbers = [parse_bed(b) for b in beds]
+    _, sheets, data = checklist_pdf(
+        unit_file, shift, day, beds=numbers or None, paper=paper.lower()
+    )
     name = default_checklist_name(shift, day, [s.ref for s in sheets] if beds else ())
     path = write_output(data, output, ".", name)
     click.echo(f"wrote {path} ({len(sheets)} patient{'s' if len(sheets) != 1 else ''})")

@@ -148,6 +148,7 @@ class _Canvas:
         self.used_height = (max(ys) - min(ys)) * self.scale + margin_top + margin_bottom
         # (priority, x, y, text, anchor, font); lower priority is placed first.
         self.labels: list[tuple[int, float, float, str, str, str]] = []
+        self.obstacles: list[tuple[float, ...]] = []  # drawn marks no label may cover
         self.width_pt = {sid: vessel_width_pt(data.segments[sid].diameter_mm) for sid in self.lines}
         for graft in data.grafts:
             if graft.from_segment in self.lines and graft.to_segment in self.lines:
@@ -224,7 +225,16 @@ def draw_map(data: MapData, width_pt: float, height_pt: float) -> Drawing:
         if seg.avoid:
             _avoid_mark(d, line.point_at(0.5))
         _segment_label(d, cv, sid, seg, f.regular)
+    target_pt = target_label = None
+    if data.target is not None and data.target[0] in cv.lines:
+        target_pt = cv.lines[data.target[0]].point_at(data.target[1])
+        label_side = 1.0 if cv.places[data.target[0]].label_dx < 0 else -1.0
+        target_label = (target_pt[0] + label_side * 20.0, target_pt[1])
+    marks = [target_pt] if target_pt is not None else []
     if data.runner_up is not None:
+        # The runner-up gives way: its circle keeps clear of the chosen route's too (two
+        # routes from one puncture site, antegrade and retrograde).
+        chosen_pts = route_points(cv, data.chosen, 1.0) if data.chosen is not None else []
         _route(
             d,
             cv,
@@ -234,14 +244,27 @@ def draw_map(data: MapData, width_pt: float, height_pt: float) -> Drawing:
             width=1.3,
             dash=(4, 2.2),
             font=f.bold,
+            avoid=marks + chosen_pts[:1],
+            avoid_label=target_label,
         )
     if data.chosen is not None:
-        _route(d, cv, data.chosen, side=1.0, colour=CHOSEN, width=2.0, dash=None, font=f.bold)
+        _route(
+            d,
+            cv,
+            data.chosen,
+            side=1.0,
+            colour=CHOSEN,
+            width=2.0,
+            dash=None,
+            font=f.bold,
+            avoid=marks,
+            avoid_label=target_label,
+        )
     if data.target is not None and data.target[0] in cv.lines:
         # The target's label goes across the vessel from the segment's and lesions' labels.
         side = 1.0 if cv.places[data.target[0]].label_dx < 0 else -1.0
         _target(d, cv.lines[data.target[0]].point_at(data.target[1]), f.bold, side, cv.labels)
-    for x, y, text, anchor, font in place_labels(cv.labels):
+    for x, y, text, anchor, font in place_labels(cv.labels, cv.obstacles):
         _halo_label(d, x, y, text, anchor, font)
     # Orientation: frontal view, the patient's right on the viewer's left.
     d.add(String(4, height_pt - 10, "patient's RIGHT", fontName=f.bold, fontSize=7))
@@ -352,12 +375,14 @@ def _label_box(x: float, y: float, text: str, anchor: str, font: str) -> tuple[f
 
 def place_labels(
     labels: list[tuple[int, float, float, str, str, str]],
+    obstacles: list[tuple[float, ...]] | None = None,
 ) -> list[tuple[float, float, str, str, str]]:
     """Move labels up or down (by a line, then two) until no two overlap, if they can.
 
     Lesion and target labels are placed first and stay put; segment labels give way.
+    ``obstacles``: boxes (x0, y0, x1, y1) [pt] already drawn that no label may cover.
     """
-    placed: list[tuple[float, ...]] = []
+    placed: list[tuple[float, ...]] = list(obstacles or ())
     out = []
     step = LABEL_PT + 1.6
     for _, x, y, text, anchor, font in sorted(labels, key=lambda item: item[0]):
@@ -441,6 +466,34 @@ def route_points(cv: _Canvas, route: MapRoute, side: float) -> list[Point]:
     return out
 
 
+PUNCTURE_CLEAR_PT = 13.0
+"""Least distance [pt] between a puncture circle and the target's bullseye (their radii,
+4.6 and 6.0 pt, plus a gap)."""
+
+
+def _clear_spot(p: Point, marks: list[Point], label: Point | None) -> Point:
+    """Where to put a puncture circle that starts at ``p`` but would cover one of
+    ``marks`` (the target's bullseye, another route's puncture circle): one of eight
+    directions round ``p`` or a mark, clear of every mark, farthest from the target's
+    label (downwards first when there is a tie)."""
+    best: tuple[float, Point] | None = None
+    reach = PUNCTURE_CLEAR_PT * 1.1
+    for k in range(8):
+        a = -math.pi / 2 + k * math.pi / 4  # start straight down, then round
+        for base in (p, *marks):
+            q = (base[0] + math.cos(a) * reach, base[1] + math.sin(a) * reach)
+            clear = min(math.hypot(q[0] - m[0], q[1] - m[1]) for m in marks)
+            if clear < PUNCTURE_CLEAR_PT - 1e-9:
+                continue
+            room = math.hypot(q[0] - label[0], q[1] - label[1]) if label else 0.0
+            score = min(room, 30.0) - 0.2 * math.hypot(q[0] - p[0], q[1] - p[1])
+            if best is None or score > best[0] + 1e-9:
+                best = (score, q)
+    if best is None:  # pragma: no cover - eight directions always leave one clear
+        return p
+    return best[1]
+
+
 def _route(
     d: Drawing,
     cv: _Canvas,
@@ -451,10 +504,21 @@ def _route(
     width: float,
     dash: tuple[float, float] | None,
     font: str,
-) -> None:
+    avoid: list[Point] | None = None,
+    avoid_label: Point | None = None,
+) -> Point | None:
+    """Draw one route: haloed line, arrowhead at the target end, numbered puncture circle.
+
+    ``avoid``: marks already placed (the target's point, the other route's puncture
+    circle); a puncture circle closer than ``PUNCTURE_CLEAR_PT`` to one of them is moved
+    out on a leader line so that no two marks cover each other, and away from
+    ``avoid_label`` (the centre of the target's label). Every puncture circle is kept
+    clear of the labels placed after it. Returns where the circle was drawn (None when
+    the route has no drawable stretch).
+    """
     pts = route_points(cv, route, side)
     if len(pts) < 2:
-        return
+        return None
     d.add(
         PolyLine(
             _flat(pts),
@@ -498,9 +562,17 @@ def _route(
             strokeWidth=0.4,
         )
     )
-    # Puncture: a numbered circle at the start.
+    # Puncture: a numbered circle at the start; moved out on a leader line when it would
+    # sit on the target's bullseye (a short route, such as a pedal puncture near its target).
     x, y = pts[0]
+    marks = list(avoid or ())
+    if any(math.hypot(x - m[0], y - m[1]) < PUNCTURE_CLEAR_PT for m in marks):
+        cx, cy = _clear_spot((x, y), marks, avoid_label)
+        d.add(Line(x, y, cx, cy, strokeColor=colour, strokeWidth=0.8))
+        d.add(Circle(x, y, 1.4, fillColor=colour, strokeColor=colour, strokeWidth=0.4))
+        x, y = cx, cy
     d.add(Circle(x, y, 4.6, fillColor=white, strokeColor=colour, strokeWidth=1.3))
+    cv.obstacles.append((x - 5.5, y - 5.5, x + 5.5, y + 5.5))  # labels keep clear of it
     d.add(
         String(
             x,
@@ -512,6 +584,7 @@ def _route(
             fillColor=INK,
         )
     )
+    return (x, y)
 
 
 def _target(d: Drawing, p: Point, font: str, side: float = 1.0, labels: list | None = None) -> None:
@@ -546,7 +619,11 @@ LEGEND_ROWS: tuple[tuple[str, str], ...] = (
     ("graft", "Graft: hollow double line between its ends."),
     ("chosen", "Chosen route (rank 1): heavy solid line, arrow at the target."),
     ("runner-up", "Runner-up (rank 2): dashed line on the other side of the vessel."),
-    ("puncture", "Puncture site: circle with the route's rank."),
+    (
+        "puncture",
+        "Puncture site: circle with the route's rank; on a thin leader to a dot when "
+        "it would cover another mark.",
+    ),
     ("target", "Target of the procedure."),
     ("avoid", "Segment the case says to avoid."),
 )

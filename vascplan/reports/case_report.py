@@ -71,12 +71,16 @@ def _summary(case: Any, tree: Any, plan: Mapping[str, Any] | None, width: float)
         tgt = proc.target
         target = f"{_node_name(tree, tgt.segment)} ({tgt.segment}) at {tgt.at_cm:g} cm"
         sh = proc.sheath
-        sheath = f"{sh.size_fr:g} Fr, {sh.length_cm:g} cm long"
+        sheath = f"{sh.size_fr:g} Fr, {sh.length_cm:g} cm long ({sh.label} size)"
         sheath += f", outer {sh.outer_mm:g} mm" if sh.outer_mm else ", outer diameter not given"
         dev = proc.device
         device = (
             f"crossing profile {dev.profile_fr:g} Fr, working length {dev.working_length_cm:g} cm"
         )
+        if getattr(dev, "kind", None):
+            from vascplan.reports.checklist import DEVICE_NAMES
+
+            device = f"{DEVICE_NAMES.get(dev.kind, dev.kind)}: {device}"
         rows += [
             [
                 para("Procedure", label),
@@ -216,22 +220,32 @@ def _route_name(r: Mapping[str, Any]) -> str:
     return f"{r.get('site_name') or r.get('site')} ({r.get('site')}), {r.get('direction')}"
 
 
-def route_table(plan: Mapping[str, Any], width: float) -> Table | None:
-    """The usable routes, best first, with their sizes, score and reasons."""
+def route_table(
+    plan: Mapping[str, Any], width: float, routes: Sequence[Mapping[str, Any]] | None = None
+) -> Table | None:
+    """The usable routes, best first, with their sizes, score and reasons.
+
+    ``routes`` limits the table to those routes (default: every route of the plan).
+    """
     st = styles()
     cell, bold, small = st["cell"], st["cell-bold"], st["small"]
     head = ["#", "Route", "Verdict", "cm", "Sheath OD / min lumen (mm) / SAR", "Score", "Reasons"]
     rows: list[list[Any]] = [[para(h, st["head"]) for h in head]]
-    usable = [r for r in plan.get("routes", ()) if r.get("feasible")]
+    chosen = plan.get("routes", ()) if routes is None else routes
+    usable = [r for r in chosen if r.get("feasible")]
     if not usable:
         return None
     for n, r in enumerate(usable):
         detailed = n < DETAILED_FEASIBLE
         assumed = set(r.get("assumed", ()))
-        mark = REFERENCE_MARK if ({"min_lumen_mm", "sar"} & assumed) else ""
+
+        def mark(key: str, assumed: set[str] = assumed) -> str:
+            return REFERENCE_MARK if key in assumed else ""
+
         sizes = (
-            f"{_num(r.get('sheath_od_mm'))} / {_num(r.get('min_lumen_mm'))}{mark} / "
-            f"{_num(r.get('sar'))}{mark}"
+            f"{_num(r.get('sheath_od_mm'))}{mark('sheath_od_mm')} / "
+            f"{_num(r.get('min_lumen_mm'))}{mark('min_lumen_mm')} / "
+            f"{_num(r.get('sar'))}{mark('sar')}"
         )
         path = r.get("path_words") or " > ".join(r.get("path", []))
         reasons = [
@@ -254,10 +268,16 @@ def route_table(plan: Mapping[str, Any], width: float) -> Table | None:
     return t
 
 
-def blocked_table(plan: Mapping[str, Any], width: float) -> Table | None:
-    """The routes ruled out, each with every hard limit it breaks."""
+def blocked_table(
+    plan: Mapping[str, Any], width: float, routes: Sequence[Mapping[str, Any]] | None = None
+) -> Table | None:
+    """The routes ruled out, each with every hard limit it breaks and its detail.
+
+    ``routes`` limits the table to those routes (default: every route of the plan).
+    """
     st = styles()
-    blocked = [r for r in plan.get("routes", ()) if not r.get("feasible")]
+    chosen = plan.get("routes", ()) if routes is None else routes
+    blocked = [r for r in chosen if not r.get("feasible")]
     if not blocked:
         return None
     rows: list[list[Any]] = [[para(h, st["head"]) for h in ("#", "Route", "Verdict", "Why")]]
@@ -276,6 +296,114 @@ def blocked_table(plan: Mapping[str, Any], width: float) -> Table | None:
         TableStyle([*_grid_style(), ("BACKGROUND", (0, 1), (-1, -1), colors.Color(0.9, 0.9, 0.9))])
     )
     return t
+
+
+DEFAULT_TOP = 10
+"""How many routes (by rank) the report prints in full by default; the others get one
+brief line each (``vascplan report --top N`` changes it)."""
+
+
+def brief_reasons(r: Mapping[str, Any]) -> str:
+    """One line for a route printed in brief: each broken limit with the segments where
+    it breaks, or the route's factors with their points.
+
+    >>> brief_reasons({"blocked_by": [{"code": "occlusion-en-route", "segment": "R-SFA"},
+    ...                               {"code": "occlusion-en-route", "segment": "R-ATA"},
+    ...                               {"code": "too-short", "segment": "R-DPA"}]})
+    'occlusion-en-route at R-SFA, R-ATA; too-short at R-DPA'
+    >>> brief_reasons({"factors": [{"name": "sar", "points": 2.1}]})
+    'sar +2.1'
+    """
+    blocks = r.get("blocked_by") or ()
+    if blocks:
+        where: dict[str, list[str]] = {}
+        for b in blocks:
+            where.setdefault(str(b.get("code")), []).append(str(b.get("segment")))
+        return "; ".join(f"{code} at {', '.join(segs)}" for code, segs in where.items())
+    return route_reasons(r, detailed=False)[0]
+
+
+def _short_route_name(r: Mapping[str, Any]) -> str:
+    """``radial artery (R-RAD), retrograde``: the site's name without its qualifier."""
+    name = str(r.get("site_name") or r.get("site")).split(" (")[0]
+    return f"{name} ({r.get('site')}), {r.get('direction')}"
+
+
+def brief_table(routes: Sequence[Mapping[str, Any]], width: float) -> Table | None:
+    """The routes beyond the top ones, one line each: rank, route, verdict, length, score
+    and what rules it out (or its factors)."""
+    if not routes:
+        return None
+    st = styles()
+    tiny = st["tiny"]
+    head = ("#", "Route", "Verdict", "cm", "Score", "Limits broken (or factors)")
+    rows: list[list[Any]] = [[para(h, st["head"]) for h in head]]
+    for r in routes:
+        rows.append(
+            [
+                para(r.get("rank"), tiny),
+                para(_short_route_name(r), tiny),
+                para(verdict(r), tiny),
+                para(_num(r.get("length_cm"), "{:.0f}"), tiny),
+                para(_num(r.get("score"), "{:.1f}") if r.get("feasible") else "-", tiny),
+                para(brief_reasons(r), tiny),
+            ]
+        )
+    fractions = (0.045, 0.32, 0.085, 0.05, 0.07, 0.43)
+    t = Table(rows, colWidths=[f * width for f in fractions], repeatRows=1)
+    style = [
+        *_grid_style(),
+        ("TOPPADDING", (0, 0), (-1, -1), 0.6),
+        ("BOTTOMPADDING", (0, 0), (-1, -1), 1.2),
+    ]
+    for n, r in enumerate(routes, start=1):
+        if not r.get("feasible"):  # ruled out: shaded, as in the full table
+            style.append(("BACKGROUND", (0, n), (-1, n), colors.Color(0.9, 0.9, 0.9)))
+    t.setStyle(TableStyle(style))
+    return t
+
+
+def _route_sections(plan: Mapping[str, Any], width: float, top: int | None) -> list[Any]:
+    """The route tables: the first ``top`` routes by rank in full, the rest in brief."""
+    st = styles()
+    routes = list(plan.get("routes", ()))
+    full = routes if top is None else routes[:top]
+    rest = [] if top is None else routes[top:]
+    out: list[Any] = [para("Routes considered, best first", st["h2"])]
+    if plan.get("score_convention"):
+        out.append(para(plan["score_convention"], st["small"]))
+    if rest:
+        out.append(
+            rich_para(
+                "{n} routes in all: ranks 1-{k} in full, ranks {k1}-{n} in brief at the end "
+                "of the route tables (<i>--top N</i> prints more in full).",
+                st["small"],
+                n=len(routes),
+                k=len(full),
+                k1=len(full) + 1,
+            )
+        )
+    out.append(Spacer(1, 2))
+    usable = route_table(plan, width, full)
+    if usable is not None:
+        out.append(usable)
+    elif not any(r.get("feasible") for r in routes):
+        out.append(para("No usable route.", st["alarm"]))
+    ruled_out = blocked_table(plan, width, full)
+    if ruled_out is not None:
+        out += [para("Routes ruled out", st["h2"]), ruled_out]
+    brief = brief_table(rest, width)
+    if brief is not None:
+        out += [
+            para(f"The other {len(rest)} routes, in brief", st["h2"]),
+            para(
+                "Every limit with its detail: vascplan report CASE --top N, "
+                "or vascplan plan CASE --explain SITE.",
+                st["small"],
+            ),
+            brief,
+        ]
+    return out
 
 
 def _pairs(plan: Mapping[str, Any], width: float) -> list[Any]:
@@ -305,16 +433,23 @@ def _pairs(plan: Mapping[str, Any], width: float) -> list[Any]:
     return out
 
 
-def support_tables(support: Mapping[str, Any], width: float) -> list[Any]:
-    """The large-bore figures: each axis's SAR per segment, lumen left, distal flow."""
+def support_tables(support: Mapping[str, Any], width: float, od_assumed: bool = False) -> list[Any]:
+    """The large-bore figures: each axis's SAR per segment, lumen left, distal flow.
+
+    ``od_assumed``: the device's outer diameter is a reference value (the case file gave
+    no measured outer diameter), so it carries the reference mark and says so.
+    """
     st = styles()
     cell, bold, small = st["cell"], st["cell-bold"], st["small"]
+    od = _num(support.get("device_od_mm"))
+    if od_assumed:
+        od += f"{REFERENCE_MARK} (reference value: the case file gives no outer diameter)"
     out: list[Any] = [
         para("Large-bore support: what the device leaves for the limb", st["h2"]),
         rich_para(
             "Device outer diameter {od} mm ({kind}: {basis}). Best axis: <b>{best}</b>.",
             cell,
-            od=_num(support.get("device_od_mm")),
+            od=od,
             kind=support.get("device_kind"),
             basis=support.get("device_kind_basis"),
             best=support.get("best_site") or "none usable",
@@ -432,9 +567,14 @@ def _assumptions(items: Sequence[str]) -> list[Any]:
 
 
 def case_report_story(
-    case: Any, tree: Any, plan: Mapping[str, Any] | None, paper: str
+    case: Any,
+    tree: Any,
+    plan: Mapping[str, Any] | None,
+    paper: str,
+    top: int | None = DEFAULT_TOP,
 ) -> list[Any]:
-    """The report's flowables (see the module docstring)."""
+    """The report's flowables (see the module docstring); ``top`` as in
+    :func:`render_case_report`."""
     st = styles()
     _, _, width, height = frame_box(paper)
     story: list[Any] = [
@@ -446,18 +586,11 @@ def case_report_story(
     story.append(_map_block(tree, plan, width, max(260.0, height - summary_h - 4)))
     story.append(PageBreak())
     if plan is not None:
-        story.append(para("Routes considered, best first", st["h2"]))
-        if plan.get("score_convention"):
-            story.append(para(plan["score_convention"], st["small"]))
-        story.append(Spacer(1, 2))
-        usable = route_table(plan, width)
-        story.append(usable if usable is not None else para("No usable route.", st["alarm"]))
-        ruled_out = blocked_table(plan, width)
-        if ruled_out is not None:
-            story += [para("Routes ruled out", st["h2"]), ruled_out]
+        story += _route_sections(plan, width, top)
         story += _pairs(plan, width)
         if plan.get("support"):
-            story += support_tables(plan["support"], width)
+            od_assumed = any("sheath_od_mm" in r.get("assumed", ()) for r in plan.get("routes", ()))
+            story += support_tables(plan["support"], width, od_assumed)
         assumptions = list(plan.get("assumptions", ()))
     else:
         story.append(para("No procedure in the case file: no routes were planned.", st["alarm"]))
@@ -482,6 +615,7 @@ def render_case_report(
     *,
     paper: str = "a4",
     generated_at: datetime | None = None,
+    top: int | None = DEFAULT_TOP,
 ) -> bytes:
     """The case report PDF as bytes (write it with :func:`vascplan.reports.page.write_pdf`).
 
@@ -497,8 +631,13 @@ def render_case_report(
         ``a4`` or ``letter``.
     generated_at : datetime, optional
         Aware generation time; now, in the machine's zone, when omitted.
+    top : int or None
+        How many routes (by rank, usable or not) get their full reasons; the others get
+        one brief line each, so every route is still listed. None prints all in full.
     """
+    if top is not None and top < 1:
+        raise ValueError("top must be at least 1")
     at = generated_at or datetime.now().astimezone()
-    story = case_report_story(case, tree, plan, paper)
+    story = case_report_story(case, tree, plan, paper, top)
     setup = PageSetup(paper=paper, title=f"Case conference - {case.patient.ref}", generated_at=at)
     return build_pdf(story, setup)

@@ -15,14 +15,15 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
-from datetime import date, datetime
+from datetime import UTC, date, datetime
 from typing import Any
 
 from reportlab.lib import colors
-from reportlab.platypus import Flowable, PageBreak, Spacer, Table, TableStyle
+from reportlab.lib.styles import ParagraphStyle
+from reportlab.platypus import Flowable, PageBreak, Paragraph, Spacer, Table, TableStyle
 
 from vascplan.reports.page import PageLabel, PageSetup, build_pdf, fonts, frame_box, styles
-from vascplan.reports.text import clean, para, rich_para
+from vascplan.reports.text import clean, para, rich, rich_para
 
 DEVICE_NAMES = {
     "va-ecmo-arterial": "VA-ECMO arterial return cannula",
@@ -32,6 +33,9 @@ DEVICE_NAMES = {
 }
 
 SIDE_NAMES = {"L": "left", "R": "right"}
+
+ARM_VESSELS = ("AXA", "SCA")
+"""Access vessels of the arm (the unit file's ``ACCESS_VESSELS`` that are not the leg's)."""
 
 NOT_VALIDATED = (
     "The tier combines published risk factors; no validated score of limb-ischaemia risk on "
@@ -72,6 +76,16 @@ class ChecklistSheet:
     rows: tuple[CheckRow, ...]
     escalation: tuple[tuple[str, str, int], ...]  # (finding, call, within_min)
     notes: tuple[str, ...] = field(default_factory=tuple)
+    tier_changes: tuple[tuple[datetime, str, str], ...] = field(default_factory=tuple)
+    """(from when, new tier, the team's note): tier events of the unit file in the shift."""
+    arm_note: str = ""
+    """Said when the device sits in an arm artery: the protocol's items name the legs."""
+
+
+def _utc(at: datetime) -> datetime:
+    """``at`` in UTC: aware datetimes sharing a tzinfo compare by wall clock, which is
+    wrong inside the hour repeated when the clocks go back."""
+    return at.astimezone(UTC)
 
 
 def _when(at: datetime) -> str:
@@ -123,7 +137,8 @@ def checklist_sheets(
     protocol : Protocol
         The unit's surveillance protocol.
     beds : iterable of int, optional
-        Only these beds (each must hold a patient); every patient when omitted.
+        Only these beds, in the order given, each once (each must hold a patient);
+        every patient, by bed, when omitted.
 
     Raises
     ------
@@ -136,8 +151,11 @@ def checklist_sheets(
 
     shift = unit.shift_named(shift_name)
     start, end = shift_window(unit, shift, datetime.combine(day, shift.start))
+    # Through UTC and back: a start in the hour the clocks skip (01:30 on a spring-forward
+    # night in London) then prints as the wall time that exists at that instant (02:30 BST).
+    start, end = (_utc(t).astimezone(unit.unit.tz) for t in (start, end))
     patients = (
-        [unit.patient_at_bed(b) for b in beds]
+        [unit.patient_at_bed(b) for b in dict.fromkeys(beds)]  # a bed asked twice: one sheet
         if beds is not None
         else sorted(unit.patients, key=lambda p: p.bed)
     )
@@ -148,7 +166,7 @@ def checklist_sheets(
         rows = tuple(
             CheckRow(c.due.astimezone(unit.unit.tz), c.phase, c.interval_min, tuple(c.items))
             for c in checks
-            if start <= c.due < end
+            if _utc(start) <= _utc(c.due) < _utc(end)  # real time, not wall clock
         )
         used = {i for r in rows for i in r.items}
         nirs = bool(p.baseline.nirs)
@@ -164,6 +182,19 @@ def checklist_sheets(
             dpc = f"{p.dpc.size_fr:g} Fr, in since {_when(p.dpc.inserted.astimezone(unit.unit.tz))}"
             if p.dpc.removed is not None:
                 dpc += f", removed {_when(p.dpc.removed.astimezone(unit.unit.tz))}"
+        changes = tuple(
+            (e.at.astimezone(unit.unit.tz), str(e.tier), e.note)
+            for e in sorted(getattr(p, "events", ()) or (), key=lambda e: _utc(e.at))
+            if _utc(start) < _utc(e.at) < _utc(end)
+        )
+        arm_note = ""
+        if p.device.vessel in ARM_VESSELS:
+            side = SIDE_NAMES.get(p.device.side, p.device.side)
+            arm_note = (
+                f"Arm device ({side} {p.device.vessel}): check the {side} arm and hand too "
+                "(radial pulse, colour, warmth, sensation, movement; compare arms; "
+                "common practice)."
+            )
         notes = []
         if not rows:
             notes.append("No check falls due for this patient in this shift.")
@@ -187,6 +218,8 @@ def checklist_sheets(
                 rows=rows,
                 escalation=tuple((e.finding, e.call, e.within_min) for e in protocol.escalation),
                 notes=tuple(notes),
+                tier_changes=changes,
+                arm_note=arm_note,
             )
         )
     return sheets
@@ -199,7 +232,7 @@ def checklist_sheets(
 class VerticalText(Flowable):
     """A column heading written bottom-to-top, to keep narrow columns legible."""
 
-    def __init__(self, text: str, size: float = 7.5) -> None:
+    def __init__(self, text: str, size: float = 7.0) -> None:
         super().__init__()
         self.text = clean(text)
         self.size = size
@@ -224,6 +257,26 @@ def _item_heading(item_id: str) -> str:
     return item_id.replace("-", " ")
 
 
+def _changes_markup(sheet: ChecklistSheet) -> str:
+    """``<b>From 12:00 GMT: HIGH</b> (set by the team: note).`` for each tier change in
+    the shift, escaped, ready to join our own markup."""
+    out = []
+    for at, tier, note in sheet.tier_changes:
+        when = f"{at:%H:%M} {at.tzname()}"
+        if at.date() != sheet.shift_start.date():
+            when = f"{at:%d %b} {when}"
+        out.append(
+            rich(
+                "<b>From {when}: {tier}</b> (set by the team{sep}{note}). ",
+                when=when,
+                tier=tier.upper(),
+                sep=": " if note else "",
+                note=note,
+            )
+        )
+    return "".join(out)
+
+
 def _header_table(sheet: ChecklistSheet, width: float) -> Table:
     st = styles()
     label, cell = st["cell-bold"], st["cell"]
@@ -235,7 +288,12 @@ def _header_table(sheet: ChecklistSheet, width: float) -> Table:
             para("Ref", label),
             para(sheet.ref, st["alarm"]),
         ],
-        [para("Unit", label), para(sheet.unit_name, cell), para("Shift", label), para(shift, cell)],
+        [
+            para("Unit", label),
+            para(sheet.unit_name, cell),
+            para("Shift", label),
+            para(shift, cell),
+        ],
         [
             para("Device", label),
             para(sheet.device, cell),
@@ -254,12 +312,15 @@ def _header_table(sheet: ChecklistSheet, width: float) -> Table:
         ],
         [
             para("Risk tier", label),
-            rich_para(
-                "<font size=10><b>{tier}</b></font>  {reasons}. <i>{note}</i>",
+            Paragraph(  # each piece escaped on its own: user text never meets .format
+                rich(
+                    "<font size=10><b>{tier}</b></font>  {reasons}. ",
+                    tier=sheet.risk_tier.upper(),
+                    reasons="; ".join(sheet.risk_reasons) or "no risk factor recorded",
+                )
+                + _changes_markup(sheet)
+                + rich("<i>{note}</i>", note=NOT_VALIDATED),
                 st["small"],
-                tier=sheet.risk_tier.upper(),
-                reasons="; ".join(sheet.risk_reasons) or "no risk factor recorded",
-                note=NOT_VALIDATED,
             ),
             "",
             "",
@@ -303,13 +364,22 @@ def _baseline_table(sheet: ChecklistSheet, width: float) -> Table:
     return t
 
 
+def _ambiguous(at: datetime) -> bool:
+    """True when the local wall time ``at`` shows happens twice (the hour repeated when
+    the clocks go back)."""
+    other = at.replace(fold=1 - at.fold)
+    return other.utcoffset() != at.utcoffset()
+
+
 def due_text(row: CheckRow, sheet: ChecklistSheet) -> str:
     """The due time as printed: ``HH:MM``, with the date when it is not the shift's first
-    day and the zone when the UTC offset differs from the shift start's."""
+    day, and the zone when the UTC offset differs from the shift start's or the wall
+    time happens twice that night (so the first 01:15 reads ``01:15 BST``, the second
+    ``01:15 GMT``)."""
     text = f"{row.due:%H:%M}"
     if row.due.date() != sheet.shift_start.date():
         text = f"{row.due:%d %b} {text}"
-    if row.due.utcoffset() != sheet.shift_start.utcoffset():
+    if row.due.utcoffset() != sheet.shift_start.utcoffset() or _ambiguous(row.due):
         text += f" {row.due.tzname()}"
     return text
 
@@ -321,8 +391,8 @@ ROW_HEIGHT_PT = 15.0
 def _grid(sheet: ChecklistSheet, width: float) -> Table:
     st = styles()
     ids = [i for i, _ in sheet.items]
-    due_w, initials_w = 100.0, 38.0
-    item_w = (width - due_w - initials_w) / max(len(ids), 1)
+    due_w, every_w, initials_w = 92.0, 20.0, 38.0
+    item_w = (width - due_w - every_w - initials_w) / max(len(ids), 1)
     head = [
         rich_para(
             "<b>Due</b> ({zone})<br/>bed {bed}<br/>{ref}",
@@ -332,32 +402,32 @@ def _grid(sheet: ChecklistSheet, width: float) -> Table:
             ref=sheet.ref,
         )
     ]
+    head += [VerticalText("every (min)")]
     head += [VerticalText(_item_heading(i)) for i in ids]
     head += [VerticalText("initials")]
     rows: list[list[Any]] = [head]
     for r in sheet.rows:
         cells: list[Any] = [
-            rich_para(
-                "<b>{due}</b>  <font size=6>every {every} min</font>",
-                st["due"],
-                due=due_text(r, sheet),
-                every=r.interval_min,
-            )
+            rich_para("<b>{due}</b>", st["due"], due=due_text(r, sheet)),
+            para(r.interval_min, st["tiny"]),
         ]
         cells += ["" for _ in ids]
         cells.append("")
         rows.append(cells)
     if not sheet.rows:
-        rows.append([para("none", st["cell"])] + ["" for _ in ids] + [""])
+        rows.append([para("none", st["cell"]), ""] + ["" for _ in ids] + [""])
     t = Table(
         rows,
-        colWidths=[due_w] + [item_w] * len(ids) + [initials_w],
+        colWidths=[due_w, every_w] + [item_w] * len(ids) + [initials_w],
         repeatRows=1,
         rowHeights=[None] + [ROW_HEIGHT_PT] * (len(rows) - 1),
     )
     style = [
         ("GRID", (0, 0), (-1, -1), 0.6, colors.black),
-        ("LINEAFTER", (0, 0), (0, -1), 1.4, colors.black),
+        ("LINEAFTER", (1, 0), (1, -1), 1.4, colors.black),
+        ("ALIGN", (1, 1), (1, -1), "CENTER"),
+        ("LEFTPADDING", (1, 0), (1, -1), 2),
+        ("RIGHTPADDING", (1, 0), (1, -1), 2),
         ("LINEBEFORE", (-1, 0), (-1, -1), 1.4, colors.black),
         ("LINEBELOW", (0, 0), (-1, 0), 1.4, colors.black),
         ("VALIGN", (0, 0), (-1, 0), "BOTTOM"),
@@ -368,41 +438,23 @@ def _grid(sheet: ChecklistSheet, width: float) -> Table:
         ("BOTTOMPADDING", (0, 1), (-1, -1), 1),
     ]
     for n, r in enumerate(sheet.rows, start=1):
-        for k, i in enumerate(ids, start=1):
+        for k, i in enumerate(ids, start=2):
             if i not in r.items:  # not due at this check: shaded and crossed
                 style.append(("BACKGROUND", (k, n), (k, n), colors.Color(0.78, 0.78, 0.78)))
     t.setStyle(TableStyle(style))
     return t
 
 
-def _item_key(sheet: ChecklistSheet, width: float) -> Table:
-    """What each column means, in three columns of (heading, wording)."""
+def _item_key(sheet: ChecklistSheet, width: float) -> Any:
+    """What each column means: one flowing paragraph of bold heading and wording, so the
+    key takes a few lines and a 12-check shift stays on one sheet (A4 and Letter)."""
     st = styles()
     entries = [(_item_heading(i), text) for i, text in sheet.items]
+    entries.append(("every (min)", "minutes of real time since the previous check"))
     entries.append(("shaded box", "not due at that check"))
-    columns = 3
-    per_column = -(-len(entries) // columns)
-    rows = []
-    for k in range(per_column):
-        row: list[Any] = []
-        for j in range(k, k + columns * per_column, per_column):
-            if j < len(entries):
-                row += [para(entries[j][0], st["cell-bold"]), para(entries[j][1], st["tiny"])]
-            else:
-                row += ["", ""]
-        rows.append(row)
-    t = Table(rows, colWidths=[0.13 * width, 0.2033 * width] * columns)
-    t.setStyle(
-        TableStyle(
-            [
-                ("VALIGN", (0, 0), (-1, -1), "TOP"),
-                ("TOPPADDING", (0, 0), (-1, -1), 0.5),
-                ("BOTTOMPADDING", (0, 0), (-1, -1), 0.5),
-                ("LEFTPADDING", (0, 0), (-1, -1), 2),
-            ]
-        )
-    )
-    return t
+    parts = [rich("<b>{h}</b>: {t}", h=h, t=t) for h, t in entries]
+    arm = rich(" <b>{n}</b>", n=sheet.arm_note) if sheet.arm_note else ""
+    return Paragraph("<b>Key.</b> " + " &#183; ".join(parts) + arm, st["tiny"])
 
 
 def escalation_box(escalation: Sequence[tuple[str, str, int]], width: float) -> Table:
@@ -435,6 +487,7 @@ def escalation_box(escalation: Sequence[tuple[str, str, int]], width: float) -> 
                 ("VALIGN", (0, 0), (-1, 0), "BOTTOM"),
                 ("TOPPADDING", (0, 0), (-1, -1), 0.8),
                 ("BOTTOMPADDING", (0, 0), (-1, -1), 0.8),
+                ("BOTTOMPADDING", (0, -1), (-1, -1), 2.2),  # clear of the heavy frame
             ]
         )
     )
@@ -445,7 +498,7 @@ def _signatures(width: float) -> Table:
     """One row of boxes: initials and full name of each nurse who signs the sheet."""
     st = styles()
     label = para("Initials and full name of each nurse who signs this sheet", st["small"])
-    t = Table([[label, "", "", ""]], colWidths=[0.22 * width] + [0.26 * width] * 3, rowHeights=[22])
+    t = Table([[label, "", "", ""]], colWidths=[0.31 * width] + [0.23 * width] * 3, rowHeights=[20])
     t.setStyle(
         TableStyle(
             [("GRID", (1, 0), (-1, 0), 0.5, colors.black), ("VALIGN", (0, 0), (-1, -1), "MIDDLE")]
@@ -457,25 +510,27 @@ def _signatures(width: float) -> Table:
 def sheet_story(sheet: ChecklistSheet, width: float) -> list[Any]:
     """The flowables of one patient's sheet."""
     st = styles()
+    title = ParagraphStyle("sheet-title", parent=st["title"], fontSize=13, leading=15.5)
+    title.spaceAfter = 2
     story: list[Any] = [
         PageLabel(f"bed {sheet.bed}, {sheet.ref}"),
         rich_para(
-            "Limb-perfusion checklist: bed {bed}, {ref}", st["title"], bed=sheet.bed, ref=sheet.ref
+            "Limb-perfusion checklist: bed {bed}, {ref}", title, bed=sheet.bed, ref=sheet.ref
         ),
         _header_table(sheet, width),
-        Spacer(1, 4),
+        Spacer(1, 3),
         escalation_box(sheet.escalation, width),
         Spacer(1, 2),
         _baseline_table(sheet, width),
-        Spacer(1, 4),
+        Spacer(1, 3),
         _grid(sheet, width),
     ]
     for note in sheet.notes:
         story.append(para(note, st["alarm"]))
     story += [
-        Spacer(1, 3),
+        Spacer(1, 2),
         _item_key(sheet, width),
-        Spacer(1, 4),
+        Spacer(1, 3),
         _signatures(width),
     ]
     return story

@@ -28,18 +28,31 @@ def plan_for(case: Any) -> dict[str, Any] | None:
 
 
 def case_report_pdf(
-    case_path: str | os.PathLike[str], *, paper: str = "a4", generated_at: datetime | None = None
+    case_path: str | os.PathLike[str],
+    *,
+    paper: str = "a4",
+    generated_at: datetime | None = None,
+    top: int | None = None,
 ) -> tuple[Any, bytes]:
-    """Load a case, plan its routes and render the report; return ``(case, pdf_bytes)``."""
+    """Load a case, plan its routes and render the report; return ``(case, pdf_bytes)``.
+
+    ``top``: routes printed in full (by rank); the rest get one line each. Default
+    :data:`vascplan.reports.case_report.DEFAULT_TOP`.
+    """
     from vascplan.anatomy.graph import build_tree
     from vascplan.case.load import load_case
-    from vascplan.reports.case_report import render_case_report
+    from vascplan.reports.case_report import DEFAULT_TOP, render_case_report
+
+    if top is not None and top < 1:
+        raise InputError("--top", "", f"{top} is not allowed; give a whole number of 1 or more")
 
     paper_size(paper)
     case = load_case(case_path)
     tree = build_tree(case)
     plan = plan_for(case)
-    return case, render_case_report(case, tree, plan, paper=paper, generated_at=generated_at)
+    return case, render_case_report(
+        case, tree, plan, paper=paper, generated_at=generated_at, top=top or DEFAULT_TOP
+    )
 
 
 def parse_day(text: str, source: str = "--date") -> date:
@@ -54,6 +67,20 @@ def parse_day(text: str, source: str = "--date") -> date:
         return date.fromisoformat(text)
     except ValueError:
         raise InputError(source, "", f"{text!r} is not a calendar date") from None
+
+
+def parse_bed(text: str, source: str = "--bed") -> int:
+    """A ``--bed`` value: a bed number.
+
+    >>> parse_bed(" 3")
+    3
+    """
+    try:
+        return int(text.strip())
+    except ValueError:
+        raise InputError(
+            source, "", f"{text!r} is not a bed number; give a whole number such as 3"
+        ) from None
 
 
 def checklist_pdf(
@@ -109,4 +136,10 @@ def write_output(
     target = Path(output) if output else output_inside(folder, name)
     if target.is_dir():
         raise InputError(str(target), "", "is a folder; give a file name such as report.pdf")
-    return write_pdf(target, data)
+    try:
+        return write_pdf(target, data)
+    except OSError as exc:
+        reason = exc.strerror or exc.__class__.__name__
+        raise InputError(
+            str(target), "", f"cannot write here ({reason}); choose a folder you can write to"
+        ) from None
