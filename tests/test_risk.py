@@ -111,9 +111,17 @@ def test_dpc_not_advised_when_in_place_or_not_femoral():
 def test_dpc_for_other_devices_by_sar_or_pad():
     assert dpc_advice("microaxial-pump", 1.06, False, "female", 5.3, False)[0] is True
     assert dpc_advice("microaxial-pump", 1.04, False, "female", 5.4, False)[0] is False
-    assert dpc_advice("balloon-pump", 0.3, True, "male", 9.0, False)[0] is True
+    assert dpc_advice("large-bore-sheath", 0.5, True, "male", 9.0, False)[0] is True
     with pytest.raises(ValueError):
         dpc_advice("ecmo", 1.0, False, "male", 9.0, False)
+
+
+def test_balloon_pump_with_pad_raises_tier_but_no_dpc():
+    # A 7-8 Fr balloon pump threatening the leg is taken out or moved, not given a distal
+    # cannula (common practice); PAD still raises the tier (Cheng 2014; Alderman 1987).
+    advised, basis = dpc_advice("balloon-pump", 0.3, True, "male", 9.0, False)
+    assert advised is False
+    assert "take the pump out or move it" in basis[0]
 
 
 def test_dpc_in_place_reported_and_clinician_event():

@@ -177,7 +177,10 @@ def reference_diameter(vessel: str, sex: str) -> tuple[ReferenceDiameter, str]:
         f"{REFERENCE_MARK} ({ref.source})"
     )
     if used_sex != sex:
-        note += "; sex not given, the smaller women's value taken"
+        if table[(vessel, "male")].diameter_mm != ref.diameter_mm:
+            note += "; sex not given, the smaller women's value taken"
+        else:
+            note = note.replace(f" for {who} used", " used (the same for women and men)")
     return ref, note
 
 

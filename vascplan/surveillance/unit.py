@@ -294,9 +294,14 @@ def _localise(value: datetime | None, tz: ZoneInfo, source: str, field: str) -> 
             source,
             field,
             f"{value:%Y-%m-%d %H:%M} happens twice in {tz.key} (clocks go back); "
-            "give the time with its UTC offset, e.g. +01:00",
+            f"give the time with its UTC offset, e.g. {_offset(first)}",
         )
     return first
+
+
+def _offset(value: datetime) -> str:
+    """The UTC offset of an aware time as ISO 8601 writes it (``+01:00``, ``-04:00``)."""
+    return value.isoformat()[-6:]
 
 
 def parse_local_time(text: str, tz: ZoneInfo, source: str) -> datetime:
