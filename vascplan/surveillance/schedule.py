@@ -187,7 +187,7 @@ def patient_schedule(
                     phase=phase.name,
                     interval_min=every,
                     tolerance_min=protocol.tolerance_min(every),
-                    items=protocol.items_for(dev.kind, nirs, dpc_in),
+                    items=protocol.items_for(dev.kind, nirs, dpc_in, dev.limb),
                     tier=tier,
                 )
             )

@@ -29,6 +29,9 @@ PulseGrade = Literal["palpable", "doppler", "absent"]
 ACCESS_VESSELS = ("CFA", "EIA", "SFA", "AXA", "SCA")
 """Vessels a large-bore device may sit in (common practice: femoral and axillary routes)."""
 
+ARM_VESSELS = ("AXA", "SCA")
+"""Access vessels of the arm: a device there can starve the arm, not the leg (common practice)."""
+
 _PEDAL_SITE = re.compile(r"^[LR]-(DPA|PTA|PER|ATA|POP)$")
 
 HEIGHT_RANGE_CM = (100.0, 230.0)
@@ -89,6 +92,11 @@ class Device(_Strict):
     outer_mm: float | None = Field(default=None, gt=0, le=12)
     inserted: datetime
     removed: datetime | None = None
+
+    @property
+    def limb(self) -> Literal["leg", "arm"]:
+        """The limb downstream of the access: ``arm`` for AXA/SCA, else ``leg``."""
+        return "arm" if self.vessel in ARM_VESSELS else "leg"
 
     @field_validator("vessel")
     @classmethod
