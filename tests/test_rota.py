@@ -146,3 +146,19 @@ def test_every_check_in_the_rota_once():
     rota = build_rota(unit, PROTOCOL, start, end)
     placed = [(c.bed, c.due) for c in rota.checks]
     assert len(placed) == len(set(placed)) and set(placed) == planned
+
+
+def test_tight_checks_go_first_when_that_meets_every_window():
+    # Bed 1 (in 07:00) is hourly from 11:00, tolerance 15 min; beds 2 and 3 (in 10:46) are
+    # every 15 min from 11:01, tolerance 5 (protocol bands, unit policy). Taking them by due
+    # time would put bed 3 at 11:10, past 11:06; the hourly check can wait to 11:11 instead.
+    patients = [
+        sheath_patient(1, "2026-12-01T07:00"),
+        sheath_patient(2, "2026-12-01T10:46"),
+        sheath_patient(3, "2026-12-01T10:46"),
+    ]
+    unit = make_unit("Europe/London", patients, staff=STAFF)
+    rota = build_rota(unit, PROTOCOL, _utc("2026-12-01T11:00Z"), _utc("2026-12-01T11:10Z"))
+    placed = [(c.bed, c.due.strftime("%H:%M"), c.time.strftime("%H:%M")) for c in rota.checks]
+    assert placed == [(2, "11:01", "11:01"), (3, "11:01", "11:06"), (1, "11:00", "11:11")]
+    assert rota.unmet == []

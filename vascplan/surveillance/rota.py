@@ -145,22 +145,79 @@ def _hm(value: datetime, tz) -> str:  # noqa: ANN001 - ZoneInfo
     return value.astimezone(tz).strftime("%H:%M")
 
 
+SEARCH_LIMIT = 7
+"""Largest run of back-to-back checks whose every order is tried (7! = 5,040 orders)."""
+
+
+def _times(run: list[RotaCheck], free: datetime | None, duration: timedelta) -> list[datetime]:
+    """Earliest placement of ``run`` in this order: each at its due time or when free."""
+    out = []
+    for c in run:
+        due = _utc(c.due)
+        t = due if free is None or free <= due else free
+        out.append(t)
+        free = t + duration
+    return out
+
+
+def _cost(run: list[RotaCheck], times: list[datetime]) -> tuple[int, float]:
+    """(checks outside their window, total minutes late) of one placement."""
+    missed = 0
+    late = 0.0
+    for c, t in zip(run, times, strict=True):
+        over = (t - _utc(c.due)).total_seconds() / 60.0
+        missed += over > c.tolerance_min
+        late += over
+    return missed, late
+
+
 def _stagger(
     checks: list[RotaCheck], duration: timedelta, tz
 ) -> tuple[list[RotaCheck], list[Unmet]]:  # noqa: ANN001
-    """Place one nurse's checks: earliest due, then earliest deadline, then bed."""
-    placed: list[RotaCheck] = []
-    unmet: list[Unmet] = []
-    free_at: datetime | None = None
-    busy_bed: int | None = None
+    """Place one nurse's checks, never two at once, each as close to its due time as can be.
+
+    Checks are taken by due time, then deadline, then bed, in runs: a run is a stretch the
+    nurse works back to back (each check falls due before the one before it is done).
+    Where the plain order leaves a check of a run outside its window and the run has at
+    most :data:`SEARCH_LIMIT` checks, every order of the run is tried and the one with the
+    fewest checks outside their windows, then the least total lateness, is kept (placing
+    checks at their earliest possible times is best for a given order, so this finds the
+    best placement of the run).
+    """
+    from itertools import permutations
+
     ordered = sorted(
         checks,
         key=lambda c: (_utc(c.due), _utc(c.due) + timedelta(minutes=c.tolerance_min), c.bed),
     )
-    for c in ordered:
-        due = _utc(c.due)
-        deadline = due + timedelta(minutes=c.tolerance_min)
-        time = due if free_at is None or free_at <= due else free_at
+    sequence: list[tuple[RotaCheck, datetime]] = []
+    free: datetime | None = None
+    i = 0
+    while i < len(ordered):
+        run = [ordered[i]]
+        finish = max(_utc(ordered[i].due), free or _utc(ordered[i].due)) + duration
+        j = i + 1
+        while j < len(ordered) and _utc(ordered[j].due) < finish:
+            finish = max(_utc(ordered[j].due), finish) + duration
+            run.append(ordered[j])
+            j += 1
+        times = _times(run, free, duration)
+        best = (_cost(run, times), run, times)
+        if best[0][0] and len(run) <= SEARCH_LIMIT:
+            for order in permutations(run):
+                candidate = list(order)
+                t = _times(candidate, free, duration)
+                cost = _cost(candidate, t)
+                if cost < best[0]:
+                    best = (cost, candidate, t)
+        sequence.extend(zip(best[1], best[2], strict=True))
+        free = best[2][-1] + duration
+        i = j
+    placed: list[RotaCheck] = []
+    unmet: list[Unmet] = []
+    busy_bed: int | None = None
+    for c, time in sequence:
+        deadline = _utc(c.due) + timedelta(minutes=c.tolerance_min)
         ok = time <= deadline
         rc = RotaCheck(
             time=time.astimezone(tz),
@@ -186,7 +243,6 @@ def _stagger(
                     f"due); placed {rc.late_min:g} min late",
                 )
             )
-        free_at = time + duration
         busy_bed = c.bed
     return placed, unmet
 
