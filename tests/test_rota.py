@@ -162,3 +162,10 @@ def test_tight_checks_go_first_when_that_meets_every_window():
     placed = [(c.bed, c.due.strftime("%H:%M"), c.time.strftime("%H:%M")) for c in rota.checks]
     assert placed == [(2, "11:01", "11:01"), (3, "11:01", "11:06"), (1, "11:00", "11:11")]
     assert rota.unmet == []
+
+
+def test_beds_without_a_nurse_are_named():
+    # STAFF names nobody for bed 4 on any shift.
+    unit = make_unit("Europe/London", [sheath_patient(4, "2026-12-01T08:00")], staff=STAFF)
+    rota = build_rota(unit, PROTOCOL, _utc("2026-12-01T18:00Z"), _utc("2026-12-01T21:00Z"))
+    assert rota.unstaffed == [(4, "DEMO-94", ["day", "night"])]

@@ -117,6 +117,10 @@ def test_risk_json_contract(unit_file):
     assert res.exit_code == 0, res.output
     doc = json.loads(res.output)
     assert doc["caution"] == CAUTION
+    # REFERENCES.md: no validated risk score for limb ischaemia on mechanical support exists.
+    assert doc["statement"].startswith("Not a validated score")
+    table = _run("risk", unit_file, "--at", "2026-03-08T06:00").output
+    assert CAUTION in table and doc["statement"] in table
     by_ref = {p["ref"]: p for p in doc["patients"]}
     for p in doc["patients"]:
         assert {"ref", "bed", "tier", "sar", "dpc_advised", "reasons"} <= set(p)
@@ -168,8 +172,9 @@ def test_rota_json_times_and_stagger(unit_file):
     for times in by_nurse.values():
         times.sort()
         assert all(b - a >= timedelta(minutes=5) for a, b in zip(times, times[1:], strict=False))
-    # Nobody has bed 4: its checks are kept, marked unassigned.
+    # Nobody has bed 4: its checks are kept, marked unassigned, and the bed is named.
     assert {c["nurse"] for c in doc["checks"] if c["bed"] == 4} == {"unassigned"}
+    assert {"bed": 4, "ref": "DEMO-84", "shifts": ["early", "night"]} in doc["unstaffed"]
     # Handovers at 23:00 EST and 07:00 EDT (8 real hours apart: 23:00-07:00 loses an hour).
     assert [h["at"] for h in doc["handovers"]] == [
         "2026-03-07T23:00:00-05:00",

@@ -14,8 +14,8 @@ from zoneinfo import ZoneInfo
 
 from vascplan.safety import CAUTION
 from vascplan.surveillance.protocol import Protocol
-from vascplan.surveillance.risk import RiskAssessment
-from vascplan.surveillance.rota import Rota, RotaCheck
+from vascplan.surveillance.risk import RiskAssessment, load_rules
+from vascplan.surveillance.rota import UNASSIGNED, Rota, RotaCheck
 
 PRODID = "-//vascplan//limb-check rota//EN"
 ALARM_BEFORE_MIN = 5
@@ -56,6 +56,7 @@ def risk_to_dict(assessments: list[RiskAssessment], at: datetime, unit_name: str
             }
             for a in assessments
         ],
+        "statement": load_rules().statement,
         "caution": CAUTION,
         "assumptions": assumptions,
     }
@@ -63,7 +64,12 @@ def risk_to_dict(assessments: list[RiskAssessment], at: datetime, unit_name: str
 
 def risk_table(assessments: list[RiskAssessment], at: datetime, unit_name: str) -> str:
     """A readable risk summary; ``*`` marks a SAR built on a reference diameter."""
-    lines = [f"Limb-ischaemia risk, {unit_name}, at {iso(at)}", f"Caution: {CAUTION}", ""]
+    lines = [
+        f"Limb-ischaemia risk, {unit_name}, at {iso(at)}",
+        f"Caution: {CAUTION}",
+        load_rules().statement,
+        "",
+    ]
     lines.append(f"{'bed':>3}  {'ref':<10} {'tier':<8} {'SAR':>6}  {'DPC':<22}")
     for a in assessments:
         sar = "-" if a.sar is None else f"{a.sar:.2f}" + ("" if a.vessel_measured else "*")
@@ -117,6 +123,9 @@ def rota_to_dict(rota: Rota) -> dict[str, Any]:
             }
             for h in rota.handovers
         ],
+        "unstaffed": [
+            {"bed": bed, "ref": ref, "shifts": shifts} for bed, ref, shifts in rota.unstaffed
+        ],
         "caution": CAUTION,
         "assumptions": rota.assumptions,
     }
@@ -139,6 +148,13 @@ def rota_table(rota: Rota) -> str:
     if rota.nurse:
         head += f", nurse {rota.nurse}"
     lines = [head, f"Caution: {CAUTION}", ""]
+    for bed, ref, shifts in rota.unstaffed:
+        lines.append(
+            f"NO NURSE named for bed {bed} {ref} on the {', '.join(shifts)} shift"
+            f"{'s' if len(shifts) > 1 else ''}: its checks are listed as {UNASSIGNED}"
+        )
+    if rota.unstaffed:
+        lines.append("")
     for nurse, checks in rota.worklists().items():
         lines.append(f"== {nurse}: {len(checks)} checks")
         for c in checks:

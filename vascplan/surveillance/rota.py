@@ -99,6 +99,8 @@ class Rota:
     protocol: str = ""
     caution: str = CAUTION
     assumptions: list[str] = field(default_factory=list)
+    unstaffed: list[tuple[int, str, list[str]]] = field(default_factory=list)
+    """(bed, ref, shifts) with checks due while the unit file names no nurse for the bed."""
 
     def worklists(self) -> dict[str, list[RotaCheck]]:
         """Each nurse's checks in time order (``unassigned`` included)."""
@@ -311,6 +313,15 @@ def build_rota(
                 tier=s.tier,
             )
         )
+    gaps: dict[tuple[int, str], list[str]] = {}
+    for c in by_nurse.get(UNASSIGNED, []):
+        names = gaps.setdefault((c.bed, c.ref), [])
+        if c.shift not in names:
+            names.append(c.shift)
+    order = [s.name for s in unit.shifts]
+    unstaffed = [
+        (bed, ref, sorted(names, key=order.index)) for (bed, ref), names in sorted(gaps.items())
+    ]
     checks: list[RotaCheck] = []
     unmet: list[Unmet] = []
     for who, items in by_nurse.items():
@@ -354,4 +365,5 @@ def build_rota(
         nurse=nurse,
         protocol=protocol.name,
         assumptions=list(assumptions or []),
+        unstaffed=unstaffed if nurse in (None, UNASSIGNED) else [],
     )
