@@ -153,3 +153,15 @@ def test_dwell_is_real_elapsed_time():
     p = _patient(device={"inserted": "2026-10-23T08:10"})
     a = assess_patient(p, PROTOCOL, datetime(2026, 10, 26, 7, 10, tzinfo=UTC))
     assert a.dwell_h == 72.0 and "long-dwell" in a.factors
+
+
+def test_no_dpc_advice_once_the_device_is_out():
+    # A femoral VA-ECMO cannula that has come out needs no distal cannula; its own distal
+    # cannula, fed from the circuit, comes out with it (common practice).
+    dev = {"kind": "va-ecmo-arterial", "size_fr": 17, "label": "outer"}
+    dpc = {"size_fr": 7, "inserted": "2026-12-02T09:00"}
+    p = _patient(device={**dev, "removed": "2026-12-02T10:00"}, dpc=dpc)
+    after = assess_patient(p, PROTOCOL, datetime(2026, 12, 2, 11, 0, tzinfo=UTC))
+    assert after.dpc_advised is False and after.dpc_in_place is False
+    assert "device removed" in after.basis[0]
+    assert p.dpc_in_at(datetime(2026, 12, 2, 9, 30, tzinfo=UTC))

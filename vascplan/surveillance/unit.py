@@ -173,6 +173,20 @@ class Patient(_Strict):
             raise ValueError(f"height must be {lo:g}-{hi:g} cm")
         return value
 
+    def dpc_in_at(self, moment: datetime) -> bool:
+        """Whether the distal perfusion cannula is in at aware ``moment``.
+
+        It is in from its insertion until its own removal or the device's, whichever comes
+        first: the distal cannula is fed from the device's circuit and comes out with it
+        (common practice). Compared in UTC (same-zone datetimes compare by wall time).
+        """
+        dpc = self.dpc
+        if dpc is None:
+            return False
+        at = _utc(moment)
+        ends = [_utc(t) for t in (dpc.removed, self.device.removed) if t is not None]
+        return _utc(dpc.inserted) <= at and all(at < end for end in ends)
+
 
 class Unit(_Strict):
     """A validated unit file; every datetime in it is time-zone aware."""
