@@ -378,8 +378,9 @@ def assess_patient(patient: Patient, protocol: Protocol, at: datetime) -> RiskAs
     if removed is not None and removed <= at_utc:
         advised = False
         basis = [
-            f"device removed at {dev.removed.isoformat()}: a distal perfusion cannula is no "
-            "longer in question; the after-removal checks go on (common practice)"
+            f"device removed at {removed.astimezone(dev.inserted.tzinfo).isoformat()}: a distal "
+            "perfusion cannula is no longer in question; the after-removal checks go on "
+            "(common practice)"
         ]
     elif at_utc < inserted:
         basis.append(
