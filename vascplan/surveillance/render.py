@@ -22,6 +22,9 @@ ALARM_BEFORE_MIN = 5
 """Calendar reminder before each check [min] (unit policy; a display reminder only)."""
 
 
+_UTC_NAMES = ("UTC", "Etc/UTC", "Etc/UCT", "Etc/Zulu", "Etc/Universal", "UCT", "Universal", "Zulu")
+
+
 def iso(value: datetime) -> str:
     """ISO 8601 with seconds and UTC offset (``2026-12-01T14:20:00+00:00``)."""
     return value.isoformat(timespec="seconds")
@@ -254,14 +257,15 @@ def rota_ics(
     cal.add("x-wr-calname", f"Limb checks, {rota.unit}" + (f", {rota.nurse}" if rota.nurse else ""))
     cal.add("x-wr-caldesc", CAUTION)
     cal.add("x-wr-timezone", rota.timezone)
-    cal.add_component(
-        icalendar.Timezone.from_tzinfo(
-            tz,
-            tzid=rota.timezone,
-            first_date=(rota.start.astimezone(tz) - timedelta(days=2)).date(),
-            last_date=(rota.end.astimezone(tz) + timedelta(days=2)).date(),
+    if rota.timezone not in _UTC_NAMES:  # UTC times are written with Z, no VTIMEZONE needed
+        cal.add_component(
+            icalendar.Timezone.from_tzinfo(
+                tz,
+                tzid=rota.timezone,
+                first_date=(rota.start.astimezone(tz) - timedelta(days=2)).date(),
+                last_date=(rota.end.astimezone(tz) + timedelta(days=2)).date(),
+            )
         )
-    )
     # One object each for what every event shares; each item set's text built once.
     dtstamp = icalendar.vDDDTypes(stamp)
     categories = icalendar.vCategory(["limb-check"])
