@@ -242,8 +242,8 @@ def rota_ics(
     Speed (40 beds x 14 days, about 20,000 events): the text of each set of items is built
     once, the properties every event shares (DTSTAMP, CATEGORIES, the alarm's ACTION and
     TRIGGER) are one object each, the VTIMEZONE covers only the rota's dates, and the
-    properties are written in the order added rather than sorted (RFC 5545 s3.6 leaves
-    their order free); ``tests/bench/bench_rota.py`` gives the figures.
+    properties are written in the order added rather than sorted (their order carries no
+    meaning in RFC 5545); ``tests/bench/bench_rota.py`` gives the figures.
     """
     import icalendar
 
