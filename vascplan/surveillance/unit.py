@@ -223,6 +223,18 @@ class Unit(_Strict):
                         f"unknown shift {s!r}{did_you_mean(s, names)}; "
                         f"shifts are {', '.join(names)}",
                     )
+        holder: dict[tuple[int, str], str] = {}
+        for i, a in enumerate(self.staff):
+            for j, bed in enumerate(a.beds):
+                for s in a.shifts:
+                    other = holder.setdefault((bed, s), a.nurse)
+                    if other != a.nurse:
+                        raise InputError(
+                            source,
+                            f"staff.{i}.beds.{j}",
+                            f"bed {bed} on the {s} shift is already {other}'s; "
+                            "give each bed one nurse per shift",
+                        )
         tz = self.unit.tz
         for i, p in enumerate(self.patients):
             base = f"patients.{i}"
