@@ -5,6 +5,8 @@ from __future__ import annotations
 from datetime import UTC, datetime, timedelta
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from tests.surv_factory import PROTOCOL, make_unit, sheath_patient
 from vascplan.errors import InputError
@@ -169,3 +171,54 @@ def test_beds_without_a_nurse_are_named():
     unit = make_unit("Europe/London", [sheath_patient(4, "2026-12-01T08:00")], staff=STAFF)
     rota = build_rota(unit, PROTOCOL, _utc("2026-12-01T18:00Z"), _utc("2026-12-01T21:00Z"))
     assert rota.unstaffed == [(4, "DEMO-94", ["day", "night"])]
+
+
+def _brute_force_missed(dues_min, tolerances_min, duration_min):
+    """Fewest checks outside their windows over every order (written apart from rota.py)."""
+    from itertools import permutations
+
+    best = len(dues_min)
+    for order in permutations(range(len(dues_min))):
+        free, missed = None, 0
+        for k in order:
+            start = dues_min[k] if free is None else max(free, dues_min[k])
+            missed += start - dues_min[k] > tolerances_min[k]
+            free = start + duration_min
+        best = min(best, missed)
+    return best
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    st.lists(
+        st.tuples(st.integers(0, 30), st.sampled_from([5, 10, 15, 20])), min_size=1, max_size=5
+    )
+)
+def test_stagger_meets_as_many_windows_as_any_order(spec):
+    from vascplan.surveillance.rota import RotaCheck, _stagger
+
+    t0 = datetime(2026, 12, 1, 10, 0, tzinfo=UTC)
+    checks = [
+        RotaCheck(
+            time=t0 + timedelta(minutes=due),
+            due=t0 + timedelta(minutes=due),
+            bed=bed,
+            ref=f"DEMO-{bed}",
+            nurse="RN-A",
+            phase="p",
+            items=[],
+            shift="day",
+            interval_min=60,
+            tolerance_min=tol,
+            tier="standard",
+        )
+        for bed, (due, tol) in enumerate(spec, start=1)
+    ]
+    duration = timedelta(minutes=5)
+    placed, unmet = _stagger(checks, duration, UTC)
+    assert sorted(c.bed for c in placed) == [c.bed for c in checks]  # none lost or doubled
+    times = sorted(c.time for c in placed)
+    assert all(b - a >= duration for a, b in zip(times, times[1:], strict=False))
+    assert all(c.time >= c.due for c in placed)
+    assert {u.check.bed for u in unmet} == {c.bed for c in placed if not c.within_window}
+    assert len(unmet) == _brute_force_missed([d for d, _ in spec], [t for _, t in spec], 5)
