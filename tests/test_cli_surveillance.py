@@ -87,7 +87,7 @@ def test_rota_nurse_ics_to_file(tmp_path):
 def test_rota_csv():
     res = _run("rota", DEMO, "--from", "2026-12-02T07:30", "--hours", "2", "--format", "csv")
     assert res.exit_code == 0
-    assert res.output.splitlines()[1].startswith("time,due,bed,ref,nurse,phase,items")
+    assert res.output.splitlines()[0].startswith("time,due,bed,ref,nurse,phase,items")
 
 
 def test_rota_errors_are_one_line():

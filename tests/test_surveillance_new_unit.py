@@ -268,10 +268,17 @@ def test_bad_options_are_one_line(unit_file, args, line):
 def test_csv_and_table_and_nurse_filter(unit_file):
     res = _run("rota", unit_file, "--from", "2026-03-08T07:00", "--hours", "8", "--format", "csv")
     assert res.exit_code == 0
-    lines = res.output.splitlines()
-    assert lines[0] == f"# {CAUTION}"
-    rows = list(csv.DictReader(io.StringIO("\n".join(lines[1:]))))
+    rows = list(csv.DictReader(io.StringIO(res.output)))  # the header is the first line
     assert rows and list(rows[0])[:7] == ["time", "due", "bed", "ref", "nurse", "phase", "items"]
+    assert all(r["caution"] == CAUTION for r in rows)
+    json_doc = json.loads(
+        _run(
+            "rota", unit_file, "--from", "2026-03-08T07:00", "--hours", "8", "--format", "json"
+        ).output
+    )
+    assert [(r["time"], r["bed"]) for r in rows] == [
+        (c["time"], str(c["bed"])) for c in json_doc["checks"]
+    ]
     res = _run("rota", unit_file, "--from", "2026-03-08T07:00", "--hours", "8", "--nurse", "JD")
     assert res.exit_code == 0 and CAUTION in res.output
     assert "== JD:" in res.output and "== MK" not in res.output and "unassigned" not in res.output

@@ -74,10 +74,14 @@ def test_csv_and_table_carry_the_caution():
 
     rota = _rota()
     text = rota_csv(rota)
-    assert text.splitlines()[0] == f"# {CAUTION}"
-    frame = pd.read_csv(io.StringIO(text), comment="#")
+    frame = pd.read_csv(io.StringIO(text))
     assert len(frame) == len(rota.checks)
+    assert set(frame["caution"]) == {CAUTION}
     assert CAUTION in rota_table(rota)
+    # No checks: the header, then the caution as a comment line.
+    empty = _rota("2026-10-24T08:00:30Z", "2026-10-24T08:01Z")
+    assert empty.checks == []
+    assert rota_csv(empty).splitlines()[1] == f"# {CAUTION}"
 
 
 def test_ics_in_utc_has_no_timezone_block():

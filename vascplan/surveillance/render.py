@@ -184,31 +184,40 @@ def rota_table(rota: Rota) -> str:
     return "\n".join(lines) + "\n"
 
 
+CSV_COLUMNS = (
+    "time",
+    "due",
+    "bed",
+    "ref",
+    "nurse",
+    "phase",
+    "items",
+    "shift",
+    "tier",
+    "interval_min",
+    "tolerance_min",
+    "within_window",
+    "caution",
+)
+"""Columns of ``rota --format csv``, the header on the first line (items joined by ``;``)."""
+
+
 def rota_csv(rota: Rota) -> str:
-    """One row per check; the caution is the first line, as a comment."""
+    """One row per check after the header; the caution is the last column of every row.
+
+    A rota without checks is the header and the caution as a ``#`` comment line.
+    """
     import pandas as pd  # tabular export only; kept out of start-up
 
     rows = []
     for c in rota.checks:
         d = _check_dict(c)
         d["items"] = ";".join(c.items)
+        d["caution"] = CAUTION
         rows.append(d)
-    columns = [
-        "time",
-        "due",
-        "bed",
-        "ref",
-        "nurse",
-        "phase",
-        "items",
-        "shift",
-        "tier",
-        "interval_min",
-        "tolerance_min",
-        "within_window",
-    ]
-    frame = pd.DataFrame(rows, columns=columns)
-    return f"# {CAUTION}\n" + frame.to_csv(index=False, lineterminator="\n")
+    frame = pd.DataFrame(rows, columns=list(CSV_COLUMNS))
+    text = frame.to_csv(index=False, lineterminator="\n")
+    return text if rows else text + f"# {CAUTION}\n"
 
 
 def _ics_time(value: datetime) -> datetime:
