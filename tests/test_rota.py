@@ -222,3 +222,19 @@ def test_stagger_meets_as_many_windows_as_any_order(spec):
     assert all(c.time >= c.due for c in placed)
     assert {u.check.bed for u in unmet} == {c.bed for c in placed if not c.within_window}
     assert len(unmet) == _brute_force_missed([d for d, _ in spec], [t for _, t in spec], 5)
+
+
+def test_window_edges_do_not_move_staggered_checks():
+    # Beds 1-3 (in 10:00) are q15, all due 10:15; bed 4 (in 07:20) is due 10:20. One nurse:
+    # a window from 10:18 still sees the nurse busy with the 10:15 run, as a longer one does.
+    patients = [sheath_patient(b, "2026-12-01T10:00") for b in (1, 2, 3)]
+    patients.append(sheath_patient(4, "2026-12-01T07:20"))
+    staff = [{"nurse": "RN-A", "beds": [1, 2, 3, 4], "shifts": ["day"]}]
+    unit = make_unit("Europe/London", patients, staff=staff)
+    long = build_rota(unit, PROTOCOL, _utc("2026-12-01T10:00Z"), _utc("2026-12-01T12:00Z"))
+    short = build_rota(unit, PROTOCOL, _utc("2026-12-01T10:18Z"), _utc("2026-12-01T10:50Z"))
+    key = {(c.bed, c.due): c.time for c in long.checks}
+    assert short.checks and all(key[(c.bed, c.due)] == c.time for c in short.checks)
+    assert all(_utc("2026-12-01T10:18Z") <= c.due for c in short.checks)
+    bed4 = next(c for c in short.checks if c.bed == 4)
+    assert bed4.due.strftime("%H:%M") == "10:20" and bed4.time > bed4.due

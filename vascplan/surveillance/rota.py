@@ -267,7 +267,9 @@ def build_rota(
     protocol : Protocol
         The unit's protocol (phases, tolerances, ``check_duration_min``).
     start, end : datetime
-        Aware window bounds.
+        Aware window bounds: the rota holds the checks due in ``[start, end)``, placed
+        together with those due a few hours either side, so a window's edges never move
+        a staggered check.
     nurse : str, optional
         Keep only this nurse's checks (staggering is the same as for the whole unit).
     assumptions : list of str, optional
@@ -292,7 +294,10 @@ def build_rota(
         )
     tz = unit.unit.tz
     clock = ShiftClock(unit, start, end)
-    scheduled: list[ScheduledCheck] = unit_schedule(unit, protocol, start, end)
+    # Stagger with the checks just outside the window too, so that a window starting or
+    # ending inside a run of back-to-back checks places them as a longer window would.
+    margin = timedelta(minutes=120 + max(b.tolerance_min for b in protocol.tolerance))
+    scheduled: list[ScheduledCheck] = unit_schedule(unit, protocol, start - margin, end + margin)
     duration = timedelta(minutes=protocol.check_duration_min.value)
     by_nurse: dict[str, list[RotaCheck]] = defaultdict(list)
     for s in scheduled:
@@ -313,8 +318,13 @@ def build_rota(
                 tier=s.tier,
             )
         )
+    s_utc, e_utc = _utc(start), _utc(end)
+
+    def inside(c: RotaCheck) -> bool:
+        return s_utc <= _utc(c.due) < e_utc
+
     gaps: dict[tuple[int, str], list[str]] = {}
-    for c in by_nurse.get(UNASSIGNED, []):
+    for c in filter(inside, by_nurse.get(UNASSIGNED, [])):
         names = gaps.setdefault((c.bed, c.ref), [])
         if c.shift not in names:
             names.append(c.shift)
@@ -331,6 +341,8 @@ def build_rota(
         placed, missed = _stagger(items, duration, tz)
         checks.extend(placed)
         unmet.extend(missed)
+    checks = [c for c in checks if inside(c)]
+    unmet = [u for u in unmet if inside(u.check)]
     if nurse is not None:
         checks = [c for c in checks if c.nurse == nurse]
         unmet = [u for u in unmet if u.check.nurse == nurse]
