@@ -87,7 +87,7 @@ def test_rota_nurse_ics_to_file(tmp_path):
 def test_rota_csv():
     res = _run("rota", DEMO, "--from", "2026-12-02T07:30", "--hours", "2", "--format", "csv")
     assert res.exit_code == 0
-    assert res.output.splitlines()[1].startswith("time,due,bed,ref,nurse,phase,items")
+    assert res.output.splitlines()[0].startswith("time,due,bed,ref,nurse,phase,items")
 
 
 def test_rota_errors_are_one_line():
@@ -181,3 +181,29 @@ def test_demo_step_with_the_demo_runner(tmp_path):
     )
     assert [p.name for p in written][-1] == "surveillance-rota.ics"
     assert lines[0] == "[1/1] limb surveillance"
+
+
+def test_own_protocol_next_to_the_unit_file_errors_name_it(tmp_path, monkeypatch):
+    from vascplan.paths import data_dir
+
+    proto = (data_dir() / "protocols" / "standard.yaml").read_text()
+    bad = proto.replace("every_min: {maintenance: 30}\n", "every_min: {maintenance: 90}\n", 1)
+    assert bad != proto
+    ward = tmp_path / "ward"
+    ward.mkdir()
+    (ward / "ours.yaml").write_text(bad)
+    text = (examples_dir() / "unit-demo.yaml").read_text()
+    (ward / "unit.yaml").write_text(text.replace("protocol: standard", "protocol: ours.yaml"))
+    monkeypatch.chdir(tmp_path)  # the protocol path is relative to the unit file, not here
+    res = _run("risk", "ward/unit.yaml", "--at", "2026-12-02T13:00")
+    assert res.exit_code == 2
+    assert res.output.strip() == (
+        "error: ward/ours.yaml: tiers.raised.every_min.maintenance: a tier may only tighten "
+        "a phase: every_min must be 1-60 (got 90)"
+    )
+    (ward / "unit.yaml").write_text(text.replace("protocol: standard", "protocol: theirs.yaml"))
+    res = _run("rota", "ward/unit.yaml", "--from", "2026-12-02T07:30", "--hours", "1")
+    assert res.exit_code == 2
+    assert res.output.strip() == (
+        "error: ward/unit.yaml: protocol: protocol file 'ward/theirs.yaml' not found"
+    )

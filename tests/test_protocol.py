@@ -243,3 +243,20 @@ def test_no_phase_after_removal(tmp_path):
     p = tmp_path / "proto.yaml"
     p.write_text(head + "\n# A risk tier" + rest.replace(", post-removal-60: 30", ""))
     assert _message(p) == "proto.yaml: phases: needs at least one phase after removal"
+
+
+def test_arm_and_leg_items_by_limb():
+    # Axillary/subclavian access puts the arm at risk, femoral access the leg (common practice).
+    p = load_protocol("standard", "unit.yaml")
+    leg = p.items_for("microaxial-pump", nirs_monitored=True, dpc_in_place=False)
+    arm = p.items_for("microaxial-pump", nirs_monitored=True, dpc_in_place=False, limb="arm")
+    assert {"pulses", "calf", "nirs"} <= set(leg) and not {"arm-pulses", "forearm"} & set(leg)
+    assert {"arm-pulses", "forearm", "access-site", "pump-position"} <= set(arm)
+    assert not {"pulses", "calf", "nirs"} & set(arm)
+
+
+def test_unknown_limb_is_one_line(tmp_path):
+    path = _variant(tmp_path, "    limb: arm\n", "    limb: hand\n")
+    assert _message(path) == (
+        "proto.yaml: items.12.limb: Input should be 'leg', 'arm' or 'any' (got 'hand')"
+    )

@@ -111,9 +111,17 @@ def test_dpc_not_advised_when_in_place_or_not_femoral():
 def test_dpc_for_other_devices_by_sar_or_pad():
     assert dpc_advice("microaxial-pump", 1.06, False, "female", 5.3, False)[0] is True
     assert dpc_advice("microaxial-pump", 1.04, False, "female", 5.4, False)[0] is False
-    assert dpc_advice("balloon-pump", 0.3, True, "male", 9.0, False)[0] is True
+    assert dpc_advice("large-bore-sheath", 0.5, True, "male", 9.0, False)[0] is True
     with pytest.raises(ValueError):
         dpc_advice("ecmo", 1.0, False, "male", 9.0, False)
+
+
+def test_balloon_pump_with_pad_raises_tier_but_no_dpc():
+    # A 7-8 Fr balloon pump threatening the leg is taken out or moved, not given a distal
+    # cannula (common practice); PAD still raises the tier (Cheng 2014; Alderman 1987).
+    advised, basis = dpc_advice("balloon-pump", 0.3, True, "male", 9.0, False)
+    assert advised is False
+    assert "take the pump out or move it" in basis[0]
 
 
 def test_dpc_in_place_reported_and_clinician_event():
@@ -145,3 +153,15 @@ def test_dwell_is_real_elapsed_time():
     p = _patient(device={"inserted": "2026-10-23T08:10"})
     a = assess_patient(p, PROTOCOL, datetime(2026, 10, 26, 7, 10, tzinfo=UTC))
     assert a.dwell_h == 72.0 and "long-dwell" in a.factors
+
+
+def test_no_dpc_advice_once_the_device_is_out():
+    # A femoral VA-ECMO cannula that has come out needs no distal cannula; its own distal
+    # cannula, fed from the circuit, comes out with it (common practice).
+    dev = {"kind": "va-ecmo-arterial", "size_fr": 17, "label": "outer"}
+    dpc = {"size_fr": 7, "inserted": "2026-12-02T09:00"}
+    p = _patient(device={**dev, "removed": "2026-12-02T10:00"}, dpc=dpc)
+    after = assess_patient(p, PROTOCOL, datetime(2026, 12, 2, 11, 0, tzinfo=UTC))
+    assert after.dpc_advised is False and after.dpc_in_place is False
+    assert "device removed" in after.basis[0]
+    assert p.dpc_in_at(datetime(2026, 12, 2, 9, 30, tzinfo=UTC))

@@ -74,7 +74,37 @@ def test_csv_and_table_carry_the_caution():
 
     rota = _rota()
     text = rota_csv(rota)
-    assert text.splitlines()[0] == f"# {CAUTION}"
-    frame = pd.read_csv(io.StringIO(text), comment="#")
+    frame = pd.read_csv(io.StringIO(text))
     assert len(frame) == len(rota.checks)
+    assert set(frame["caution"]) == {CAUTION}
     assert CAUTION in rota_table(rota)
+    # No checks: the header, then the caution as a comment line.
+    empty = _rota("2026-10-24T08:00:30Z", "2026-10-24T08:01Z")
+    assert empty.checks == []
+    assert rota_csv(empty).splitlines()[1] == f"# {CAUTION}"
+
+
+def test_ics_in_utc_has_no_timezone_block():
+    # RFC 5545 s3.3.5: UTC times are written with Z, so no VTIMEZONE is referenced or needed.
+    unit = make_unit("UTC", [sheath_patient(1, "2026-12-01T08:00")])
+    rota = build_rota(
+        unit, PROTOCOL, datetime(2026, 12, 1, 12, tzinfo=UTC), datetime(2026, 12, 1, 14, tzinfo=UTC)
+    )
+    cal = icalendar.Calendar.from_ical(rota_ics(rota, PROTOCOL))
+    assert cal.walk("VTIMEZONE") == []
+    assert all(ev["DTSTART"].to_ical().endswith(b"Z") for ev in cal.walk("VEVENT"))
+
+
+def test_ics_timezone_block_covers_the_rota():
+    # London's spring change (2026-03-29 01:00 GMT -> 02:00 BST) inside the rota: the block
+    # must carry it, so local times after it read as BST.
+    unit = make_unit("Europe/London", [sheath_patient(1, "2026-03-28T08:00")])
+    rota = build_rota(
+        unit, PROTOCOL, datetime(2026, 3, 28, 22, tzinfo=UTC), datetime(2026, 3, 29, 4, tzinfo=UTC)
+    )
+    cal = icalendar.Calendar.from_ical(rota_ics(rota, PROTOCOL))
+    (vtz,) = cal.walk("VTIMEZONE")
+    zone = vtz.to_tz()
+    for ev, check in zip(cal.walk("VEVENT"), rota.checks, strict=True):
+        local = ev.decoded("DTSTART").replace(tzinfo=None)
+        assert local.replace(tzinfo=zone).astimezone(UTC) == check.time.astimezone(UTC)

@@ -100,3 +100,18 @@ def test_events_localised_and_ordered(tmp_path):
     severe = "    events:\n      - {at: 2026-12-01T18:00, tier: severe}\n"
     p.write_text(MINIMAL.read_text() + severe)
     assert _message(p).startswith("unit.yaml: patients.0.events.0.tier: Input should be 'standard'")
+
+
+def test_one_nurse_per_bed_and_shift(tmp_path):
+    msg = _message(
+        _variant(
+            tmp_path,
+            "  - {nurse: RN-A, beds: [1, 2], shifts: [day]}",
+            "  - {nurse: RN-A, beds: [1, 2], shifts: [day]}\n"
+            "  - {nurse: RN-B, beds: [3, 2], shifts: [night, day]}",
+        )
+    )
+    assert msg == (
+        "unit.yaml: staff.1.beds.1: bed 2 on the day shift is already RN-A's; "
+        "give each bed one nurse per shift"
+    )

@@ -102,6 +102,11 @@ class CheckItem(_Strict):
     text: str = Field(min_length=3, max_length=300)
     devices: list[str] = Field(min_length=1)
     when: Literal["always", "nirs-monitored", "dpc-in-place"] = "always"
+    limb: Literal["leg", "arm", "any"] = Field(
+        default="any",
+        description="the limb the item examines: leg (femoral/iliac access), arm (axillary/"
+        "subclavian access) or any",
+    )
     source: str = Source
 
 
@@ -306,11 +311,30 @@ class Protocol(_Strict):
         # Every interval the protocol can produce is covered (checked at load time).
         return band[1].tolerance_min if band is not None else 0
 
-    def items_for(self, device_kind: str, nirs_monitored: bool, dpc_in_place: bool) -> list[str]:
-        """The ids of the check items for a device kind and what is in place, in file order."""
+    def items_for(
+        self,
+        device_kind: str,
+        nirs_monitored: bool,
+        dpc_in_place: bool,
+        limb: Literal["leg", "arm"] = "leg",
+    ) -> list[str]:
+        """The ids of the check items for a device kind and what is in place, in file order.
+
+        ``limb`` is the limb downstream of the access: ``leg`` for a femoral or iliac
+        device, ``arm`` for an axillary or subclavian one (``Device.limb``); items marked
+        for the other limb are left out.
+
+        >>> p = load_protocol("standard", "u")
+        >>> "arm-pulses" in p.items_for("microaxial-pump", False, False, limb="arm")
+        True
+        >>> "calf" in p.items_for("microaxial-pump", False, False, limb="arm")
+        False
+        """
         out = []
         for it in self.items:
             if "all" not in it.devices and device_kind not in it.devices:
+                continue
+            if it.limb not in ("any", limb):
                 continue
             if it.when == "nirs-monitored" and not nirs_monitored:
                 continue

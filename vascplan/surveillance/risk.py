@@ -177,7 +177,10 @@ def reference_diameter(vessel: str, sex: str) -> tuple[ReferenceDiameter, str]:
         f"{REFERENCE_MARK} ({ref.source})"
     )
     if used_sex != sex:
-        note += "; sex not given, the smaller women's value taken"
+        if table[(vessel, "male")].diameter_mm != ref.diameter_mm:
+            note += "; sex not given, the smaller women's value taken"
+        else:
+            note = note.replace(f" for {who} used", " used (the same for women and men)")
     return ref, note
 
 
@@ -325,12 +328,7 @@ def assess_patient(patient: Patient, protocol: Protocol, at: datetime) -> RiskAs
     removed = None if dev.removed is None else dev.removed.astimezone(UTC)
     end = removed if removed is not None and removed < at_utc else at_utc
     dwell_h = max(0.0, (end - inserted).total_seconds() / 3600.0)
-    dpc = patient.dpc
-    dpc_in = (
-        dpc is not None
-        and dpc.inserted.astimezone(UTC) <= at_utc
-        and (dpc.removed is None or dpc.removed.astimezone(UTC) > at_utc)
-    )
+    dpc_in = patient.dpc_in_at(at_utc)
     facts = Facts(
         dev.kind,
         dev.vessel in FEMORAL_VESSELS,
@@ -377,6 +375,18 @@ def assess_patient(patient: Patient, protocol: Protocol, at: datetime) -> RiskAs
         access_vessel=dev.vessel,
         rules=rules,
     )
+    if removed is not None and removed <= at_utc:
+        advised = False
+        basis = [
+            f"device removed at {removed.astimezone(dev.inserted.tzinfo).isoformat()}: a distal "
+            "perfusion cannula is no longer in question; the after-removal checks go on "
+            "(common practice)"
+        ]
+    elif at_utc < inserted:
+        basis.append(
+            f"assessed before the device goes in ({dev.inserted.isoformat()}): advice for "
+            "the planned device"
+        )
     if tier in protocol.tiers:
         tighter = ", ".join(
             f"{name} every {every} min" for name, every in protocol.tiers[tier].every_min.items()

@@ -99,6 +99,8 @@ class Rota:
     protocol: str = ""
     caution: str = CAUTION
     assumptions: list[str] = field(default_factory=list)
+    unstaffed: list[tuple[int, str, list[str]]] = field(default_factory=list)
+    """(bed, ref, shifts) with checks due while the unit file names no nurse for the bed."""
 
     def worklists(self) -> dict[str, list[RotaCheck]]:
         """Each nurse's checks in time order (``unassigned`` included)."""
@@ -145,22 +147,79 @@ def _hm(value: datetime, tz) -> str:  # noqa: ANN001 - ZoneInfo
     return value.astimezone(tz).strftime("%H:%M")
 
 
+SEARCH_LIMIT = 7
+"""Largest run of back-to-back checks whose every order is tried (7! = 5,040 orders)."""
+
+
+def _times(run: list[RotaCheck], free: datetime | None, duration: timedelta) -> list[datetime]:
+    """Earliest placement of ``run`` in this order: each at its due time or when free."""
+    out = []
+    for c in run:
+        due = _utc(c.due)
+        t = due if free is None or free <= due else free
+        out.append(t)
+        free = t + duration
+    return out
+
+
+def _cost(run: list[RotaCheck], times: list[datetime]) -> tuple[int, float]:
+    """(checks outside their window, total minutes late) of one placement."""
+    missed = 0
+    late = 0.0
+    for c, t in zip(run, times, strict=True):
+        over = (t - _utc(c.due)).total_seconds() / 60.0
+        missed += over > c.tolerance_min
+        late += over
+    return missed, late
+
+
 def _stagger(
     checks: list[RotaCheck], duration: timedelta, tz
 ) -> tuple[list[RotaCheck], list[Unmet]]:  # noqa: ANN001
-    """Place one nurse's checks: earliest due, then earliest deadline, then bed."""
-    placed: list[RotaCheck] = []
-    unmet: list[Unmet] = []
-    free_at: datetime | None = None
-    busy_bed: int | None = None
+    """Place one nurse's checks, never two at once, each as close to its due time as can be.
+
+    Checks are taken by due time, then deadline, then bed, in runs: a run is a stretch the
+    nurse works back to back (each check falls due before the one before it is done).
+    Where the plain order leaves a check of a run outside its window and the run has at
+    most :data:`SEARCH_LIMIT` checks, every order of the run is tried and the one with the
+    fewest checks outside their windows, then the least total lateness, is kept (placing
+    checks at their earliest possible times is best for a given order, so this finds the
+    best placement of the run).
+    """
+    from itertools import permutations
+
     ordered = sorted(
         checks,
         key=lambda c: (_utc(c.due), _utc(c.due) + timedelta(minutes=c.tolerance_min), c.bed),
     )
-    for c in ordered:
-        due = _utc(c.due)
-        deadline = due + timedelta(minutes=c.tolerance_min)
-        time = due if free_at is None or free_at <= due else free_at
+    sequence: list[tuple[RotaCheck, datetime]] = []
+    free: datetime | None = None
+    i = 0
+    while i < len(ordered):
+        run = [ordered[i]]
+        finish = max(_utc(ordered[i].due), free or _utc(ordered[i].due)) + duration
+        j = i + 1
+        while j < len(ordered) and _utc(ordered[j].due) < finish:
+            finish = max(_utc(ordered[j].due), finish) + duration
+            run.append(ordered[j])
+            j += 1
+        times = _times(run, free, duration)
+        best = (_cost(run, times), run, times)
+        if best[0][0] and len(run) <= SEARCH_LIMIT:
+            for order in permutations(run):
+                candidate = list(order)
+                t = _times(candidate, free, duration)
+                cost = _cost(candidate, t)
+                if cost < best[0]:
+                    best = (cost, candidate, t)
+        sequence.extend(zip(best[1], best[2], strict=True))
+        free = best[2][-1] + duration
+        i = j
+    placed: list[RotaCheck] = []
+    unmet: list[Unmet] = []
+    busy_bed: int | None = None
+    for c, time in sequence:
+        deadline = _utc(c.due) + timedelta(minutes=c.tolerance_min)
         ok = time <= deadline
         rc = RotaCheck(
             time=time.astimezone(tz),
@@ -186,7 +245,6 @@ def _stagger(
                     f"due); placed {rc.late_min:g} min late",
                 )
             )
-        free_at = time + duration
         busy_bed = c.bed
     return placed, unmet
 
@@ -209,7 +267,9 @@ def build_rota(
     protocol : Protocol
         The unit's protocol (phases, tolerances, ``check_duration_min``).
     start, end : datetime
-        Aware window bounds.
+        Aware window bounds: the rota holds the checks due in ``[start, end)``, placed
+        together with those due a few hours either side, so a window's edges never move
+        a staggered check.
     nurse : str, optional
         Keep only this nurse's checks (staggering is the same as for the whole unit).
     assumptions : list of str, optional
@@ -234,7 +294,10 @@ def build_rota(
         )
     tz = unit.unit.tz
     clock = ShiftClock(unit, start, end)
-    scheduled: list[ScheduledCheck] = unit_schedule(unit, protocol, start, end)
+    # Stagger with the checks just outside the window too, so that a window starting or
+    # ending inside a run of back-to-back checks places them as a longer window would.
+    margin = timedelta(minutes=120 + max(b.tolerance_min for b in protocol.tolerance))
+    scheduled: list[ScheduledCheck] = unit_schedule(unit, protocol, start - margin, end + margin)
     duration = timedelta(minutes=protocol.check_duration_min.value)
     by_nurse: dict[str, list[RotaCheck]] = defaultdict(list)
     for s in scheduled:
@@ -255,6 +318,20 @@ def build_rota(
                 tier=s.tier,
             )
         )
+    s_utc, e_utc = _utc(start), _utc(end)
+
+    def inside(c: RotaCheck) -> bool:
+        return s_utc <= _utc(c.due) < e_utc
+
+    gaps: dict[tuple[int, str], list[str]] = {}
+    for c in filter(inside, by_nurse.get(UNASSIGNED, [])):
+        names = gaps.setdefault((c.bed, c.ref), [])
+        if c.shift not in names:
+            names.append(c.shift)
+    order = [s.name for s in unit.shifts]
+    unstaffed = [
+        (bed, ref, sorted(names, key=order.index)) for (bed, ref), names in sorted(gaps.items())
+    ]
     checks: list[RotaCheck] = []
     unmet: list[Unmet] = []
     for who, items in by_nurse.items():
@@ -264,6 +341,8 @@ def build_rota(
         placed, missed = _stagger(items, duration, tz)
         checks.extend(placed)
         unmet.extend(missed)
+    checks = [c for c in checks if inside(c)]
+    unmet = [u for u in unmet if inside(u.check)]
     if nurse is not None:
         checks = [c for c in checks if c.nurse == nurse]
         unmet = [u for u in unmet if u.check.nurse == nurse]
@@ -298,4 +377,5 @@ def build_rota(
         nurse=nurse,
         protocol=protocol.name,
         assumptions=list(assumptions or []),
+        unstaffed=unstaffed if nurse in (None, UNASSIGNED) else [],
     )

@@ -133,7 +133,6 @@ def patient_schedule(
     tier: str = tiers[0][1] if tiers else "standard"
     events = _events(patient, protocol, end)
     nirs = bool(patient.baseline.nirs)
-    dpc = patient.dpc
     st = _State(protocol.phases_after("insertion"), 0, inserted, inserted)
     out: list[ScheduledCheck] = []
     k = 0  # next event
@@ -174,11 +173,7 @@ def patient_schedule(
         st.count += 1
         st.floor = None
         if due >= start_utc:
-            dpc_in = (
-                dpc is not None
-                and dpc.inserted.astimezone(UTC) <= due
-                and (dpc.removed is None or dpc.removed.astimezone(UTC) > due)
-            )
+            dpc_in = patient.dpc_in_at(due)
             out.append(
                 ScheduledCheck(
                     due=due.astimezone(tz),
@@ -187,7 +182,7 @@ def patient_schedule(
                     phase=phase.name,
                     interval_min=every,
                     tolerance_min=protocol.tolerance_min(every),
-                    items=protocol.items_for(dev.kind, nirs, dpc_in),
+                    items=protocol.items_for(dev.kind, nirs, dpc_in, dev.limb),
                     tier=tier,
                 )
             )

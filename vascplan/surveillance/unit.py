@@ -29,6 +29,9 @@ PulseGrade = Literal["palpable", "doppler", "absent"]
 ACCESS_VESSELS = ("CFA", "EIA", "SFA", "AXA", "SCA")
 """Vessels a large-bore device may sit in (common practice: femoral and axillary routes)."""
 
+ARM_VESSELS = ("AXA", "SCA")
+"""Access vessels of the arm: a device there can starve the arm, not the leg (common practice)."""
+
 _PEDAL_SITE = re.compile(r"^[LR]-(DPA|PTA|PER|ATA|POP)$")
 
 HEIGHT_RANGE_CM = (100.0, 230.0)
@@ -89,6 +92,11 @@ class Device(_Strict):
     outer_mm: float | None = Field(default=None, gt=0, le=12)
     inserted: datetime
     removed: datetime | None = None
+
+    @property
+    def limb(self) -> Literal["leg", "arm"]:
+        """The limb downstream of the access: ``arm`` for AXA/SCA, else ``leg``."""
+        return "arm" if self.vessel in ARM_VESSELS else "leg"
 
     @field_validator("vessel")
     @classmethod
@@ -165,6 +173,20 @@ class Patient(_Strict):
             raise ValueError(f"height must be {lo:g}-{hi:g} cm")
         return value
 
+    def dpc_in_at(self, moment: datetime) -> bool:
+        """Whether the distal perfusion cannula is in at aware ``moment``.
+
+        It is in from its insertion until its own removal or the device's, whichever comes
+        first: the distal cannula is fed from the device's circuit and comes out with it
+        (common practice). Compared in UTC (same-zone datetimes compare by wall time).
+        """
+        dpc = self.dpc
+        if dpc is None:
+            return False
+        at = _utc(moment)
+        ends = [_utc(t) for t in (dpc.removed, self.device.removed) if t is not None]
+        return _utc(dpc.inserted) <= at and all(at < end for end in ends)
+
 
 class Unit(_Strict):
     """A validated unit file; every datetime in it is time-zone aware."""
@@ -201,6 +223,18 @@ class Unit(_Strict):
                         f"unknown shift {s!r}{did_you_mean(s, names)}; "
                         f"shifts are {', '.join(names)}",
                     )
+        holder: dict[tuple[int, str], str] = {}
+        for i, a in enumerate(self.staff):
+            for j, bed in enumerate(a.beds):
+                for s in a.shifts:
+                    other = holder.setdefault((bed, s), a.nurse)
+                    if other != a.nurse:
+                        raise InputError(
+                            source,
+                            f"staff.{i}.beds.{j}",
+                            f"bed {bed} on the {s} shift is already {other}'s; "
+                            "give each bed one nurse per shift",
+                        )
         tz = self.unit.tz
         for i, p in enumerate(self.patients):
             base = f"patients.{i}"
@@ -294,9 +328,14 @@ def _localise(value: datetime | None, tz: ZoneInfo, source: str, field: str) -> 
             source,
             field,
             f"{value:%Y-%m-%d %H:%M} happens twice in {tz.key} (clocks go back); "
-            "give the time with its UTC offset, e.g. +01:00",
+            f"give the time with its UTC offset, e.g. {_offset(first)}",
         )
     return first
+
+
+def _offset(value: datetime) -> str:
+    """The UTC offset of an aware time as ISO 8601 writes it (``+01:00``, ``-04:00``)."""
+    return value.isoformat()[-6:]
 
 
 def parse_local_time(text: str, tz: ZoneInfo, source: str) -> datetime:
