@@ -238,15 +238,20 @@ def test_tier_change_note_with_braces_and_markup_prints_literally(tmp_path):
     assert f"From 12:00 GMT: HIGH (set by the team: {note})" in text
 
 
-def test_arm_device_sheet_says_to_check_the_arm():
+def test_arm_device_sheet_lists_the_arm_items():
     # tests/reports_unit_ny.yaml: bed 11 has a microaxial pump in the right axillary
-    # artery, bed 10 a femoral cannula. The protocol's items name the legs (pedal pulses,
-    # calf), so an arm device's sheet must send the nurse to that arm and hand as well.
+    # artery, bed 10 a femoral cannula. The standard protocol's items carry the limb they
+    # are for (data/protocols/standard.yaml): the arm device's columns are the arm's
+    # (radial and ulnar pulses, hand, forearm), the femoral device's the leg's.
     unit, protocol = load_unit_and_protocol(NY_UNIT)
-    sheets = checklist_sheets(unit, "night", date(2026, 10, 31), protocol, beds=[11, 10])
-    arm, leg = (pdf_text(render_checklist([s], generated_at=AT)) for s in sheets)
-    assert "Arm device (right AXA): check the right arm and hand too (radial pulse" in arm
-    assert "Arm device" not in leg
+    arm, leg = checklist_sheets(unit, "night", date(2026, 10, 31), protocol, beds=[11, 10])
+    arm_ids = [i for i, _ in arm.items]
+    leg_ids = [i for i, _ in leg.items]
+    assert "arm-pulses" in arm_ids and "forearm" in arm_ids
+    assert "calf" not in arm_ids and "pulses" not in arm_ids
+    assert "calf" in leg_ids and "arm-pulses" not in leg_ids
+    text = pdf_text(render_checklist([arm], generated_at=AT))
+    assert "Radial and ulnar pulses both arms" in text
 
 
 def test_shift_starting_in_the_skipped_hour_prints_a_real_time(tmp_path):

@@ -162,3 +162,20 @@ def test_support_example_prefers_the_roomy_left_groin():
     # best_site is the feasible axis with the lowest SAR, a separate fact from the ranking:
     # R-AXA 5.7 / 7.1 = 0.80 is below the left groin's 0.85.
     assert result.support["best_site"] == "R-AXA"
+
+
+def test_support_axis_outside_the_flow_model_still_plans(monkeypatch):
+    # The flow model refuses inputs outside its range (vascplan.sizing raises
+    # SizingValueError, e.g. a long stretch too narrow to carry the resting flow). The
+    # plan must still come out, that axis without a flow estimate and with the reason.
+    from vascplan.sizing import limb
+    from vascplan.sizing._tables import SizingValueError
+
+    def refuse(*_args, **_kw):
+        raise SizingValueError("vessel_mm", "outside the model")
+
+    monkeypatch.setattr(limb, "limb_flow_with_device", refuse)
+    axes = {a["site"]: a for a in plan_case(_support_case()).support["axes"]}
+    cfa = axes["R-CFA"]
+    assert cfa["distal_flow_pct"] is None and cfa["lumen_left_pct"] is None
+    assert cfa["flow_assumptions"] == ["distal flow not estimated: outside the model"]

@@ -34,7 +34,6 @@ DEVICE_NAMES = {
 
 SIDE_NAMES = {"L": "left", "R": "right"}
 
-ARM_VESSELS = ("AXA", "SCA")
 """Access vessels of the arm (the unit file's ``ACCESS_VESSELS`` that are not the leg's)."""
 
 NOT_VALIDATED = (
@@ -78,7 +77,6 @@ class ChecklistSheet:
     notes: tuple[str, ...] = field(default_factory=tuple)
     tier_changes: tuple[tuple[datetime, str, str], ...] = field(default_factory=tuple)
     """(from when, new tier, the team's note): tier events of the unit file in the shift."""
-    arm_note: str = ""
     """Said when the device sits in an arm artery: the protocol's items name the legs."""
 
 
@@ -171,7 +169,7 @@ def checklist_sheets(
         used = {i for r in rows for i in r.items}
         nirs = bool(p.baseline.nirs)
         dpc_in = p.dpc is not None
-        wanted = list(protocol.items_for(p.device.kind, nirs, dpc_in))
+        wanted = list(protocol.items_for(p.device.kind, nirs, dpc_in, limb=p.device.limb))
         item_ids = [i for i in wanted if i in used] + sorted(used - set(wanted))
         if not rows:
             item_ids = wanted
@@ -187,14 +185,6 @@ def checklist_sheets(
             for e in sorted(getattr(p, "events", ()) or (), key=lambda e: _utc(e.at))
             if _utc(start) < _utc(e.at) < _utc(end)
         )
-        arm_note = ""
-        if p.device.vessel in ARM_VESSELS:
-            side = SIDE_NAMES.get(p.device.side, p.device.side)
-            arm_note = (
-                f"Arm device ({side} {p.device.vessel}): check the {side} arm and hand too "
-                "(radial pulse, colour, warmth, sensation, movement; compare arms; "
-                "common practice)."
-            )
         notes = []
         if not rows:
             notes.append("No check falls due for this patient in this shift.")
@@ -219,7 +209,6 @@ def checklist_sheets(
                 escalation=tuple((e.finding, e.call, e.within_min) for e in protocol.escalation),
                 notes=tuple(notes),
                 tier_changes=changes,
-                arm_note=arm_note,
             )
         )
     return sheets
@@ -453,8 +442,7 @@ def _item_key(sheet: ChecklistSheet, width: float) -> Any:
     entries.append(("every (min)", "minutes of real time since the previous check"))
     entries.append(("shaded box", "not due at that check"))
     parts = [rich("<b>{h}</b>: {t}", h=h, t=t) for h, t in entries]
-    arm = rich(" <b>{n}</b>", n=sheet.arm_note) if sheet.arm_note else ""
-    return Paragraph("<b>Key.</b> " + " &#183; ".join(parts) + arm, st["tiny"])
+    return Paragraph("<b>Key.</b> " + " &#183; ".join(parts), st["tiny"])
 
 
 def escalation_box(escalation: Sequence[tuple[str, str, int]], width: float) -> Table:

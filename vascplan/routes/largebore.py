@@ -56,6 +56,7 @@ def _pad_on_side(view: VesselView, side: str) -> bool:
 def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], devices: Devices,
                 limits: dict[str, float], kind: str) -> dict[str, Any]:
     """One axis of the comparison (see the module notes for the keys)."""
+    from vascplan.sizing._tables import SizingValueError
     from vascplan.sizing.limb import limb_flow_with_device
     from vascplan.surveillance.risk import dpc_advice
 
@@ -107,13 +108,20 @@ def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], device
     vessel_mm = float(limiting["mld_mm"])
     limiting_sar = None if limiting["sar"] is None else float(limiting["sar"])
     if occupied_cm > EPS_CM and vessel_mm > 0:
-        est = limb_flow_with_device(vessel_mm, od, occupied_cm)
-        out["lumen_left_mm2"] = round(est.lumen_left_mm2, 1)
-        out["lumen_left_pct"] = round(est.lumen_left_pct, 1)
-        out["distal_flow_pct"] = {"concentric": round(est.distal_flow_pct_concentric, 1),
-                                  "eccentric": round(est.distal_flow_pct_eccentric, 1)}
-        out["flow_assumptions"] = list(est.assumptions)
-        if out["limb"] == "arm":
+        try:
+            est = limb_flow_with_device(vessel_mm, od, occupied_cm)
+        except SizingValueError as exc:
+            # Outside the flow model's range (e.g. a long stretch too narrow to carry the
+            # resting flow at all): no estimate, and the reason is shown.
+            out["flow_assumptions"] = [f"distal flow not estimated: {exc}"]
+            est = None
+        if est is not None:
+            out["lumen_left_mm2"] = round(est.lumen_left_mm2, 1)
+            out["lumen_left_pct"] = round(est.lumen_left_pct, 1)
+            out["distal_flow_pct"] = {"concentric": round(est.distal_flow_pct_concentric, 1),
+                                      "eccentric": round(est.distal_flow_pct_eccentric, 1)}
+            out["flow_assumptions"] = list(est.assumptions)
+        if est is not None and out["limb"] == "arm":
             out["flow_assumptions"].append(
                 "the limb model's resting flow and bed are the leg's; for the arm the "
                 "percentages show the narrowing only (common practice)")
