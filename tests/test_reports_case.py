@@ -108,7 +108,7 @@ def test_support_figures():
     text = pdf_text(data)
     support = plan["support"]
     assert "Large-bore support: what the device leaves for the limb" in text
-    assert f"Best axis: {support['best_site']}" in text
+    assert f"Lowest SAR among usable axes: {support['best_site']}" in text
     for ax in support["axes"]:
         assert f"{ax['site']} ({ax['limb']})" in text
         if ax["max_sar"] is not None:
