@@ -184,14 +184,16 @@ def test_risk_dpc_not_advised_when_in_place_or_removed(tmp_path):
     text = _single_bed_unit("Australia/Sydney", "2026-06-01T09:00")
     text = text.replace("kind: microaxial-pump", "kind: va-ecmo-arterial")
     with_dpc = text + "    dpc: {size_fr: 7, inserted: 2026-06-01T09:40}\n"
-    res = _run("risk", _write(tmp_path, with_dpc, "a.yaml"), "--at", "2026-06-01T10:00",
-               "--format", "json")
+    res = _run(
+        "risk", _write(tmp_path, with_dpc, "a.yaml"), "--at", "2026-06-01T10:00", "--format", "json"
+    )
     assert res.exit_code == 0, res.output
     assert json.loads(res.stdout)["patients"][0]["dpc_advised"] is False
     removed = _single_bed_unit("Australia/Sydney", "2026-06-01T09:00", "2026-06-01T11:00")
     removed = removed.replace("kind: microaxial-pump", "kind: va-ecmo-arterial")
-    res = _run("risk", _write(tmp_path, removed, "b.yaml"), "--at", "2026-06-01T12:00",
-               "--format", "json")
+    res = _run(
+        "risk", _write(tmp_path, removed, "b.yaml"), "--at", "2026-06-01T12:00", "--format", "json"
+    )
     assert res.exit_code == 0, res.output
     assert json.loads(res.stdout)["patients"][0]["dpc_advised"] is False
 
@@ -261,8 +263,9 @@ def test_spring_forward_skips_local_two_oclock(tmp_path):
 def test_phases_after_insertion_and_removal(tmp_path):
     # Standard protocol (README): 15 min for 1 h, 30 min for 2 h, hourly; after removal
     # 15 min x 4, 30 min x 4, 60 min x 4, then no more checks.
-    unit = _write(tmp_path, _single_bed_unit("Europe/Berlin", "2026-07-01T09:00",
-                                             "2026-07-01T15:00"))
+    unit = _write(
+        tmp_path, _single_bed_unit("Europe/Berlin", "2026-07-01T09:00", "2026-07-01T15:00")
+    )
     doc = _rota_json(unit, "2026-07-01T09:00", 20)
     by_phase: dict[str, list[datetime]] = {}
     for c in doc["checks"]:
@@ -369,13 +372,16 @@ def test_unstaffed_bed_and_handover(tmp_path):
 def test_csv_header_and_rows(tmp_path):
     unit = _write(tmp_path, NY_UNIT % {"ins": "2026-05-04T10:00"})
     out = tmp_path / "rota.csv"
-    res = _run("rota", unit, "--from", "2026-05-04T10:00", "--hours", "3", "--format", "csv",
-               "-o", out)
+    res = _run(
+        "rota", unit, "--from", "2026-05-04T10:00", "--hours", "3", "--format", "csv", "-o", out
+    )
     assert res.exit_code == 0, res.output
     text = out.read_text(encoding="utf-8")
     first = text.splitlines()[0]
-    assert first == ("time,due,bed,ref,nurse,phase,items,shift,tier,interval_min,tolerance_min,"
-                     "within_window,caution")
+    assert first == (
+        "time,due,bed,ref,nurse,phase,items,shift,tier,interval_min,tolerance_min,"
+        "within_window,caution"
+    )
     rows = list(csv.DictReader(io.StringIO(text)))
     doc = _rota_json(unit, "2026-05-04T10:00", 3)
     assert len(rows) == len(doc["checks"])
@@ -388,8 +394,9 @@ def test_csv_header_and_rows(tmp_path):
 def test_ics_parses_back_with_same_events(tmp_path):
     unit = _write(tmp_path, _single_bed_unit("America/New_York", "2026-10-31T12:00"))
     out = tmp_path / "rota.ics"
-    res = _run("rota", unit, "--from", "2026-10-31T22:00", "--hours", "6", "--format", "ics",
-               "-o", out)
+    res = _run(
+        "rota", unit, "--from", "2026-10-31T22:00", "--hours", "6", "--format", "ics", "-o", out
+    )
     assert res.exit_code == 0, res.output
     cal = icalendar.Calendar.from_ical(out.read_bytes())
     events = [e for e in cal.walk("VEVENT")]
@@ -438,15 +445,19 @@ def test_ambiguous_from_refused_offset_accepted(tmp_path):
 
 
 def test_unknown_field_in_unit(tmp_path):
-    unit = _write(tmp_path, (NY_UNIT % {"ins": "2026-05-04T10:00"}).replace(
-        "    pad: true\n", "    padd: true\n"))
+    unit = _write(
+        tmp_path,
+        (NY_UNIT % {"ins": "2026-05-04T10:00"}).replace("    pad: true\n", "    padd: true\n"),
+    )
     res = _run("risk", unit)
     _one_error_line(res, "unit.yaml", "patients.2.padd")
 
 
 def test_bad_device_kind(tmp_path):
-    unit = _write(tmp_path, (NY_UNIT % {"ins": "2026-05-04T10:00"}).replace(
-        "kind: balloon-pump", "kind: balloon"))
+    unit = _write(
+        tmp_path,
+        (NY_UNIT % {"ins": "2026-05-04T10:00"}).replace("kind: balloon-pump", "kind: balloon"),
+    )
     res = _run("risk", unit)
     _one_error_line(res, "unit.yaml", "patients.2.device.kind")
 
@@ -470,13 +481,18 @@ def _standard_protocol() -> str:
     ("old", "new", "field"),
     [
         ("new_cannula_restarts:", "new_cannula_restart:", "new_cannula_restart"),
-        ("every_min: {maintenance: 30}\n", "every_min: {maintenance: 90}\n",
-         "tiers.raised.every_min.maintenance"),
+        (
+            "every_min: {maintenance: 30}\n",
+            "every_min: {maintenance: 90}\n",
+            "tiers.raised.every_min.maintenance",
+        ),
         ("  - id: calf\n", "  - id: colour\n", "items"),
-        ("  - {up_to_every_min: 1440, tolerance_min: 20, source: unit policy}\n", "",
-         "tolerance"),
-        ("    every_min: 15\n    for_min: 60\n    source: common practice\n",
-         "    every_min: 15\n    for_min: 60\n", "phases.0.source"),
+        ("  - {up_to_every_min: 1440, tolerance_min: 20, source: unit policy}\n", "", "tolerance"),
+        (
+            "    every_min: 15\n    for_min: 60\n    source: common practice\n",
+            "    every_min: 15\n    for_min: 60\n",
+            "phases.0.source",
+        ),
         ("kind: ignored", "kind: ignored", "format"),
     ],
 )
@@ -489,11 +505,13 @@ def test_protocol_errors_name_the_field(tmp_path, old, new, field):
         text = text.replace(old, new, 1)
     if field == "tolerance":
         # Without the widest band, a 1440-minute interval would be uncovered; give one.
-        text = text.replace("    every_min: 60\n    source: \"hourly",
-                            "    every_min: 120\n    source: \"hourly")
+        text = text.replace(
+            '    every_min: 60\n    source: "hourly', '    every_min: 120\n    source: "hourly'
+        )
     _write(tmp_path, text, "proto.yaml")
     unit_text = _single_bed_unit("Europe/Berlin", "2026-07-01T09:00").replace(
-        "protocol: standard", "protocol: proto.yaml")
+        "protocol: standard", "protocol: proto.yaml"
+    )
     unit = _write(tmp_path, unit_text)
     res = _run("rota", unit, "--from", "2026-07-01T09:00", "--hours", "2")
     _one_error_line(res, "proto.yaml", field)
