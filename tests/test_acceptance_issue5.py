@@ -515,3 +515,22 @@ def test_protocol_errors_name_the_field(tmp_path, old, new, field):
     unit = _write(tmp_path, unit_text)
     res = _run("rota", unit, "--from", "2026-07-01T09:00", "--hours", "2")
     _one_error_line(res, "proto.yaml", field)
+
+
+def test_three_beds_due_together_report_the_one_that_cannot_be_met(tmp_path):
+    # One nurse, three 15-minute checks due at once; with 5 min per check (check_duration_min)
+    # and a 5 min window for 15-minute checks (standard.yaml), the third cannot be met.
+    text = (NY_UNIT % {"ins": "2026-05-04T10:00"}).replace(
+        "beds: [21, 22], shifts: [early, late]}\n  - {nurse: RN-Y, beds: [23], shifts: [early]}",
+        "beds: [21, 22, 23], shifts: [early, late]}",
+    )
+    unit = _write(tmp_path, text)
+    doc = _rota_json(unit, "2026-05-04T10:00", 1)
+    first = [c for c in doc["checks"] if c["due"] == "2026-05-04T10:15:00-04:00"]
+    assert len(first) == 3
+    lags = sorted(_utc(c["time"]) - _utc(c["due"]) for c in first)
+    assert lags == [timedelta(0), timedelta(minutes=5), timedelta(minutes=10)]
+    (late,) = [c for c in first if _utc(c["time"]) - _utc(c["due"]) == timedelta(minutes=10)]
+    assert late["within_window"] is False
+    unmet = [u for u in doc["unmet"] if u["due"] == late["due"] and u["bed"] == late["bed"]]
+    assert len(unmet) == 1 and unmet[0]["reason"]

@@ -595,3 +595,29 @@ def test_trend_pdf_one_page_per_patient(tmp_path):
     res = _run("obs", "trend", unit, "-o", out2, "--at", "2026-09-10T11:30", "--db", db)
     assert res.exit_code == 0, res.output
     assert len(PdfReader(str(out2)).pages) == 2
+
+
+def test_file_that_is_not_a_database_is_one_line(tmp_path):
+    # Bad input includes the database (README: exit 2 for a file, an option, the database).
+    unit, db = _unit(tmp_path), tmp_path / "notes.db"
+    db.write_text("not a database\n", encoding="utf-8")
+    res = _run("obs", "review", unit, "--at", "2026-09-10T12:00", "--db", db)
+    _one_error_line(res, "notes.db")
+    res = _run(
+        "obs",
+        "add",
+        "--unit",
+        unit,
+        "--bed",
+        3,
+        "--time",
+        "2026-09-10T09:00",
+        "--by",
+        "RN-P",
+        "--db",
+        db,
+        "--pain",
+        "1",
+    )
+    _one_error_line(res, "notes.db")
+    assert db.read_text(encoding="utf-8") == "not a database\n"
