@@ -534,3 +534,51 @@ def test_three_beds_due_together_report_the_one_that_cannot_be_met(tmp_path):
     assert late["within_window"] is False
     unmet = [u for u in doc["unmet"] if u["due"] == late["due"] and u["bed"] == late["bed"]]
     assert len(unmet) == 1 and unmet[0]["reason"]
+
+
+def test_new_cannula_restarts_after_insertion_phases(tmp_path):
+    # Issue 5: "a new cannula" re-plans from that moment; README: the after-insertion phases
+    # start again (standard.yaml new_cannula_restarts: true).
+    extra = "    dpc: {size_fr: 6, inserted: 2026-07-02T12:00}\n"
+    unit = _write(tmp_path, _single_bed_unit("Europe/Berlin", "2026-07-01T09:00", extra=extra))
+    doc = _rota_json(unit, "2026-07-02T10:00", 4)
+    dpc = datetime.fromisoformat("2026-07-02T12:00+02:00")
+    before = [c for c in doc["checks"] if _utc(c["due"]) < dpc]
+    after = [c for c in doc["checks"] if _utc(c["due"]) > dpc]
+    assert before and {c["phase"] for c in before} == {"maintenance"}
+    assert after[0]["phase"] == "post-insertion"
+    assert _utc(after[0]["due"]) - dpc <= timedelta(minutes=15)
+    firsts = [_utc(c["due"]) for c in after if c["phase"] == "post-insertion"]
+    assert all(b - a == timedelta(minutes=15) for a, b in zip(firsts, firsts[1:], strict=False))
+    # From the new cannula on, its check item is part of every check.
+    assert all("dpc" in c["items"] for c in after)
+
+
+def test_unit_file_in_json(tmp_path):
+    import yaml  # test-only: turn our YAML unit into the JSON form the issue also allows
+
+    data = yaml.safe_load(NY_UNIT % {"ins": "2026-05-04T10:00"})
+    path = tmp_path / "unit.json"
+    path.write_text(json.dumps(data, default=str), encoding="utf-8")
+    res = _run("risk", path, "--at", "2026-05-04T12:00", "--format", "json")
+    assert res.exit_code == 0, res.output
+    assert len(json.loads(res.stdout)["patients"]) == 3
+
+
+def test_handover_lists_overdue_at_shift_change(tmp_path):
+    # The handover at 19:00 lists checks that fall due within its first hour (60 min,
+    # standard.yaml handover_window_min); all due_soon entries lie in [19:00, 20:00).
+    unit = _write(tmp_path, NY_UNIT % {"ins": "2026-05-04T17:30"})
+    doc = _rota_json(unit, "2026-05-04T17:30", 4)
+    (hand,) = [h for h in doc["handovers"] if h["shift"] == "late"]
+    assert isinstance(hand["overdue"], list)
+    at = _utc(hand["at"])
+    dues = [_utc(i["due"]) for i in hand["due_soon"]]
+    assert dues and all(at <= d < at + timedelta(minutes=60) for d in dues)
+    # Every check due in that hour is on the handover list.
+    expected = {
+        (c["bed"], c["due"])
+        for c in doc["checks"]
+        if at <= _utc(c["due"]) < at + timedelta(minutes=60)
+    }
+    assert {(i["bed"], i["due"]) for i in hand["due_soon"]} == expected

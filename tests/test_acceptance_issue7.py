@@ -621,3 +621,57 @@ def test_file_that_is_not_a_database_is_one_line(tmp_path):
     )
     _one_error_line(res, "notes.db")
     assert db.read_text(encoding="utf-8") == "not a database\n"
+
+
+def test_export_to_stdout_is_data_alone(tmp_path):
+    unit, db = _unit(tmp_path), tmp_path / "obs.db"
+    _add(unit, db, 3, "2026-09-10T09:00", "--refill", "L=2")
+    res = _run("obs", "export", "--unit", unit, "--format", "fhir", "--db", db)
+    assert res.exit_code == 0, res.output
+    doc = json.loads(res.stdout)  # nothing but the Bundle on standard output
+    assert doc["resourceType"] == "Bundle"
+    (entry,) = doc["entry"]
+    assert entry["resource"]["valueQuantity"]["value"] == 2
+    assert entry["resource"]["valueQuantity"]["code"] == "s"  # UCUM seconds
+
+
+def test_correction_with_bad_value_is_refused(tmp_path):
+    unit, db = _unit(tmp_path), tmp_path / "obs.db"
+    _add(unit, db, 3, "2026-09-10T09:00", "--motor", "L=weak")
+    (orig,) = _export_rows(unit, db)
+    res = _run(
+        "obs",
+        "correct",
+        "--entry",
+        orig["entry"],
+        "--value",
+        "floppy",
+        "--by",
+        "RN-Q",
+        "--reason",
+        "typo",
+        "--db",
+        db,
+    )
+    _one_error_line(res, "--value")
+    assert len(_export_rows(unit, db)) == 1
+
+
+def test_import_with_offsets_and_other_zone_times(tmp_path):
+    # A time with an offset is taken as given (11:00 UTC is 06:00 CDT).
+    unit, db = _unit(tmp_path), tmp_path / "obs.db"
+    path = _write_csv(tmp_path, ["2026-09-10T11:00Z,3,DEMO-61,RN-P,calf,L,tense"])
+    res = _run("obs", "import", path, "--unit", unit, "--db", db)
+    assert res.exit_code == 0, res.output
+    (row,) = _export_rows(unit, db)
+    assert row["time"] == "2026-09-10T06:00:00-05:00"
+    _code, doc = _review(unit, db, "2026-09-10T06:05")
+    assert any(a["rule"] == "calf-tense" for a in _patient(doc, "DEMO-61")["alerts"])
+
+
+def test_ambiguous_import_time_refused(tmp_path):
+    # 01:30 happens twice in Chicago on 2026-11-01 (tzdata: 02:00 CDT -> 01:00 CST).
+    unit, db = _unit(tmp_path), tmp_path / "obs.db"
+    path = _write_csv(tmp_path, ["2026-11-01T01:30,3,DEMO-61,RN-P,pain,,2"])
+    res = _run("obs", "import", path, "--unit", unit, "--db", db)
+    _one_error_line(res, "checks.csv", "2", "time")
