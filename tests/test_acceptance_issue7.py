@@ -675,3 +675,108 @@ def test_ambiguous_import_time_refused(tmp_path):
     path = _write_csv(tmp_path, ["2026-11-01T01:30,3,DEMO-61,RN-P,pain,,2"])
     res = _run("obs", "import", path, "--unit", unit, "--db", db)
     _one_error_line(res, "checks.csv", "2", "time")
+
+
+@pytest.mark.parametrize(
+    ("items", "rule"),
+    [
+        (("--refill", "L=5"), "refill-slow"),  # above 3 s (standard.yaml review threshold)
+        (("--access", "L-CFA=bleeding"), "access-bleeding"),
+        (("--access", "L=haematoma"), "access-bleeding"),
+        (("--dpc", "kinked"), "dpc-fault"),
+        (("--dpc", "L-SFA=no-flow"), "dpc-fault"),
+        (("--calf", "L=tense"), "calf-tense"),
+        (("--colour", "L=mottled", "--colour", "R=normal"), "skin-change"),
+        (("--temperature", "L=cold", "--temperature", "R=warm"), "skin-change"),
+        (("--nirs", "L=54", "--nirs", "R=71"), "nirs-limb-difference"),  # 17 points >= 15
+        (("--nirs", "L=45"), "nirs-floor"),  # below 50 %
+    ],
+)
+def test_review_rules_open(tmp_path, items, rule):
+    unit, db = _unit(tmp_path), tmp_path / "obs.db"
+    _add(unit, db, 3, "2026-09-10T14:00", *items)
+    code, doc = _review(unit, db, "2026-09-10T14:05")
+    assert code == 1
+    alerts = [a for a in _patient(doc, "DEMO-61")["alerts"] if a["rule"] == rule]
+    assert alerts, _patient(doc, "DEMO-61")["alerts"]
+    assert alerts[0]["call"] and alerts[0]["source"]
+
+
+def test_review_quiet_for_normal_findings_and_unlost_signals(tmp_path):
+    # A pulse absent at baseline and still absent is not a lost signal; normal findings
+    # open nothing; an incomplete leg (no motor recorded) gets no ALI category.
+    unit, db = (
+        _unit(
+            tmp_path,
+            patients=SHEATH.replace(
+                "    vessel_mm: 6.5\n",
+                "    vessel_mm: 6.5\n    baseline: {pulses: {R-DPA: absent, R-PTA: palpable}}\n",
+            ),
+        ),
+        (tmp_path / "obs.db"),
+    )
+    _add(
+        unit,
+        db,
+        4,
+        "2026-09-10T09:00",
+        "--pulse",
+        "R-DPA=absent",
+        "--pulse",
+        "R-PTA=palpable",
+        "--sensation",
+        "R=normal",
+        "--colour",
+        "R=normal",
+        "--temperature",
+        "R=warm",
+        "--refill",
+        "R=2",
+        "--access",
+        "R-CFA=dry",
+    )
+    code, doc = _review(unit, db, "2026-09-10T09:05")
+    p = _patient(doc, "DEMO-62")
+    assert p["alerts"] == [] and code == 0
+    assert p["ali_category"] is None
+
+
+def test_review_uses_corrected_value_and_ignores_withdrawn(tmp_path):
+    unit, db = _unit(tmp_path), tmp_path / "obs.db"
+    _add(unit, db, 3, "2026-09-10T14:00", "--nirs", "L=41", "--calf", "L=tense")
+    rows = {r["item"]: r for r in _export_rows(unit, db)}
+    _code, doc = _review(unit, db, "2026-09-10T14:05")
+    rules = {a["rule"] for a in _patient(doc, "DEMO-61")["alerts"]}
+    assert {"nirs-floor", "calf-tense"} <= rules
+    res = _run(
+        "obs",
+        "correct",
+        "--entry",
+        rows["nirs"]["entry"],
+        "--value",
+        "70",
+        "--by",
+        "RN-Q",
+        "--reason",
+        "typo",
+        "--db",
+        db,
+    )
+    assert res.exit_code == 0, res.output
+    res = _run(
+        "obs",
+        "correct",
+        "--entry",
+        rows["calf"]["entry"],
+        "--withdraw",
+        "--by",
+        "RN-Q",
+        "--reason",
+        "other patient",
+        "--db",
+        db,
+    )
+    assert res.exit_code == 0, res.output
+    _code, doc = _review(unit, db, "2026-09-10T14:05")
+    rules = {a["rule"] for a in _patient(doc, "DEMO-61")["alerts"]}
+    assert not rules & {"nirs-floor", "nirs-fall", "calf-tense"}, rules
