@@ -73,7 +73,7 @@ patients:
 """
 
 
-def _run(*args: str):
+def _run(*args: object):
     return CliRunner().invoke(cli, [str(a) for a in args])
 
 
