@@ -11,7 +11,7 @@ import io
 import json
 import os
 import stat
-from datetime import datetime
+from datetime import datetime, timedelta
 from pathlib import Path
 
 import pytest
@@ -780,3 +780,56 @@ def test_review_uses_corrected_value_and_ignores_withdrawn(tmp_path):
     _code, doc = _review(unit, db, "2026-09-10T14:05")
     rules = {a["rule"] for a in _patient(doc, "DEMO-61")["alerts"]}
     assert not rules & {"nirs-floor", "nirs-fall", "calf-tense"}, rules
+
+
+def test_killed_import_lands_whole_or_not_at_all(tmp_path):
+    """SIGKILL an import part-way (issue 7): all of it or none, and what was there before.
+
+    The kill comes ever later (50 ms steps) until one import completes, so some kills land
+    while the rows are being written.
+    """
+    import signal
+    import subprocess
+    import sys
+    import time
+
+    unit, db = _unit(tmp_path), tmp_path / "obs.db"
+    _add(unit, db, 4, "2026-09-10T08:00", "--access", "R-CFA=dry")
+    rows = []
+    for i in range(1500):  # one check a minute, two findings each
+        stamp = (datetime(2026, 9, 11) + timedelta(minutes=i)).strftime("%Y-%m-%dT%H:%M")
+        rows += [f"{stamp},3,DEMO-61,RN-P,nirs,L,{60 + i % 20}", f"{stamp},3,DEMO-61,RN-P,pain,,1"]
+    path = _write_csv(tmp_path, rows, "big.csv")
+    root = Path(__file__).resolve().parent.parent
+    killed = 0
+    for delay_s in [0.3 + 0.05 * k for k in range(20)]:
+        proc = subprocess.Popen(
+            [
+                sys.executable,
+                "-m",
+                "vascplan",
+                "obs",
+                "import",
+                str(path),
+                "--unit",
+                str(unit),
+                "--db",
+                str(db),
+            ],
+            cwd=root,
+            stdout=subprocess.DEVNULL,
+            stderr=subprocess.DEVNULL,
+        )
+        time.sleep(delay_s)
+        if proc.poll() is None:
+            proc.send_signal(signal.SIGKILL)
+            killed += 1
+        proc.wait()
+        count = len(_export_rows(unit, db))
+        assert count in (1, 1 + len(rows)), count
+        print(f"kill after {delay_s:.2f} s: {count - 1} of {len(rows)} findings stored")
+        if count > 1:
+            break
+    assert killed, "no import was still running when the kill came"
+    # Whatever happened, the earlier finding is still there.
+    assert any(r["item"] == "access" for r in _export_rows(unit, db))
