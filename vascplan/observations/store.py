@@ -232,7 +232,7 @@ def open_store(db: str | None = None) -> ObservationStore:
     store = ObservationStore(engine, shown)
     try:
         store.migrate()
-    except sa.exc.OperationalError as exc:
+    except sa.exc.DatabaseError as exc:  # also a file that is not an SQLite database
         engine.dispose()
         raise StoreError(f"cannot open the observation store {shown}: {_first_line(exc)}") from None
     return store
