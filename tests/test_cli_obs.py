@@ -428,3 +428,22 @@ def test_every_obs_command_takes_db(tmp_path):
     r = run("obs", "template", "--db", tmp_path / "never.db")
     assert r.exit_code == 0 and r.output.startswith(HEADER + "\n")
     assert not (tmp_path / "never.db").exists()
+
+
+def test_reading_a_store_that_was_not_there_says_so(tmp_path, monkeypatch):
+    # A mistyped --db must not pass silently for a record with no checks in it; the note
+    # is for a person at a terminal (captured output stays the data alone).
+    from vascplan.cli import obs as obs_cli
+
+    missing = tmp_path / "obs.db"
+    quiet = CliRunner().invoke(cli, ["obs", "review", U, "--db", str(tmp_path / "other.db")])
+    assert "note:" not in quiet.stderr
+    monkeypatch.setattr(obs_cli, "_stderr_is_terminal", lambda: True)
+    r = CliRunner().invoke(cli, ["obs", "review", U, "--db", str(missing)])
+    assert r.exit_code in (0, 1)
+    assert (
+        f"note: there was no observation store at {missing}; a new empty one was made, "
+        "so no check is on record (check --db)"
+    ) in r.stderr
+    again = CliRunner().invoke(cli, ["obs", "review", U, "--db", str(missing)])
+    assert "note: there was no observation store" not in again.stderr

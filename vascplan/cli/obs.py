@@ -24,6 +24,29 @@ def _db_option(f):
     return click.option("--db", "db", metavar="PATH-OR-URL", default=None, help=DB_HELP)(f)
 
 
+def _stderr_is_terminal() -> bool:
+    return sys.stderr.isatty()
+
+
+def _open_for_reading(db: str | None):
+    """Open the store for a command that only reads, saying so when it was not there.
+
+    A mistyped ``--db`` would otherwise pass silently for a record with no checks in it.
+    The note goes to standard error only at a terminal, so that captured output (a
+    script, a pipe) stays the data alone.
+    """
+    from vascplan.observations.store import open_store, resolve_db
+
+    _url, path = resolve_db(db)
+    if path is not None and not path.exists() and _stderr_is_terminal():
+        click.echo(
+            f"note: there was no observation store at {path}; a new empty one was made, "
+            "so no check is on record (check --db)",
+            err=True,
+        )
+    return open_store(db)
+
+
 @click.group(epilog=f"Caution: {CAUTION}\n\nExample: vascplan obs review unit.yaml")
 def obs() -> None:
     """Record, review, plot and export limb checks.
@@ -235,11 +258,10 @@ def correct(
 def review(unit_path: str, at_text: str | None, fmt: str, db: str | None) -> None:
     """Overdue checks and deterioration per patient, with the rule, source and whom to call."""
     from vascplan.observations.review import render_table, review_unit, to_json
-    from vascplan.observations.store import open_store
 
     unit = _unit(unit_path)
     at = _at(at_text, unit)
-    with open_store(db) as store:
+    with _open_for_reading(db) as store:
         result = review_unit(unit, store, at, base_dir=_base_dir(unit_path))
     if fmt == "json":
         click.echo(json.dumps(to_json(result), indent=2, ensure_ascii=False))
@@ -262,7 +284,6 @@ def trend(
     unit_path: str, beds: tuple[int, ...], output: str, at_text: str | None, db: str | None
 ) -> None:
     """Trend PDF: each leg's NIRS, capillary refill and pedal signals, one page a patient."""
-    from vascplan.observations.store import open_store
     from vascplan.observations.trend import write_trend_pdf
 
     unit = _unit(unit_path)
@@ -270,7 +291,7 @@ def trend(
     if not patients:
         raise InputError(unit_path, "patients", "the unit file has no patients")
     at = _at(at_text, unit)
-    with open_store(db) as store:
+    with _open_for_reading(db) as store:
         write_trend_pdf(unit, store, patients, at, output, base_dir=_base_dir(unit_path))
     click.echo(f"wrote {output} ({len(patients)} pages)")
 
@@ -293,10 +314,9 @@ def trend(
 def export(unit_path: str, fmt: str, output: str | None, db: str | None) -> None:
     """Export the unit's findings: an HL7 FHIR R4 Bundle, or the long-form CSV with corrections."""
     from vascplan.fileio import atomic_write_text
-    from vascplan.observations.store import open_store
 
     unit = _unit(unit_path)
-    with open_store(db) as store:
+    with _open_for_reading(db) as store:
         rows = store.entries(unit.unit.name)
     if fmt == "csv":
         from vascplan.observations.csvio import export_rows
