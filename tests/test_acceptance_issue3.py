@@ -466,3 +466,85 @@ def test_demo_plans_bundled_cases(tmp_path: Path) -> None:
     result = CliRunner().invoke(cli, ["demo", "--out", str(tmp_path / "out")])
     assert result.exit_code == 0, result.output
     assert "DEMO-07" in result.output
+
+
+# --- route finding through grafts, the pedal loop and the arch (issue item 2) ---------------
+
+
+def _factor_names(route: dict[str, Any]) -> set[str]:
+    return {f["name"] for f in route["factors"]}
+
+
+def test_route_through_patent_graft_and_not_a_closed_one(tmp_path: Path) -> None:
+    # R-SFA occluded 2-26 cm; a patent fem-pop graft from R-CFA (3 cm) to R-POP (6 cm).
+    # Target R-POP at 10 cm: the antegrade groin route can go by the graft, so it is
+    # feasible; with the graft closed every route down the SFA meets the occlusion.
+    case = _case()
+    case["lesions"] = [{"segment": "R-SFA", "kind": "occlusion", "start_cm": 2,
+                        "length_cm": 24}]
+    case["procedure"]["target"] = {"segment": "R-POP", "at_cm": 10}
+    graft = {"name": "fp-1", "from": "R-CFA", "from_cm": 3, "to": "R-POP", "to_cm": 6,
+             "diameter_mm": 6, "patent": True}
+    case["grafts"] = [graft]
+    doc = _plan(_write(tmp_path, case))
+    via = [r for r in _routes(doc, "R-CFA", "antegrade") if "GRAFT:fp-1" in r["path"]]
+    assert via and via[0]["feasible"], via
+    assert "graft_traversal" in _factor_names(via[0])
+    graft["patent"] = False
+    doc = _plan(_write(tmp_path, case))
+    for r in _routes(doc, "R-CFA", "antegrade"):
+        assert "GRAFT:fp-1" not in r["path"] or not r["feasible"]
+        if "R-SFA" in r["path"]:
+            assert "occlusion-en-route" in _codes(r)
+
+
+def test_route_round_the_pedal_loop(tmp_path: Path) -> None:
+    # Target R-DPA at 2 cm; the R-ATA is occluded at 10-20 cm, so the straight way down the
+    # ATA meets an occlusion, and the antegrade groin route goes round the loop instead:
+    # POP > TPT > PTA > plantar arch > DPA (README: paths round the pedal loop). A 3 Fr
+    # (1.0 mm) device fits the 2.0 mm* arch.
+    case = _case()
+    case["lesions"] = [{"segment": "R-ATA", "kind": "occlusion", "start_cm": 10,
+                        "length_cm": 10}]
+    case["procedure"]["target"] = {"segment": "R-DPA", "at_cm": 2}
+    case["procedure"]["sheath"] = {"size_fr": 6, "length_cm": 11, "outer_mm": 2.62}
+    case["procedure"]["device"] = {"profile_fr": 3, "working_length_cm": 150}
+    doc = _plan(_write(tmp_path, case))
+    ante = _routes(doc, "R-CFA", "antegrade")
+    loops = [r for r in ante if "R-PLA" in r["path"]]
+    straight = [r for r in ante if "R-ATA" in r["path"]]
+    assert loops and loops[0]["feasible"], loops
+    assert loops[0]["path"][-4:] == ["R-TPT", "R-PTA", "R-PLA", "R-DPA"]
+    assert "pedal_loop" in _factor_names(loops[0])
+    assert straight and all("occlusion-en-route" in _codes(r) for r in straight)
+
+
+def test_arm_routes_cross_the_arch_from_either_side(tmp_path: Path) -> None:
+    # 5 Fr sheath outer 2.0 mm fits the 2.2 mm left radial (SAR 0.91); target R-SFA.
+    case = _case()
+    case["procedure"]["sheath"] = {"size_fr": 5, "length_cm": 10, "outer_mm": 2.0}
+    case["procedure"]["device"] = {"profile_fr": 4, "working_length_cm": 200}
+    doc = _plan(_write(tmp_path, case))
+    left = _routes(doc, "L-RAD")
+    right = _routes(doc, "R-RAD")
+    assert left and right
+    assert "L-SCA" in left[0]["path"] and "AO-ARCH" in left[0]["path"]
+    assert "BCT" in right[0]["path"] and "R-SCA" in right[0]["path"]
+    assert "arch_traversal" in _factor_names(left[0])
+    assert "arch_traversal" in _factor_names(right[0])
+
+
+def test_anticoagulation_and_prone_factors(tmp_path: Path) -> None:
+    case = _case()
+    case["lesions"] = [{"segment": "R-SFA", "kind": "occlusion", "start_cm": 6,
+                        "length_cm": 10, "proximal_cap": "tapered", "distal_cap": "tapered"}]
+    doc = _plan(_write(tmp_path, case))
+    (ante,) = _routes(doc, "R-CFA", "antegrade")
+    assert "anticoagulation" not in _factor_names(ante)
+    pop = _routes(doc, "R-POP")
+    assert pop and "prone" in _factor_names(pop[0])
+    assert "approach_distal_cap" in _factor_names(pop[0])
+    case["patient"]["anticoagulated"] = True
+    doc = _plan(_write(tmp_path, case))
+    (ante,) = _routes(doc, "R-CFA", "antegrade")
+    assert "anticoagulation" in _factor_names(ante)
