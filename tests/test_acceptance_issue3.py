@@ -548,3 +548,19 @@ def test_anticoagulation_and_prone_factors(tmp_path: Path) -> None:
     doc = _plan(_write(tmp_path, case))
     (ante,) = _routes(doc, "R-CFA", "antegrade")
     assert "anticoagulation" in _factor_names(ante)
+
+
+def test_plaque_in_puncture_zone_blocks_unless_limit_raised(tmp_path: Path) -> None:
+    # Issue item 3: site-diseased = a stenosis in the puncture zone. R-CFA 4.0 cm, puncture
+    # at 2.0 cm; a 20% plaque at 1.5-2.5 cm. With puncture_plaque_max_pct raised to 25 it
+    # is punctured beside and scores puncture_plaque instead (README).
+    case = _case()
+    case["lesions"].append({"segment": "R-CFA", "kind": "stenosis", "stenosis_pct": 20,
+                            "start_cm": 1.5, "length_cm": 1})
+    path = _write(tmp_path, case)
+    doc = _plan(path)
+    assert all("site-diseased" in _codes(r) for r in _routes(doc, "R-CFA"))
+    doc = _plan(path, "--limit", "puncture_plaque_max_pct=25")
+    (ante,) = _routes(doc, "R-CFA", "antegrade")
+    assert "site-diseased" not in _codes(ante)
+    assert "puncture_plaque" in _factor_names(ante)

@@ -388,3 +388,50 @@ def test_demo_writes_report_and_checklists(tmp_path: Path) -> None:
     for p in pdfs:
         full = p if p.is_absolute() else Path.cwd() / p
         assert full.exists() or (tmp_path / "out" / p.name).exists(), p
+
+
+def test_report_top_prints_first_routes_in_full(tmp_path: Path) -> None:
+    case = _write(tmp_path / "c.yaml", _case())
+    out = tmp_path / "r.pdf"
+    res = _run("report", str(case), "-o", str(out), "--top", "3")
+    assert res.exit_code == 0, res.output
+    text = " ".join(_pages(out))
+    assert "ranks 1-3 in full" in text
+
+
+def test_checklist_repeated_bed_printed_once(tmp_path: Path) -> None:
+    unit = _write(tmp_path / "u.yaml", _standard_tier(_unit()))
+    out = tmp_path / "c.pdf"
+    res = _run("checklist", str(unit), "--shift", "day", "--date", "2026-12-03",
+               "--bed", "2", "--bed", "2", "-o", str(out))
+    assert res.exit_code == 0, res.output
+    assert len(_pages(out)) == 1
+
+
+def test_checklist_bad_date_names_the_option(tmp_path: Path) -> None:
+    unit = _write(tmp_path / "u.yaml", _unit())
+    res = _run("checklist", str(unit), "--shift", "day", "--date", "03/12/2026",
+               "-o", str(tmp_path / "c.pdf"))
+    assert res.exit_code == 2
+    assert "--date" in res.output and "Traceback" not in res.output
+
+
+def test_failed_write_leaves_no_partial_file(tmp_path: Path, monkeypatch: Any) -> None:
+    # Issue item 3: written atomically. Make the final rename fail (a full or read-only
+    # disk at the last step): the old file stays whole and no temporary file is left.
+    import os
+
+    case = _write(tmp_path / "c.yaml", _case())
+    out = tmp_path / "r.pdf"
+    out.write_bytes(b"previous")
+
+    def refuse(*_a: Any, **_k: Any) -> None:
+        raise OSError(28, "No space left on device")
+
+    monkeypatch.setattr(os, "replace", refuse)
+    res = _run("report", str(case), "-o", str(out))
+    assert res.exit_code == 2, res.output
+    lines = res.output.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith(f"error: {out}")
+    assert out.read_bytes() == b"previous"
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["c.yaml", "r.pdf"]
