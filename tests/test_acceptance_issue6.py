@@ -273,6 +273,12 @@ def test_checklist_times_one_page_each_and_escalation(tmp_path: Path) -> None:
         assert _squash(CAUTION) in page
         assert "balloon-pump" in page or "balloon pump" in page.lower()
     assert "Bed 2" in pages[0] or "bed 2" in pages[0].lower()
+    # header: device size and side, insertion time (local), DPC, risk tier; the baseline
+    assert "8 Fr" in pages[0] and "right" in pages[0].lower()
+    assert "2026-11-30 10:20" in pages[0]
+    assert "Distal perfusion cannula" in pages[0] or "distal perfusion" in pages[0].lower()
+    assert "STANDARD" in pages[0].upper()
+    assert "R-DPA palpable" in pages[0] and "R-PTA palpable" in pages[0]
     w, h = _size(out)
     assert abs(w - A4_PT[0]) < 1 and abs(h - A4_PT[1]) < 1
 
