@@ -20,7 +20,15 @@ from typing import Any
 
 from reportlab.lib import colors
 from reportlab.lib.styles import ParagraphStyle
-from reportlab.platypus import Flowable, PageBreak, Paragraph, Spacer, Table, TableStyle
+from reportlab.platypus import (
+    Flowable,
+    KeepInFrame,
+    PageBreak,
+    Paragraph,
+    Spacer,
+    Table,
+    TableStyle,
+)
 
 from vascplan.reports.page import PageLabel, PageSetup, build_pdf, fonts, frame_box, styles
 from vascplan.reports.text import clean, para, rich, rich_para
@@ -524,6 +532,29 @@ def sheet_story(sheet: ChecklistSheet, width: float) -> list[Any]:
     return story
 
 
+ONE_SHEET_ROWS = 12
+"""A shift of up to this many checks is printed on one sheet (README), A4 or Letter."""
+
+MIN_FIT_SCALE = 0.85
+"""The least scale [1] a one-sheet shift is shrunk to so that it fits its page; a sheet
+that would need more (very long notes) runs on overleaf at full size instead."""
+
+
+def _fitted(story: list[Any], sheet: ChecklistSheet, width: float, height: float) -> list[Any]:
+    """``story`` shrunk just enough to fit one page when the shift has at most
+    :data:`ONE_SHEET_ROWS` checks and a little too much text for the page (long risk
+    reasons, the shorter US Letter); otherwise unchanged, so that the grid runs on."""
+    if len(sheet.rows) > ONE_SHEET_ROWS:
+        return story
+    total = 0.0
+    for f in story:
+        total += f.wrap(width, height)[1] + f.getSpaceBefore() + f.getSpaceAfter()
+    if total <= height or height / total < MIN_FIT_SCALE:
+        return story
+    # The page label stays outside, so the head of the page still names the patient.
+    return [story[0], KeepInFrame(width, height - 1, story[1:], mode="shrink")]
+
+
 def render_checklist(
     sheets: Sequence[ChecklistSheet], *, paper: str = "a4", generated_at: datetime | None = None
 ) -> bytes:
@@ -532,12 +563,12 @@ def render_checklist(
         raise ValueError("no patient to print")
     first = sheets[0]
     at = generated_at or datetime.now(first.shift_start.tzinfo)
-    width = frame_box(paper)[2]
+    _, _, width, height = frame_box(paper)
     story: list[Any] = []
     for n, sheet in enumerate(sheets):
         if n:
             story.append(PageBreak())
-        story += sheet_story(sheet, width)
+        story += _fitted(sheet_story(sheet, width), sheet, width, height)
     title = (
         f"Limb checks - {clean(first.unit_name)} - shift {first.shift_name} "
         f"{first.shift_start:%Y-%m-%d}"
