@@ -510,3 +510,20 @@ def test_adding_a_lesion_never_widens_an_mld(pct1, pct2, s1, s2, a, span):
     m1, m2 = t1.mld("L-SFA", a, end), t2.mld("L-SFA", a, end)
     assert m2 <= m1 + 1e-9
     assert m1 <= t1.segment("L-SFA")["diameter_mm"] + 1e-9
+
+
+def test_schema_structure_matches_the_file_format():
+    schema = json.loads(run("schema").stdout)
+    # Top-level fields of vascplan-case/1 (issue 2 Deliver 5, README field table).
+    assert set(schema["properties"]) == {"format", "patient", "vessels", "lesions", "stents",
+                                         "grafts", "avoid", "procedure", "weights", "limits"}
+    assert schema.get("additionalProperties") is False  # an unknown field is refused (README)
+    assert set(schema["required"]) == {"format", "patient"}
+    patient = schema["$defs"]["Patient"]
+    assert set(patient["required"]) == {"ref", "sex", "height_cm"}
+    assert (patient["properties"]["height_cm"]["minimum"],
+            patient["properties"]["height_cm"]["maximum"]) == (100, 230)
+    vessels = json.dumps(schema["properties"]["vessels"])
+    for sid in ALL_IDS:
+        assert f'"{sid}"' in vessels, sid
+    assert CAUTION in json.dumps(schema)

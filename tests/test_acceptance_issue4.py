@@ -301,3 +301,77 @@ def test_help_has_example():
     result = CliRunner().invoke(cli, ["sheath-flow", "--help"])
     assert result.exit_code == 0
     assert "vascplan sheath-flow --vessel-mm" in result.output
+
+
+# --- more outside checks -----------------------------------------------------------------------
+
+@pytest.mark.parametrize("kappa, ecc", [(0.2, 0.5), (0.5, 0.25), (0.7, 0.8), (0.9, 0.5)])
+def test_eccentric_annulus_against_piercy_series(kappa, ecc):
+    from vascplan.sizing.flow import annulus_factor, concentric_annulus_factor
+
+    # Piercy, Hooper and Winny (1933) series, White, Viscous Fluid Flow eq. 3-52.
+    assert annulus_factor(kappa, ecc) == pytest.approx(piercy_eccentric(kappa, ecc), rel=2e-3)
+    assert concentric_annulus_factor(kappa) == pytest.approx(bird_concentric(kappa), rel=1e-9)
+
+
+@settings(max_examples=40, deadline=None)
+@given(kappa=st.floats(0.05, 0.95), ecc=st.floats(0.0, 1.0))
+def test_concentric_and_touching_bracket_any_offset(kappa, ecc):
+    from vascplan.sizing.flow import annulus_factor
+
+    lo, hi = annulus_factor(kappa, 0.0), annulus_factor(kappa, 1.0)
+    assert lo * (1 - 1e-3) <= annulus_factor(kappa, ecc) <= hi * (1 + 1e-3)
+    assert 0 < lo < hi < 1
+
+
+def test_annulus_limits():
+    from vascplan.sizing.flow import concentric_annulus_factor
+
+    # Inner radius to zero: Hagen-Poiseuille (factor 1); gap to zero: no flow.
+    assert concentric_annulus_factor(1e-9) == pytest.approx(1.0, abs=0.05)
+    assert concentric_annulus_factor(1e-4) == pytest.approx(bird_concentric(1e-4), rel=1e-9)
+    # Narrow gap: a plane slot of width h = (1 - kappa) R and breadth 2 pi R (plane
+    # Poiseuille flow, Q = b h^3 dp / (12 mu L)) over pi R^4 dp / (8 mu L) = 4/3 (1 - kappa)^3.
+    for kappa in (0.99, 0.999):
+        assert concentric_annulus_factor(kappa) == pytest.approx(4 / 3 * (1 - kappa) ** 3,
+                                                                 rel=0.02)
+
+
+def test_dpc_turbulent_bracketed_by_fluids():
+    import fluids
+    from scipy.optimize import brentq
+
+    doc = flow_json(*ISSUE_EXAMPLE, "--dpc-fr", "12", "--dpc-cm", "10", "--driving-mmhg", "300")
+    d = doc["dpc"]["inner_mm"] / 1000
+    dp, length = 300 * MMHG_PA, 0.10
+
+    def flow_for(extra_k: float) -> float:
+        def resid(v: float) -> float:
+            f = fluids.friction_factor(Re=RHO * v * d / MU, eD=0.0)
+            return (f * length / d + extra_k) * RHO * v * v / 2 - dp
+        return brentq(resid, 1e-6, 50.0) * math.pi * d * d / 4 * 6e7
+
+    # Entrance 0.5 + exit 1.0 (Crane TP-410, from memory), plus at most Langhaar's 1.28.
+    assert flow_for(1.5 + 1.28) <= doc["dpc"]["flow_ml_min"] <= flow_for(1.5)
+
+
+def test_sheath_as_dpc_inner_label_is_exact_inner_diameter():
+    doc = flow_json(*ISSUE_EXAMPLE, "--dpc-fr", "6", "--dpc-cm", "11", "--driving-mmhg", "120",
+                    "--dpc-label", "inner")
+    # A sheath's nominal size is its inner diameter (ISO 11070:2014 s7.2): 6 Fr = 2.0 mm.
+    assert doc["dpc"]["inner_mm"] == pytest.approx(2.0, abs=1e-3)
+
+
+def test_connecting_line_lowers_the_cannula_flow():
+    alone = flow_json(*ISSUE_EXAMPLE, *DPC)["dpc"]
+    lined = flow_json(*ISSUE_EXAMPLE, *DPC, "--line-mm", "2", "--line-cm", "25")["dpc"]
+    assert lined["flow_ml_min"] < alone["flow_ml_min"]
+    assert lined["line"]["inner_mm"] == pytest.approx(2.0)
+    assert lined["line"]["length_cm"] == pytest.approx(25.0)
+
+
+def test_tiny_device_leaves_almost_all_flow():
+    doc = flow_json("--vessel-mm", "9", "--device-fr", "1", "--label", "outer",
+                    "--occupied-cm", "10")
+    assert doc["distal_flow_pct"]["concentric"] > 95
+    assert doc["distal_flow_pct"]["eccentric"] <= 100 + 1e-9
