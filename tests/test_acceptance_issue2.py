@@ -527,3 +527,24 @@ def test_schema_structure_matches_the_file_format():
     for sid in ALL_IDS:
         assert f'"{sid}"' in vessels, sid
     assert CAUTION in json.dumps(schema)
+
+
+def test_every_reference_value_has_an_assumption_with_its_source(case31):
+    doc = tree_json(case31)
+    text = "\n".join(doc["assumptions"])
+    for s in doc["segments"]:
+        for quantity in ("diameter", "length"):
+            if s[f"{quantity}_source"] == "reference":
+                line = next((a for a in doc["assumptions"]
+                             if a.startswith(f"{s['id']} {quantity}")), None)
+                assert line is not None, (s["id"], quantity)
+                assert "source" in line
+    # Measured values are not listed as assumptions.
+    assert not any(a.startswith("L-CFA diameter") for a in doc["assumptions"])
+    assert "R-POP length" not in text
+
+
+def test_version_matches_the_package():
+    import vascplan
+
+    assert vascplan.__version__ in run("--version").output

@@ -375,3 +375,44 @@ def test_tiny_device_leaves_almost_all_flow():
                     "--occupied-cm", "10")
     assert doc["distal_flow_pct"]["concentric"] > 95
     assert doc["distal_flow_pct"]["eccentric"] <= 100 + 1e-9
+
+
+# --- the route planner's large-bore mode uses the same figures (issue 4 Deliver 5) ------------
+
+SUPPORT_CASE = """\
+format: vascplan-case/1
+patient: {ref: DEMO-44, sex: female, height_cm: 163, weight_kg: 70}
+vessels:
+  L-CFA: {diameter_mm: 7.4}
+  L-EIA: {diameter_mm: 7.0}
+  R-CFA: {diameter_mm: 7.9}
+  R-EIA: {diameter_mm: 7.6, calcification: moderate}
+procedure:
+  purpose: support
+  target: {segment: AO-DESC, at_cm: 5}
+  sheath: {size_fr: 15, length_cm: 25, label: outer}
+  device: {profile_fr: 15, working_length_cm: 100, kind: va-ecmo-arterial}
+"""
+
+
+def test_planner_support_axes_match_sheath_flow(tmp_path):
+    case = tmp_path / "DEMO-44.yaml"
+    case.write_text(SUPPORT_CASE, encoding="utf-8")
+    result = CliRunner().invoke(cli, ["plan", str(case), "--format", "json"])
+    assert result.exit_code == 0, result.output
+    support = json.loads(result.stdout)["support"]
+    checked = 0
+    for axis in support["axes"]:
+        if not axis["feasible"] or axis["lumen_left_pct"] <= 0:
+            continue
+        vessel = min(s["mld_mm"] for s in axis["segments"])
+        doc = flow_json("--vessel-mm", str(vessel), "--device-fr", "15", "--label", "outer",
+                        "--outer-mm", str(axis["device_od_mm"]),
+                        "--occupied-cm", str(axis["occupied_cm"]))
+        assert axis["device_od_mm"] == pytest.approx(15 / 3, abs=0.01)  # 1 Fr = 1/3 mm
+        assert axis["lumen_left_pct"] == pytest.approx(doc["lumen_left_pct"], abs=0.1)
+        for k in ("concentric", "eccentric"):
+            assert axis["distal_flow_pct"][k] == pytest.approx(doc["distal_flow_pct"][k],
+                                                               abs=0.1)
+        checked += 1
+    assert checked >= 1
