@@ -412,6 +412,17 @@ def test_demo_runs_and_writes_into_out(tmp_path):
     assert result.exit_code == 0, result.output
     assert CAUTION in result.output.replace("\n", " ") or CAUTION in result.output
     assert out.is_dir() and any(out.iterdir())
+    # The tree step's files carry the caution (every output, HELPER_RULES) and the JSON one
+    # is the `tree --format json` contract.
+    trees = sorted(out.glob("*-tree.json"))
+    assert len(trees) >= 3
+    for path in trees:
+        doc = json.loads(path.read_text(encoding="utf-8"))
+        assert doc["caution"] == CAUTION
+        assert {"case", "segments"} <= set(doc)
+    for path in sorted(out.glob("*-tree.txt")):
+        assert CAUTION in " ".join(path.read_text(encoding="utf-8").split())
+    assert not list(out.glob("*.tmp")) and not list(out.glob(".*"))  # atomic: no leftovers
 
 
 @pytest.mark.parametrize("args", [["--help"], ["validate", "CASE"], ["tree", "CASE"]])
