@@ -447,7 +447,8 @@ def support_tables(support: Mapping[str, Any], width: float, od_assumed: bool = 
     out: list[Any] = [
         para("Large-bore support: what the device leaves for the limb", st["h2"]),
         rich_para(
-            "Device outer diameter {od} mm ({kind}: {basis}). Lowest SAR among usable axes: <b>{best}</b>.",
+            "Device outer diameter {od} mm ({kind}: {basis}). "
+            "Lowest SAR among usable axes: <b>{best}</b>.",
             cell,
             od=od,
             kind=support.get("device_kind"),
