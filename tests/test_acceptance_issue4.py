@@ -416,3 +416,12 @@ def test_planner_support_axes_match_sheath_flow(tmp_path):
                                                                abs=0.1)
         checked += 1
     assert checked >= 1
+
+
+def test_density_override_enters_the_reynolds_number():
+    doc = flow_json(*ISSUE_EXAMPLE, *DPC, "--density-kg-m3", "1050")
+    dpc = doc["dpc"]
+    d = dpc["inner_mm"] / 1000
+    v = dpc["flow_ml_min"] / 6e7 / (math.pi * d * d / 4)
+    assert dpc["reynolds"] == pytest.approx(1050 * v * d / MU, rel=2e-3)  # Re = rho v D / mu
+    assert "density_kg_m3" not in doc["reference_defaults_used"]
