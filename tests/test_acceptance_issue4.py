@@ -425,3 +425,23 @@ def test_density_override_enters_the_reynolds_number():
     v = dpc["flow_ml_min"] / 6e7 / (math.pi * d * d / 4)
     assert dpc["reynolds"] == pytest.approx(1050 * v * d / MU, rel=2e-3)  # Re = rho v D / mu
     assert "density_kg_m3" not in doc["reference_defaults_used"]
+
+
+@pytest.mark.parametrize("kappa, ecc", [(0.8958666926853863, 0.001953125), (0.97123, 0.5),
+                                        (0.98765, 0.3)])
+def test_eccentric_factor_exact_at_unrounded_ratios(kappa, ecc):
+    from vascplan.sizing.flow import annulus_factor, concentric_annulus_factor
+
+    # Found by hypothesis: the solver's cache rounded kappa to 4 decimals, which near a
+    # narrow gap (factor ~ (1 - kappa)^3) put a slightly offset annulus below the concentric
+    # one. Piercy's series (White eq. 3-52) is the outside reference.
+    f = annulus_factor(kappa, ecc)
+    assert f == pytest.approx(piercy_eccentric(kappa, ecc), rel=1e-3)
+    assert f >= concentric_annulus_factor(kappa) * (1 - 1e-4)
+
+
+def test_eccentric_factor_at_a_vanishing_gap_is_tiny_not_an_error():
+    from vascplan.sizing.flow import annulus_factor, concentric_annulus_factor
+
+    f = annulus_factor(0.99996, 0.5)  # once a ZeroDivisionError (ratio rounded to 1)
+    assert concentric_annulus_factor(0.99996) * 0.9 <= f < 1e-12
