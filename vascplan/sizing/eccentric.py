@@ -303,7 +303,11 @@ def eccentric_annulus_factor(kappa: float, eccentricity: float = 1.0) -> float:
     -----
     ``eccentricity`` 1 reads the table (:func:`touching_annulus_factor`); other values
     are solved by finite differences (tens of milliseconds, cached by the ratios
-    rounded to 4 decimals).
+    rounded to 4 decimals). The solve at the rounded radius ratio is scaled by the exact
+    concentric factor's ratio between the given and the rounded ratio: near a narrow gap
+    the factor goes as ``(1 - kappa)**3``, so rounding alone would shift it by up to about
+    1 % and could put it below the concentric flow, which no offset can pass (Piercy,
+    Hooper and Winny 1933, as in White, Viscous Fluid Flow: flow rises with eccentricity).
     """
     if not 0.0 <= eccentricity <= 1.0:
         raise ValueError(f"eccentricity must be in [0, 1], got {eccentricity}")
@@ -311,7 +315,13 @@ def eccentric_annulus_factor(kappa: float, eccentricity: float = 1.0) -> float:
         return touching_annulus_factor(kappa)
     if not 0.0 <= kappa <= 1.0:
         raise ValueError(f"kappa must be in [0, 1], got {kappa}")
-    return _cached_solve(round(kappa, 4), round(eccentricity, 4))
+    from vascplan.sizing.flow import concentric_annulus_factor
+
+    kappa_key = min(round(kappa, 4), 0.9999)  # 1.0 would be no gap at all
+    factor = _cached_solve(kappa_key, round(eccentricity, 4))
+    if 0.0 < kappa_key < 1.0:
+        factor *= concentric_annulus_factor(kappa) / concentric_annulus_factor(kappa_key)
+    return factor
 
 
 if __name__ == "__main__":  # pragma: no cover - maintenance
