@@ -17,6 +17,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from vascplan.cli import cli
+from vascplan.fileio import parse_yaml
 from vascplan.safety import CAUTION
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -468,12 +469,13 @@ def test_examples_at_least_three_valid():
 # --- MLD over a stretch (library, issue 2 Deliver 4) ----------------------------------------
 
 def _tree_from_text(text: str):
-    import yaml
 
     from vascplan.anatomy.graph import build_tree
     from vascplan.case.load import validate_case
 
-    return build_tree(validate_case("acceptance.yaml", yaml.safe_load(text)))
+    # Read as vascplan reads a file (vascplan.fileio), not with PyYAML's YAML 1.1 defaults,
+    # which take an exponent without a dot (5e-324) for text.
+    return build_tree(validate_case("acceptance.yaml", parse_yaml("acceptance.yaml", text)))
 
 
 def test_overlapping_lesions_take_the_tightest(tmp_path):

@@ -113,3 +113,11 @@ def test_pyproject_ships_every_data_folder():
         k.rsplit("/", 1)[-1] for k in shipped if k.startswith("share/vascplan/data/")
     } == folders
     assert shipped["share/vascplan/examples"] == ["examples/*"]
+
+
+def test_exponent_without_a_dot_is_a_number(tmp_path):
+    # YAML 1.2 core schema (and JSON) read 1e-3 as a float; plain integers stay integers.
+    p = tmp_path / "c.yaml"
+    p.write_text("a: 1e-3\nb: 5\nc: -2.5E+2\nd: 1e\n")
+    assert read_document(p) == {"a": 0.001, "b": 5, "c": -250.0, "d": "1e"}
+    assert isinstance(read_document(p)["b"], int)

@@ -54,6 +54,13 @@ _UniqueKeyLoader.yaml_implicit_resolvers = {
     first: [(tag, rx) for tag, rx in resolvers if tag != "tag:yaml.org,2002:timestamp"]
     for first, resolvers in yaml.SafeLoader.yaml_implicit_resolvers.items()
 }
+# YAML 1.1 (PyYAML) reads 1e-3 without a dot as text; YAML 1.2 and JSON read it as a number,
+# and so do we. Integers still resolve first (their resolver comes earlier in each list).
+_UniqueKeyLoader.add_implicit_resolver(
+    "tag:yaml.org,2002:float",
+    re.compile(r"^[-+]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)[eE][-+]?[0-9]+$"),
+    list("-+0123456789."),
+)
 
 
 def _json_pairs(pairs: list[tuple[str, Any]]) -> dict:
@@ -118,7 +125,7 @@ def read_document(path: str | os.PathLike[str], *, max_bytes: int = MAX_INPUT_BY
     if not text.strip():
         raise InputError(src, "", "file is empty")
     try:
-        data = _parse_json(src, text) if p.suffix.lower() == ".json" else _parse_yaml(src, text)
+        data = _parse_json(src, text) if p.suffix.lower() == ".json" else parse_yaml(src, text)
     except RecursionError:
         raise InputError(src, "", "nested far too deeply to be a case or unit file") from None
     if data is None:
@@ -126,7 +133,14 @@ def read_document(path: str | os.PathLike[str], *, max_bytes: int = MAX_INPUT_BY
     return data
 
 
-def _parse_yaml(src: str, text: str) -> Any:
+def parse_yaml(src: str, text: str) -> Any:
+    """Parse YAML text as every vascplan input file is read (safe, no duplicate keys).
+
+    ``src`` names the text in the :class:`InputError` of a syntax error.
+
+    >>> parse_yaml("<text>", "a: 1e-3")
+    {'a': 0.001}
+    """
     try:
         return yaml.load(text, Loader=_UniqueKeyLoader)  # noqa: S506 - safe loader subclass
     except yaml.MarkedYAMLError as exc:
@@ -152,7 +166,7 @@ def _parse_json(src: str, text: str) -> Any:
         # when the file is too big for the slower YAML parser to be worth it.
         if len(text) <= _LOCATE_DUPLICATE_MAX_CHARS:
             try:
-                _parse_yaml(src, text)
+                parse_yaml(src, text)
             except InputError as located:
                 if located.field.startswith("line ") and "duplicate key" in located.message:
                     message = located.message.replace("YAML", "JSON")
