@@ -56,3 +56,32 @@ def test_version():
 def test_unknown_command_exits_2():
     result = CliRunner().invoke(cli, ["plna"])
     assert result.exit_code == 2
+
+
+@pytest.mark.parametrize(
+    ("args", "line"),
+    [
+        (
+            ["tree", "x.yaml", "--format", "xml"],
+            "error: vascplan tree: Invalid value for '--format': 'xml' is not one of "
+            "'table', 'json'. (see vascplan tree --help)",
+        ),
+        (
+            ["validate"],
+            "error: vascplan validate: Missing argument 'CASES...'. (see vascplan validate --help)",
+        ),
+        (
+            ["plna"],
+            "error: vascplan: no command 'plna' (did you mean 'plan'?); commands are checklist, "
+            "demo, obs, plan, report, risk, rota, schema, sheath-flow, tree, validate "
+            "(see vascplan --help)",
+        ),
+    ],
+)
+def test_a_usage_mistake_is_one_line_and_exit_2(args, line):
+    # The project's error standard: one clear line naming the option and what is
+    # allowed, exit status 2, no usage dump (click's default is three lines).
+    result = CliRunner().invoke(cli, args)
+    assert result.exit_code == 2
+    assert result.stderr.strip() == line
+    assert result.stdout == ""

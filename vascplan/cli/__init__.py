@@ -7,6 +7,7 @@ Commands are registered in :data:`COMMANDS` and imported only when run, so that
 from __future__ import annotations
 
 import importlib
+import sys
 from typing import Any
 
 import click
@@ -53,6 +54,20 @@ class LazyGroup(click.Group):
         module_name, attr = entry[0].split(":")
         return getattr(importlib.import_module(module_name), attr)
 
+    def resolve_command(
+        self, ctx: click.Context, args: list[str]
+    ) -> tuple[str | None, click.Command | None, list[str]]:
+        name = args[0] if args else ""
+        if name and not name.startswith("-") and name not in COMMANDS:
+            from vascplan.fileio import did_you_mean
+
+            raise click.UsageError(
+                f"no command {name!r}{did_you_mean(name, COMMANDS)}; "
+                f"commands are {', '.join(sorted(COMMANDS))}",
+                ctx,
+            )
+        return super().resolve_command(ctx, args)
+
     def format_commands(self, ctx: click.Context, formatter: click.HelpFormatter) -> None:
         # The registry's help lines, without importing every command module.
         rows = [(name, COMMANDS[name][1]) for name in self.list_commands(ctx)]
@@ -66,8 +81,33 @@ class LazyGroup(click.Group):
             click.echo(f"error: {exc}", err=True)
             ctx.exit(2)
 
+    def main(self, *args: Any, standalone_mode: bool = True, **kwargs: Any) -> Any:
+        """Run the command; a usage mistake is one ``error:`` line and exit status 2.
+
+        Click's own handling prints the usage, a hint and the error on three lines; here a
+        mistaken option or argument gets one line that names it and what is allowed, like
+        every other input error, and points to the command's help.
+        """
+        if not standalone_mode:
+            return super().main(*args, standalone_mode=False, **kwargs)  # type: ignore[call-overload]
+        try:
+            rv = super().main(*args, standalone_mode=False, **kwargs)  # type: ignore[call-overload]
+        except click.UsageError as exc:
+            where = exc.ctx.command_path if exc.ctx is not None else "vascplan"
+            message = " ".join(exc.format_message().split())
+            click.echo(f"error: {where}: {message} (see {where} --help)", err=True)
+            sys.exit(exc.exit_code)
+        except click.ClickException as exc:
+            click.echo(f"error: {' '.join(exc.format_message().split())}", err=True)
+            sys.exit(exc.exit_code)
+        except click.Abort:
+            click.echo("Aborted.", err=True)
+            sys.exit(1)
+        sys.exit(rv if isinstance(rv, int) else 0)
+
 
 @click.group(
+    "vascplan",
     cls=LazyGroup,
     epilog=f"Caution: {CAUTION}\n\nExample: vascplan demo --out demo-output",
 )
