@@ -44,7 +44,8 @@ def plan(cases: tuple[str, ...], fmt: str, top: int | None, explain: str | None,
     routes are kept with each reason code and where. Values marked * rest on
     reference anatomy, not a measurement.
     """
-    from vascplan.routes.plan import plan_file
+    from vascplan.case.load import load_case
+    from vascplan.routes.plan import plan_case
     from vascplan.routes.settings import parse_assignments
     from vascplan.routes.sites import load_sites, site_ids_for
     from vascplan.routes.table import render_explain, render_plan
@@ -61,9 +62,13 @@ def plan(cases: tuple[str, ...], fmt: str, top: int | None, explain: str | None,
                          f"unknown site{did_you_mean(explain.upper(), sites)}; allowed: a "
                          f"site id ({', '.join(sites)}) or the segment id of one")
     progress = sys.stderr.isatty() and len(cases) > 1
+    # Every file is read and validated before anything is printed, so that one bad file
+    # in a registry review stops the run with its error line and no partial output.
+    loaded = [(path, load_case(path)) for path in cases]
     results = []
-    for i, path in enumerate(cases, start=1):
-        result = plan_file(path, weights=w, limits=lim, top=None if explain else top)
+    for i, (path, case) in enumerate(loaded, start=1):
+        result = plan_case(case, weights=w, limits=lim, top=None if explain else top,
+                           source=str(path))
         data = result.to_dict()
         if explain is not None:
             click.echo(render_explain(data, [r.to_dict() for r in result.route(explain)]), nl=False)
