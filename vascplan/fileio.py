@@ -72,21 +72,24 @@ def _json_pairs(pairs: list[tuple[str, Any]]) -> dict:
     return out
 
 
-def read_document(path: str | os.PathLike[str], *, max_bytes: int = MAX_INPUT_BYTES) -> Any:
-    """Read a YAML or JSON file into plain Python data.
+def read_text_file(
+    path: str | os.PathLike[str], *, max_bytes: int, expected: str = "a YAML or JSON file"
+) -> str:
+    """Read a whole input file as UTF-8 text, refusing what cannot be one.
 
     Parameters
     ----------
     path : path-like
-        ``.json`` files are read as JSON; anything else as YAML (JSON is valid YAML).
     max_bytes : int
         Files larger than this are refused without being read whole.
+    expected : str
+        What the file should be, for the messages (``a CSV file``).
 
     Raises
     ------
     InputError
-        Missing, too large, not UTF-8, empty, a syntax error (with its line) or a
-        duplicate key.
+        Missing, a folder or not a regular file (a pipe), too large, not UTF-8 (with the
+        line of the first bad byte).
     """
     p = Path(path)
     src = str(path)
@@ -97,9 +100,9 @@ def read_document(path: str | os.PathLike[str], *, max_bytes: int = MAX_INPUT_BY
     except OSError as exc:
         raise InputError(src, "", f"cannot read file ({exc.strerror})") from None
     if p.is_dir():
-        raise InputError(src, "", "is a folder, expected a YAML or JSON file")
+        raise InputError(src, "", f"is a folder, expected {expected}")
     if not p.is_file():
-        raise InputError(src, "", "is not a regular file, expected a YAML or JSON file")
+        raise InputError(src, "", f"is not a regular file, expected {expected}")
     if size > max_bytes:
         raise InputError(
             src, "", f"file is {size:,} bytes, far too large (at most {max_bytes:,} bytes)"
@@ -120,12 +123,32 @@ def read_document(path: str | os.PathLike[str], *, max_bytes: int = MAX_INPUT_BY
             f"line {line}",
             f"not UTF-8 text (byte {exc.start} cannot be decoded); save the file as UTF-8",
         ) from None
-    if text.startswith("\ufeff"):
-        text = text[1:]
+    return text.removeprefix("\ufeff")
+
+
+def read_document(path: str | os.PathLike[str], *, max_bytes: int = MAX_INPUT_BYTES) -> Any:
+    """Read a YAML or JSON file into plain Python data.
+
+    Parameters
+    ----------
+    path : path-like
+        ``.json`` files are read as JSON; anything else as YAML (JSON is valid YAML).
+    max_bytes : int
+        Files larger than this are refused without being read whole.
+
+    Raises
+    ------
+    InputError
+        Missing, too large, not UTF-8, empty, a syntax error (with its line) or a
+        duplicate key.
+    """
+    src = str(path)
+    text = read_text_file(path, max_bytes=max_bytes)
     if not text.strip():
         raise InputError(src, "", "file is empty")
     try:
-        data = _parse_json(src, text) if p.suffix.lower() == ".json" else parse_yaml(src, text)
+        is_json = Path(path).suffix.lower() == ".json"
+        data = _parse_json(src, text) if is_json else parse_yaml(src, text)
     except RecursionError:
         raise InputError(src, "", "nested far too deeply to be a case or unit file") from None
     if data is None:

@@ -12,9 +12,9 @@ import csv
 import io
 import os
 from collections.abc import Sequence
-from pathlib import Path
 
 from vascplan.errors import InputError
+from vascplan.fileio import read_text_file
 from vascplan.observations.findings import ITEMS, Finding, check_time, make_finding
 from vascplan.surveillance.unit import Unit
 
@@ -84,25 +84,7 @@ TPT, POP, SFA, PFA, CFA, EIA, IIA, CIA, SCA, AXA, BRA, RAD, ULN); value palpable
 
 
 def _read_text(path: str | os.PathLike[str]) -> str:
-    p = Path(path)
-    src = str(path)
-    try:
-        size = p.stat().st_size
-    except FileNotFoundError:
-        raise InputError(src, "", "file not found") from None
-    if p.is_dir():
-        raise InputError(src, "", "is a folder, expected a CSV file")
-    if size > MAX_CSV_BYTES:
-        raise InputError(
-            src, "", f"file is {size:,} bytes, larger than the {MAX_CSV_BYTES:,} allowed"
-        )
-    try:
-        text = p.read_bytes().decode("utf-8")
-    except UnicodeDecodeError as exc:
-        raise InputError(
-            src, "", f"not UTF-8 text (byte {exc.start}); save the file as UTF-8"
-        ) from None
-    return text.removeprefix("\ufeff")
+    return read_text_file(path, max_bytes=MAX_CSV_BYTES, expected="a CSV file")
 
 
 def parse_csv(path: str | os.PathLike[str], unit: Unit) -> tuple[list[Finding], list[int]]:
