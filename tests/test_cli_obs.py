@@ -447,3 +447,23 @@ def test_reading_a_store_that_was_not_there_says_so(tmp_path, monkeypatch):
     ) in r.stderr
     again = CliRunner().invoke(cli, ["obs", "review", U, "--db", str(missing)])
     assert "note: there was no observation store" not in again.stderr
+
+
+def test_a_lost_wrist_signal_below_an_axillary_device_alerts(tmp_path):
+    # tests/unit_axillary.yaml: a microaxial pump in the right axillary artery, radial and
+    # ulnar Doppler present at baseline. The arm below the device is the limb at risk
+    # (common practice): a radial signal lost at the next check opens an alert that names
+    # whom to call (the standard protocol's pulse-lost criterion).
+    unit = str(Path(__file__).parent / "unit_axillary.yaml")
+    db = tmp_path / "o.db"
+    r = run("obs", "add", "--unit", unit, "--bed", "2", "--time", "2026-12-01T11:00",
+            "--by", "RN-Q", "--pulse", "R-RAD=absent", "--pulse", "R-ULN=doppler", "--db", db)
+    assert r.exit_code == 0, r.output
+    r = run("obs", "review", unit, "--at", "2026-12-01T11:05", "--format", "json", "--db", db)
+    alerts = json.loads(r.stdout)["patients"][0]["alerts"]
+    lost = [a for a in alerts if a["rule"] == "wrist-signal-lost"]
+    assert [a["detail"] for a in lost] == [
+        "R-RAD absent at 11:00; was present at baseline (unit file)"
+    ]
+    assert lost[0]["call"].startswith("Doctor in charge of the patient; vascular surgeon")
+    assert r.exit_code == 1

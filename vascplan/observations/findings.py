@@ -21,6 +21,8 @@ from vascplan.fileio import did_you_mean
 SIDES = ("L", "R")
 PEDAL_ARTERIES = ("DPA", "PTA", "PER", "ATA")
 """Arteries whose signal at the ankle or foot counts as a pedal signal."""
+WRIST_ARTERIES = ("RAD", "ULN")
+"""Arteries whose signal at the wrist is watched below an axillary or subclavian device."""
 ARTERIES = (
     *PEDAL_ARTERIES,
     *("PLA", "TPT", "POP", "SFA", "PFA", "CFA", "EIA", "IIA", "CIA"),

@@ -23,7 +23,7 @@ from typing import Any
 
 from vascplan.observations.abi import AbiResult, ankle_brachial_index, arm_sites
 from vascplan.observations.ali import AliResult, classify_leg, worst
-from vascplan.observations.findings import PEDAL_ARTERIES, SIDES
+from vascplan.observations.findings import PEDAL_ARTERIES, SIDES, WRIST_ARTERIES
 from vascplan.observations.store import CurrentFinding, ObservationStore
 from vascplan.safety import CAUTION
 from vascplan.surveillance.protocol import Protocol, load_protocol
@@ -82,6 +82,13 @@ RULES: dict[str, Rule] = {
             ("perfusion-reduced",),
             "protocol review threshold capillary_refill_slow_s",
             "capillary refill slower than the threshold",
+        ),
+        Rule(
+            "wrist-signal-lost",
+            ("pulse-lost",),
+            "common practice (a lost radial or ulnar signal below an arm device)",
+            "a radial or ulnar pulse or Doppler signal present at baseline or an earlier check "
+            "is now absent",
         ),
         Rule(
             "pedal-signal-lost",
@@ -492,8 +499,14 @@ def _pedal_rules(
     tz,
 ) -> None:
     for (item, site), f in sorted(latest.items()):
-        if item != "pulse" or f.value != "absent" or site.split("-")[1] not in PEDAL_ARTERIES:
+        artery = site.split("-")[-1]
+        if (
+            item != "pulse"
+            or f.value != "absent"
+            or artery not in (*PEDAL_ARTERIES, *WRIST_ARTERIES)
+        ):
             continue
+        rule = "pedal-signal-lost" if artery in PEDAL_ARTERIES else "wrist-signal-lost"
         earlier = [
             x
             for x in findings
@@ -515,7 +528,7 @@ def _pedal_rules(
             out.alerts.append(
                 _alert(
                     protocol,
-                    "pedal-signal-lost",
+                    rule,
                     f"{site} absent at {_hm(f.time, tz)}; was {was}",
                     side=site[0],
                     time=f.time,

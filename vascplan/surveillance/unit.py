@@ -32,7 +32,9 @@ ACCESS_VESSELS = ("CFA", "EIA", "SFA", "AXA", "SCA")
 ARM_VESSELS = ("AXA", "SCA")
 """Access vessels of the arm: a device there can starve the arm, not the leg (common practice)."""
 
-_PEDAL_SITE = re.compile(r"^[LR]-(DPA|PTA|PER|ATA|POP)$")
+_PEDAL_SITE = re.compile(r"^[LR]-(DPA|PTA|PER|ATA|POP|RAD|ULN|BRA)$")
+"""Baseline signal sites: the foot and leg arteries, and the wrist and arm arteries below an
+axillary or subclavian device."""
 
 HEIGHT_RANGE_CM = (100.0, 230.0)
 """Plausible adult height, as for case files (common practice)."""
@@ -135,7 +137,7 @@ class Baseline(_Strict):
             if not _PEDAL_SITE.match(site):
                 raise ValueError(
                     f"unknown artery {site!r}; use a side and an artery id such as R-DPA, L-PTA "
-                    "(DPA, PTA, PER, ATA, POP)"
+                    "(DPA, PTA, PER, ATA, POP; RAD, ULN, BRA for an arm device)"
                 )
         return value
 
