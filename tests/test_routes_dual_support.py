@@ -179,3 +179,41 @@ def test_support_axis_outside_the_flow_model_still_plans(monkeypatch):
     cfa = axes["R-CFA"]
     assert cfa["distal_flow_pct"] is None and cfa["lumen_left_pct"] is None
     assert cfa["flow_assumptions"] == ["distal flow not estimated: outside the model"]
+
+
+def test_a_usable_axis_that_leaves_no_lumen_says_so():
+    # A 17 Fr cannula labelled by outer size is 17/3 = 5.67 mm (1 Fr = 1/3 mm); in a
+    # 5.5 mm left axillary artery (tests/routes_cases.py has 6 mm; set here) the SAR is
+    # 5.67/5.5 = 1.03, under the 1.05 limit (Hayashida 2011), so the axis is usable, but
+    # the device fills the lumen: the output must say no flow passes it.
+    case = make_case(vessels={"L-AXA": {"diameter_mm": 5.5}},
+                     procedure={"purpose": "support",
+                                "target": {"segment": "AO-ASC", "at_cm": 2},
+                                "sheath": {"size_fr": 17, "length_cm": 20, "label": "outer"},
+                                "device": {"profile_fr": 17, "working_length_cm": 110,
+                                           "kind": "microaxial-pump"}})
+    result = plan_case(case)
+    axes = {a["site"]: a for a in result.support["axes"]}
+    left = axes["L-AXA"]
+    assert left["feasible"] and left["lumen_left_pct"] == 0
+    assert left["lumen_note"].startswith("the device fills the L-AXA lumen (SAR 1.03)")
+    assert all("lumen_note" not in a for a in axes.values() if a["lumen_left_pct"])
+    from vascplan.routes.table import render_plan
+
+    assert "NO LUMEN LEFT: the device fills the L-AXA lumen" in render_plan(result.to_dict())
+
+
+def test_the_report_prints_the_no_lumen_note():
+    from tests.reports_helpers import pdf_text
+    from vascplan.anatomy.graph import build_tree
+    from vascplan.reports.case_report import render_case_report
+
+    case = make_case(vessels={"L-AXA": {"diameter_mm": 5.5}},
+                     procedure={"purpose": "support",
+                                "target": {"segment": "AO-ASC", "at_cm": 2},
+                                "sheath": {"size_fr": 17, "length_cm": 20, "label": "outer"},
+                                "device": {"profile_fr": 17, "working_length_cm": 110,
+                                           "kind": "microaxial-pump"}})
+    pdf = render_case_report(case, build_tree(case), plan_case(case).to_dict(), paper="a4",
+                             generated_at=None)
+    assert "NO LUMEN LEFT" in " ".join(pdf_text(pdf).split())

@@ -487,7 +487,11 @@ def support_tables(support: Mapping[str, Any], width: float, od_assumed: bool = 
         rows.append(
             [
                 para(f"{ax.get('site')} ({ax.get('limb')})", bold),
-                para("usable" if ax.get("feasible") else f"blocked: {blocked}", cell),
+                para(
+                    ("usable" if ax.get("feasible") else f"blocked: {blocked}")
+                    + (f". NO LUMEN LEFT: {ax['lumen_note']}" if ax.get("lumen_note") else ""),
+                    cell,
+                ),
                 para(f"{_num(ax.get('max_sar'))} ({ax.get('limiting_segment') or '-'})", cell),
                 para(lumen, cell),
                 para(flow_text, cell),

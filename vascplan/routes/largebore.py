@@ -136,6 +136,12 @@ def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], device
             f"{limiting['segment']} lumen left beside the device, check the hand's perfusion; "
             "for an axillary cannula a side graft sewn to the artery keeps the arm perfused "
             "(common practice)")
+    if out["feasible"] and out["lumen_left_pct"] == 0 and limiting_sar is not None:
+        out["lumen_note"] = (
+            f"the device fills the {limiting['segment']} lumen (SAR {limiting_sar:.2f}): no "
+            f"flow passes it to the {out['limb']}, which then depends on collaterals and a "
+            "distal perfusion route; the SAR limit it meets comes from sheaths taken out at the "
+            "end of a procedure (Hayashida et al. 2011), not from devices left in place")
     return out
 
 

@@ -146,6 +146,8 @@ def render_support(support: dict[str, Any]) -> list[str]:
             lines.append(f"      distal perfusion cannula {advised}: {basis}")
         if axis.get("arm_note"):
             lines.append(f"      arm: {axis['arm_note']}")
+        if axis.get("lumen_note"):
+            lines.append(f"      NO LUMEN LEFT: {axis['lumen_note']}")
     if support.get("best_site"):
         lines.append(f"  lowest SAR among feasible axes: {support['best_site']}")
     return lines
