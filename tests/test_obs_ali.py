@@ -2,7 +2,7 @@
 
 Source: Rutherford RB et al. Recommended standards for reports dealing with lower
 extremity ischemia: revised version. J Vasc Surg 1997;26:517-538, table "Clinical
-categories of acute limb ischemia" (as transcribed in /work/shared/REFERENCES.md, seen).
+categories of acute limb ischemia" (as transcribed in the team's shared REFERENCES.md, seen).
 """
 
 from __future__ import annotations

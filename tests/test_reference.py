@@ -7,7 +7,7 @@ import pytest
 from vascplan.anatomy.reference import ROOT_ID, load_body_segments, load_reference, suggest_segment
 
 # Drillis and Contini 1966, as tabulated in Winter, Biomechanics and Motor Control of Human
-# Movement, 4th ed., 2009, Fig. 4.1 (values as in /work/shared/REFERENCES.md, seen
+# Movement, 4th ed., 2009, Fig. 4.1 (values as in the team's shared REFERENCES.md, seen
 # second-hand): segment lengths as fractions of height H.
 WINTER_FIG_4_1_LENGTHS = {
     "upper_arm": 0.186,
