@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import csv
+import math
 from dataclasses import dataclass
 from functools import cache
 
@@ -104,3 +105,15 @@ def check_range(name: str, value: float) -> float:
             name, f"{name} must be between {low:g} and {high:g} {unit}, got {value:g}"
         )
     return number
+
+
+def positive(name: str, value: float) -> float:
+    """``value`` as a float, or ValueError naming ``name`` unless it is finite and above 0.
+
+    >>> positive("length_cm", 15)
+    15.0
+    """
+    value = float(value)
+    if not math.isfinite(value) or value <= 0.0:
+        raise ValueError(f"{name} must be a positive number, got {value}")
+    return value

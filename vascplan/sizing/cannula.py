@@ -32,7 +32,7 @@ from typing import Literal
 import numpy as np
 
 from vascplan.sizing import flow
-from vascplan.sizing._tables import ReferenceValue, read_csv, read_values
+from vascplan.sizing._tables import ReferenceValue, positive, read_csv, read_values
 from vascplan.sizing.french import MM_PER_FR
 
 CANNULA_WALLS = "cannula_walls.csv"
@@ -200,13 +200,6 @@ def junction_k(upstream_mm: float, downstream_mm: float) -> float:
     return (1.0 / (b * b) - 1.0) ** 2
 
 
-def _positive_finite(name: str, value: float) -> float:
-    value = float(value)
-    if not math.isfinite(value) or value <= 0.0:
-        raise ValueError(f"{name} must be a positive number, got {value}")
-    return value
-
-
 def cannula_flow(
     size_fr: float,
     length_cm: float,
@@ -271,13 +264,13 @@ def cannula_flow(
     """
     from scipy.optimize import brentq
 
-    length_cm = _positive_finite("length_cm", length_cm)
-    driving_mmhg = _positive_finite("driving_mmhg", driving_mmhg)
+    length_cm = positive("length_cm", length_cm)
+    driving_mmhg = positive("driving_mmhg", driving_mmhg)
     if (line_mm is None) != (line_cm is None):
         raise ValueError("a connecting line needs both line_mm and line_cm")
     if line_mm is not None and line_cm is not None:
-        line_mm = _positive_finite("line_mm", line_mm)
-        line_cm = _positive_finite("line_cm", line_cm)
+        line_mm = positive("line_mm", line_mm)
+        line_cm = positive("line_cm", line_cm)
     d_mm, inner_note = cannula_inner_mm(size_fr, label, inner_mm)
     assumptions: list[str] = [inner_note] if inner_note else []
     blood = flow.blood_defaults()

@@ -20,7 +20,7 @@ from __future__ import annotations
 import math
 from typing import Literal
 
-from vascplan.sizing._tables import ReferenceValue, read_values
+from vascplan.sizing._tables import ReferenceValue, positive, read_values
 from vascplan.sizing.eccentric import eccentric_annulus_factor, touching_annulus_factor
 
 Regime = Literal["laminar", "transitional", "turbulent"]
@@ -51,13 +51,6 @@ def default_density_kg_m3() -> float:
     return blood_defaults()["density_kg_m3"].value
 
 
-def _positive(name: str, value: float) -> float:
-    value = float(value)
-    if not math.isfinite(value) or value <= 0.0:
-        raise ValueError(f"{name} must be a positive number, got {value}")
-    return value
-
-
 def tube_resistance(diameter_m: float, length_m: float, viscosity_pa_s: float) -> float:
     """Hagen-Poiseuille resistance of a straight tube, laminar and fully developed.
 
@@ -81,11 +74,11 @@ def tube_resistance(diameter_m: float, length_m: float, viscosity_pa_s: float) -
     >>> round(tube_resistance(0.002, 0.1, 0.0035) / 1e9, 4)
     0.8913
     """
-    d = _positive("diameter_m", diameter_m)
+    d = positive("diameter_m", diameter_m)
     return (
         128.0
-        * _positive("viscosity_pa_s", viscosity_pa_s)
-        * _positive("length_m", length_m)
+        * positive("viscosity_pa_s", viscosity_pa_s)
+        * positive("length_m", length_m)
         / (math.pi * d**4)
     )
 
@@ -173,7 +166,7 @@ def annulus_resistance(
     float
         Pressure drop over volume flow [Pa s/m3].
     """
-    outer = _positive("outer_diameter_m", outer_diameter_m)
+    outer = positive("outer_diameter_m", outer_diameter_m)
     inner = float(inner_diameter_m)
     if not 0.0 <= inner < outer:
         raise ValueError("the device must be smaller than the lumen for an annulus")
@@ -245,7 +238,7 @@ def colebrook_friction(re: float, relative_roughness: float = 0.0) -> float:
     """
     from scipy.optimize import brentq
 
-    re = _positive("re", re)
+    re = positive("re", re)
     if relative_roughness < 0.0:
         raise ValueError("relative_roughness must be >= 0")
 
@@ -279,7 +272,7 @@ def darcy_friction(re: float, relative_roughness: float = 0.0) -> float:
     >>> darcy_friction(640.0)
     0.1
     """
-    re = _positive("re", re)
+    re = positive("re", re)
     if re < LAMINAR_MAX_RE:
         return 64.0 / re
     if re >= TURBULENT_MIN_RE:
@@ -328,8 +321,8 @@ def laminar_entry_k(length_over_diameter: float, re: float) -> float:
     >>> round(laminar_entry_k(1e6, 100.0), 3)   # long tube: the whole increment
     1.25
     """
-    lod = _positive("length_over_diameter", length_over_diameter)
-    x = lod / _positive("re", re)
+    lod = positive("length_over_diameter", length_over_diameter)
+    x = lod / positive("re", re)
     root = math.sqrt(x)
     f_app_re = 3.44 / root + (SHAH_K_INFINITY / (4.0 * x) + 16.0 - 3.44 / root) / (
         1.0 + 0.00021 / (x * x)

@@ -16,7 +16,7 @@ import math
 from dataclasses import dataclass, field
 
 from vascplan.sizing import flow
-from vascplan.sizing._tables import ReferenceValue, SizingValueError, read_values
+from vascplan.sizing._tables import ReferenceValue, SizingValueError, positive, read_values
 
 LIMB_DEFAULTS = "limb_defaults.yaml"
 
@@ -74,13 +74,6 @@ class LimbFlowEstimate:
     defaults_used: tuple[str, ...] = ()
 
 
-def _positive(name: str, value: float) -> float:
-    value = float(value)
-    if not math.isfinite(value) or value <= 0.0:
-        raise ValueError(f"{name} must be a positive number, got {value}")
-    return value
-
-
 def limb_flow_with_device(
     vessel_mm: float,
     device_od_mm: float,
@@ -136,9 +129,9 @@ def limb_flow_with_device(
     >>> limb_flow_with_device(6.0, 6.0, 10).distal_flow_pct_eccentric
     0.0
     """
-    vessel_mm = _positive("vessel_mm", vessel_mm)
-    device_od_mm = _positive("device_od_mm", device_od_mm)
-    occupied_cm = _positive("occupied_cm", occupied_cm)
+    vessel_mm = positive("vessel_mm", vessel_mm)
+    device_od_mm = positive("device_od_mm", device_od_mm)
+    occupied_cm = positive("occupied_cm", occupied_cm)
     defaults = limb_defaults()
     blood = flow.blood_defaults()
     assumptions: list[str] = [
@@ -156,7 +149,7 @@ def limb_flow_with_device(
 
     def pick(value: float | None, name: str, table: dict[str, ReferenceValue], label: str):
         if value is not None:
-            return _positive(name, value)
+            return positive(name, value)
         ref = table[name]
         defaults_used.append(name)
         assumptions.append(
