@@ -183,6 +183,7 @@ def _check_install(site: Path, script: Path, cwd: Path) -> None:
     assert r.returncode == 0 and r.stdout.startswith("Usage: vascplan"), r.stderr
 
 
+@pytest.mark.install
 def test_install_with_prefix(source_copy, tmp_path):
     prefix = tmp_path / "prefix"
     _pip_install(source_copy, "--prefix", str(prefix))
@@ -190,6 +191,7 @@ def test_install_with_prefix(source_copy, tmp_path):
     _check_install(init.parent.parent, prefix / "bin" / "vascplan", tmp_path)
 
 
+@pytest.mark.install
 def test_install_with_target(source_copy, tmp_path):
     target = tmp_path / "target"
     _pip_install(source_copy, "--target", str(target))

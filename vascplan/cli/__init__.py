@@ -1,7 +1,7 @@
 """The ``vascplan`` command line: a thin layer over the library.
 
 Commands are registered in :data:`COMMANDS` and imported only when run, so that
-``vascplan --help`` and the light commands start fast (no pandas, no reportlab).
+``vascplan --help`` and the light commands start fast (no reportlab, no SQLAlchemy).
 """
 
 from __future__ import annotations
@@ -103,9 +103,9 @@ class LazyGroup(click.Group):
         try:
             rv = super().main(*args, standalone_mode=False, **kwargs)  # type: ignore[call-overload]
         except _NO_ARGS_IS_HELP as exc:
-            # `vascplan` (or `vascplan obs`) alone: the help, as asked for, and success.
-            click.echo(exc.ctx.get_help() if exc.ctx is not None else self.get_help(
-                click.Context(self, info_name="vascplan")))
+            # `vascplan` (or `vascplan obs`) alone: the help on standard output, and success.
+            if exc.ctx is not None:
+                click.echo(exc.ctx.get_help())
             sys.exit(0)
         except click.UsageError as exc:
             where = exc.ctx.command_path if exc.ctx is not None else "vascplan"
