@@ -460,7 +460,7 @@ def test_ci_run_uses_readme_test_command():
 
 
 def test_examples_at_least_three_valid():
-    cases = sorted((ROOT / "examples").glob("case-*.yaml"))
+    cases = sorted((ROOT / "vascplan" / "examples").glob("case-*.yaml"))
     assert len(cases) >= 3
     result = run("validate", *map(str, cases))
     assert result.exit_code == 0, result.output

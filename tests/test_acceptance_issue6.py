@@ -236,7 +236,7 @@ def _standard_tier(data: dict[str, Any]) -> dict[str, Any]:
 
 def test_checklist_raised_tier_half_hourly_and_every_page_named(tmp_path: Path) -> None:
     # Standard protocol: the raised tier tightens maintenance to every 30 min
-    # (data/protocols/standard.yaml, tiers.raised): 07:20, 07:50, ... 18:50 = 24 checks,
+    # (vascplan/data/protocols/standard.yaml, tiers.raised): 07:20, 07:50, ... 18:50 = 24 checks,
     # more than one sheet; every page's head names the patient (README).
     unit = _write(tmp_path / "u.yaml", _unit())
     out = tmp_path / "c.pdf"

@@ -15,6 +15,7 @@ from click.testing import CliRunner
 from vascplan.case.load import load_case
 from vascplan.cli import cli
 from vascplan.errors import InputError
+from vascplan.paths import examples_dir
 
 BAD = Path(__file__).parent / "data" / "bad_cases"
 
@@ -186,7 +187,7 @@ def test_occlusion_with_null_percent_is_100(tmp_path):
 
 
 def test_validate_several_files_reports_each_and_exits_2(tmp_path):
-    good = Path(__file__).parent.parent / "examples" / "case-DEMO-21-graft-and-pedal.yaml"
+    good = examples_dir() / "case-DEMO-21-graft-and-pedal.yaml"
     bad_a, bad_b = BAD / "height-too-small.json", BAD / "stent-implausible-diameter.yaml"
     result = CliRunner().invoke(cli, ["validate", str(bad_a), str(good), str(bad_b)])
     assert result.exit_code == 2
@@ -198,7 +199,7 @@ def test_validate_several_files_reports_each_and_exits_2(tmp_path):
 
 
 def test_validate_names_a_folder_and_still_checks_the_other_files(tmp_path):
-    good = Path(__file__).parent.parent / "examples" / "case-DEMO-07-sfa-occlusion.yaml"
+    good = examples_dir() / "case-DEMO-07-sfa-occlusion.yaml"
     result = CliRunner().invoke(cli, ["validate", str(tmp_path), str(good)])
     assert result.exit_code == 2
     assert result.stderr == f"error: {tmp_path}: is a folder, expected a YAML or JSON file\n"

@@ -291,6 +291,6 @@ def test_version_is_the_package_version_and_single_sourced():
     result = run("--version")
     assert result.exit_code == 0
     assert result.stdout == f"vascplan, version {vascplan.__version__}\n"
-    project = tomllib.loads((examples_dir().parent / "pyproject.toml").read_text())
+    project = tomllib.loads((Path(__file__).resolve().parent.parent / "pyproject.toml").read_text())
     assert "version" in project["project"]["dynamic"]
     assert project["tool"]["setuptools"]["dynamic"]["version"] == {"attr": "vascplan.__version__"}

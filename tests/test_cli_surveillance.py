@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 from datetime import datetime
+from pathlib import Path
 
 import icalendar
 from click.testing import CliRunner
@@ -138,7 +139,7 @@ def test_demo_surveillance(tmp_path):
 
 
 def test_unit_file_from_the_readme(tmp_path):
-    readme = (examples_dir().parent / "README.md").read_text()
+    readme = (Path(__file__).resolve().parent.parent / "README.md").read_text()
     block = readme.split("### The unit file", 1)[1].split("```yaml\n", 1)[1].split("```", 1)[0]
     unit = tmp_path / "my-unit.yaml"
     unit.write_text(block)

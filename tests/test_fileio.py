@@ -84,37 +84,6 @@ def test_output_inside_cannot_escape(tmp_path):
     assert output_inside(tmp_path, "../../x.pdf").parent == tmp_path.resolve()
 
 
-def test_installed_copy_of_data_is_found_when_the_source_tree_has_none(tmp_path, monkeypatch):
-    # A non-editable install has no data/ beside the package: pyproject's data-files put
-    # it under <prefix>/share/vascplan, where vascplan.paths must look.
-    from vascplan import paths
-
-    installed = tmp_path / "share" / "vascplan"
-    (installed / "data").mkdir(parents=True)
-    (installed / "examples").mkdir()
-    monkeypatch.delenv("VASCPLAN_DATA", raising=False)
-    monkeypatch.setattr(paths, "_SOURCE_TREE", tmp_path / "site-packages")
-    monkeypatch.setattr(paths, "_INSTALLED", installed)
-    assert paths.data_dir() == installed / "data"
-    assert paths.examples_dir() == installed / "examples"
-
-
-def test_pyproject_ships_every_data_folder():
-    import tomllib
-
-    from vascplan.paths import data_dir
-
-    root = data_dir().parent
-    shipped = tomllib.loads((root / "pyproject.toml").read_text())["tool"]["setuptools"][
-        "data-files"
-    ]
-    folders = {p.name for p in data_dir().iterdir() if p.is_dir()}
-    assert {
-        k.rsplit("/", 1)[-1] for k in shipped if k.startswith("share/vascplan/data/")
-    } == folders
-    assert shipped["share/vascplan/examples"] == ["examples/*"]
-
-
 def test_exponent_without_a_dot_is_a_number(tmp_path):
     # YAML 1.2 core schema (and JSON) read 1e-3 as a float; plain integers stay integers.
     p = tmp_path / "c.yaml"

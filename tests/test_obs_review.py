@@ -179,7 +179,7 @@ def test_abi_in_review_uses_the_statement_and_says_when(tmp_path):
 
 
 def test_every_rule_names_whom_to_call_with_the_bundled_protocol():
-    # data/protocols/standard.yaml has a criterion for every finding the review flags
+    # vascplan/data/protocols/standard.yaml has a criterion for every finding the review flags
     # (ali-III, perfusion-reduced and check-missed were added for that).
     from vascplan.observations.review import _ALI_ESCALATION_FALLBACK, RULES
 

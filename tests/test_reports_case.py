@@ -45,7 +45,7 @@ def report_21_top():
 def test_summary_from_the_case_file(report_07):
     case, _, _, data = report_07
     first = pdf_pages(data)[0]
-    # Values written in examples/case-DEMO-07-sfa-occlusion.yaml.
+    # Values written in vascplan/examples/case-DEMO-07-sfa-occlusion.yaml.
     for text in (
         "Case conference: DEMO-07",
         "female, 158 cm, 61 kg",

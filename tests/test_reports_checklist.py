@@ -30,7 +30,7 @@ def _pdf(unit_and_protocol, shift, day, **kw) -> tuple[list, bytes]:
 
 
 def test_hourly_checks_of_a_day_shift(unit_and_protocol):
-    # Hand-derived from data/protocols/standard.yaml: a sheath put in at 06:10 has
+    # Hand-derived from vascplan/data/protocols/standard.yaml: a sheath put in at 06:10 has
     # checks every 15 min for 60 min, every 30 min for 120 min, then hourly from 10:10;
     # a standard-tier patient days later is checked hourly at ten past, so the day shift
     # (07:30-19:30) holds 08:10 ... 19:10, twelve checks.
@@ -210,7 +210,7 @@ def test_twelve_checks_fit_one_sheet(paper):
 
 
 def test_tier_change_inside_the_shift_is_printed():
-    # examples/unit-demo.yaml: bed 5 (DEMO-15) has a team event at 2026-12-02T12:00
+    # vascplan/examples/unit-demo.yaml: bed 5 (DEMO-15) has a team event at 2026-12-02T12:00
     # setting tier high ("cool left foot, NIRS gap widening"), inside the day shift.
     unit, protocol = load_unit_and_protocol(DEMO_UNIT)
     day = checklist_sheets(unit, "day", date(2026, 12, 2), protocol, beds=[5])[0]
@@ -241,7 +241,7 @@ def test_tier_change_note_with_braces_and_markup_prints_literally(tmp_path):
 def test_arm_device_sheet_lists_the_arm_items():
     # tests/reports_unit_ny.yaml: bed 11 has a microaxial pump in the right axillary
     # artery, bed 10 a femoral cannula. The standard protocol's items carry the limb they
-    # are for (data/protocols/standard.yaml): the arm device's columns are the arm's
+    # are for (vascplan/data/protocols/standard.yaml): the arm device's columns are the arm's
     # (radial and ulnar pulses, hand, forearm), the femoral device's the leg's.
     unit, protocol = load_unit_and_protocol(NY_UNIT)
     arm, leg = checklist_sheets(unit, "night", date(2026, 10, 31), protocol, beds=[11, 10])

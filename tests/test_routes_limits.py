@@ -1,7 +1,7 @@
 """Every hard limit triggered by a worked example; verdicts computed by hand.
 
-Numbers from tests/routes_cases.py (measured), data/access/sites.csv (puncture
-points, skin depths) and data/access/limits.yaml (sar_max 1.05, sar_max_calcified
+Numbers from tests/routes_cases.py (measured), vascplan/data/access/sites.csv (puncture
+points, skin depths) and vascplan/data/access/limits.yaml (sar_max 1.05, sar_max_calcified
 1.00, outside_body_cm 10, puncture_zone_cm 1, crossover_origin_cm 1).
 """
 

@@ -1,6 +1,6 @@
 """Catheter paths and their lengths, worked by hand from tests/routes_cases.py.
 
-Site puncture points and skin depths are from data/access/sites.csv: CFA at 0.5 of
+Site puncture points and skin depths are from vascplan/data/access/sites.csv: CFA at 0.5 of
 the segment with 4 cm of skin; radial at 0.9 with 0.5 cm; distal radial at 1.0.
 """
 

@@ -1,6 +1,6 @@
 """Soft factors, weights and their overrides; worked points by hand.
 
-Weights from data/access/weights.yaml: sar 3, site_risk 2, crossover 1.5,
+Weights from vascplan/data/access/weights.yaml: sar 3, site_risk 2, crossover 1.5,
 anticoagulation 1, approach_distal_cap 1, cap_blunt 1, cap_flush 2.5, prone 1,
 length_margin 2 (with limits.comfortable_margin_cm 20).
 """

@@ -9,7 +9,7 @@ from pathlib import Path
 import pytest
 
 ROOT = Path(__file__).resolve().parent.parent
-EXAMPLE = ROOT / "examples" / "case-DEMO-07-sfa-occlusion.yaml"
+EXAMPLE = ROOT / "vascplan" / "examples" / "case-DEMO-07-sfa-occlusion.yaml"
 HEAVY = ("pandas", "reportlab", "sqlalchemy")
 
 PROBE = """

@@ -2,16 +2,18 @@
 
 from __future__ import annotations
 
+import csv
 import io
 import json
 from datetime import UTC, datetime
+from zoneinfo import ZoneInfo
 
 import icalendar
 
 from tests.surv_factory import PROTOCOL, make_unit, sheath_patient
 from vascplan.safety import CAUTION
 from vascplan.surveillance.render import rota_csv, rota_ics, rota_json, rota_table
-from vascplan.surveillance.rota import build_rota
+from vascplan.surveillance.rota import Rota, RotaCheck, build_rota
 
 STAFF = [{"nurse": "RN-A", "beds": [1, 2], "shifts": ["day", "night"]}]
 
@@ -70,18 +72,48 @@ def test_json_contract():
 
 
 def test_csv_and_table_carry_the_caution():
-    import pandas as pd
-
     rota = _rota()
-    text = rota_csv(rota)
-    frame = pd.read_csv(io.StringIO(text))
-    assert len(frame) == len(rota.checks)
-    assert set(frame["caution"]) == {CAUTION}
+    rows = list(csv.DictReader(io.StringIO(rota_csv(rota))))
+    assert len(rows) == len(rota.checks)
+    assert {r["caution"] for r in rows} == {CAUTION}
     assert CAUTION in rota_table(rota)
     # No checks: the header, then the caution as a comment line.
     empty = _rota("2026-10-24T08:00:30Z", "2026-10-24T08:01Z")
     assert empty.checks == []
     assert rota_csv(empty).splitlines()[1] == f"# {CAUTION}"
+
+
+def _check(ref: str, hour: int, minute: int, within: bool) -> RotaCheck:
+    at = datetime(2026, 12, 2, hour, minute, tzinfo=ZoneInfo("Europe/Warsaw"))
+    return RotaCheck(
+        time=at, due=at, bed=3, ref=ref, nurse="RN-B", phase="maintenance",
+        items=["pulses", "capillary-refill"], shift="day", interval_min=30,
+        tolerance_min=10, tier="high", within_window=within,
+    )
+
+
+def test_csv_bytes_match_a_hand_written_file():
+    # Written by hand from RFC 4180 (section 2: a field holding a comma or a quote is
+    # enclosed in quotes and the quote doubled; nothing else is quoted), "\n" line ends,
+    # Warsaw in December is UTC+01:00, items joined by ";".
+    start = datetime(2026, 12, 2, 7, 0, tzinfo=ZoneInfo("Europe/Warsaw"))
+    rota = Rota(
+        unit="CICU", timezone="Europe/Warsaw", start=start, end=start, unmet=[], handovers=[],
+        checks=[_check("DEMO-13", 7, 30, True), _check('DEMO, "B"', 8, 0, False)],
+    )
+    expected = (
+        "time,due,bed,ref,nurse,phase,items,shift,tier,interval_min,tolerance_min,"
+        "within_window,caution\n"
+        "2026-12-02T07:30:00+01:00,2026-12-02T07:30:00+01:00,3,DEMO-13,RN-B,maintenance,"
+        f"pulses;capillary-refill,day,high,30,10,True,{CAUTION}\n"
+        '2026-12-02T08:00:00+01:00,2026-12-02T08:00:00+01:00,3,"DEMO, ""B""",RN-B,'
+        f"maintenance,pulses;capillary-refill,day,high,30,10,False,{CAUTION}\n"
+    )
+    assert "," not in CAUTION and '"' not in CAUTION  # else the caution itself is quoted
+    assert rota_csv(rota) == expected
+    empty = Rota(unit="CICU", timezone="Europe/Warsaw", start=start, end=start, checks=[],
+                 unmet=[], handovers=[])
+    assert rota_csv(empty) == expected.split("\n")[0] + f"\n# {CAUTION}\n"
 
 
 def test_ics_in_utc_has_no_timezone_block():

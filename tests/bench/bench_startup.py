@@ -16,7 +16,7 @@ import time
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[2]
-EXAMPLE = "examples/case-DEMO-07-sfa-occlusion.yaml"
+EXAMPLE = "vascplan/examples/case-DEMO-07-sfa-occlusion.yaml"
 BAD = "tests/data/bad_cases/occlusion-not-100.yaml"
 RUNS = 11
 TARGET_RATIO = 1.3

@@ -1,7 +1,7 @@
 """The ``vascplan`` command line: a thin layer over the library.
 
 Commands are registered in :data:`COMMANDS` and imported only when run, so that
-``vascplan --help`` and the light commands start fast (no pandas, no reportlab).
+``vascplan --help`` and the light commands start fast (no reportlab, no SQLAlchemy).
 """
 
 from __future__ import annotations
@@ -39,6 +39,16 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "obs": ("vascplan.cli.obs:obs", "Record, review, plot and export limb checks."),
     "demo": ("vascplan.cli.demo:demo", "Run every job on the bundled invented examples."),
 }
+
+
+# click 8.2 and later raise this for a group called without a command (8.1 printed the help
+# and exited 0 itself, which needs nothing here).
+_NO_ARGS_IS_HELP: type[click.UsageError] = getattr(
+    click.exceptions, "NoArgsIsHelpError", type("_NeverRaised", (click.UsageError,), {})
+)
+
+HELP_OPTIONS = ["-h", "--help"]
+"""Help option names of every command (click's context settings are inherited)."""
 
 
 class LazyGroup(click.Group):
@@ -92,6 +102,11 @@ class LazyGroup(click.Group):
             return super().main(*args, standalone_mode=False, **kwargs)  # type: ignore[call-overload]
         try:
             rv = super().main(*args, standalone_mode=False, **kwargs)  # type: ignore[call-overload]
+        except _NO_ARGS_IS_HELP as exc:
+            # `vascplan` (or `vascplan obs`) alone: the help on standard output, and success.
+            if exc.ctx is not None:
+                click.echo(exc.ctx.get_help())
+            sys.exit(0)
         except click.UsageError as exc:
             where = exc.ctx.command_path if exc.ctx is not None else "vascplan"
             message = " ".join(exc.format_message().split())
@@ -109,7 +124,13 @@ class LazyGroup(click.Group):
 @click.group(
     "vascplan",
     cls=LazyGroup,
-    epilog=f"Caution: {CAUTION}\n\nExample: vascplan demo --out demo-output",
+    context_settings={"help_option_names": HELP_OPTIONS},
+    epilog=(
+        f"Caution: {CAUTION}\n\n"
+        "Environment: VASCPLAN_DB is the observation store when --db is not given; "
+        "VASCPLAN_DATA a folder of reference tables to use instead of the bundled ones.\n\n"
+        "Example: vascplan demo --out demo-output"
+    ),
 )
 @click.version_option(__version__, prog_name="vascplan")
 def cli() -> None:

@@ -18,10 +18,20 @@ DB_HELP = (
     "Observation store: a file path or a postgresql:// URL "
     "(default $XDG_DATA_HOME/vascplan/observations.db)."
 )
+DB_ENVVAR = "VASCPLAN_DB"
+"""Environment variable read when ``--db`` is not given (the option wins)."""
 
 
 def _db_option(f):
-    return click.option("--db", "db", metavar="PATH-OR-URL", default=None, help=DB_HELP)(f)
+    return click.option(
+        "--db",
+        "db",
+        metavar="PATH-OR-URL",
+        default=None,
+        envvar=DB_ENVVAR,
+        show_envvar=True,
+        help=DB_HELP,
+    )(f)
 
 
 def _stderr_is_terminal() -> bool:
@@ -189,6 +199,8 @@ def import_(csv_path: str, unit_path: str, db: str | None) -> None:
     "db",
     metavar="PATH-OR-URL",
     default=None,
+    envvar=DB_ENVVAR,
+    show_envvar=True,
     help="Accepted like every obs command; the template does not open the store.",
 )
 def template(output: str | None, guide: bool, db: str | None) -> None:

@@ -169,6 +169,17 @@ def resolve_db(db: str | None) -> tuple[sa.URL, Path | None]:
     return sa.URL.create("sqlite", database=str(path)), path
 
 
+def _require_postgres_driver() -> None:
+    """A PostgreSQL store needs psycopg, the optional extra ``vascplan[postgres]``."""
+    import importlib.util
+
+    if importlib.util.find_spec("psycopg") is None:
+        raise StoreError(
+            "a postgresql:// store needs the PostgreSQL driver (psycopg), which is not "
+            "installed: install vascplan[postgres] (pip install 'vascplan[postgres]')"
+        )
+
+
 def _create_private_file(path: Path) -> None:
     """Create an empty SQLite file with mode 0600 whatever the umask."""
     path.parent.mkdir(parents=True, exist_ok=True, mode=0o700)
@@ -228,6 +239,7 @@ def open_store(db: str | None = None) -> ObservationStore:
             ) from None
         engine = _sqlite_engine(url)
     else:
+        _require_postgres_driver()
         engine = sa.create_engine(url, pool_pre_ping=False)
     store = ObservationStore(engine, shown)
     try:

@@ -7,6 +7,8 @@ or a list of :class:`~vascplan.surveillance.risk.RiskAssessment`. Every output c
 
 from __future__ import annotations
 
+import csv
+import io
 import json
 from datetime import UTC, datetime, timedelta
 from typing import Any
@@ -205,19 +207,21 @@ CSV_COLUMNS = (
 def rota_csv(rota: Rota) -> str:
     """One row per check after the header; the caution is the last column of every row.
 
-    A rota without checks is the header and the caution as a ``#`` comment line.
+    RFC 4180 style with ``\n`` line ends: a field is quoted only when it holds a comma,
+    a quote or a line break (a quote doubled inside); ``True``/``False`` for
+    ``within_window``; items joined by ``;``. A rota without checks is the header and the
+    caution as a ``#`` comment line.
     """
-    import pandas as pd  # tabular export only; kept out of start-up
-
-    rows = []
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\n")
+    writer.writerow(CSV_COLUMNS)
     for c in rota.checks:
         d = _check_dict(c)
         d["items"] = ";".join(c.items)
         d["caution"] = CAUTION
-        rows.append(d)
-    frame = pd.DataFrame(rows, columns=list(CSV_COLUMNS))
-    text = frame.to_csv(index=False, lineterminator="\n")
-    return text if rows else text + f"# {CAUTION}\n"
+        writer.writerow([d[name] for name in CSV_COLUMNS])
+    text = buffer.getvalue()
+    return text if rota.checks else text + f"# {CAUTION}\n"
 
 
 def _ics_time(value: datetime) -> datetime:
