@@ -314,7 +314,10 @@ def test_review_table_names_rule_source_and_call(tmp_path, db_url):  # noqa: F81
     assert run("obs", "import", p, "--unit", U, "--db", db_url).exit_code == 0
     r = run("obs", "review", U, "--at", "2026-12-01T19:45", "--db", db_url)
     assert r.exit_code == 1
-    assert "ALERT pedal-signal-lost: R-DPA absent at 19:40+00:00; was doppler at 19:30+00:00" in r.output
+    assert (
+        "ALERT pedal-signal-lost: R-DPA absent at 19:40+00:00; was doppler at 19:30+00:00"
+        in r.output
+    )
     assert "call: Doctor in charge of the patient; vascular surgeon (within 15 min)" in r.output
     assert "ALERT calf-tense: R calf tense at 19:40+00:00" in r.output
     assert "call: Vascular surgeon and doctor in charge, immediately (within 5 min)" in r.output
@@ -456,8 +459,24 @@ def test_a_lost_wrist_signal_below_an_axillary_device_alerts(tmp_path):
     # whom to call (the standard protocol's pulse-lost criterion).
     unit = str(Path(__file__).parent / "unit_axillary.yaml")
     db = tmp_path / "o.db"
-    r = run("obs", "add", "--unit", unit, "--bed", "2", "--time", "2026-12-01T11:00",
-            "--by", "RN-Q", "--pulse", "R-RAD=absent", "--pulse", "R-ULN=doppler", "--db", db)
+    r = run(
+        "obs",
+        "add",
+        "--unit",
+        unit,
+        "--bed",
+        "2",
+        "--time",
+        "2026-12-01T11:00",
+        "--by",
+        "RN-Q",
+        "--pulse",
+        "R-RAD=absent",
+        "--pulse",
+        "R-ULN=doppler",
+        "--db",
+        db,
+    )
     assert r.exit_code == 0, r.output
     r = run("obs", "review", unit, "--at", "2026-12-01T11:05", "--format", "json", "--db", db)
     alerts = json.loads(r.stdout)["patients"][0]["alerts"]

@@ -61,7 +61,10 @@ def test_nirs_limb_difference_only_within_one_check(tmp_path):
     _, alerts = _alerts(
         _store(tmp_path, [(0, "nirs", "L", "68"), (1, "nirs", "R", "53")], "b.db"), 1
     )
-    assert "NIRS L 68% vs R 53% at 19:30+00:00/19:31+00:00" in alerts[("nirs-limb-difference", "R")].detail
+    assert (
+        "NIRS L 68% vs R 53% at 19:30+00:00/19:31+00:00"
+        in alerts[("nirs-limb-difference", "R")].detail
+    )
     # Twenty minutes apart: two checks, not compared.
     _, alerts = _alerts(
         _store(tmp_path, [(0, "nirs", "L", "68"), (20, "nirs", "R", "53")], "c.db"), 20
