@@ -459,24 +459,8 @@ def test_a_lost_wrist_signal_below_an_axillary_device_alerts(tmp_path):
     # whom to call (the standard protocol's pulse-lost criterion).
     unit = str(Path(__file__).parent / "unit_axillary.yaml")
     db = tmp_path / "o.db"
-    r = run(
-        "obs",
-        "add",
-        "--unit",
-        unit,
-        "--bed",
-        "2",
-        "--time",
-        "2026-12-01T11:00",
-        "--by",
-        "RN-Q",
-        "--pulse",
-        "R-RAD=absent",
-        "--pulse",
-        "R-ULN=doppler",
-        "--db",
-        db,
-    )
+    r = run("obs", "add", "--unit", unit, "--bed", "2", "--time", "2026-12-01T11:00",
+            "--by", "RN-Q", "--pulse", "R-RAD=absent", "--pulse", "R-ULN=doppler", "--db", db)
     assert r.exit_code == 0, r.output
     r = run("obs", "review", unit, "--at", "2026-12-01T11:05", "--format", "json", "--db", db)
     alerts = json.loads(r.stdout)["patients"][0]["alerts"]
