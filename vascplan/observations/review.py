@@ -17,7 +17,7 @@ prints: :func:`render_table` and :func:`to_json` are the renderers.
 from __future__ import annotations
 
 from dataclasses import dataclass, field, replace
-from datetime import datetime, timedelta
+from datetime import UTC, datetime, timedelta
 from pathlib import Path
 from typing import Any
 
@@ -711,7 +711,7 @@ def render_table(result: UnitReview) -> str:
         f"NIRS thresholds: {result.review_note}",
         "",
     ]
-    tz = result.at.tzinfo
+    tz = result.at.tzinfo or UTC  # ``at`` is aware: the unit's zone
     for p in result.patients:
         last = day_hm(p.last_check, tz) if p.last_check else "none recorded"
         abi = ", ".join(
