@@ -442,3 +442,30 @@ def test_local_time_helpers():
     assert hm(_z("2026-12-01T00:00+00:00"), tz) == "05:30+05:30"
     with pytest.raises(ValueError):
         utc(datetime(2026, 12, 1, 0, 0))
+
+
+@pytest.mark.parametrize(("zone", "change", "day", "first_pass", "due_text_"), BACK)
+def test_rota_staggers_by_instant_in_the_repeated_hour(zone, change, day, first_pass, due_text_):
+    # One nurse, two beds with the same schedule (inserted C - 3 h 50): each due at C - 50
+    # (settling) and C + 10 (first hourly check), the same wall minute twice. The nurse
+    # does bed 1 at due and bed 2 one check later (check_duration_min 5, standard protocol):
+    # C - 50, C - 45, C + 10, C + 15; all within their windows (tolerance 10 min for the
+    # 30-min check, 15 min for the hourly one). Over [C - 1 h, C + 1 h): 4 checks, none unmet.
+    tz = ZoneInfo(zone)
+    c = _z(change)
+    inserted = (c - 3 * H - 50 * M).isoformat()
+    unit = make_unit(
+        zone,
+        [sheath_patient(1, inserted), sheath_patient(2, inserted)],
+        staff=[{"nurse": "RN-A", "beds": [1, 2], "shifts": ["day", "night"]}],
+    )
+    rota = build_rota(unit, HOURLY, c - H, c + H)
+    assert [(r.bed, utc(r.time)) for r in rota.checks] == [
+        (1, c - 50 * M),
+        (2, c - 45 * M),
+        (1, c + 10 * M),
+        (2, c + 15 * M),
+    ]
+    assert rota.unmet == []
+    assert [hm(r.time, tz) for r in rota.checks][2] == due_text_
+    assert [hm(r.time, tz) for r in rota.checks][0] == first_pass
