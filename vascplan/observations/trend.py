@@ -19,7 +19,7 @@ from datetime import datetime, timedelta
 from pathlib import Path
 
 from vascplan.fileio import atomic_write_bytes
-from vascplan.localtime import hm, offset_text, utc
+from vascplan.localtime import day_hm, hm, offset_text, utc
 from vascplan.observations.findings import PEDAL_ARTERIES, SIDES
 from vascplan.observations.review import Alert, review_patient, unit_protocol
 from vascplan.observations.store import CurrentFinding, ObservationStore
@@ -270,12 +270,12 @@ def _page(
         36,
         height - 58,
         f"{unit.unit.name}; {dev.kind} {dev.size_fr:g} Fr ({dev.label}) in {dev.side} "
-        f"{dev.vessel} since {dev.inserted.astimezone(tz):%Y-%m-%d %H:%M %z}; {dpc}",
+        f"{dev.vessel} since {day_hm(dev.inserted, tz)}; {dpc}",
     )
     c.drawString(
         36,
         height - 69,
-        f"As at {at.astimezone(tz):%Y-%m-%d %H:%M %z}; protocol {protocol.name}; "
+        f"As at {day_hm(at, tz)}; protocol {protocol.name}; "
         f"{len(trend.check_times)} checks recorded.",
     )
     c.drawString(36, height - 80, f"Thresholds: {protocol.review.note}")
