@@ -314,9 +314,12 @@ def test_review_table_names_rule_source_and_call(tmp_path, db_url):  # noqa: F81
     assert run("obs", "import", p, "--unit", U, "--db", db_url).exit_code == 0
     r = run("obs", "review", U, "--at", "2026-12-01T19:45", "--db", db_url)
     assert r.exit_code == 1
-    assert "ALERT pedal-signal-lost: R-DPA absent at 19:40; was doppler at 19:30" in r.output
+    assert (
+        "ALERT pedal-signal-lost: R-DPA absent at 19:40+00:00; was doppler at 19:30+00:00"
+        in r.output
+    )
     assert "call: Doctor in charge of the patient; vascular surgeon (within 15 min)" in r.output
-    assert "ALERT calf-tense: R calf tense at 19:40" in r.output
+    assert "ALERT calf-tense: R calf tense at 19:40+00:00" in r.output
     assert "call: Vascular surgeon and doctor in charge, immediately (within 5 min)" in r.output
     assert "No guideline fixes NIRS thresholds" in r.output
     assert r.output.rstrip().endswith(CAUTION)
@@ -463,7 +466,7 @@ def test_a_lost_wrist_signal_below_an_axillary_device_alerts(tmp_path):
     alerts = json.loads(r.stdout)["patients"][0]["alerts"]
     lost = [a for a in alerts if a["rule"] == "wrist-signal-lost"]
     assert [a["detail"] for a in lost] == [
-        "R-RAD absent at 11:00; was present at baseline (unit file)"
+        "R-RAD absent at 11:00+00:00; was present at baseline (unit file)"
     ]
     assert lost[0]["call"].startswith("Doctor in charge of the patient; vascular surgeon")
     assert r.exit_code == 1

@@ -61,7 +61,10 @@ def test_nirs_limb_difference_only_within_one_check(tmp_path):
     _, alerts = _alerts(
         _store(tmp_path, [(0, "nirs", "L", "68"), (1, "nirs", "R", "53")], "b.db"), 1
     )
-    assert "NIRS L 68% vs R 53% at 19:30/19:31" in alerts[("nirs-limb-difference", "R")].detail
+    assert (
+        "NIRS L 68% vs R 53% at 19:30+00:00/19:31+00:00"
+        in alerts[("nirs-limb-difference", "R")].detail
+    )
     # Twenty minutes apart: two checks, not compared.
     _, alerts = _alerts(
         _store(tmp_path, [(0, "nirs", "L", "68"), (20, "nirs", "R", "53")], "c.db"), 20
@@ -76,7 +79,7 @@ def test_pedal_loss_needs_a_signal_that_was_there(tmp_path):
     )
     assert (
         alerts[("pedal-signal-lost", "R")].detail
-        == "R-DPA absent at 19:30; was present at baseline (unit file)"
+        == "R-DPA absent at 19:30+00:00; was present at baseline (unit file)"
     )
     assert ("pedal-signal-lost", "L") not in alerts
     # Returning signal closes the alert.
@@ -175,7 +178,7 @@ def test_abi_in_review_uses_the_statement_and_says_when(tmp_path):
     p, alerts = _alerts(store, 5)
     assert p.abi["R"].index == 0.72 and p.abi["R"].band == "abnormal"
     assert p.abi["L"].index is None
-    assert "pressures taken 19:30 to 19:35" in alerts[("abi-abnormal", "R")].detail
+    assert "pressures taken 19:30+00:00 to 19:35+00:00" in alerts[("abi-abnormal", "R")].detail
 
 
 def test_every_rule_names_whom_to_call_with_the_bundled_protocol():
@@ -241,8 +244,8 @@ def test_a_pale_cold_leg_against_the_other_leg_and_its_own_earlier_check(tmp_pat
     t = alerts[("skin-change", "R")]
     assert t.escalation == "perfusion-reduced"
     details = [a.detail for a in _alerts(store, 30)[0].alerts if a.rule == "skin-change"]
-    assert "R leg temperature cold at 20:00; warm at 19:30" in details
-    assert "R leg colour mottled at 20:00; the other leg normal" in details
+    assert "R leg temperature cold at 20:00+00:00; warm at 19:30+00:00" in details
+    assert "R leg colour mottled at 20:00+00:00; the other leg normal" in details
     assert ("skin-change", "L") not in alerts
     store2 = _store(tmp_path, [(0, "colour", "L", "pale")], name="o2.db")
     assert not [a for a in _alerts(store2)[0].alerts if a.rule == "skin-change"]

@@ -62,7 +62,7 @@ def test_trend_pages_and_marks(tmp_path):
     assert "Limb trend - bed 1 - DEMO-11" in pages[0]
     assert "DEMO-<b>&12" in pages[1]  # printed literally, never read as markup
     assert "floor 50%" in pages[0] and "slow above 3 s" in pages[0]  # standard protocol thresholds
-    assert "pedal-signal-lost: R-DPA absent at 18:00; was doppler at 17:00" in pages[0]
+    assert "pedal-signal-lost: R-DPA absent at 18:00+00:00; was doppler at 17:00+00:00" in pages[0]
     assert "3 checks recorded" in pages[0]
     assert not [p for p in tmp_path.iterdir() if p.name.endswith(".tmp")]
 
@@ -137,9 +137,12 @@ def test_time_ticks_keep_round_local_hours_across_a_clock_change():
     step, ticks = time_ticks(
         datetime(2026, 10, 31, 20, 5, tzinfo=tz), datetime(2026, 11, 1, 12, 0, tzinfo=tz), tz
     )
-    assert step == 120
+    # Real elapsed span (hand arithmetic): 20:05 EDT = 00:05 UTC, 12:00 EST = 17:00 UTC,
+    # 16 h 55 min = 1015 min; 1015 / 120 = 8.5 ticks > 8, so 3-hourly (1015 / 180 = 5.6).
+    # (The wall-clock span, 15 h 55 min, would wrongly allow 2-hourly ticks.)
+    assert step == 180
     assert [f"{t.astimezone(tz):%H:%M}" for t in ticks] == [
-        "22:00", "00:00", "02:00", "04:00", "06:00", "08:00", "10:00", "12:00",
+        "21:00", "00:00", "03:00", "06:00", "09:00", "12:00",
     ]  # fmt: skip
 
 
@@ -182,4 +185,4 @@ def test_trend_marks_checks_overdue_now(tmp_path):
     r = run("obs", "trend", UNIT, "--bed", 1, "-o", out, "--at", "2026-12-01T21:00", "--db", db)
     assert r.exit_code == 0, r.output
     text = " ".join(_text(out)[0].split())
-    assert "2 scheduled check(s) not recorded, due 20:05, 20:35" in text
+    assert "2 scheduled check(s) not recorded, due 20:05+00:00, 20:35+00:00" in text

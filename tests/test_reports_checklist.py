@@ -58,12 +58,13 @@ def test_clock_change_inside_a_night_shift(unit_and_protocol):
     # 19:40 BST (18:40 UTC) to 07:10 GMT (07:10 UTC) is 12.5 real hours: 26 checks.
     assert len(rows) == 26
     printed = [due_text(r, sheets[0]) for r in rows]
-    assert printed.index("25 Oct 01:40 BST") + 1 == printed.index("25 Oct 01:10 GMT")
-    assert printed.index("25 Oct 01:10 BST") + 1 == printed.index("25 Oct 01:40 BST")
-    assert printed.index("25 Oct 00:40") + 1 == printed.index("25 Oct 01:10 BST")  # before
-    assert "25 Oct 02:10 GMT" in printed  # after: offset differs from the shift start
+    # Each repeated time names its zone and UTC offset (BST +01:00, GMT +00:00).
+    assert printed.index("25 Oct 01:40 BST +01:00") + 1 == printed.index("25 Oct 01:10 GMT +00:00")
+    assert printed.index("25 Oct 01:10 BST +01:00") + 1 == printed.index("25 Oct 01:40 BST +01:00")
+    assert printed.index("25 Oct 00:40") + 1 == printed.index("25 Oct 01:10 BST +01:00")  # before
+    assert "25 Oct 02:10 GMT +00:00" in printed  # after: offset differs from the shift start
     text = pdf_text(data)
-    assert "25 Oct 01:10 GMT" in text and "25 Oct 01:40 GMT" in text
+    assert "25 Oct 01:10 GMT +00:00" in text and "25 Oct 01:40 GMT +00:00" in text
     assert "2026-10-24 19:30 BST to 2026-10-25 07:30 GMT" in text
 
 
@@ -188,7 +189,8 @@ def test_repeated_hour_in_another_zone_prints_no_time_twice():
         assert len(printed) == len(set(printed)), printed
         for r, text in zip(sheet.rows, printed, strict=True):
             if (r.due.month, r.due.day, r.due.hour) == (11, 1, 1):  # the repeated hour
-                assert text.endswith((" EDT", " EST")), text
+                # Zone and offset: EDT is UTC-04:00, EST is UTC-05:00.
+                assert text.endswith((" EDT -04:00", " EST -05:00")), text
     text = pdf_text(render_checklist(sheets, paper="letter", generated_at=AT))
     assert "2026-10-31 23:00 EDT to 2026-11-01 07:00 EST" in text
     assert "Generated 2026-10-21 07:00 UTC (UTC+00:00)" in text

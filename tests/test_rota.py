@@ -50,7 +50,8 @@ def test_three_quarter_hourly_checks_cannot_all_be_met():
     assert len(rota.unmet) == 1
     assert rota.unmet[0].check.bed == 3
     assert rota.unmet[0].reason == (
-        "RN-A is busy with bed 2 until 10:25; the window of this check closed at 10:20 "
+        "RN-A is busy with bed 2 until 10:25+00:00; the window of this check closed at "
+        "10:20+00:00 "
         "(5 min after due); placed 10 min late"
     )
 

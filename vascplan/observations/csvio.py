@@ -12,6 +12,7 @@ import csv
 import io
 import os
 from collections.abc import Sequence
+from datetime import UTC
 
 from vascplan.errors import InputError
 from vascplan.fileio import read_text_file
@@ -135,7 +136,9 @@ def parse_csv(path: str | os.PathLike[str], unit: Unit) -> tuple[list[Finding], 
             findings.append(_row_finding(cells, unit, tz, src, n))
             lines.append(n)
             f = findings[-1]
-            key = (f.bed, f.time, f.item, f.site)
+            # By instant: the two 01:30s of the night the clocks go back are equal (and
+            # hash alike) as same-zone datetimes, but are two checks.
+            key = (f.bed, f.time.astimezone(UTC), f.item, f.site)
             if key in seen:
                 raise InputError(
                     src,

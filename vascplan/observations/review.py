@@ -21,6 +21,7 @@ from datetime import UTC, datetime, timedelta
 from pathlib import Path
 from typing import Any
 
+from vascplan.localtime import day_hm, hm, utc
 from vascplan.observations.abi import AbiResult, ankle_brachial_index, arm_sites
 from vascplan.observations.ali import AliResult, classify_leg, worst
 from vascplan.observations.findings import PEDAL_ARTERIES, SIDES, WRIST_ARTERIES
@@ -250,7 +251,8 @@ def _alert(
 
 
 def _hm(moment: datetime, tz) -> str:
-    return moment.astimezone(tz).strftime("%H:%M")
+    """Local clock time with its UTC offset (``01:30+00:00``): the repeated hour reads apart."""
+    return hm(moment, tz)
 
 
 def overdue_checks(
@@ -264,15 +266,19 @@ def overdue_checks(
     by then (the leg has been seen since).
     """
     schedule = patient_schedule(unit, patient, protocol, patient.device.inserted, at)
+    # Instants only: same-zone aware datetimes compare by wall time (PEP 495), which
+    # would lose or invent overdue checks in the hour repeated when the clocks go back.
+    at_utc = utc(at)
     out = []
-    latest = max(check_times) if check_times else None
+    latest = max(utc(t) for t in check_times) if check_times else None
     for s in schedule:
         tol = timedelta(minutes=s.tolerance_min)
-        if s.due + tol >= at:
+        due = utc(s.due)
+        if due + tol >= at_utc:
             continue
-        if latest is not None and latest >= s.due - tol:
+        if latest is not None and latest >= due - tol:
             continue
-        late = int((at.astimezone(UTC) - s.due.astimezone(UTC)).total_seconds() // 60)
+        late = int((at_utc - due).total_seconds() // 60)
         out.append(Overdue(s.due, late, s.phase))
     return out
 
@@ -289,8 +295,12 @@ def review_patient(
 ) -> PatientReview:
     """Review one patient from their findings (already limited to times up to ``at``)."""
     tz = unit.unit.tz
-    findings = [f for f in findings if f.time <= at]
-    times = sorted({f.time for f in findings})
+    # Time order by instant (later wins in _latest), never by wall clock.
+    at_utc = utc(at)
+    findings = sorted(
+        (f for f in findings if utc(f.time) <= at_utc), key=lambda f: (utc(f.time), f.entry.id)
+    )
+    times = sorted({utc(f.time) for f in findings})
     out = PatientReview(patient.ref, patient.bed, times[-1] if times else None)
     out.overdue = overdue_checks(unit, patient, protocol, times, at)
     if out.overdue:
@@ -300,7 +310,7 @@ def review_patient(
                 protocol,
                 "check-overdue",
                 f"{len(out.overdue)} scheduled check(s) not recorded; the first was due "
-                f"{first.due.astimezone(tz):%Y-%m-%d %H:%M} ({first.minutes_late} min ago)",
+                f"{day_hm(first.due, tz)} ({first.minutes_late} min ago)",
                 extra_source=f"protocol {protocol.name!r}",
             )
         )
@@ -396,10 +406,11 @@ def review_patient(
         r = ankle_brachial_index(ankle, arms)
         used = [latest[("pressure", f"{side}-{a}")].time for a in ankle]
         used += [latest[("pressure", a)].time for a in arms_at.values()]
-        if r.index is not None and min(used) != max(used):
+        used = sorted(used, key=utc)
+        if r.index is not None and utc(used[0]) != utc(used[-1]):
             # Pressures from different checks: say when, so a stale one is seen.
             r = replace(
-                r, basis=f"{r.basis}; pressures taken {_hm(min(used), tz)} to {_hm(max(used), tz)}"
+                r, basis=f"{r.basis}; pressures taken {_hm(used[0], tz)} to {_hm(used[-1], tz)}"
             )
         out.abi[side] = r
         if r.band == "abnormal":
@@ -409,7 +420,7 @@ def review_patient(
                     "abi-abnormal",
                     f"{side} ABI {r.index:.2f} ({r.basis})",
                     side=side,
-                    time=max(used),
+                    time=used[-1],
                 )
             )
     return out
@@ -469,7 +480,11 @@ def _nirs_rules(
     left, right = latest.get(("nirs", "L")), latest.get(("nirs", "R"))
     # Readings within one check's duration (the protocol's check_duration_min) are one check.
     same_check = timedelta(minutes=protocol.check_duration_min.value)
-    if left is not None and right is not None and abs(left.time - right.time) <= same_check:
+    if (
+        left is not None
+        and right is not None
+        and abs(utc(left.time) - utc(right.time)) <= same_check
+    ):
         diff = abs(float(left.value) - float(right.value))
         limit = th.nirs_limb_difference_pct.value
         if diff >= limit:
@@ -479,12 +494,12 @@ def _nirs_rules(
                     protocol,
                     "nirs-limb-difference",
                     f"NIRS L {left.value}% vs R {right.value}% at {_hm(left.time, tz)}"
-                    + (f"/{_hm(right.time, tz)}" if right.time != left.time else "")
+                    + (f"/{_hm(right.time, tz)}" if utc(right.time) != utc(left.time) else "")
                     + ": "
                     f"{diff:g} points apart "
                     f"(threshold {limit:g} points); {low} is lower",
                     side=low,
-                    time=max(left.time, right.time),
+                    time=max(left.time, right.time, key=utc),
                     extra_source=f"{th.nirs_limb_difference_pct.source}; {th.note}",
                 )
             )
@@ -512,7 +527,7 @@ def _pedal_rules(
             for x in findings
             if x.item == "pulse"
             and x.site == site
-            and x.time < f.time
+            and utc(x.time) < utc(f.time)
             and x.value in ("palpable", "doppler")
         ]
         base = (
@@ -556,10 +571,13 @@ def _skin_rules(
             earlier = [
                 x
                 for x in findings
-                if x.item == item and x.site == side and x.time < f.time and x.value == normal
+                if x.item == item
+                and x.site == side
+                and utc(x.time) < utc(f.time)
+                and x.value == normal
             ]
             reasons = []
-            if other is not None and other.time == f.time and other.value == normal:
+            if other is not None and utc(other.time) == utc(f.time) and other.value == normal:
                 reasons.append(f"the other leg {normal}")
             if earlier:
                 reasons.append(f"{normal} at {_hm(earlier[-1].time, tz)}")
@@ -621,7 +639,7 @@ def review_unit(
         when it is above 0).
     """
     protocol = protocol or unit_protocol(unit, base_dir)
-    every = store.current(unit.unit.name, until=at)
+    every = store.current(unit.unit.name, until=at)  # the store compares UTC text
     patients = []
     for p in sorted(unit.patients, key=lambda p: p.bed):
         mine = [f for f in every if f.entry.ref == p.ref]
@@ -648,7 +666,11 @@ def to_json(result: UnitReview) -> dict[str, Any]:
                 "bed": p.bed,
                 "last_check": p.last_check.astimezone(tz).isoformat() if p.last_check else None,
                 "overdue": [
-                    {"due": o.due.isoformat(), "minutes_late": o.minutes_late, "phase": o.phase}
+                    {
+                        "due": o.due.astimezone(tz).isoformat(),
+                        "minutes_late": o.minutes_late,
+                        "phase": o.phase,
+                    }
                     for o in p.overdue
                 ],
                 "alerts": [
@@ -689,13 +711,9 @@ def render_table(result: UnitReview) -> str:
         f"NIRS thresholds: {result.review_note}",
         "",
     ]
-    tz = result.at.tzinfo
+    tz = result.at.tzinfo or UTC  # ``at`` is aware: the unit's zone
     for p in result.patients:
-        last = (
-            p.last_check.astimezone(tz).strftime("%Y-%m-%d %H:%M")
-            if p.last_check
-            else "none recorded"
-        )
+        last = day_hm(p.last_check, tz) if p.last_check else "none recorded"
         abi = ", ".join(
             f"{s} {r.index:.2f} {r.band}" if r.index is not None else f"{s} -"
             for s, r in p.abi.items()
@@ -710,8 +728,7 @@ def render_table(result: UnitReview) -> str:
                 lines.append(f"  ... {len(p.overdue) - 5} more overdue (all in --format json)")
                 continue
             lines.append(
-                f"  overdue  due {o.due.strftime('%Y-%m-%d %H:%M')} ({o.phase}), "
-                f"{o.minutes_late} min late"
+                f"  overdue  due {day_hm(o.due, tz)} ({o.phase}), {o.minutes_late} min late"
             )
         for a in p.alerts:
             lines.append(f"  ALERT {a.rule}: {a.detail}")

@@ -15,10 +15,11 @@ import io
 import math
 import os
 from dataclasses import dataclass, field
-from datetime import UTC, datetime, timedelta
+from datetime import datetime, timedelta
 from pathlib import Path
 
 from vascplan.fileio import atomic_write_bytes
+from vascplan.localtime import day_hm, hm, offset_text, utc
 from vascplan.observations.findings import PEDAL_ARTERIES, SIDES
 from vascplan.observations.review import Alert, review_patient, unit_protocol
 from vascplan.observations.store import CurrentFinding, ObservationStore
@@ -42,9 +43,10 @@ def time_ticks(
     """Round ticks of the unit's local clock between ``t0`` and ``t1`` (both aware).
 
     The spacing is the smallest of :data:`TICK_STEPS_MIN` (or whole days) that keeps at
-    most ``max_ticks`` ticks; ticks fall where the local wall clock reads a multiple of
-    it (``14:00``, ``14:30``; ``00:00``, ``06:00``), also across a clock change, and a
-    wall time that a clock change skips is left out.
+    most ``max_ticks`` ticks over the real elapsed span; ticks fall where the local wall
+    clock reads a multiple of it (``14:00``, ``14:30``; ``00:00``, ``06:00``), also across
+    a clock change: a wall time the clocks skip has no tick, and one they repeat has two
+    (one per instant). Ticks are handed back in UTC, in time order.
 
     Returns
     -------
@@ -54,49 +56,69 @@ def time_ticks(
     >>> tz = ZoneInfo("Europe/London")
     >>> a = datetime(2026, 12, 1, 14, 37, tzinfo=tz)
     >>> step, ticks = time_ticks(a, a + timedelta(minutes=170), tz)
-    >>> step, [f"{t:%H:%M}" for t in ticks]
+    >>> step, [f"{t.astimezone(tz):%H:%M}" for t in ticks]
     (30, ['15:00', '15:30', '16:00', '16:30', '17:00'])
     """
-    span_min = max((t1 - t0).total_seconds() / 60, 1.0)
+    u0, u1 = utc(t0), utc(t1)
+    span_min = max((u1 - u0).total_seconds() / 60, 1.0)
     step = next((s for s in TICK_STEPS_MIN if span_min / s <= max_ticks), None)
     if step is None:
         step = 1440 * math.ceil(span_min / 1440 / max_ticks)
-    wall = t0.astimezone(tz).replace(tzinfo=None, hour=0, minute=0, second=0, microsecond=0)
-    end = t1.astimezone(tz).replace(tzinfo=None)
+    # Walk the instants every 15 min from a whole UTC quarter hour: every zone's offset is a
+    # whole number of quarter hours, so every round local time is met, each instant once.
+    moment = u0.replace(second=0, microsecond=0) - timedelta(minutes=u0.minute % 15)
     ticks = []
-    while wall <= end:
+    while moment <= u1:
+        wall = moment.astimezone(tz)
         minute_of_day = wall.hour * 60 + wall.minute
         on = (
             minute_of_day == 0 and wall.toordinal() % (step // 1440) == 0
             if step >= 1440
             else minute_of_day % step == 0
         )
-        if on:
-            aware = wall.replace(tzinfo=tz)
-            exists = aware.astimezone(UTC).astimezone(tz).replace(tzinfo=None) == wall
-            if exists and t0 <= aware <= t1:
-                ticks.append(aware)
-        wall += timedelta(minutes=15 if step < 1440 else 1440)
+        if on and u0 <= moment:
+            ticks.append(moment)
+        moment += timedelta(minutes=15)
     return step, ticks
 
 
 def floor_to_step(moment: datetime, tz, step_min: int) -> datetime:
-    """The latest time at or before ``moment`` when the local clock shows a round ``step_min``."""
-    local = moment.astimezone(tz)
-    if step_min >= 1440:
-        wall = local.replace(tzinfo=None, hour=0, minute=0, second=0, microsecond=0)
-    else:
-        minute_of_day = local.hour * 60 + local.minute
-        minute_of_day -= minute_of_day % step_min
-        wall = local.replace(
-            tzinfo=None,
-            hour=minute_of_day // 60,
-            minute=minute_of_day % 60,
-            second=0,
-            microsecond=0,
-        )
-    aware = wall.replace(tzinfo=tz)
-    return aware if aware <= moment else moment
+    """The latest instant at or before ``moment`` when the local clock shows a round
+    ``step_min`` (UTC); ``moment`` itself (in UTC) when none is found within a day."""
+    u = utc(moment)
+    probe = u.replace(second=0, microsecond=0) - timedelta(minutes=u.minute % 15)
+    for _ in range(24 * 4 + 1):
+        wall = probe.astimezone(tz)
+        minute_of_day = wall.hour * 60 + wall.minute
+        if minute_of_day % min(step_min, 1440) == 0:
+            return probe
+        probe -= timedelta(minutes=15)
+    return u
+
+
+def axis_window(check_times: list[datetime], at: datetime, tz) -> tuple[datetime, datetime, int]:
+    """The time axis of a trend page: ``(t0, t1, step_min)``, instants in UTC.
+
+    From the first recorded check (or 12 h before ``at`` when none; at least 1 h before
+    ``at``), floored to a round tick of the local clock, to ``at``. Elapsed time, not
+    wall time: the axis of a night the clocks go back is 25 hours long.
+    """
+    t1 = utc(at)
+    first = min((utc(t) for t in check_times), default=t1 - timedelta(hours=12))
+    t0 = min(first, t1 - timedelta(hours=1))
+    step_min, _ = time_ticks(t0, t1, tz)
+    return floor_to_step(t0, tz, step_min), t1, step_min
+
+
+def x_fraction(t: datetime, t0: datetime, t1: datetime) -> float:
+    """Where instant ``t`` falls on the axis ``t0``-``t1``: 0 at ``t0``, 1 at ``t1``.
+
+    By real elapsed time (UTC), so a reading at the second 01:30 of the night the clocks
+    go back lies one hour right of the first 01:30, and half an hour left of 02:00.
+    """
+    u0 = utc(t0)
+    total = (utc(t1) - u0).total_seconds() or 1.0
+    return (utc(t) - u0).total_seconds() / total
 
 
 def value_ticks(lo: float, hi: float, max_ticks: int = 6) -> tuple[float, float, list[float]]:
@@ -136,12 +158,16 @@ def patient_trend(
     unit: Unit, patient: Patient, protocol: Protocol, findings: list[CurrentFinding], at: datetime
 ) -> PatientTrend:
     """Alerts at each check (their onsets) and at ``at``, for one patient's page."""
-    mine = [f for f in findings if f.time <= at]
-    times = sorted({f.time for f in mine})
+    at_utc = utc(at)
+    mine = sorted(
+        (f for f in findings if utc(f.time) <= at_utc), key=lambda f: (utc(f.time), f.entry.id)
+    )
+    times = sorted({utc(f.time) for f in mine})
     onsets: list[tuple[datetime, Alert]] = []
     before: set[tuple[str, str | None]] = set()
     for t in times:
-        alerts = review_patient(unit, patient, protocol, [f for f in mine if f.time <= t], t).alerts
+        upto = [f for f in mine if utc(f.time) <= t]
+        alerts = review_patient(unit, patient, protocol, upto, t).alerts
         now = {(a.rule, a.side) for a in alerts}
         onsets += [(t, a) for a in alerts if (a.rule, a.side) not in before]
         before = now
@@ -153,7 +179,7 @@ def patient_trend(
             first = next((f for f in mine if f.item == "nirs" and f.site == side), None)
             if first is not None:
                 base[side] = float(first.value)
-    overdue = [o.due for o in final_review.overdue]
+    overdue = [utc(o.due) for o in final_review.overdue]
     return PatientTrend(patient, mine, times, onsets, final, base, overdue)
 
 
@@ -214,9 +240,11 @@ def _footer(c, width: float, number: int, total: int) -> None:
     c.drawRightString(width - 36, 14, f"Page {number} of {total}")
 
 
-def _fmt(moment: datetime, tz, span: timedelta) -> str:
+def _fmt(moment: datetime, tz, span: timedelta, offsets: bool = False) -> str:
+    """A tick label; with the UTC offset when the axis spans a clock change (``offsets``)."""
     local = moment.astimezone(tz)
-    return local.strftime("%d %b %H:%M") if span > timedelta(hours=20) else local.strftime("%H:%M")
+    text = local.strftime("%d %b %H:%M") if span > timedelta(hours=20) else local.strftime("%H:%M")
+    return text + offset_text(local) if offsets else text
 
 
 def _page(
@@ -242,24 +270,18 @@ def _page(
         36,
         height - 58,
         f"{unit.unit.name}; {dev.kind} {dev.size_fr:g} Fr ({dev.label}) in {dev.side} "
-        f"{dev.vessel} since {dev.inserted.astimezone(tz):%Y-%m-%d %H:%M %z}; {dpc}",
+        f"{dev.vessel} since {day_hm(dev.inserted, tz)}; {dpc}",
     )
     c.drawString(
         36,
         height - 69,
-        f"As at {at.astimezone(tz):%Y-%m-%d %H:%M %z}; protocol {protocol.name}; "
+        f"As at {day_hm(at, tz)}; protocol {protocol.name}; "
         f"{len(trend.check_times)} checks recorded.",
     )
     c.drawString(36, height - 80, f"Thresholds: {protocol.review.note}")
 
-    if trend.check_times:
-        t0 = min(trend.check_times[0], at - timedelta(hours=1))
-    else:
-        t0 = at - timedelta(hours=12)
-    t1 = at
-    step_min, _ = time_ticks(t0, t1, tz)
-    t0 = floor_to_step(t0, tz, step_min)
-    span = t1 - t0
+    t0, t1, _ = axis_window(trend.check_times, at, tz)
+    span = t1 - t0  # both UTC: real elapsed time
     left, right = 80, width - 40
     th = protocol.review
 
@@ -330,8 +352,11 @@ def _page(
 
 
 def _x(t: datetime, t0: datetime, t1: datetime, left: float, right: float) -> float:
-    total = (t1 - t0).total_seconds() or 1.0
-    return left + (right - left) * (t - t0).total_seconds() / total
+    return left + (right - left) * x_fraction(t, t0, t1)
+
+
+def _inside(t: datetime, t0: datetime, t1: datetime) -> bool:
+    return utc(t0) <= utc(t) <= utc(t1)
 
 
 def _axes(c, trend: PatientTrend, title: str, left, bottom, right, top, t0, t1, tz, span) -> None:
@@ -343,20 +368,21 @@ def _axes(c, trend: PatientTrend, title: str, left, bottom, right, top, t0, t1, 
     c.drawString(left, top + 4, title)
     c.setFont("Helvetica", 6.5)
     _, ticks = time_ticks(t0, t1, tz)
+    offsets = len({t.astimezone(tz).utcoffset() for t in (t0, t1, *ticks)}) > 1
     for t in ticks:
         x = _x(t, t0, t1, left, right)
         c.line(x, bottom, x, bottom - 3)
-        c.drawCentredString(x, bottom - 10, _fmt(t, tz, span))
+        c.drawCentredString(x, bottom - 10, _fmt(t, tz, span, offsets))
     # Checks: a tick inside the bottom edge at every recorded check.
     c.setLineWidth(1.2)
     for t in trend.check_times:
-        if t0 <= t <= t1:
+        if _inside(t, t0, t1):
             x = _x(t, t0, t1, left, right)
             c.line(x, bottom, x, bottom + 5)
     # Overdue checks: an open triangle inside the bottom edge at each due time.
     c.setLineWidth(0.8)
     for t in trend.overdue:
-        if t0 <= t <= t1:
+        if _inside(t, t0, t1):
             x = _x(t, t0, t1, left, right)
             path = c.beginPath()
             path.moveTo(x, bottom + 2)
@@ -367,11 +393,11 @@ def _axes(c, trend: PatientTrend, title: str, left, bottom, right, top, t0, t1, 
             c.drawPath(path, stroke=1, fill=1)
             c.setFillGray(0)
     # Alert onsets: a triangle inside the top edge, numbered as in the list below the panels.
-    numbers: dict[datetime, list[int]] = {}
+    numbers: dict[datetime, list[int]] = {}  # keyed by instant (UTC), never wall time
     for i, (t, _) in enumerate(trend.onsets, start=1):
-        numbers.setdefault(t, []).append(i)
+        numbers.setdefault(utc(t), []).append(i)
     for t, nums in numbers.items():
-        if t0 <= t <= t1:
+        if _inside(t, t0, t1):
             x = _x(t, t0, t1, left, right)
             path = c.beginPath()
             path.moveTo(x, top - 9)
@@ -429,7 +455,7 @@ def _panel(
     c.setStrokeGray(0)
     c.setFillGray(0)
     for side, pts in series.items():
-        pts = [(t, v) for t, v in pts if t0 <= t <= t1]
+        pts = sorted(((t, v) for t, v in pts if _inside(t, t0, t1)), key=lambda p: utc(p[0]))
         c.setLineWidth(1.1)
         c.setDash(LEG_DASH[side])
         for (ta, va), (tb, vb) in zip(pts, pts[1:], strict=False):
@@ -488,7 +514,7 @@ def _pedal_strip(c, trend, left, bottom, right, top, t0, t1, tz, span) -> None:
         c.line(left, yy, right, yy)
         c.setStrokeGray(0)
         for f in trend.findings:
-            if f.item == "pulse" and f.site == site and t0 <= f.time <= t1:
+            if f.item == "pulse" and f.site == site and _inside(f.time, t0, t1):
                 _marker(c, GRADE_MARK[f.value], _x(f.time, t0, t1, left, right), yy)
     c.setDash([])
 
@@ -502,14 +528,14 @@ def _alert_list(c, trend: PatientTrend, tz, top: float, width: float) -> None:
     c.setFont("Helvetica", 7)
     y = top - 12
     rows = [
-        f"{i}. {t.astimezone(tz):%d %b %H:%M} {a.rule}: {a.detail}"
+        f"{i}. {t.astimezone(tz):%d %b} {hm(t, tz)} {a.rule}: {a.detail}"
         for i, (t, a) in enumerate(trend.onsets, 1)
     ]
     if trend.overdue:
         rows.append(
             f"Overdue now (open triangle at the foot of each panel): {len(trend.overdue)} "
             f"scheduled check(s) not recorded, due "
-            + ", ".join(f"{t.astimezone(tz):%H:%M}" for t in trend.overdue[:12])
+            + ", ".join(hm(t, tz) for t in trend.overdue[:12])
             + (" ..." if len(trend.overdue) > 12 else "")
         )
     rows.append(f"Open now: {', '.join(sorted({a.rule for a in trend.open_alerts})) or 'none'}")

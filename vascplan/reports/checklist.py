@@ -30,6 +30,7 @@ from reportlab.platypus import (
     TableStyle,
 )
 
+from vascplan.localtime import offset_text
 from vascplan.reports.page import PageLabel, PageSetup, build_pdf, fonts, frame_box, styles
 from vascplan.reports.text import clean, para, rich, rich_para
 
@@ -368,16 +369,23 @@ def _ambiguous(at: datetime) -> bool:
     return other.utcoffset() != at.utcoffset()
 
 
+def zone_text(at: datetime) -> str:
+    """The zone and UTC offset of aware ``at``: ``BST +01:00``; the offset alone where
+    the zone has no abbreviation (``-04:00`` in America/Santiago)."""
+    name, offset = at.tzname() or "", offset_text(at)
+    return f"{name} {offset}" if name and name[0] not in "+-" else offset
+
+
 def due_text(row: CheckRow, sheet: ChecklistSheet) -> str:
     """The due time as printed: ``HH:MM``, with the date when it is not the shift's first
-    day, and the zone when the UTC offset differs from the shift start's or the wall
-    time happens twice that night (so the first 01:15 reads ``01:15 BST``, the second
-    ``01:15 GMT``)."""
+    day, and the zone with its UTC offset when the offset differs from the shift start's
+    or the wall time happens twice that night (so the first 01:15 reads
+    ``01:15 BST +01:00``, the second ``01:15 GMT +00:00``)."""
     text = f"{row.due:%H:%M}"
     if row.due.date() != sheet.shift_start.date():
         text = f"{row.due:%d %b} {text}"
     if row.due.utcoffset() != sheet.shift_start.utcoffset() or _ambiguous(row.due):
-        text += f" {row.due.tzname()}"
+        text += f" {zone_text(row.due)}"
     return text
 
 
@@ -388,7 +396,7 @@ ROW_HEIGHT_PT = 15.0
 def _grid(sheet: ChecklistSheet, width: float) -> Table:
     st = styles()
     ids = [i for i, _ in sheet.items]
-    due_w, every_w, initials_w = 92.0, 20.0, 38.0
+    due_w, every_w, initials_w = 114.0, 20.0, 38.0  # due: room for "25 Oct 01:15 AEDT +11:00"
     item_w = (width - due_w - every_w - initials_w) / max(len(ids), 1)
     head = [
         rich_para(

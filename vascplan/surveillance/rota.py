@@ -21,6 +21,7 @@ from datetime import UTC, datetime, timedelta
 
 from vascplan.errors import InputError
 from vascplan.fileio import did_you_mean
+from vascplan.localtime import hm
 from vascplan.safety import CAUTION
 from vascplan.surveillance.protocol import Protocol
 from vascplan.surveillance.schedule import ScheduledCheck, unit_schedule
@@ -144,7 +145,8 @@ class ShiftClock:
 
 
 def _hm(value: datetime, tz) -> str:  # noqa: ANN001 - ZoneInfo
-    return value.astimezone(tz).strftime("%H:%M")
+    """Local clock time with its UTC offset (``01:20+01:00``): the repeated hour reads apart."""
+    return hm(value, tz)
 
 
 SEARCH_LIMIT = 7
