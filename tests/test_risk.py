@@ -83,14 +83,15 @@ def test_not_a_validated_score_is_said():
 
 
 def test_reference_diameter_flagged_when_no_measurement():
-    # Sandgren et al., J Vasc Surg 1999: CFA about 9.8 mm in men, 8.2 mm in women.
+    # Chiam et al., Int J Cardiol 2013;167:1373-1379: femoral minimal lumen diameter by CT,
+    # men 7.3 +/- 1.8 mm, women 6.3 +/- 1.5 mm (patients, not volunteers' outer diameters).
     man = assess_patient(_patient(vessel_mm=None), PROTOCOL, AT)
     woman = assess_patient(_patient(vessel_mm=None, sex="female"), PROTOCOL, AT)
-    assert man.vessel_mm == 9.8 and not man.vessel_measured
-    assert woman.vessel_mm == 8.2
-    assert any(REFERENCE_MARK in x and "Sandgren" in x for x in man.assumptions)
+    assert man.vessel_mm == 7.3 and not man.vessel_measured
+    assert woman.vessel_mm == 6.3
+    assert any(REFERENCE_MARK in x and "Chiam" in x for x in man.assumptions)
     ref, note = reference_diameter("CFA", "unspecified")
-    assert ref.diameter_mm == 8.2 and "sex not given" in note
+    assert ref.diameter_mm == 6.3 and "sex not given" in note
 
 
 def test_dpc_advised_on_femoral_ecmo_with_sources():

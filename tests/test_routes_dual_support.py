@@ -160,7 +160,10 @@ def test_support_example_prefers_the_roomy_left_groin():
     assert [(b.code, b.segment) for b in right.blocked_by] == [("sheath-too-large", "R-EIA")]
     assert right.sar == pytest.approx(5.7 / (5.8 * 0.7), abs=1e-9)
     # best_site is the feasible axis with the lowest SAR, a separate fact from the ranking:
-    # R-AXA 5.7 / 7.1 = 0.80 is below the left groin's 0.85.
+    # R-AXA 5.7 / 7.1 = 0.80 is below the left groin's 0.85. The pump also runs through the
+    # right subclavian, measured 8.3 mm in the case (5.7 / 8.3 = 0.69), so the axillary
+    # governs; an unmeasured subclavian would take the reference 6.7 mm (lumen at the
+    # vertebral origin, data/anatomy/segments.csv): 5.7 / 6.7 = 0.85, no longer below.
     assert result.support["best_site"] == "R-AXA"
 
 
