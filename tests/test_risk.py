@@ -59,7 +59,7 @@ def test_sar_threshold_1_05_hayashida():
 @pytest.mark.parametrize(
     ("field", "factor", "source"),
     [
-        ({"pad": True}, "pad", "Cheng"),  # PAD: Cheng 2014 and Alderman 1987
+        ({"pad": True}, "pad", "RR 1.9"),  # PAD: Alderman 1987, RR 1.9 (balloon pumps)
         ({"diabetes": True}, "diabetes", "Alderman"),  # diabetes: both
         ({"sex": "female"}, "female", "Alderman"),  # female sex: Alderman 1987 (balloon pumps)
     ],
@@ -68,6 +68,13 @@ def test_patient_factors_name_their_sources(field, factor, source):
     a = assess_patient(_patient(**field), PROTOCOL, AT)
     assert factor in a.factors and a.tier == "raised"
     assert any(source in r for r in a.reasons)
+
+
+def test_pad_reason_cites_what_the_source_gives():
+    # Alderman JD et al., J Am Coll Cardiol 1987;9:524: RR 1.9 for peripheral vascular
+    # disease. The "OR about 13.7" once given for PAD is in neither cited paper.
+    reasons = " ".join(assess_patient(_patient(pad=True), PROTOCOL, AT).reasons)
+    assert "Alderman" in reasons and "13.7" not in reasons
 
 
 def test_three_factors_give_high():
