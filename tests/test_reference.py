@@ -243,3 +243,26 @@ def test_suggestions_for_plain_names_and_ties():
     assert suggest_segment("radial") == " (did you mean 'L-RAD' or 'R-RAD'?)"
     assert suggest_segment("L-ATX") == " (did you mean 'L-ATA' or 'L-AXA'?)"
     assert suggest_segment("R-POPL") == " (did you mean 'R-POP'?)"
+
+
+@pytest.mark.parametrize("vessel", ["CFA", "EIA", "SFA", "AXA", "SCA"])
+@pytest.mark.parametrize("side", ["L", "R"])
+def test_ward_reference_reads_the_one_anatomy_table(vessel, side):
+    # One reference anatomy: the ward's access-vessel reference is the segment row of that
+    # side in data/anatomy/segments.csv, with its source, for each sex.
+    from vascplan.surveillance.risk import reference_diameter
+
+    row = load_reference()[f"{side}-{vessel}"]
+    for sex in ("female", "male"):
+        ref, note = reference_diameter(vessel, sex, side=side)
+        assert ref.diameter_mm == row.diameter_mean_mm(sex)
+        assert ref.source == row.diameter_source and row.diameter_source in note
+    # Sex not given: the women's value, never larger than the men's (cautious).
+    ref, _ = reference_diameter(vessel, "unspecified", side=side)
+    assert ref.diameter_mm == row.diameter_female_mean_mm <= row.diameter_male_mean_mm
+
+
+def test_no_second_diameter_table():
+    from vascplan.paths import data_dir
+
+    assert not (data_dir() / "surveillance" / "reference_diameters.csv").exists()
