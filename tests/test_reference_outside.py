@@ -318,3 +318,28 @@ def test_every_row_says_what_its_diameter_is():
             assert "MLD in patients" not in row.diameter_source, row.id
     mld = {k[2:] for k, r in load_reference().items() if r.diameter_kind == "mld-patients"}
     assert mld == {"EIA", "CFA", "AXA"}
+
+
+@pytest.mark.parametrize("sex", ["female", "male"])
+def test_unmeasured_groin_does_not_pass_a_24_fr_sheath(sex):
+    # A 24 Fr sheath of 9.1 mm outer diameter in a groin nobody measured. On the patients'
+    # femoral MLD (Chiam 2013) the SAR is 9.1 / 7.3 = 1.25 for men and 9.1 / 6.3 = 1.44 for
+    # women, over the 1.05 limit (Hayashida 2011; Barbanti 2013); on the volunteers' outer
+    # diameter used before (9.8 mm in men) it was 9.1 / 9.8 = 0.93 and passed.
+    from vascplan.routes.plan import plan_case
+
+    case = Case.model_validate(
+        {
+            "format": "vascplan-case/1",
+            "patient": {"ref": "DEMO-99", "sex": sex, "height_cm": HEIGHT_CM},
+            "procedure": {
+                "purpose": "treat",
+                "target": {"segment": "AO-INFRA", "at_cm": 5},
+                "sheath": {"size_fr": 24, "length_cm": 25, "outer_mm": 9.1},
+                "device": {"profile_fr": 22, "working_length_cm": 110},
+            },
+        }
+    )
+    groin = [r for r in plan_case(case).routes if r.site in ("L-CFA", "R-CFA")]
+    assert groin and not any(r.feasible for r in groin)
+    assert 9.1 / _ref("CFA", sex) > 1.05
