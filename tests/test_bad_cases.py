@@ -46,7 +46,7 @@ EXPECTED = {
     "avoid-unknown-site.yaml": "avoid.0.site: unknown segment 'radial'"
     " (did you mean 'L-RAD' or 'R-RAD'?)",
     "diameter-implausible.yaml": "vessels.R-CFA.diameter_mm: 26 mm is outside the plausible range"
-    " for R-CFA (3.5-16 mm)",
+    " for R-CFA (1.5-16 mm)",
     "diameter-zero.yaml": "vessels.L-RAD.diameter_mm: must be more than 0 mm (got 0)",
     "stenosis-over-100.yaml": "lesions.0.stenosis_pct: must be 0-100% (got 120)",
     "stenosis-negative.yaml": "lesions.0.stenosis_pct: must be 0-100% (got -5)",

@@ -50,9 +50,10 @@ def test_tree_table_marks_reference_values():
     # L-SFA: diameter and length both measured, occlusion makes the MLD 0.
     sfa = rows["L-SFA"].split()
     assert sfa[5:9] == ["5.2", "0.0", "29.0", "none*"]
-    # R-EIA: nothing measured.
-    # R-EIA: nothing measured, so its MLD (the reference diameter) is marked too.
-    assert rows["R-EIA"].split()[5:9] == ["7.0*", "7.0*", "9.0*", "none*"]
+    # R-EIA: nothing measured, so its MLD (the reference diameter) is marked too. DEMO-07 is
+    # a woman: iliac MLD 7.2 mm in women (Chiam et al., Int J Cardiol 2013); EIA length
+    # 11.0 cm (CT 11.09 +/- 1.60 cm, Lunn-Collier et al., Transl Res Anat 2024, rounded).
+    assert rows["R-EIA"].split()[5:9] == ["7.2*", "7.2*", "11.0*", "none*"]
     assert "AVOID: dialysis fistula planned" in rows["L-RAD"]
     assert result.stdout.rstrip().endswith(f"Caution: {CAUTION}")
     assert "Legend: * = reference value" in result.stdout
@@ -190,8 +191,10 @@ def test_mld_marked_when_it_rests_on_a_reference_diameter():
         }
     )
     segs = {s["id"]: s for s in tree_summary(build_tree(case))["segments"]}
+    # R-CIA unmeasured in a man: reference mean lumen 11.0 mm (data/anatomy/segments.csv),
+    # a 50% stenosis leaves 11.0 x 0.5 = 5.5 mm.
     assert (segs["R-CIA"]["mld_mm"], segs["R-CIA"]["mld_source"]) == (
-        pytest.approx(5.45, abs=0.01),
+        pytest.approx(5.5, abs=0.01),
         "reference",
     )
     assert segs["R-CIA"]["lesions"][0]["mld_source"] == "reference"

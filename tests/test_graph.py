@@ -29,7 +29,8 @@ def test_measured_overrides_reference_with_provenance():
     assert other["diameter_source"] == "reference" and other["length_source"] == "reference"
     assert other["diameter_mm"] == load_reference()["R-EIA"].diameter_female_mean_mm
     text = "\n".join(tree.assumptions())
-    assert "R-EIA diameter is a reference value (female mean 7.0 mm" in text
+    # Iliac MLD in women 7.2 mm (Chiam et al., Int J Cardiol 2013;167:1373).
+    assert "R-EIA diameter is a reference value (female mean 7.2 mm" in text
     assert "L-EIA diameter" not in text and "L-EIA length" not in text
 
 

@@ -217,7 +217,8 @@ CASES = [
     ),
     (
         "  capillary_refill_slow_s:\n    value: 3\n"
-        '    source: "capillary refill normal under 2-3 s (seen, REFERENCES.md)"\n',
+        '    source: "capillary refill normal under 2-3 s, slower in the elderly and the cold '
+        '(common practice; nursing assessment guides seen)"\n',
         "",
         "proto.yaml: review.capillary_refill_slow_s: required field is missing",
     ),

@@ -168,17 +168,41 @@ def test_malformed_table_names_line_and_column(tmp_path):
 
 def test_more_published_diameters():
     ref = load_reference()
-    # Kim et al., PLoS One 2022: common iliac 10.9 +/- 1.7 mm (sexes pooled).
-    for sex in ("female", "male"):
-        assert (ref["R-CIA"].diameter_mean_mm(sex), ref["R-CIA"].diameter_sd_mm(sex)) == (10.9, 1.7)
-    # Sandgren et al., J Vasc Surg 1999;29:503 (values from memory): CFA men 9.8, women 8.2 mm.
-    assert ref["L-CFA"].diameter_male_mean_mm == 9.8
-    assert ref["L-CFA"].diameter_female_mean_mm == 8.2
-    # SFA/CFA ratio men 0.78, women 0.74 (REFERENCES.md, seen): SFA = ratio x CFA, 0.05 mm.
-    assert ref["L-SFA"].diameter_male_mean_mm == pytest.approx(0.78 * 9.8, abs=0.05)
-    assert ref["L-SFA"].diameter_female_mean_mm == pytest.approx(0.74 * 8.2, abs=0.05)
+    # Sexes split for the common iliac, women smaller: CT lumen women 8.8, men 11.8 mm (Tran
+    # et al., Ann Vasc Surg 2017), pooled 9.50 +/- 1.53 mm (Lunn-Collier et al., Transl Res
+    # Anat 2024): the table takes 9.5 and 11.0 mm, SD 1.5 mm.
+    cia = ref["R-CIA"]
+    assert (cia.diameter_female_mean_mm, cia.diameter_male_mean_mm) == (9.5, 11.0)
+    assert cia.diameter_female_sd_mm == cia.diameter_male_sd_mm == 1.5
     # Axillary minimal lumen 6.0 +/- 1.1 mm (Catheter Cardiovasc Interv 2018;91:150).
     assert (ref["R-AXA"].diameter_male_mean_mm, ref["R-AXA"].diameter_male_sd_mm) == (6.0, 1.1)
+    # The groin is no longer healthy volunteers' outer diameter (about 9.8 mm in men, 8.2 mm
+    # in women, Sandgren et al., J Vasc Surg 1999;29:503, values from memory) but the
+    # patients' CT minimal lumen (Chiam et al., Int J Cardiol 2013): well below it.
+    assert (
+        ref["L-CFA"].diameter_male_mean_mm < 9.8 - 2
+        and ref["L-CFA"].diameter_female_mean_mm < 8.2 - 1.5
+    )
+
+
+def test_unknown_diameter_kind_is_refused(tmp_path):
+    import shutil
+
+    from vascplan.errors import InputError
+    from vascplan.paths import data_dir
+
+    folder = tmp_path / "data"
+    shutil.copytree(data_dir() / "anatomy", folder / "anatomy")
+    table = folder / "anatomy" / "segments.csv"
+    text = table.read_text()
+    table.write_text(text.replace(",mld-patients,", ",volunteers,", 1))
+    line = next(n for n, row in enumerate(text.splitlines(), start=1) if ",mld-patients," in row)
+    with pytest.raises(InputError) as exc:
+        load_reference(str(folder))
+    assert str(exc.value) == (
+        f"{table}: line {line}.diameter_kind: must be one of "
+        "mld-patients, lumen-patients, population, recalled"
+    )
 
 
 # Men's 95th-percentile upper limits by MR angiography (Lorbeer et al., PLoS One
@@ -219,3 +243,26 @@ def test_suggestions_for_plain_names_and_ties():
     assert suggest_segment("radial") == " (did you mean 'L-RAD' or 'R-RAD'?)"
     assert suggest_segment("L-ATX") == " (did you mean 'L-ATA' or 'L-AXA'?)"
     assert suggest_segment("R-POPL") == " (did you mean 'R-POP'?)"
+
+
+@pytest.mark.parametrize("vessel", ["CFA", "EIA", "SFA", "AXA", "SCA"])
+@pytest.mark.parametrize("side", ["L", "R"])
+def test_ward_reference_reads_the_one_anatomy_table(vessel, side):
+    # One reference anatomy: the ward's access-vessel reference is the segment row of that
+    # side in data/anatomy/segments.csv, with its source, for each sex.
+    from vascplan.surveillance.risk import reference_diameter
+
+    row = load_reference()[f"{side}-{vessel}"]
+    for sex in ("female", "male"):
+        ref, note = reference_diameter(vessel, sex, side=side)
+        assert ref.diameter_mm == row.diameter_mean_mm(sex)
+        assert ref.source == row.diameter_source and row.diameter_source in note
+    # Sex not given: the women's value, never larger than the men's (cautious).
+    ref, _ = reference_diameter(vessel, "unspecified", side=side)
+    assert ref.diameter_mm == row.diameter_female_mean_mm <= row.diameter_male_mean_mm
+
+
+def test_no_second_diameter_table():
+    from vascplan.paths import data_dir
+
+    assert not (data_dir() / "surveillance" / "reference_diameters.csv").exists()

@@ -59,7 +59,7 @@ def test_sar_threshold_1_05_hayashida():
 @pytest.mark.parametrize(
     ("field", "factor", "source"),
     [
-        ({"pad": True}, "pad", "Cheng"),  # PAD: Cheng 2014 and Alderman 1987
+        ({"pad": True}, "pad", "RR 1.9"),  # PAD: Alderman 1987, RR 1.9 (balloon pumps)
         ({"diabetes": True}, "diabetes", "Alderman"),  # diabetes: both
         ({"sex": "female"}, "female", "Alderman"),  # female sex: Alderman 1987 (balloon pumps)
     ],
@@ -68,6 +68,13 @@ def test_patient_factors_name_their_sources(field, factor, source):
     a = assess_patient(_patient(**field), PROTOCOL, AT)
     assert factor in a.factors and a.tier == "raised"
     assert any(source in r for r in a.reasons)
+
+
+def test_pad_reason_cites_what_the_source_gives():
+    # Alderman JD et al., J Am Coll Cardiol 1987;9:524: RR 1.9 for peripheral vascular
+    # disease. The "OR about 13.7" once given for PAD is in neither cited paper.
+    reasons = " ".join(assess_patient(_patient(pad=True), PROTOCOL, AT).reasons)
+    assert "Alderman" in reasons and "13.7" not in reasons
 
 
 def test_three_factors_give_high():
@@ -83,14 +90,15 @@ def test_not_a_validated_score_is_said():
 
 
 def test_reference_diameter_flagged_when_no_measurement():
-    # Sandgren et al., J Vasc Surg 1999: CFA about 9.8 mm in men, 8.2 mm in women.
+    # Chiam et al., Int J Cardiol 2013;167:1373-1379: femoral minimal lumen diameter by CT,
+    # men 7.3 +/- 1.8 mm, women 6.3 +/- 1.5 mm (patients, not volunteers' outer diameters).
     man = assess_patient(_patient(vessel_mm=None), PROTOCOL, AT)
     woman = assess_patient(_patient(vessel_mm=None, sex="female"), PROTOCOL, AT)
-    assert man.vessel_mm == 9.8 and not man.vessel_measured
-    assert woman.vessel_mm == 8.2
-    assert any(REFERENCE_MARK in x and "Sandgren" in x for x in man.assumptions)
+    assert man.vessel_mm == 7.3 and not man.vessel_measured
+    assert woman.vessel_mm == 6.3
+    assert any(REFERENCE_MARK in x and "Chiam" in x for x in man.assumptions)
     ref, note = reference_diameter("CFA", "unspecified")
-    assert ref.diameter_mm == 8.2 and "sex not given" in note
+    assert ref.diameter_mm == 6.3 and "sex not given" in note
 
 
 def test_dpc_advised_on_femoral_ecmo_with_sources():

@@ -127,11 +127,12 @@ def test_risk_json_contract(unit_file):
         assert p["tier"] in ("standard", "raised", "high")
         assert isinstance(p["dpc_advised"], bool) and p["reasons"]
     ecmo = by_ref["DEMO-81"]
-    # No vessel_mm: the women's CFA reference 8.2 mm (Sandgren 1999) is used and flagged.
-    assert ecmo["vessel_measured"] is False and ecmo["vessel_mm"] == 8.2
+    # No vessel_mm: the women's femoral MLD reference 6.3 mm (Chiam et al., Int J Cardiol
+    # 2013;167:1373) is used and flagged.
+    assert ecmo["vessel_measured"] is False and ecmo["vessel_mm"] == 6.3
     assert any("*" in a for a in ecmo["assumptions"])
-    # 17 Fr outer = 17/3 mm (French scale, exact) over 8.2 mm.
-    assert ecmo["sar"] == pytest.approx(17 / 3 / 8.2, abs=1e-3)
+    # 17 Fr outer = 17/3 mm (French scale, exact) over 6.3 mm = 0.8995.
+    assert ecmo["sar"] == pytest.approx(17 / 3 / 6.3, abs=1e-3)
     # Inserted 20:00 EST (01:00Z), assessed 06:00 EDT (10:00Z): 9 real hours, not 10.
     assert ecmo["dwell_h"] == 9.0
     assert ecmo["dpc_in_place"] is True and ecmo["dpc_advised"] is False

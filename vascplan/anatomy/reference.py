@@ -1,7 +1,11 @@
 """The reference adult arterial tree: ``data/anatomy/segments.csv`` read into objects.
 
 The table holds one row per arterial segment (both sides), its parent, where on the
-parent it starts, a length rule and normal diameters by sex, each with its source.
+parent it starts, a length rule and reference diameters by sex, each with its source and
+its kind (:data:`DIAMETER_KINDS`). For the access and occupied vessels the reference is
+the minimal lumen diameter (MLD) that CT gives in patients who are candidates for
+large-bore devices, not healthy volunteers' outer diameters; it is the one table every
+package reads (the tree, the routes, and the ward's risk assessment).
 It is read with the standard :mod:`csv` module (no pandas: ``validate`` and ``tree``
 must start fast) and cached.
 
@@ -32,6 +36,15 @@ from vascplan.paths import data_dir
 SEXES = ("female", "male", "unspecified")
 SIDES = ("L", "R", "midline")
 LENGTH_RULES = ("body", "published")
+DIAMETER_KINDS = {
+    "mld-patients": "minimal lumen diameter by CT in patients of the age and kind who get "
+    "large-bore devices",
+    "lumen-patients": "mean lumen diameter in patients (not the minimal lumen)",
+    "population": "mean diameter of a population or of healthy adults",
+    "recalled": "recalled value (from memory), no measured series in hand",
+}
+"""What a reference diameter measures (column ``diameter_kind``). Only ``mld-patients``
+is the quantity the sheath-to-artery ratio needs; the others stand in for it and say so."""
 ROOT_ID = "AO-ASC"
 """The aortic root: every segment's path to the root ends here."""
 
@@ -70,6 +83,10 @@ class SegmentReference:
         Normal adult male diameter, mean and SD [mm].
     diameter_min_mm, diameter_max_mm : float
         Plausible human range [mm]: a measured diameter outside it is refused.
+    diameter_kind : str
+        What the reference diameter measures, one of :data:`DIAMETER_KINDS`
+        (``mld-patients`` for the access and occupied vessels where a CT series of
+        patients gives the minimal lumen by sex).
     length_source, diameter_source, range_source : str
         Where the values come from (a citation, ``from memory`` or ``common practice``).
     """
@@ -91,6 +108,7 @@ class SegmentReference:
     diameter_male_sd_mm: float
     diameter_min_mm: float
     diameter_max_mm: float
+    diameter_kind: str
     length_source: str
     diameter_source: str
     range_source: str
@@ -238,6 +256,12 @@ def load_reference(folder: str | None = None) -> dict[str, SegmentReference]:
         else:
             published = _number(path, line, "length_cm", row["length_cm"])
 
+        kind = row.get("diameter_kind", "").strip()
+        if kind not in DIAMETER_KINDS:
+            raise InputError(
+                str(path), f"{where}.diameter_kind", f"must be one of {', '.join(DIAMETER_KINDS)}"
+            )
+
         def num(column: str, _line: int = line, _row: dict[str, str] = row) -> float:
             value = _number(path, _line, column, _row[column])
             assert value is not None
@@ -261,6 +285,7 @@ def load_reference(folder: str | None = None) -> dict[str, SegmentReference]:
             diameter_male_sd_mm=num("diameter_male_sd_mm"),
             diameter_min_mm=num("diameter_min_mm"),
             diameter_max_mm=num("diameter_max_mm"),
+            diameter_kind=kind,
             length_source=row["length_source"].strip(),
             diameter_source=row["diameter_source"].strip(),
             range_source=row["range_source"].strip(),

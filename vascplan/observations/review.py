@@ -100,7 +100,7 @@ RULES: dict[str, Rule] = {
         Rule(
             "skin-change",
             ("perfusion-reduced",),
-            "six Ps: pallor and poikilothermia (REFERENCES.md, seen); compared with the "
+            "six Ps: pallor and poikilothermia (common practice); compared with the "
             "other leg and the earlier check: common practice",
             "a leg pale, mottled or blue, or cool or cold, where the other leg at the same "
             "check or the same leg earlier was normal and warm",
@@ -114,7 +114,7 @@ RULES: dict[str, Rule] = {
         Rule(
             "calf-tense",
             ("compartment",),
-            "compartment syndrome signs (REFERENCES.md, seen)",
+            "compartment syndrome signs (common practice; clinical reviews seen)",
             "a tense calf",
         ),
         Rule(

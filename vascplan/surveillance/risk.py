@@ -10,7 +10,6 @@ Tests a rule may use (one registry, :data:`TESTS`): ``femoral-access``, ``sar-at
 
 from __future__ import annotations
 
-import csv
 from collections.abc import Callable
 from dataclasses import dataclass, field
 from datetime import UTC, datetime, timedelta
@@ -145,39 +144,63 @@ class ReferenceDiameter:
 
 @lru_cache(maxsize=1)
 def _reference_table() -> dict[tuple[str, str], ReferenceDiameter]:
-    path = data_dir() / "surveillance" / "reference_diameters.csv"
-    with open(path, newline="", encoding="utf-8") as fh:
-        rows = list(csv.DictReader(fh))
-    return {
-        (r["vessel"], r["sex"]): ReferenceDiameter(
-            r["vessel"], r["sex"], float(r["diameter_mm"]), r["source"]
-        )
-        for r in rows
-    }
+    """(segment id, sex) -> reference diameter, read from the one reference anatomy table.
+
+    The access vessels of the unit file (:data:`~vascplan.surveillance.unit.ACCESS_VESSELS`)
+    map to the segment rows of each side (``CFA`` on the right is ``R-CFA``) of
+    ``data/anatomy/segments.csv`` through :func:`vascplan.anatomy.reference.load_reference`.
+    """
+    from vascplan.anatomy.reference import load_reference
+    from vascplan.surveillance.unit import ACCESS_VESSELS
+
+    table: dict[tuple[str, str], ReferenceDiameter] = {}
+    for seg_id, row in load_reference().items():
+        vessel = seg_id[2:]
+        if row.side not in ("L", "R") or vessel not in ACCESS_VESSELS:
+            continue
+        for sex in ("female", "male"):
+            table[(seg_id, sex)] = ReferenceDiameter(
+                vessel, sex, row.diameter_mean_mm(sex), row.diameter_source
+            )
+    return table
 
 
-def reference_diameter(vessel: str, sex: str) -> tuple[ReferenceDiameter, str]:
+def reference_diameter(
+    vessel: str, sex: str, *, side: str | None = None
+) -> tuple[ReferenceDiameter, str]:
     """A reference access-vessel diameter by sex, and the assumption sentence to show.
 
-    Used only when the unit file gives no measured ``vessel_mm``. Where the sex is not
-    given, the women's (smaller, so more cautious) value is taken and that is said.
+    Used only when the unit file gives no measured ``vessel_mm``. The value comes from
+    the reference anatomy table (``data/anatomy/segments.csv``): for the femoral, iliac
+    and axillary access vessels it is the minimal lumen diameter by CT in patients who
+    are candidates for large-bore devices. Where the sex is not given, the women's
+    (smaller, so more cautious) value is taken and that is said. ``side`` (``L`` or
+    ``R``) picks the segment row of that side; without it the smaller of the two sides
+    is taken (the table gives both sides the same value).
 
     Examples
     --------
     >>> ref, note = reference_diameter("CFA", "male")
-    >>> ref.diameter_mm
-    9.8
+    >>> ref.diameter_mm        # Chiam et al., Int J Cardiol 2013: femoral MLD, men
+    7.3
     """
     table = _reference_table()
     used_sex = sex if sex in ("male", "female") else "female"
-    ref = table[(vessel, used_sex)]
+    sides = (side,) if side in ("L", "R") else ("L", "R")
+
+    def pick(for_sex: str) -> ReferenceDiameter:
+        return min(
+            (table[(f"{s}-{vessel}", for_sex)] for s in sides), key=lambda r: r.diameter_mm
+        )
+
+    ref = pick(used_sex)
     who = {"male": "men", "female": "women"}[used_sex]
     note = (
         f"no measured {vessel} diameter: reference {ref.diameter_mm:g} mm for {who} used "
         f"{REFERENCE_MARK} ({ref.source})"
     )
     if used_sex != sex:
-        if table[(vessel, "male")].diameter_mm != ref.diameter_mm:
+        if pick("male").diameter_mm != ref.diameter_mm:
             note += "; sex not given, the smaller women's value taken"
         else:
             note = note.replace(f" for {who} used", " used (the same for women and men)")
