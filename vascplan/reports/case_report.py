@@ -16,6 +16,7 @@ from typing import Any
 from reportlab.lib import colors
 from reportlab.platypus import KeepTogether, PageBreak, Spacer, Table, TableStyle
 
+from vascplan.nearlimit import format_near_limit
 from vascplan.reports.arterial_map import LEGEND_ROWS, PT_PER_MM, draw_map, legend_symbol
 from vascplan.reports.map_input import chosen_and_runner_up, map_data
 from vascplan.reports.page import PageSetup, build_pdf, frame_box, styles
@@ -37,6 +38,22 @@ def verdict(route: Mapping[str, Any]) -> str:
 
 def _num(value: Any, fmt: str = "{:.2f}", none: str = "-") -> str:
     return none if value is None else fmt.format(value)
+
+
+def _sar(value: Any, limit: Any) -> str:
+    """A SAR on its verdict's side of its limit (``1.048`` beside 1.05), ``-`` if none."""
+    if value is None:
+        return "-"
+    return format_near_limit(float(value), None if limit is None else float(limit))
+
+
+def _limit(r: Mapping[str, Any], limit_key: str = "sar_limit",
+           source_key: str = "sar_limit_source", label_key: str = "sar_limit_label") -> str:
+    """``limit 1.00 radial (Saito et al., ...)``: the SAR limit with its source."""
+    if r.get(limit_key) is None:
+        return ""
+    label = r.get(label_key) or ""
+    return f"limit {r[limit_key]:.2f} {label} ({r.get(source_key)})".replace("  ", " ")
 
 
 def _node_name(tree: Any, node: str) -> str:
@@ -245,7 +262,7 @@ def route_table(
         sizes = (
             f"{_num(r.get('sheath_od_mm'))}{mark('sheath_od_mm')} / "
             f"{_num(r.get('min_lumen_mm'))}{mark('min_lumen_mm')} / "
-            f"{_num(r.get('sar'))}{mark('sar')}"
+            f"{_sar(r.get('sar'), r.get('sar_limit'))}{mark('sar')}; {_limit(r)}"
         )
         path = r.get("path_words") or " > ".join(r.get("path", []))
         reasons = [
@@ -492,7 +509,12 @@ def support_tables(support: Mapping[str, Any], width: float, od_assumed: bool = 
                     + (f". NO LUMEN LEFT: {ax['lumen_note']}" if ax.get("lumen_note") else ""),
                     cell,
                 ),
-                para(f"{_num(ax.get('max_sar'))} ({ax.get('limiting_segment') or '-'})", cell),
+                para(
+                    f"{_sar(ax.get('max_sar'), ax.get('max_sar_limit'))} "
+                    f"({ax.get('limiting_segment') or '-'}); "
+                    + _limit(ax, "max_sar_limit", "max_sar_limit_source", "max_sar_limit_label"),
+                    cell,
+                ),
                 para(lumen, cell),
                 para(flow_text, cell),
                 para(dpc_text, small),
@@ -550,11 +572,11 @@ def _dpc_text(dpc: Mapping[str, Any] | None) -> str:
 
 def _segment_sar(s: Mapping[str, Any]) -> str:
     mark = REFERENCE_MARK if s.get("mld_source") == "reference" else ""
-    over = ", over the limit" if s.get("over_limit") else ""
+    over = ", at or over the limit" if s.get("over_limit") else ""
     return (
         f"{s.get('segment')} {s.get('from_cm'):g}-{s.get('to_cm'):g} cm: MLD "
-        f"{_num(s.get('mld_mm'))}{mark} mm, SAR {_num(s.get('sar'))}{mark} "
-        f"(limit {_num(s.get('sar_limit'))}{over})"
+        f"{_num(s.get('mld_mm'))}{mark} mm, SAR {_sar(s.get('sar'), s.get('sar_limit'))}{mark} "
+        f"({_limit(s)}{over})"
     )
 
 
