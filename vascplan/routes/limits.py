@@ -274,9 +274,23 @@ def check_device(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
         return []
     mm, node = lumen
     star = _star(ctx.view.node(node).get("diameter_source") != "measured")
+    od_text, mm_text = _apart(d.device_od_mm, mm)
     return [Block("device-too-large", node,
-                  f"{d.device_fr:g} Fr device ({d.device_od_mm:.2f} mm) is wider than "
-                  f"{node} ({mm:.2f} mm{star}) beyond the sheath tip")]
+                  f"{d.device_fr:g} Fr device ({od_text} mm) is wider than "
+                  f"{node} ({mm_text} mm{star}) beyond the sheath tip")]
+
+
+def _apart(wider: float, narrower: float) -> tuple[str, str]:
+    """Both figures with the fewest decimals (2 or more) that print them apart.
+
+    >>> _apart(2.3333, 2.331)
+    ('2.333', '2.331')
+    """
+    for places in range(2, 13):
+        a, b = f"{wider:.{places}f}", f"{narrower:.{places}f}"
+        if float(a) > float(b):
+            return a, b
+    return repr(wider), repr(narrower)
 
 
 def check_too_short(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
