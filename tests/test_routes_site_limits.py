@@ -192,3 +192,20 @@ def test_property_a_printed_sar_is_on_the_verdicts_side(limit, delta):
     text = format_near_limit(value, limit)
     assert (float(text) >= limit) is (value >= limit)
     assert len(text.split(".")[1]) >= 2
+
+
+@settings(max_examples=25, deadline=None)
+@given(outer_mm=st.floats(min_value=8.36, max_value=8.44))
+def test_property_the_table_never_prints_a_sar_against_its_verdict(outer_mm):
+    # R-CFA 8 mm measured, 2 cm occupied: SAR = outer / 8 sweeps 1.045-1.055 across the
+    # transfemoral limit 1.05 (Hayashida et al. 2011). The row's printed SAR, read back,
+    # gives the row's verdict; so does the JSON's unrounded SAR.
+    case = make_case(procedure={"sheath": {"size_fr": 24, "length_cm": 6, "outer_mm": outer_mm}})
+    plan = plan_case(case).to_dict()
+    route = next(r for r in plan["routes"]
+                 if r["site"] == "R-CFA" and r["direction"] == "retrograde")
+    row = next(line for line in render_plan(plan).splitlines()
+               if line.split()[1:3] == ["R-CFA", "retrograde"]).split()
+    over = float(row[5]) >= route["sar_limit"]
+    assert over is (route["sar"] >= route["sar_limit"]) is (not route["feasible"])
+    assert ("BLOCKED" in row) is over

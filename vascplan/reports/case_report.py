@@ -552,6 +552,15 @@ def support_tables(support: Mapping[str, Any], width: float, od_assumed: bool = 
     )
     heading = para("SAR on every segment the device occupies", st["cell-bold"])
     out += [Spacer(1, 3), KeepTogether([heading, d])]
+    sources = {
+        f"{seg.get('sar_limit_label')} {_num(seg.get('sar_limit'))}: {seg.get('sar_limit_source')}"
+        for ax in support.get("axes", ())
+        for seg in ax.get("segments", ())
+        if seg.get("sar_limit_source")
+    }
+    if sources:
+        out.append(para("SAR limits by site (judged on unrounded values)", st["cell-bold"]))
+        out += [para(f"- {line}", small) for line in sorted(sources)]
     flows = sorted({a for ax in support.get("axes", ()) for a in ax.get("flow_assumptions", ())})
     if flows:
         out.append(para("Flow estimate assumptions", st["cell-bold"]))
@@ -576,7 +585,7 @@ def _segment_sar(s: Mapping[str, Any]) -> str:
     return (
         f"{s.get('segment')} {s.get('from_cm'):g}-{s.get('to_cm'):g} cm: MLD "
         f"{_num(s.get('mld_mm'))}{mark} mm, SAR {_sar(s.get('sar'), s.get('sar_limit'))}{mark} "
-        f"({_limit(s)}{over})"
+        f"(limit {_num(s.get('sar_limit'))} {s.get('sar_limit_label') or ''}{over})"
     )
 
 
