@@ -32,9 +32,6 @@ from vascplan.routes.sarlimits import LimitUsed, binding, fit_on, needed_mld_mm,
 from vascplan.routes.settings import LIMITS_FILE, Setting, load_table
 from vascplan.routes.vessels import VesselView
 
-FRENCH_PER_MM = 3.0
-"""French size = outer diameter in mm x 3, exactly (the French scale; REFERENCES: seen)."""
-
 REASON_CODES: dict[str, str] = {
     "unmeasured": "a large-bore device occupies a segment whose diameter was not measured",
     "sheath-too-large": "sheath-to-artery ratio in a segment the sheath occupies at or above "
@@ -214,7 +211,10 @@ def check_unmeasured(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
     its SAR limit to hold (outer diameter / limit, rounded up to 0.1 mm).
     """
     d = ctx.devices
-    if facts.path is None or d.sheath_od_mm * FRENCH_PER_MM < ctx.limits["large_bore_fr"]:
+    from vascplan.sizing.french import MM_PER_FR
+
+    outer_fr = round(d.sheath_od_mm / MM_PER_FR, 9)  # 12 Fr labelled outer is 4.0 mm
+    if facts.path is None or outer_fr < ctx.limits["large_bore_fr"]:
         return []
     if not facts.fits:
         bind_sar(facts, ctx)
