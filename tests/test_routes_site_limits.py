@@ -209,3 +209,24 @@ def test_property_the_table_never_prints_a_sar_against_its_verdict(outer_mm):
     over = float(row[5]) >= route["sar_limit"]
     assert over is (route["sar"] >= route["sar_limit"]) is (not route["feasible"])
     assert ("BLOCKED" in row) is over
+
+
+def test_a_support_axis_on_an_unmeasured_iliac_is_blocked_with_the_mld_it_needs():
+    # Microaxial pump, outer 5.7 mm (17.1 Fr outer, large-bore), 25 cm sheath from the
+    # R-CFA: it occupies R-CFA, R-EIA, R-CIA and AO-INFRA. R-EIA unmeasured: needs
+    # 5.7 / 1.05 = 5.43 -> 5.5 mm (5.7 / 5.5 = 1.036 < 1.05, Hayashida et al. 2011).
+    data = case_data(procedure={"purpose": "support",
+                                "target": {"segment": "AO-ASC", "at_cm": 2},
+                                "sheath": {"size_fr": 14, "length_cm": 25, "outer_mm": 5.7},
+                                "device": {"profile_fr": 14, "working_length_cm": 110}})
+    data["vessels"]["R-EIA"].pop("diameter_mm")
+    support = plan_case(validate_case("test-case", data)).support
+    axes = {a["site"]: a for a in support["axes"]}
+    assert not axes["R-CFA"]["feasible"]
+    assert axes["R-CFA"]["blocked_by"] == [{
+        "code": "unmeasured", "segment": "R-EIA",
+        "detail": axes["R-CFA"]["blocked_by"][0]["detail"]}]
+    assert axes["R-CFA"]["blocked_by"][0]["detail"].startswith(
+        "measure R-EIA: needs MLD >= 5.5 mm for this 14 Fr sheath")
+    assert axes["L-CFA"]["feasible"]  # the left axis is measured throughout
+    assert support["best_site"] != "R-CFA"
