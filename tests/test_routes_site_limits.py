@@ -230,3 +230,20 @@ def test_a_support_axis_on_an_unmeasured_iliac_is_blocked_with_the_mld_it_needs(
         "measure R-EIA: needs MLD >= 5.5 mm for this 14 Fr sheath")
     assert axes["L-CFA"]["feasible"]  # the left axis is measured throughout
     assert support["best_site"] != "R-CFA"
+
+
+def test_the_case_report_says_what_to_measure():
+    from datetime import UTC, datetime
+
+    from tests.reports_helpers import pdf_text
+    from vascplan.anatomy.graph import build_tree
+    from vascplan.reports.case_report import render_case_report
+
+    # The unmeasured male groins and a 24 Fr sheath (9.1 mm outer): needs 8.7 mm
+    # (9.1 / 1.05 = 8.667, rounded up; Hayashida et al. 2011).
+    case = _unmeasured_groins(procedure={"sheath": {"size_fr": 24, "length_cm": 11}})
+    plan = plan_case(case).to_dict()
+    text = pdf_text(render_case_report(case, build_tree(case), plan, paper="a4",
+                                       generated_at=datetime(2026, 12, 1, tzinfo=UTC)))
+    assert "What to measure before a large-bore device" in text
+    assert "measure R-CFA: needs MLD >= 8.7 mm for this 24 Fr sheath" in text

@@ -380,6 +380,21 @@ def brief_table(routes: Sequence[Mapping[str, Any]], width: float) -> Table | No
     return t
 
 
+def to_measure(routes: Sequence[Mapping[str, Any]]) -> list[str]:
+    """Each ``unmeasured`` detail of the plan's routes once, in rank order.
+
+    >>> to_measure([{"blocked_by": [{"code": "unmeasured", "segment": "R-CFA",
+    ...                              "detail": "measure R-CFA: needs MLD >= 8.7 mm"}]}] * 2)
+    ['measure R-CFA: needs MLD >= 8.7 mm']
+    """
+    out: list[str] = []
+    for r in routes:
+        for b in r.get("blocked_by") or ():
+            if b.get("code") == "unmeasured" and b.get("detail") not in out:
+                out.append(str(b.get("detail")))
+    return out
+
+
 def _route_sections(plan: Mapping[str, Any], width: float, top: int | None) -> list[Any]:
     """The route tables: the first ``top`` routes by rank in full, the rest in brief."""
     st = styles()
@@ -409,6 +424,18 @@ def _route_sections(plan: Mapping[str, Any], width: float, top: int | None) -> l
     ruled_out = blocked_table(plan, width, full)
     if ruled_out is not None:
         out += [para("Routes ruled out", st["h2"]), ruled_out]
+    measure = to_measure(routes)
+    if measure:
+        out += [
+            para("What to measure before a large-bore device", st["h2"]),
+            para(
+                "These segments carry only reference values (population means, marked *), "
+                "which do not prove that this patient's lumen takes the device. Measure the "
+                "minimal lumen diameter (CT or ultrasound):",
+                st["small"],
+            ),
+            *[para(f"- {line}", st["small"]) for line in measure],
+        ]
     brief = brief_table(rest, width)
     if brief is not None:
         out += [
