@@ -16,7 +16,7 @@ from vascplan.nearlimit import format_near_limit
 from vascplan.routes.facts import Devices, RouteFacts
 from vascplan.routes.limits import Block
 from vascplan.routes.pathfind import EPS_CM
-from vascplan.routes.sarlimits import MIN_LEG_CM, sheath_fits
+from vascplan.routes.sarlimits import MIN_LEG_CM, limits_table, sheath_fits
 from vascplan.routes.settings import Setting
 from vascplan.routes.vessels import VesselView
 
@@ -58,12 +58,14 @@ def _pad_on_side(view: VesselView, side: str) -> bool:
 
 
 def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], devices: Devices,
-                limits: Mapping[str, Setting], kind: str) -> dict[str, Any]:
+                limits: dict[str, float], kind: str,
+                settings: Mapping[str, Setting] | None = None) -> dict[str, Any]:
     """One axis of the comparison (see the module notes for the keys).
 
     Each segment is judged against its own SAR limit (limits by site,
     :mod:`vascplan.routes.sarlimits`) on unrounded values; ``sar`` and ``max_sar`` are
-    unrounded, ``sar_limit_source`` names the limit's source.
+    unrounded, ``sar_limit_source`` names the limit's source. ``settings`` is the limits
+    table after overrides (sources); without it the bundled one with ``limits`` applied.
     """
     from vascplan.sizing._tables import SizingValueError
     from vascplan.sizing.limb import limb_flow_with_device
@@ -73,7 +75,8 @@ def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], device
     od = devices.sheath_od_mm
     segments: list[dict[str, Any]] = []
     legs = [leg for leg in facts.sheath_legs if leg.length_cm >= MIN_LEG_CM]
-    for leg, fit in zip(legs, sheath_fits(view, legs, od, limits), strict=True):
+    table = limits_table(limits, settings)
+    for leg, fit in zip(legs, sheath_fits(view, legs, od, table), strict=True):
         segments.append({
             "segment": leg.node,
             "from_cm": round(leg.from_cm, 2),
@@ -156,7 +159,8 @@ def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], device
 
 
 def support_block(view: VesselView, axes: list[tuple[RouteFacts, list[Block]]],
-                  devices: Devices, limits: Mapping[str, Setting]) -> dict[str, Any]:
+                  devices: Devices, limits: dict[str, float],
+                  settings: Mapping[str, Setting] | None = None) -> dict[str, Any]:
     """The ``support`` block of the plan: every axis, and the best feasible one.
 
     Parameters
@@ -165,8 +169,10 @@ def support_block(view: VesselView, axes: list[tuple[RouteFacts, list[Block]]],
     axes : list of (RouteFacts, list of Block)
         The best path of each support site, with its broken limits.
     devices : Devices
-    limits : mapping of str to Setting
-        The limits table after overrides (SAR limits by site).
+    limits : dict of str to float
+        The limits' values after overrides.
+    settings : mapping of str to Setting, optional
+        The limits table after overrides (SAR limits by site, their sources).
 
     Returns
     -------
@@ -175,7 +181,7 @@ def support_block(view: VesselView, axes: list[tuple[RouteFacts, list[Block]]],
         "best_site"}``; ``best_site`` is the feasible axis with the lowest SAR.
     """
     kind, why = device_kind(view, devices.device_kind)
-    reports = [axis_report(view, f, b, devices, limits, kind) for f, b in axes]
+    reports = [axis_report(view, f, b, devices, limits, kind, settings) for f, b in axes]
     feasible = [r for r in reports if r["feasible"] and r["max_sar"] is not None]
     best = min(feasible, key=lambda r: r["max_sar"])["site"] if feasible else None
     return {"device_kind": kind, "device_kind_basis": why,

@@ -28,8 +28,15 @@ from dataclasses import dataclass, field
 
 from vascplan.nearlimit import format_near_limit
 from vascplan.routes.facts import Devices, RouteFacts
-from vascplan.routes.sarlimits import LimitUsed, binding, fit_on, needed_mld_mm, sheath_fits
-from vascplan.routes.settings import LIMITS_FILE, Setting, load_table
+from vascplan.routes.sarlimits import (
+    LimitUsed,
+    binding,
+    fit_on,
+    limits_table,
+    needed_mld_mm,
+    sheath_fits,
+)
+from vascplan.routes.settings import Setting
 from vascplan.routes.vessels import VesselView
 
 REASON_CODES: dict[str, str] = {
@@ -81,12 +88,7 @@ class LimitContext:
 
     def table(self) -> dict[str, Setting]:
         """The limits table with this context's values (bundled entries where not given)."""
-        from dataclasses import replace
-
-        out = dict(load_table(LIMITS_FILE))
-        out.update(self.settings)
-        return {name: s if self.limits.get(name, s.value) == s.value
-                else replace(s, value=self.limits[name]) for name, s in out.items()}
+        return limits_table(self.limits, self.settings)
 
 
 Check = Callable[[RouteFacts, LimitContext], list[Block]]

@@ -229,7 +229,7 @@ def plan_case(case: Any, *, top: int | None = None, weights: Mapping[str, float]
     extra: list[str] = []
     support = None
     if purpose == "support":
-        support = support_block(view, support_axes, devices, limit_ctx.table())
+        support = support_block(view, support_axes, devices, lim, l_table)
         extra.append(support["device_kind_basis"])
     target: dict[str, Any] = {"segment": view.target_segment, "at_cm": view.target_cm}
     if view.target_lesion is not None:

@@ -18,7 +18,7 @@ from dataclasses import dataclass
 
 from vascplan.nearlimit import ceil_to
 from vascplan.routes.pathfind import Leg
-from vascplan.routes.settings import Setting
+from vascplan.routes.settings import LIMITS_FILE, Setting, load_table
 from vascplan.routes.vessels import CALCIFICATION_GRADES, VesselView
 
 DEFAULT_LIMIT = "sar_max"
@@ -62,6 +62,18 @@ class LimitUsed:
         """``{"name", "value", "label", "source"}``."""
         return {"name": self.name, "value": self.value, "label": self.label,
                 "source": self.cite}
+
+
+def limits_table(values: Mapping[str, float],
+                 settings: Mapping[str, Setting] | None = None) -> dict[str, Setting]:
+    """The limits table with ``values`` applied: ``settings`` (after overrides) where given,
+    the bundled entries for the rest; a value that differs replaces the entry's value."""
+    from dataclasses import replace
+
+    out = dict(load_table(LIMITS_FILE))
+    out.update(settings or {})
+    return {name: s if values.get(name, s.value) == s.value
+            else replace(s, value=values[name]) for name, s in out.items()}
 
 
 def segment_kind(node: str) -> str:
