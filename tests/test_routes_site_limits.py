@@ -247,3 +247,16 @@ def test_the_case_report_says_what_to_measure():
                                        generated_at=datetime(2026, 12, 1, tzinfo=UTC)))
     assert "What to measure before a large-bore device" in text
     assert "measure R-CFA: needs MLD >= 8.7 mm for this 24 Fr sheath" in text
+
+
+def test_an_overridden_limit_prints_exactly_and_says_who_set_it():
+    # --limit sar_max=1.045 (a unit's own threshold): R-CFA 8 mm, outer 8.36 mm ->
+    # SAR 1.045 >= 1.045 (dividing by 8 is exact in binary): blocked; the limit prints as
+    # 1.045, not a rounded 1.04 or 1.05.
+    case = make_case(procedure={"sheath": {"size_fr": 24, "length_cm": 6, "outer_mm": 8.36}})
+    result = plan_case(case, limits={"sar_max": 1.045})
+    (route,) = routes_from(result, "R-CFA", "retrograde")
+    assert ("sheath-too-large", "R-CFA") in codes(route)
+    assert "transfemoral limit of 1.045" in route.blocked_by[0].detail
+    table = render_plan(result.to_dict())
+    assert "1.045 transfemoral: set to 1.045 by --limit" in table

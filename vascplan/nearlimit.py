@@ -68,6 +68,19 @@ def format_near_limit(value: float, limit: float | None, decimals: int = MIN_DEC
     return repr(value)  # the shortest text that reads back as exactly this float
 
 
+def format_limit(limit: float, decimals: int = MIN_DECIMALS) -> str:
+    """A limit printed exactly: ``decimals`` decimals, more if the value has them.
+
+    >>> format_limit(1.0), format_limit(1.27), format_limit(1.045)
+    ('1.00', '1.27', '1.045')
+    """
+    for places in range(decimals, MAX_DECIMALS + 1):
+        text = f"{limit:.{places}f}"
+        if float(text) == limit:
+            return text
+    return repr(limit)
+
+
 def ceil_to(value: float, step: float = 0.1) -> float:
     """Round ``value`` up to a multiple of ``step``, so that a printed minimum is safe.
 

@@ -16,7 +16,7 @@ from typing import Any
 from reportlab.lib import colors
 from reportlab.platypus import KeepTogether, PageBreak, Spacer, Table, TableStyle
 
-from vascplan.nearlimit import format_near_limit
+from vascplan.nearlimit import format_limit, format_near_limit
 from vascplan.reports.arterial_map import LEGEND_ROWS, PT_PER_MM, draw_map, legend_symbol
 from vascplan.reports.map_input import chosen_and_runner_up, map_data
 from vascplan.reports.page import PageSetup, build_pdf, frame_box, styles
@@ -47,13 +47,19 @@ def _sar(value: Any, limit: Any) -> str:
     return format_near_limit(float(value), None if limit is None else float(limit))
 
 
+def _limit_value(limit: Any) -> str:
+    return "-" if limit is None else format_limit(float(limit))
+
+
 def _limit(r: Mapping[str, Any], limit_key: str = "sar_limit",
            source_key: str = "sar_limit_source", label_key: str = "sar_limit_label") -> str:
     """``limit 1.00 radial (Saito et al., ...)``: the SAR limit with its source."""
     if r.get(limit_key) is None:
         return ""
     label = r.get(label_key) or ""
-    return f"limit {r[limit_key]:.2f} {label} ({r.get(source_key)})".replace("  ", " ")
+    return f"limit {format_limit(float(r[limit_key]))} {label} ({r.get(source_key)})".replace(
+        "  ", " "
+    )
 
 
 def _node_name(tree: Any, node: str) -> str:
@@ -580,7 +586,8 @@ def support_tables(support: Mapping[str, Any], width: float, od_assumed: bool = 
     heading = para("SAR on every segment the device occupies", st["cell-bold"])
     out += [Spacer(1, 3), KeepTogether([heading, d])]
     sources = {
-        f"{seg.get('sar_limit_label')} {_num(seg.get('sar_limit'))}: {seg.get('sar_limit_source')}"
+        f"{seg.get('sar_limit_label')} {format_limit(float(seg['sar_limit']))}: "
+        f"{seg.get('sar_limit_source')}"
         for ax in support.get("axes", ())
         for seg in ax.get("segments", ())
         if seg.get("sar_limit_source")
@@ -612,7 +619,7 @@ def _segment_sar(s: Mapping[str, Any]) -> str:
     return (
         f"{s.get('segment')} {s.get('from_cm'):g}-{s.get('to_cm'):g} cm: MLD "
         f"{_num(s.get('mld_mm'))}{mark} mm, SAR {_sar(s.get('sar'), s.get('sar_limit'))}{mark} "
-        f"(limit {_num(s.get('sar_limit'))} {s.get('sar_limit_label') or ''}{over})"
+        f"(limit {_limit_value(s.get('sar_limit'))} {s.get('sar_limit_label') or ''}{over})"
     )
 
 

@@ -26,7 +26,7 @@ from __future__ import annotations
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 
-from vascplan.nearlimit import format_near_limit
+from vascplan.nearlimit import format_limit, format_near_limit
 from vascplan.routes.facts import Devices, RouteFacts
 from vascplan.routes.sarlimits import (
     LimitUsed,
@@ -258,7 +258,7 @@ def check_sheath(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
                          f"{d.sheath_fr:g} Fr sheath, outer {d.sheath_od_mm:.2f} mm{od_star}, in "
                          f"{fit.node} with MLD {fit.mld_mm:.2f} mm{mld_star}: SAR "
                          f"{format_near_limit(fit.sar, fit.limit.value)} is at or above the "
-                         f"{why} limit of {fit.limit.value:.2f} ({fit.limit.cite})"))
+                         f"{why} limit of {format_limit(fit.limit.value)} ({fit.limit.cite})"))
     return out
 
 

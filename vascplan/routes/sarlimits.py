@@ -16,7 +16,7 @@ from __future__ import annotations
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 
-from vascplan.nearlimit import ceil_to
+from vascplan.nearlimit import ceil_to, format_limit
 from vascplan.routes.pathfind import Leg
 from vascplan.routes.settings import LIMITS_FILE, Setting, load_table
 from vascplan.routes.vessels import CALCIFICATION_GRADES, VesselView
@@ -56,7 +56,7 @@ class LimitUsed:
 
     def text(self) -> str:
         """``1.00 (radial: Saito et al., ...)``: the limit with its source, for outputs."""
-        return f"{self.value:.2f} ({self.label}: {self.cite})"
+        return f"{format_limit(self.value)} ({self.label}: {self.cite})"
 
     def to_dict(self) -> dict[str, object]:
         """``{"name", "value", "label", "source"}``."""

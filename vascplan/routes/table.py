@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from vascplan.nearlimit import format_near_limit
+from vascplan.nearlimit import format_limit, format_near_limit
 from vascplan.routes.limits import REASON_CODES, headline
 from vascplan.safety import CAUTION, REFERENCE_MARK
 
@@ -32,7 +32,7 @@ def limit_text(route: dict[str, Any]) -> str:
     if route.get("sar_limit") is None:
         return "-"
     label = route.get("sar_limit_label") or ""
-    return f"{route['sar_limit']:.2f} {label}".rstrip()
+    return f"{format_limit(route['sar_limit'])} {label}".rstrip()
 
 
 def limits_legend(routes: list[dict[str, Any]]) -> list[str]:
@@ -41,7 +41,7 @@ def limits_legend(routes: list[dict[str, Any]]) -> list[str]:
     for r in routes:
         name = r.get("sar_limit_name")
         if name and name not in seen:
-            seen[name] = (f"  - {r['sar_limit']:.2f} {r.get('sar_limit_label') or name}: "
+            seen[name] = (f"  - {format_limit(r['sar_limit'])} {r.get('sar_limit_label') or name}: "
                           f"{r.get('sar_limit_source')}")
     if not seen:
         return []
@@ -158,7 +158,7 @@ def _segment_sar(seg: dict[str, Any]) -> str:
     word = "at or over" if seg["over_limit"] else "under"
     label = seg.get("sar_limit_label") or "limit"
     return (f"{seg['segment']} {format_near_limit(seg['sar'], seg['sar_limit'])}{mark} "
-            f"({word} {label} {seg['sar_limit']:.2f})")
+            f"({word} {label} {format_limit(seg['sar_limit'])})")
 
 
 def blocks_by_code(blocks: list[dict[str, Any]]) -> str:
@@ -191,7 +191,8 @@ def render_support(support: dict[str, Any]) -> list[str]:
             lines.append(f"      arm: {axis['arm_note']}")
         if axis.get("lumen_note"):
             lines.append(f"      NO LUMEN LEFT: {axis['lumen_note']}")
-    sources = {f"{s.get('sar_limit_label')} {s['sar_limit']:.2f}: {s.get('sar_limit_source')}"
+    sources = {f"{s.get('sar_limit_label')} {format_limit(s['sar_limit'])}: "
+               f"{s.get('sar_limit_source')}"
                for axis in support["axes"] for s in axis["segments"] if s.get("sar_limit_source")}
     if sources:
         lines.append("  SAR limits: " + "; ".join(sorted(sources)))
@@ -203,7 +204,7 @@ def render_support(support: dict[str, Any]) -> list[str]:
 def _limit_with_source(route: dict[str, Any]) -> str:
     if route.get("sar_limit") is None:
         return "-"
-    return (f"{route['sar_limit']:.2f} {route.get('sar_limit_label') or ''}, "
+    return (f"{format_limit(route['sar_limit'])} {route.get('sar_limit_label') or ''}, "
             f"{route.get('sar_limit_source')}")
 
 
