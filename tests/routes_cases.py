@@ -13,6 +13,9 @@ from vascplan.case.load import validate_case
 
 # Measured lengths [cm] and diameters [mm] (a man of 175 cm; values invented).
 VESSELS: dict[str, dict[str, float]] = {
+    # AO-ASC: diameter only (large-bore support cases reach it; its length stays the
+    # reference so that path lengths are unchanged).
+    "AO-ASC": {"diameter_mm": 32},
     "AO-ARCH": {"length_cm": 6, "diameter_mm": 28},
     "AO-DESC": {"length_cm": 22, "diameter_mm": 24},
     "AO-SUPRA": {"length_cm": 5, "diameter_mm": 20},

@@ -387,6 +387,11 @@ vessels:
   L-EIA: {diameter_mm: 7.0}
   R-CFA: {diameter_mm: 7.9}
   R-EIA: {diameter_mm: 7.6, calcification: moderate}
+  L-CIA: {diameter_mm: 8.2}
+  R-CIA: {diameter_mm: 8.4}
+  AO-INFRA: {diameter_mm: 15.0}
+  AO-SUPRA: {diameter_mm: 17.5}
+  AO-DESC: {diameter_mm: 20.0}
 procedure:
   purpose: support
   target: {segment: AO-DESC, at_cm: 5}

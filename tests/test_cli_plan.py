@@ -84,9 +84,14 @@ def test_explain_lists_every_limit_and_factor():
 
 
 def test_weight_and_limit_options_apply():
-    res = _run(DEMO07, "--format", "json", "--weight", "crossover=9", "--limit", "sar_max=0.3")
+    # Every SAR limit (the transfemoral one and those by site) set to 0.3.
+    by_site = [a for name in ("radial", "ulnar", "brachial", "axillary")
+               for a in ("--limit", f"sar_max_{name}=0.3")]
+    res = _run(DEMO07, "--format", "json", "--weight", "crossover=9", "--limit", "sar_max=0.3",
+               *by_site)
     data = json.loads(res.output)
     assert data["weights"]["crossover"] == 9 and data["limits"]["sar_max"] == 0.3
+    assert data["limits"]["sar_max_radial"] == 0.3
     assert all(not r["feasible"] for r in data["routes"])  # every SAR is above 0.3
 
 

@@ -18,7 +18,7 @@ from vascplan.routes.settings import LIMITS_FILE, load_table
 def test_every_reason_code_has_a_check_and_a_meaning():
     assert [code for code, _ in CHECKS] == [
         "unreachable", "site-avoided", "site-diseased", "no-crossover", "occlusion-en-route",
-        "sheath-too-large", "device-too-large", "too-short"]
+        "unmeasured", "sheath-too-large", "device-too-large", "too-short"]
     assert set(REASON_CODES) == {code for code, _ in CHECKS}
 
 
@@ -31,21 +31,35 @@ def test_sar_threshold_is_the_published_one():
     assert table["sar_max_calcified"].value < table["sar_max"].value
 
 
-@pytest.mark.parametrize(("outer_mm", "blocked"), [(2.90, False), (2.95, True)])
-def test_sheath_too_large_at_the_threshold(outer_mm, blocked):
-    # L-RAD 2.8 mm measured. SAR = 2.90 / 2.8 = 1.036 < 1.05: passes;
-    # 2.95 / 2.8 = 1.054 >= 1.05: blocked at L-RAD. The 11 cm sheath stays in the radial
+@pytest.mark.parametrize(("outer_mm", "blocked"), [(2.75, False), (2.85, True)])
+def test_sheath_too_large_at_the_radial_threshold(outer_mm, blocked):
+    # L-RAD 2.8 mm measured, judged against the radial limit 1.00 (Saito et al., Catheter
+    # Cardiovasc Interv 1999;46:173: flow loss rose when sheath outer diameter exceeded
+    # the radial inner diameter). SAR = 2.75 / 2.8 = 0.982 < 1.00: passes;
+    # 2.85 / 2.8 = 1.018 >= 1.00: blocked at L-RAD. The 11 cm sheath stays in the radial
     # (11 - 0.5 skin = 10.5 cm of the 19.8 cm from the puncture to the radial origin).
     case = make_case(procedure={"sheath": {"size_fr": 6, "length_cm": 11, "outer_mm": outer_mm}})
     (route,) = routes_from(plan_case(case), "L-RAD")
     assert route.sar == pytest.approx(outer_mm / 2.8)
     assert route.limiting_segment == "L-RAD"
+    assert route.sar_limit == 1.0 and "Saito" in route.sar_limit_source
     if blocked:
         assert ("sheath-too-large", "L-RAD") in codes(route)
         detail = route.blocked_by[codes(route).index(("sheath-too-large", "L-RAD"))].detail
-        assert "SAR 1.05" in detail and "1.05" in detail
+        assert "SAR 1.02" in detail and "radial limit of 1.00" in detail and "Saito" in detail
     else:
         assert "sheath-too-large" not in [c for c, _ in codes(route)]
+
+
+@pytest.mark.parametrize(("outer_mm", "blocked"), [(8.3, False), (8.4, True)])
+def test_sheath_too_large_at_the_transfemoral_threshold(outer_mm, blocked):
+    # R-CFA 8 mm measured, a 6 cm sheath (4 cm skin, 2 cm in the R-CFA): transfemoral
+    # limit 1.05 (Hayashida et al., JACC Cardiovasc Interv 2011). 8.3 / 8 = 1.0375 < 1.05;
+    # 8.4 / 8 = 1.05 >= 1.05: blocked.
+    case = make_case(procedure={"sheath": {"size_fr": 24, "length_cm": 6, "outer_mm": outer_mm}})
+    (route,) = routes_from(plan_case(case), "R-CFA", "retrograde")
+    assert route.sar_limit == 1.05 and "Hayashida" in route.sar_limit_source
+    assert (("sheath-too-large", "R-CFA") in codes(route)) is blocked
 
 
 @pytest.mark.parametrize(("calcification", "blocked"), [("none", False), ("mild", False),
@@ -61,12 +75,14 @@ def test_calcified_stretch_lowers_the_sar_limit(calcification, blocked):
 
 
 def test_sheath_limit_override_from_the_case_and_the_caller():
-    case = make_case(procedure={"sheath": {"size_fr": 6, "length_cm": 11, "outer_mm": 2.9}},
-                     limits={"sar_max": 1.0})
+    # L-RAD 2.8 mm, outer 2.7 mm: SAR 0.964, under the radial 1.00.
+    case = make_case(procedure={"sheath": {"size_fr": 6, "length_cm": 11, "outer_mm": 2.7}},
+                     limits={"sar_max_radial": 0.95})
     (route,) = routes_from(plan_case(case), "L-RAD")
-    assert ("sheath-too-large", "L-RAD") in codes(route)          # 1.036 >= 1.0
-    (route,) = routes_from(plan_case(case, limits={"sar_max": 1.1}), "L-RAD")
-    assert "sheath-too-large" not in [c for c, _ in codes(route)]  # caller wins: 1.036 < 1.1
+    assert ("sheath-too-large", "L-RAD") in codes(route)          # 0.964 >= 0.95
+    assert "set to 0.95 by TEST-01" in route.sar_limit_source  # the case overrode it
+    (route,) = routes_from(plan_case(case, limits={"sar_max_radial": 1.1}), "L-RAD")
+    assert "sheath-too-large" not in [c for c, _ in codes(route)]  # caller wins: 0.964 < 1.1
 
 
 def test_device_too_large_beyond_the_sheath_tip():

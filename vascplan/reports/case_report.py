@@ -16,6 +16,7 @@ from typing import Any
 from reportlab.lib import colors
 from reportlab.platypus import KeepTogether, PageBreak, Spacer, Table, TableStyle
 
+from vascplan.nearlimit import format_limit, format_near_limit
 from vascplan.reports.arterial_map import LEGEND_ROWS, PT_PER_MM, draw_map, legend_symbol
 from vascplan.reports.map_input import chosen_and_runner_up, map_data
 from vascplan.reports.page import PageSetup, build_pdf, frame_box, styles
@@ -37,6 +38,28 @@ def verdict(route: Mapping[str, Any]) -> str:
 
 def _num(value: Any, fmt: str = "{:.2f}", none: str = "-") -> str:
     return none if value is None else fmt.format(value)
+
+
+def _sar(value: Any, limit: Any) -> str:
+    """A SAR on its verdict's side of its limit (``1.048`` beside 1.05), ``-`` if none."""
+    if value is None:
+        return "-"
+    return format_near_limit(float(value), None if limit is None else float(limit))
+
+
+def _limit_value(limit: Any) -> str:
+    return "-" if limit is None else format_limit(float(limit))
+
+
+def _limit(r: Mapping[str, Any], limit_key: str = "sar_limit",
+           source_key: str = "sar_limit_source", label_key: str = "sar_limit_label") -> str:
+    """``limit 1.00 radial (Saito et al., ...)``: the SAR limit with its source."""
+    if r.get(limit_key) is None:
+        return ""
+    label = r.get(label_key) or ""
+    return f"limit {format_limit(float(r[limit_key]))} {label} ({r.get(source_key)})".replace(
+        "  ", " "
+    )
 
 
 def _node_name(tree: Any, node: str) -> str:
@@ -245,7 +268,7 @@ def route_table(
         sizes = (
             f"{_num(r.get('sheath_od_mm'))}{mark('sheath_od_mm')} / "
             f"{_num(r.get('min_lumen_mm'))}{mark('min_lumen_mm')} / "
-            f"{_num(r.get('sar'))}{mark('sar')}"
+            f"{_sar(r.get('sar'), r.get('sar_limit'))}{mark('sar')}; {_limit(r)}"
         )
         path = r.get("path_words") or " > ".join(r.get("path", []))
         reasons = [
@@ -363,6 +386,21 @@ def brief_table(routes: Sequence[Mapping[str, Any]], width: float) -> Table | No
     return t
 
 
+def to_measure(routes: Sequence[Mapping[str, Any]]) -> list[str]:
+    """Each ``unmeasured`` detail of the plan's routes once, in rank order.
+
+    >>> to_measure([{"blocked_by": [{"code": "unmeasured", "segment": "R-CFA",
+    ...                              "detail": "measure R-CFA: needs MLD >= 8.7 mm"}]}] * 2)
+    ['measure R-CFA: needs MLD >= 8.7 mm']
+    """
+    out: list[str] = []
+    for r in routes:
+        for b in r.get("blocked_by") or ():
+            if b.get("code") == "unmeasured" and b.get("detail") not in out:
+                out.append(str(b.get("detail")))
+    return out
+
+
 def _route_sections(plan: Mapping[str, Any], width: float, top: int | None) -> list[Any]:
     """The route tables: the first ``top`` routes by rank in full, the rest in brief."""
     st = styles()
@@ -392,6 +430,18 @@ def _route_sections(plan: Mapping[str, Any], width: float, top: int | None) -> l
     ruled_out = blocked_table(plan, width, full)
     if ruled_out is not None:
         out += [para("Routes ruled out", st["h2"]), ruled_out]
+    measure = to_measure(routes)
+    if measure:
+        out += [
+            para("What to measure before a large-bore device", st["h2"]),
+            para(
+                "These segments carry only reference values (population means, marked *), "
+                "which do not prove that this patient's lumen takes the device. Measure the "
+                "minimal lumen diameter (CT or ultrasound):",
+                st["small"],
+            ),
+            *[para(f"- {line}", st["small"]) for line in measure],
+        ]
     brief = brief_table(rest, width)
     if brief is not None:
         out += [
@@ -492,7 +542,12 @@ def support_tables(support: Mapping[str, Any], width: float, od_assumed: bool = 
                     + (f". NO LUMEN LEFT: {ax['lumen_note']}" if ax.get("lumen_note") else ""),
                     cell,
                 ),
-                para(f"{_num(ax.get('max_sar'))} ({ax.get('limiting_segment') or '-'})", cell),
+                para(
+                    f"{_sar(ax.get('max_sar'), ax.get('max_sar_limit'))} "
+                    f"({ax.get('limiting_segment') or '-'}); "
+                    + _limit(ax, "max_sar_limit", "max_sar_limit_source", "max_sar_limit_label"),
+                    cell,
+                ),
                 para(lumen, cell),
                 para(flow_text, cell),
                 para(dpc_text, small),
@@ -530,6 +585,16 @@ def support_tables(support: Mapping[str, Any], width: float, od_assumed: bool = 
     )
     heading = para("SAR on every segment the device occupies", st["cell-bold"])
     out += [Spacer(1, 3), KeepTogether([heading, d])]
+    sources = {
+        f"{seg.get('sar_limit_label')} {format_limit(float(seg['sar_limit']))}: "
+        f"{seg.get('sar_limit_source')}"
+        for ax in support.get("axes", ())
+        for seg in ax.get("segments", ())
+        if seg.get("sar_limit_source")
+    }
+    if sources:
+        out.append(para("SAR limits by site (judged on unrounded values)", st["cell-bold"]))
+        out += [para(f"- {line}", small) for line in sorted(sources)]
     flows = sorted({a for ax in support.get("axes", ()) for a in ax.get("flow_assumptions", ())})
     if flows:
         out.append(para("Flow estimate assumptions", st["cell-bold"]))
@@ -550,11 +615,11 @@ def _dpc_text(dpc: Mapping[str, Any] | None) -> str:
 
 def _segment_sar(s: Mapping[str, Any]) -> str:
     mark = REFERENCE_MARK if s.get("mld_source") == "reference" else ""
-    over = ", over the limit" if s.get("over_limit") else ""
+    over = ", at or over the limit" if s.get("over_limit") else ""
     return (
         f"{s.get('segment')} {s.get('from_cm'):g}-{s.get('to_cm'):g} cm: MLD "
-        f"{_num(s.get('mld_mm'))}{mark} mm, SAR {_num(s.get('sar'))}{mark} "
-        f"(limit {_num(s.get('sar_limit'))}{over})"
+        f"{_num(s.get('mld_mm'))}{mark} mm, SAR {_sar(s.get('sar'), s.get('sar_limit'))}{mark} "
+        f"(limit {_limit_value(s.get('sar_limit'))} {s.get('sar_limit_label') or ''}{over})"
     )
 
 

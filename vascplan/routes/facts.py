@@ -6,6 +6,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from vascplan.routes.pathfind import CatheterPath, Leg
+from vascplan.routes.sarlimits import LimitUsed, SegmentFit
 from vascplan.routes.sites import AccessSite
 from vascplan.routes.vessels import VesselView
 
@@ -59,11 +60,17 @@ class RouteFacts:
     sheath_legs, beyond_legs : list of Leg
         The stretch the sheath occupies, and from its tip to the target.
     min_lumen : (mm, node) or None
-        Smallest MLD over the sheath's stretch.
+        MLD of the binding segment of the sheath's stretch: the smallest MLD until the
+        SAR limits by site are applied (:func:`vascplan.routes.limits.bind_sar`), then
+        the MLD of the segment whose SAR is nearest (or furthest over) its own limit.
     approach : str
         ``proximal-cap``, ``distal-cap`` or ``none``.
     sar : float or None
-        Sheath outer diameter over ``min_lumen`` [-].
+        Sheath outer diameter over ``min_lumen`` [-], unrounded.
+    fits : list of SegmentFit
+        The sheath in each segment it occupies, with that segment's SAR limit.
+    sar_limit : LimitUsed or None
+        The limit of the binding segment.
     crossover_dropped : bool
         True when the only paths found went up-and-over from a site that does not
         allow it (``sites.csv`` column ``crossover``), so the route is unreachable.
@@ -80,6 +87,8 @@ class RouteFacts:
     approach: str = "none"
     sar: float | None = None
     crossover_dropped: bool = False
+    fits: list[SegmentFit] = field(default_factory=list)
+    sar_limit: LimitUsed | None = None
 
 
 def route_facts(view: VesselView, site: AccessSite, direction: str,

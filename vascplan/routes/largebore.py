@@ -9,12 +9,16 @@ whether a distal perfusion cannula would be advised (``vascplan.surveillance.ris
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from typing import Any
 
+from vascplan.nearlimit import format_near_limit
 from vascplan.routes.facts import Devices, RouteFacts
 from vascplan.routes.limits import Block
 from vascplan.routes.pathfind import EPS_CM
-from vascplan.routes.vessels import CALCIFICATION_GRADES, VesselView
+from vascplan.routes.sarlimits import MIN_LEG_CM, limits_table, sheath_fits
+from vascplan.routes.settings import Setting
+from vascplan.routes.vessels import VesselView
 
 SUPPORT_SITES = ("R-CFA", "L-CFA", "R-AXA", "L-AXA")
 """The four axes compared for large-bore support, all retrograde."""
@@ -54,8 +58,15 @@ def _pad_on_side(view: VesselView, side: str) -> bool:
 
 
 def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], devices: Devices,
-                limits: dict[str, float], kind: str) -> dict[str, Any]:
-    """One axis of the comparison (see the module notes for the keys)."""
+                limits: dict[str, float], kind: str,
+                settings: Mapping[str, Setting] | None = None) -> dict[str, Any]:
+    """One axis of the comparison (see the module notes for the keys).
+
+    Each segment is judged against its own SAR limit (limits by site,
+    :mod:`vascplan.routes.sarlimits`) on unrounded values; ``sar`` and ``max_sar`` are
+    unrounded, ``sar_limit_source`` names the limit's source. ``settings`` is the limits
+    table after overrides (sources); without it the bundled one with ``limits`` applied.
+    """
     from vascplan.sizing._tables import SizingValueError
     from vascplan.sizing.limb import limb_flow_with_device
     from vascplan.surveillance.risk import dpc_advice
@@ -63,28 +74,26 @@ def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], device
     site = facts.site
     od = devices.sheath_od_mm
     segments: list[dict[str, Any]] = []
-    for leg in facts.sheath_legs:
-        if leg.length_cm < EPS_CM:
-            continue
-        mld = view.mld_mm(leg.node, leg.lo_cm, leg.hi_cm)
-        step = view.calcification_step(leg.node, leg.lo_cm, leg.hi_cm)
-        calcified = step >= CALCIFICATION_GRADES.index("moderate")
-        limit = min(limits["sar_max_calcified"], limits["sar_max"]) if calcified else limits[
-            "sar_max"]
-        sar = od / mld if mld > 0 else None
+    legs = [leg for leg in facts.sheath_legs if leg.length_cm >= MIN_LEG_CM]
+    table = limits_table(limits, settings)
+    for leg, fit in zip(legs, sheath_fits(view, legs, od, table), strict=True):
         segments.append({
             "segment": leg.node,
             "from_cm": round(leg.from_cm, 2),
             "to_cm": round(leg.to_cm, 2),
-            "mld_mm": round(mld, 2),
+            "mld_mm": round(fit.mld_mm, 2),
             "mld_source": view.node(leg.node).get("diameter_source"),
-            "calcification": CALCIFICATION_GRADES[step],
-            "sar": None if sar is None else round(sar, 2),
-            "sar_limit": limit,
-            "over_limit": sar is None or sar >= limit,
+            "calcification": fit.calcification,
+            "sar": fit.sar,
+            "sar_limit": fit.limit.value,
+            "sar_limit_label": fit.limit.label,
+            "sar_limit_source": fit.limit.cite,
+            "over_limit": fit.over,
+            "load": fit.load,
         })
-    limiting = max(segments, key=lambda s: s["sar"] if s["sar"] is not None else float("inf"),
-                   default=None)
+    limiting = max(segments, key=lambda s: s["load"], default=None)
+    for seg in segments:
+        del seg["load"]
     occupied_cm = sum(leg.length_cm for leg in facts.sheath_legs)
     out: dict[str, Any] = {
         "site": site.id,
@@ -97,6 +106,9 @@ def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], device
         "segments": segments,
         "limiting_segment": limiting["segment"] if limiting else None,
         "max_sar": limiting["sar"] if limiting else None,
+        "max_sar_limit": limiting["sar_limit"] if limiting else None,
+        "max_sar_limit_label": limiting["sar_limit_label"] if limiting else None,
+        "max_sar_limit_source": limiting["sar_limit_source"] if limiting else None,
         "lumen_left_mm2": None,
         "lumen_left_pct": None,
         "distal_flow_pct": None,
@@ -105,7 +117,7 @@ def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], device
     }
     if limiting is None or facts.path is None:
         return out
-    vessel_mm = float(limiting["mld_mm"])
+    vessel_mm = float(limiting["mld_mm"])  # the binding segment's MLD (limits by site)
     limiting_sar = None if limiting["sar"] is None else float(limiting["sar"])
     if occupied_cm > EPS_CM and vessel_mm > 0:
         try:
@@ -138,15 +150,17 @@ def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], device
             "(common practice)")
     if out["feasible"] and out["lumen_left_pct"] == 0 and limiting_sar is not None:
         out["lumen_note"] = (
-            f"the device fills the {limiting['segment']} lumen (SAR {limiting_sar:.2f}): no "
+            f"the device fills the {limiting['segment']} lumen (SAR "
+            f"{format_near_limit(limiting_sar, limiting['sar_limit'])}): no "
             f"flow passes it to the {out['limb']}, which then depends on collaterals and a "
             "distal perfusion route; the SAR limit it meets comes from sheaths taken out at the "
-            "end of a procedure (Hayashida et al. 2011), not from devices left in place")
+            f"end of a procedure ({limiting['sar_limit_source']}), not from devices left in place")
     return out
 
 
 def support_block(view: VesselView, axes: list[tuple[RouteFacts, list[Block]]],
-                  devices: Devices, limits: dict[str, float]) -> dict[str, Any]:
+                  devices: Devices, limits: dict[str, float],
+                  settings: Mapping[str, Setting] | None = None) -> dict[str, Any]:
     """The ``support`` block of the plan: every axis, and the best feasible one.
 
     Parameters
@@ -156,6 +170,9 @@ def support_block(view: VesselView, axes: list[tuple[RouteFacts, list[Block]]],
         The best path of each support site, with its broken limits.
     devices : Devices
     limits : dict of str to float
+        The limits' values after overrides.
+    settings : mapping of str to Setting, optional
+        The limits table after overrides (SAR limits by site, their sources).
 
     Returns
     -------
@@ -164,7 +181,7 @@ def support_block(view: VesselView, axes: list[tuple[RouteFacts, list[Block]]],
         "best_site"}``; ``best_site`` is the feasible axis with the lowest SAR.
     """
     kind, why = device_kind(view, devices.device_kind)
-    reports = [axis_report(view, f, b, devices, limits, kind) for f, b in axes]
+    reports = [axis_report(view, f, b, devices, limits, kind, settings) for f, b in axes]
     feasible = [r for r in reports if r["feasible"] and r["max_sar"] is not None]
     best = min(feasible, key=lambda r: r["max_sar"])["site"] if feasible else None
     return {"device_kind": kind, "device_kind_basis": why,

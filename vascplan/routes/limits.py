@@ -7,7 +7,10 @@ numbers come from ``data/access/limits.yaml`` (each with its source), overridabl
 Reason codes (the JSON contract, ``blocked_by[].code``):
 
 ======================  =============================================================
-``sheath-too-large``    SAR over the stretch the sheath occupies at or above the limit
+``unmeasured``          large-bore device (``large_bore_fr`` outer or more) where a
+                        segment it occupies has only a reference diameter
+``sheath-too-large``    SAR in a segment the sheath occupies at or above that
+                        segment's limit (limits by site)
 ``device-too-large``    device profile wider than the vessel beyond the sheath tip
 ``too-short``           path length plus the outside allowance exceeds the working length
 ``occlusion-en-route``  an occlusion other than the target lies on the path
@@ -21,13 +24,25 @@ Reason codes (the JSON contract, ``blocked_by[].code``):
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
+from vascplan.nearlimit import format_limit, format_near_limit
 from vascplan.routes.facts import Devices, RouteFacts
-from vascplan.routes.vessels import CALCIFICATION_GRADES, VesselView
+from vascplan.routes.sarlimits import (
+    LimitUsed,
+    binding,
+    fit_on,
+    limits_table,
+    needed_mld_mm,
+    sheath_fits,
+)
+from vascplan.routes.settings import Setting
+from vascplan.routes.vessels import VesselView
 
 REASON_CODES: dict[str, str] = {
-    "sheath-too-large": "sheath-to-artery ratio over the sheath's stretch at or above the limit",
+    "unmeasured": "a large-bore device occupies a segment whose diameter was not measured",
+    "sheath-too-large": "sheath-to-artery ratio in a segment the sheath occupies at or above "
+                        "that segment's limit",
     "device-too-large": "device profile wider than the vessel beyond the sheath tip",
     "too-short": "path length plus the allowance outside the body exceeds the working length",
     "occlusion-en-route": "an occlusion other than the target lies on the path",
@@ -69,29 +84,74 @@ class LimitContext:
     view: VesselView
     devices: Devices
     limits: Mapping[str, float]
+    settings: Mapping[str, Setting] = field(default_factory=dict)
+
+    def table(self) -> dict[str, Setting]:
+        """The limits table with this context's values (bundled entries where not given)."""
+        return limits_table(self.limits, self.settings)
 
 
 Check = Callable[[RouteFacts, LimitContext], list[Block]]
+
+
+def headline(block: Mapping[str, str]) -> str:
+    """The short line a table shows for a broken limit.
+
+    ``unmeasured`` says what to measure and to what size; the others name the code and
+    the segment.
+
+    >>> headline({"code": "unmeasured", "segment": "R-CFA",
+    ...           "detail": "measure R-CFA: needs MLD >= 8.7 mm for this 24 Fr sheath (outer"})
+    'unmeasured: measure R-CFA: needs MLD >= 8.7 mm for this 24 Fr sheath'
+    >>> headline({"code": "too-short", "segment": "L-POP", "detail": "..."})
+    'too-short at L-POP'
+    """
+    if block["code"] == "unmeasured":
+        return f"unmeasured: {block['detail'].split(' (', 1)[0]}"
+    return f"{block['code']} at {block['segment']}"
 
 
 def _star(assumed: bool) -> str:
     return "*" if assumed else ""
 
 
-def sar_limit(facts: RouteFacts, ctx: LimitContext) -> tuple[float, str]:
-    """The SAR limit for this route's sheath stretch, and why.
+def bind_sar(facts: RouteFacts, ctx: LimitContext) -> None:
+    """Apply the SAR limits by site to a route's sheath stretch (sets ``facts.fits``,
+    ``min_lumen``, ``sar`` and ``sar_limit`` to those of the binding segment).
 
-    Moderate or severe calcification anywhere on the stretch lowers it
-    (``sar_max_calcified``; calcified arteries do not stretch, common practice); it never
-    raises it above ``sar_max``.
+    Each segment the sheath occupies is judged against its own limit
+    (:mod:`vascplan.routes.sarlimits`); the binding segment is the one whose SAR is
+    nearest (or furthest over) its limit. Without a stretch (a sheath that stops at the
+    skin), the puncture point.
     """
-    worst = max((ctx.view.calcification_step(leg.node, leg.lo_cm, leg.hi_cm)
-                 for leg in facts.sheath_legs), default=0)
-    if worst >= CALCIFICATION_GRADES.index("moderate"):
-        grade = CALCIFICATION_GRADES[worst]
-        limit = min(ctx.limits["sar_max_calcified"], ctx.limits["sar_max"])
-        return limit, f"limit for a {grade}ly calcified stretch"
-    return ctx.limits["sar_max"], "limit (Hayashida et al., JACC Cardiovasc Interv 2011)"
+    if facts.path is None:
+        return
+    table = ctx.table()
+    od = ctx.devices.sheath_od_mm
+    fits = sheath_fits(ctx.view, facts.sheath_legs, od, table)
+    if not fits:
+        p = facts.puncture_cm
+        fits = [fit_on(ctx.view, facts.site.segment, p, p, od, table)]
+    facts.fits = fits
+    bound = binding(fits)
+    if bound is None:  # every segment occluded: occlusion-en-route reports it
+        facts.sar, facts.sar_limit = None, fits[0].limit
+        facts.min_lumen = (0.0, fits[0].node)
+        return
+    facts.min_lumen = (bound.mld_mm, bound.node)
+    facts.sar = bound.sar
+    facts.sar_limit = bound.limit
+
+
+def sar_limit(facts: RouteFacts, ctx: LimitContext) -> LimitUsed:
+    """The SAR limit of the route's binding segment (binding it first if needed)."""
+    if facts.sar_limit is None:
+        bind_sar(facts, ctx)
+    if facts.sar_limit is None:
+        table = ctx.table()
+        s = table["sar_max"]
+        return LimitUsed(s.name, s.value, s.label or s.name, s.cite)
+    return facts.sar_limit
 
 
 def check_unreachable(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
@@ -140,21 +200,66 @@ def check_site_diseased(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
     return out
 
 
+def _fr_text(devices: Devices) -> str:
+    return f"{devices.sheath_fr:g} Fr"
+
+
+def check_unmeasured(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
+    """``unmeasured``: a large-bore device on a reference diameter.
+
+    A sheath or cannula of ``large_bore_fr`` or more (outer: French = outer mm x 3) is
+    not judged on population means: each segment it occupies whose diameter was not
+    measured blocks the route, and the detail gives the MLD that segment would need for
+    its SAR limit to hold (outer diameter / limit, rounded up to 0.1 mm).
+    """
+    d = ctx.devices
+    from vascplan.sizing.french import MM_PER_FR
+
+    outer_fr = round(d.sheath_od_mm / MM_PER_FR, 9)  # 12 Fr labelled outer is 4.0 mm
+    if facts.path is None or outer_fr < ctx.limits["large_bore_fr"]:
+        return []
+    if not facts.fits:
+        bind_sar(facts, ctx)
+    od_star = _star(d.sheath_od_assumed is not None)
+    out: list[Block] = []
+    for fit in facts.fits:
+        if fit.measured or any(b.segment == fit.node for b in out):
+            continue
+        need = needed_mld_mm(d.sheath_od_mm, fit.limit.value)
+        out.append(Block("unmeasured", fit.node,
+                         f"measure {fit.node}: needs MLD >= {need:.1f} mm for this "
+                         f"{_fr_text(d)} sheath (outer {d.sheath_od_mm:.2f} mm{od_star}, SAR "
+                         f"limit {fit.limit.text()}); the {fit.mld_mm:.1f} mm* used is a "
+                         "reference value, not this patient's lumen"))
+    return out
+
+
 def check_sheath(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
-    """``sheath-too-large``: SAR over the sheath's stretch at or above the limit."""
-    if facts.path is None or facts.min_lumen is None or facts.sar is None:
+    """``sheath-too-large``: SAR in a segment the sheath occupies at or over its limit.
+
+    One entry per segment over its own limit (limits by site), compared unrounded; the
+    printed SAR has enough digits to sit on the verdict's side of the limit.
+    """
+    if facts.path is None:
         return []
-    limit, why = sar_limit(facts, ctx)
-    if facts.sar < limit:
-        return []
-    mld, node = facts.min_lumen
+    if not facts.fits:
+        bind_sar(facts, ctx)
     d = ctx.devices
     od_star = _star(d.sheath_od_assumed is not None)
-    mld_star = _star(ctx.view.node(node).get("diameter_source") != "measured")
-    return [Block("sheath-too-large", node,
-                  f"{d.sheath_fr:g} Fr sheath, outer {d.sheath_od_mm:.2f} mm{od_star}, in "
-                  f"{node} with MLD {mld:.2f} mm{mld_star}: SAR {facts.sar:.2f} is at or "
-                  f"above the {why} of {limit:.2f}")]
+    out: list[Block] = []
+    for fit in facts.fits:
+        if fit.sar is None or not fit.over or any(b.segment == fit.node for b in out):
+            continue
+        mld_star = _star(not fit.measured)
+        why = fit.limit.label
+        if fit.limit.name == "sar_max_calcified":
+            why = f"{fit.calcification}ly calcified stretch"
+        out.append(Block("sheath-too-large", fit.node,
+                         f"{d.sheath_fr:g} Fr sheath, outer {d.sheath_od_mm:.2f} mm{od_star}, in "
+                         f"{fit.node} with MLD {fit.mld_mm:.2f} mm{mld_star}: SAR "
+                         f"{format_near_limit(fit.sar, fit.limit.value)} is at or above the "
+                         f"{why} limit of {format_limit(fit.limit.value)} ({fit.limit.cite})"))
+    return out
 
 
 def check_device(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
@@ -171,9 +276,23 @@ def check_device(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
         return []
     mm, node = lumen
     star = _star(ctx.view.node(node).get("diameter_source") != "measured")
+    od_text, mm_text = _apart(d.device_od_mm, mm)
     return [Block("device-too-large", node,
-                  f"{d.device_fr:g} Fr device ({d.device_od_mm:.2f} mm) is wider than "
-                  f"{node} ({mm:.2f} mm{star}) beyond the sheath tip")]
+                  f"{d.device_fr:g} Fr device ({od_text} mm) is wider than "
+                  f"{node} ({mm_text} mm{star}) beyond the sheath tip")]
+
+
+def _apart(wider: float, narrower: float) -> tuple[str, str]:
+    """Both figures with the fewest decimals (2 or more) that print them apart.
+
+    >>> _apart(2.3333, 2.331)
+    ('2.333', '2.331')
+    """
+    for places in range(2, 13):
+        a, b = f"{wider:.{places}f}", f"{narrower:.{places}f}"
+        if float(a) > float(b):
+            return a, b
+    return repr(wider), repr(narrower)
 
 
 def check_too_short(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
@@ -216,6 +335,7 @@ CHECKS: tuple[tuple[str, Check], ...] = (
     ("site-diseased", check_site_diseased),
     ("no-crossover", check_crossover),
     ("occlusion-en-route", check_occlusion),
+    ("unmeasured", check_unmeasured),
     ("sheath-too-large", check_sheath),
     ("device-too-large", check_device),
     ("too-short", check_too_short),

@@ -14,7 +14,7 @@ from vascplan.errors import InputError
 from vascplan.routes.dual import rank_pairs
 from vascplan.routes.facts import Devices, RouteFacts, resolve_devices, route_facts
 from vascplan.routes.largebore import SUPPORT_SITES, support_block
-from vascplan.routes.limits import Block, LimitContext, hard_limits, sar_limit
+from vascplan.routes.limits import Block, LimitContext, bind_sar, hard_limits, sar_limit
 from vascplan.routes.pathfind import K_PATHS, CatheterPath, PointGraph
 from vascplan.routes.result import PlanResult, Route
 from vascplan.routes.scoring import ScoreContext, soft_factors
@@ -94,7 +94,7 @@ def _route(view: VesselView, facts: RouteFacts, blocks: list[Block], factors: li
         assumed.append("sar")
     if path is not None and any(view.node(n).get("length_source") != "measured" for n in nodes):
         assumed.append("length_cm")
-    limit = sar_limit(facts, limit_ctx)[0] if path is not None else None
+    limit = sar_limit(facts, limit_ctx) if path is not None else None
     return Route(
         site=facts.site.id,
         site_name=facts.site.name,
@@ -109,7 +109,10 @@ def _route(view: VesselView, facts: RouteFacts, blocks: list[Block], factors: li
         min_lumen_mm=facts.min_lumen[0] if facts.min_lumen and path is not None else None,
         limiting_segment=limiting if path is not None else None,
         sar=facts.sar if path is not None else None,
-        sar_limit=limit,
+        sar_limit=limit.value if limit is not None else None,
+        sar_limit_name=limit.name if limit is not None else None,
+        sar_limit_source=limit.cite if limit is not None else None,
+        sar_limit_label=limit.label if limit is not None else None,
         blocked_by=blocks,
         factors=factors,
         position=facts.site.position,
@@ -190,7 +193,7 @@ def plan_case(case: Any, *, top: int | None = None, weights: Mapping[str, float]
     closed = frozenset(n for n, a in tree.graph.nodes(data=True)
                        if a.get("kind") == "graft" and not a.get("patent", True))
     points = PointGraph(tree, closed)
-    limit_ctx = LimitContext(view, devices, lim)
+    limit_ctx = LimitContext(view, devices, lim, l_table)
     score_ctx = ScoreContext(view, devices, w, lim)
     purpose = case.procedure.purpose
     routes: list[Route] = []
@@ -213,6 +216,7 @@ def plan_case(case: Any, *, top: int | None = None, weights: Mapping[str, float]
         for i, path in enumerate(candidates):
             facts = route_facts(view, site, direction, path, devices)
             facts.crossover_dropped = dropped
+            bind_sar(facts, limit_ctx)
             blocks = hard_limits(facts, limit_ctx)
             factors = soft_factors(facts, score_ctx)
             routes.append(_route(view, facts, blocks, factors, devices, limit_ctx))
@@ -225,7 +229,7 @@ def plan_case(case: Any, *, top: int | None = None, weights: Mapping[str, float]
     extra: list[str] = []
     support = None
     if purpose == "support":
-        support = support_block(view, support_axes, devices, lim)
+        support = support_block(view, support_axes, devices, lim, l_table)
         extra.append(support["device_kind_basis"])
     target: dict[str, Any] = {"segment": view.target_segment, "at_cm": view.target_cm}
     if view.target_lesion is not None:

@@ -4,7 +4,8 @@ The contract (issue 3), keys at least::
 
     {"case", "target": {"segment", "at_cm"},
      "routes": [{"rank", "site", "direction", "feasible", "path", "length_cm",
-                 "approach", "sheath_od_mm", "min_lumen_mm", "sar", "score",
+                 "approach", "sheath_od_mm", "min_lumen_mm", "sar" (unrounded),
+                 "sar_limit", "sar_limit_source", "score",
                  "blocked_by": [{"code", "segment", "detail"}],
                  "factors": [{"name", "points", "detail"}]}],
      "pairs", "assumptions", "caution"}
@@ -19,7 +20,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Any
 
-from vascplan.routes.limits import Block
+from vascplan.routes.limits import Block, headline
 from vascplan.routes.pathfind import Leg
 from vascplan.routes.scoring import SCORE_CONVENTION, Factor
 from vascplan.safety import CAUTION
@@ -65,7 +66,9 @@ class Route:
     sar : float or None
         ``sheath_od_mm / min_lumen_mm``.
     sar_limit : float or None
-        The SAR limit that applied [-].
+        The SAR limit that applied at ``limiting_segment`` [-] (limits by site).
+    sar_limit_name, sar_limit_label, sar_limit_source : str or None
+        Its name in ``limits.yaml``, its short name (``radial``) and its source.
     blocked_by : list of Block
     factors : list of Factor
     position : str
@@ -95,6 +98,9 @@ class Route:
     position: str
     assumed: list[str] = field(default_factory=list)
     rank: int = 0
+    sar_limit_name: str | None = None
+    sar_limit_source: str | None = None
+    sar_limit_label: str | None = None
 
     @property
     def feasible(self) -> bool:
@@ -119,8 +125,7 @@ class Route:
     def main_reason(self) -> str:
         """The one line a table shows: the first block, else the heaviest factor."""
         if self.blocked_by:
-            b = self.blocked_by[0]
-            return f"{b.code} at {b.segment}"
+            return headline(self.blocked_by[0].to_dict())
         if not self.factors:
             return "nothing against it"
         top = max(self.factors, key=lambda f: f.points)
@@ -145,8 +150,11 @@ class Route:
             "sheath_od_mm": round(self.sheath_od_mm, 2),
             "min_lumen_mm": _r(self.min_lumen_mm, 2),
             "limiting_segment": self.limiting_segment,
-            "sar": _r(self.sar, 2),
-            "sar_limit": _r(self.sar_limit, 2),
+            "sar": self.sar,
+            "sar_limit": self.sar_limit,
+            "sar_limit_name": self.sar_limit_name,
+            "sar_limit_label": self.sar_limit_label,
+            "sar_limit_source": self.sar_limit_source,
             "score": round(self.score, 2),
             "position": self.position,
             "assumed": list(self.assumed),

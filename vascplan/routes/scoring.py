@@ -64,10 +64,13 @@ def f_sar(facts: RouteFacts, ctx: ScoreContext) -> list[Factor]:
     """SAR times its weight."""
     if facts.sar is None or facts.min_lumen is None:
         return []
+    from vascplan.nearlimit import format_near_limit
+
     w = ctx.weights["sar"]
+    limit = facts.sar_limit.value if facts.sar_limit is not None else None
     return [Factor("sar", w * facts.sar,
-                   f"SAR {facts.sar:.2f} over the sheath's stretch (narrowest at "
-                   f"{facts.min_lumen[1]}) x {w:g} points")]
+                   f"SAR {format_near_limit(facts.sar, limit)} over the sheath's stretch "
+                   f"(binding at {facts.min_lumen[1]}) x {w:g} points")]
 
 
 def f_puncture_calcification(facts: RouteFacts, ctx: ScoreContext) -> list[Factor]:

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Iterable, Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import cache
 
 from vascplan.errors import InputError
@@ -37,12 +37,21 @@ class Setting:
     basis : str
         The source, or ``common practice`` / ``from memory``; ``override`` notes are
         appended when a case or the command line changed it.
+    segments : tuple of str
+        Segment kinds a SAR limit holds for (``RAD``, ``AXA``); empty for the others.
+    label : str
+        A short name outputs print beside the value (``radial``).
+    cite : str
+        The short source outputs print beside the value; the basis when not given.
     """
 
     name: str
     value: float
     unit: str
     basis: str
+    segments: tuple[str, ...] = ()
+    label: str = ""
+    cite: str = ""
 
 
 @cache
@@ -75,7 +84,13 @@ def load_table(file_name: str) -> dict[str, Setting]:
         if isinstance(value, bool) or not isinstance(value, int | float):
             raise InputError(str(path), f"{name}.value", "must be a number")
         unit = str(entry.get("unit", ""))
-        out[str(name)] = Setting(str(name), float(value), unit, str(entry["basis"]))
+        segments = entry.get("segments") or ()
+        if not isinstance(segments, list | tuple) or not all(isinstance(s, str)
+                                                             for s in segments):
+            raise InputError(str(path), f"{name}.segments", "must be a list of segment kinds")
+        basis = str(entry["basis"])
+        out[str(name)] = Setting(str(name), float(value), unit, basis, tuple(segments),
+                                 str(entry.get("label", "")), str(entry.get("cite") or basis))
     return out
 
 
@@ -164,7 +179,9 @@ def resolve(
             old = out[name]
             default = table[name]
             basis = f"set to {value:g} by {source} (default {default.value:g}: {default.basis})"
-            out[name] = Setting(name, value, old.unit, basis)
+            out[name] = replace(old, value=value, basis=basis,
+                                cite=f"set to {value:g} by {source}, default {default.value:g}: "
+                                     f"{default.cite}")
     return out
 
 

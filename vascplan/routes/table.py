@@ -8,7 +8,8 @@ from __future__ import annotations
 
 from typing import Any
 
-from vascplan.routes.limits import REASON_CODES
+from vascplan.nearlimit import format_limit, format_near_limit
+from vascplan.routes.limits import REASON_CODES, headline
 from vascplan.safety import CAUTION, REFERENCE_MARK
 
 
@@ -16,6 +17,36 @@ def _num(value: float | None, fmt: str, assumed: bool, unit: str = "") -> str:
     if value is None:
         return "-"
     return f"{value:{fmt}}{unit}{REFERENCE_MARK if assumed else ''}"
+
+
+def sar_text(sar: float | None, limit: float | None, assumed: bool) -> str:
+    """A SAR printed on its verdict's side of its limit (``1.048`` beside 1.05), ``*`` if
+    it rests on a reference value."""
+    if sar is None:
+        return "-"
+    return f"{format_near_limit(sar, limit)}{REFERENCE_MARK if assumed else ''}"
+
+
+def limit_text(route: dict[str, Any]) -> str:
+    """``1.00 radial``: the SAR limit of a route and its short name."""
+    if route.get("sar_limit") is None:
+        return "-"
+    label = route.get("sar_limit_label") or ""
+    return f"{format_limit(route['sar_limit'])} {label}".rstrip()
+
+
+def limits_legend(routes: list[dict[str, Any]]) -> list[str]:
+    """One line per SAR limit the routes used: value, short name and source."""
+    seen: dict[str, str] = {}
+    for r in routes:
+        name = r.get("sar_limit_name")
+        if name and name not in seen:
+            seen[name] = (f"  - {format_limit(r['sar_limit'])} {r.get('sar_limit_label') or name}: "
+                          f"{r.get('sar_limit_source')}")
+    if not seen:
+        return []
+    return ["", "SAR limits used (sheath outer diameter / MLD, judged on unrounded values "
+            "in each segment the sheath occupies):", *seen.values()]
 
 
 def _target_line(plan: dict[str, Any]) -> str:
@@ -39,7 +70,7 @@ def route_row(route: dict[str, Any]) -> list[str]:
     if route["blocked_by"]:
         b = route["blocked_by"][0]
         more = f" (+{len(route['blocked_by']) - 1} more)" if len(route["blocked_by"]) > 1 else ""
-        reason = f"{b['code']} at {b['segment']}{more}"
+        reason = f"{headline(b)}{more}"
     elif route["factors"]:
         top = max(route["factors"], key=lambda f: f["points"])
         reason = f"{top['name']} +{top['points']:.1f}"
@@ -50,14 +81,16 @@ def route_row(route: dict[str, Any]) -> list[str]:
         route["site"],
         route["direction"],
         _num(route["length_cm"], ".1f", "length_cm" in assumed, " cm"),
-        _num(route["sar"], ".2f", "sar" in assumed),
+        sar_text(route["sar"], route.get("sar_limit"), "sar" in assumed),
+        limit_text(route),
         verdict,
         f"{route['score']:.1f}",
         reason,
     ]
 
 
-HEADERS = ["rank", "site", "direction", "length", "SAR", "verdict", "score", "main reason"]
+HEADERS = ["rank", "site", "direction", "length", "SAR", "SAR limit", "verdict", "score",
+           "main reason"]
 
 
 def render_plan(plan: dict[str, Any]) -> str:
@@ -86,6 +119,7 @@ def render_plan(plan: dict[str, Any]) -> str:
             lines.append(f"  {p['rank']}. {a['site']} {a['direction']} to the proximal cap + "
                          f"{b['site']} {b['direction']} to the distal cap, score "
                          f"{p['score']:.1f}{note}")
+    lines.extend(limits_legend(plan["routes"]))
     if plan.get("support"):
         lines.extend(render_support(plan["support"]))
     lines.append("")
@@ -121,8 +155,18 @@ def summarise_assumptions(assumptions: list[str]) -> list[str]:
 
 def _segment_sar(seg: dict[str, Any]) -> str:
     mark = REFERENCE_MARK if seg["mld_source"] != "measured" else ""
-    over = f" (over {seg['sar_limit']:.2f})" if seg["over_limit"] else ""
-    return f"{seg['segment']} {seg['sar']:.2f}{mark}{over}"
+    word = "at or over" if seg["over_limit"] else "under"
+    label = seg.get("sar_limit_label") or "limit"
+    return (f"{seg['segment']} {format_near_limit(seg['sar'], seg['sar_limit'])}{mark} "
+            f"({word} {label} {format_limit(seg['sar_limit'])})")
+
+
+def blocks_by_code(blocks: list[dict[str, Any]]) -> str:
+    """``unmeasured at R-SCA, BCT; sheath-too-large at R-EIA``: each code once, with where."""
+    where: dict[str, list[str]] = {}
+    for b in blocks:
+        where.setdefault(b["code"], []).append(b["segment"])
+    return "; ".join(f"{code} at {', '.join(segs)}" for code, segs in where.items())
 
 
 def render_support(support: dict[str, Any]) -> list[str]:
@@ -130,8 +174,7 @@ def render_support(support: dict[str, Any]) -> list[str]:
     lines = ["", f"Large-bore support ({support['device_kind']}, outer "
              f"{support['device_od_mm']:.2f} mm): {support['device_kind_basis']}"]
     for axis in support["axes"]:
-        verdict = "ok" if axis["feasible"] else "BLOCKED " + ", ".join(
-            b["code"] for b in axis["blocked_by"])
+        verdict = "ok" if axis["feasible"] else "BLOCKED " + blocks_by_code(axis["blocked_by"])
         segs = ", ".join(_segment_sar(s) for s in axis["segments"] if s["sar"] is not None)
         lines.append(f"  {axis['site']}: {verdict}; SAR by segment: {segs or '-'}; "
                      f"limiting {axis['limiting_segment'] or '-'}")
@@ -148,9 +191,21 @@ def render_support(support: dict[str, Any]) -> list[str]:
             lines.append(f"      arm: {axis['arm_note']}")
         if axis.get("lumen_note"):
             lines.append(f"      NO LUMEN LEFT: {axis['lumen_note']}")
+    sources = {f"{s.get('sar_limit_label')} {format_limit(s['sar_limit'])}: "
+               f"{s.get('sar_limit_source')}"
+               for axis in support["axes"] for s in axis["segments"] if s.get("sar_limit_source")}
+    if sources:
+        lines.append("  SAR limits: " + "; ".join(sorted(sources)))
     if support.get("best_site"):
         lines.append(f"  lowest SAR among feasible axes: {support['best_site']}")
     return lines
+
+
+def _limit_with_source(route: dict[str, Any]) -> str:
+    if route.get("sar_limit") is None:
+        return "-"
+    return (f"{format_limit(route['sar_limit'])} {route.get('sar_limit_label') or ''}, "
+            f"{route.get('sar_limit_source')}")
 
 
 _SITE_CHECKS = ("unreachable", "site-avoided", "site-diseased")
@@ -177,8 +232,8 @@ def render_explain(plan: dict[str, Any], routes: list[dict[str, Any]]) -> str:
             f"sheath outer {_num(route['sheath_od_mm'], '.2f', 'sheath_od_mm' in assumed, ' mm')}; "
             f"min lumen {_num(route['min_lumen_mm'], '.2f', 'min_lumen_mm' in assumed, ' mm')}"
             f" at {route['limiting_segment'] or '-'}; "
-            f"SAR {_num(route['sar'], '.2f', 'sar' in assumed)}"
-            f" (limit {_num(route['sar_limit'], '.2f', False)}); approach {route['approach']}; "
+            f"SAR {sar_text(route['sar'], route.get('sar_limit'), 'sar' in assumed)}"
+            f" (limit {_limit_with_source(route)}); approach {route['approach']}; "
             f"position {route['position']}")
         lines.append("  hard limits:")
         broken: dict[str, list[dict[str, Any]]] = {}
