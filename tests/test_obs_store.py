@@ -142,7 +142,11 @@ def test_newer_schema_is_refused(tmp_path):
         )
     with pytest.raises(StoreError) as exc:
         open_store(str(path))
-    assert "has schema version 99, newer than this vascplan knows" in str(exc.value)
+    # The wording promised by issue 16 (store part): version found, version known, what to do.
+    assert str(exc.value).endswith(
+        f"this store is at schema version 99; this vascplan knows up to {SCHEMA_VERSION}: "
+        "upgrade vascplan"
+    )
 
 
 @pytest.mark.parametrize("umask", [0o000, 0o022, 0o077, 0o277])
