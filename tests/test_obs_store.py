@@ -246,3 +246,74 @@ def test_concurrent_duplicate_is_refused_by_the_index(db_url):  # noqa: F811
         assert store.count("U") == 1
         with store.engine.connect() as conn:
             assert conn.execute(sa.text("SELECT count(*) FROM obs_batch")).scalar() == 1
+
+
+def _three_checks(store) -> list[int]:  # type: ignore[no-untyped-def]
+    """Two patients; checks at T0, T0+1h, T0+2h; the 1 h NIRS of DEMO-11 corrected."""
+    ids = store.record(
+        [
+            _f(minutes=0),
+            _f(minutes=60, value="60"),
+            _f(minutes=120, value="58"),
+            _f(minutes=60, bed=2, ref="DEMO-12", value="70"),
+        ],
+        unit="U",
+        kind="import",
+        source="t",
+    )
+    store.correct(ids[1], "62", by="RN-B", reason="misread")
+    return ids
+
+
+def test_window_bounds_are_inclusive_and_carry_corrections(db_url):  # noqa: F811
+    with open_store(db_url) as store:
+        _three_checks(store)
+        hour = timedelta(hours=1)
+        # since T0+1h, until T0+1h: the two 1 h originals and the correction (which carries
+        # its original's check time), nothing else.
+        rows = store.entries("U", since=T0 + hour, until=T0 + hour)
+        assert [(r.ref, r.value, r.corrects is not None) for r in rows] == [
+            ("DEMO-11", "60", False),
+            ("DEMO-12", "70", False),
+            ("DEMO-11", "62", True),
+        ]
+        # A lower bound within a second rounds up: stored times are whole seconds.
+        assert [r.value for r in store.entries("U", since=T0 + timedelta(microseconds=1))][
+            0
+        ] == "60"
+        cur = store.current("U", ref="DEMO-11", since=T0 + hour)
+        assert [f.value for f in cur] == ["62", "58"]
+        # The streamed current view equals the listed one.
+        assert [(f.entry.id, f.value) for f in store.iter_current("U")] == [
+            (f.entry.id, f.value) for f in store.current("U")
+        ]
+
+
+def test_current_by_ref_reads_each_patient_from_their_own_start(db_url):  # noqa: F811
+    with open_store(db_url) as store:
+        _three_checks(store)
+        got = store.current_by_ref(
+            "U",
+            {"DEMO-11": T0 + timedelta(minutes=90), "DEMO-12": None, "DEMO-99": None},
+            until=T0 + timedelta(minutes=120),
+        )
+        assert {ref: [f.value for f in fs] for ref, fs in got.items()} == {
+            "DEMO-11": ["58"],
+            "DEMO-12": ["70"],
+            "DEMO-99": [],
+        }
+
+
+def test_stream_current_holds_one_instant_and_matches_the_list():
+    from vascplan.observations.store import Entry, current_findings, stream_current
+
+    def row(i, minutes, value, corrects=None):  # type: ignore[no-untyped-def]
+        t = T0 + timedelta(minutes=minutes)
+        return Entry(i, 1, "U", 1, "DEMO-11", t, t.isoformat(), "RN-A", "nirs", "L", value,
+                     corrects, None, t)  # fmt: skip
+
+    rows = [row(1, 0, "64"), row(2, 0, "61", 1), row(4, 0, ENTERED_IN_ERROR, 1),
+            row(3, 30, "60"), row(5, 30, "59", 3), row(6, 30, "57", 3)]  # fmt: skip
+    streamed = [(f.entry.id, f.value) for f in stream_current(iter(rows), True)]
+    assert streamed == [(f.entry.id, f.value) for f in current_findings(rows, True)]
+    assert streamed == [(1, ENTERED_IN_ERROR), (3, "57")]  # the latest correction wins
