@@ -317,3 +317,22 @@ def test_stream_current_holds_one_instant_and_matches_the_list():
     streamed = [(f.entry.id, f.value) for f in stream_current(iter(rows), True)]
     assert streamed == [(f.entry.id, f.value) for f in current_findings(rows, True)]
     assert streamed == [(1, ENTERED_IN_ERROR), (3, "57")]  # the latest correction wins
+
+
+def test_streamed_rows_come_in_pages_and_let_writers_in(db_url, monkeypatch):  # noqa: F811
+    from vascplan.observations import store as store_module
+
+    monkeypatch.setattr(store_module, "BUSY_TIMEOUT_S", 0.2)  # a held lock fails fast
+    with open_store(db_url) as store:
+        _three_checks(store)  # 5 rows: 4 originals and 1 correction
+        expected = [e.id for e in store.entries("U")]
+        rows = store.iter_entries("U", chunk=2)
+        first = [next(rows).id for _ in range(3)]
+        # Between pages no read is open: another writer gets in at once.
+        with open_store(db_url) as other:
+            (late,) = other.record([_f(minutes=180)], unit="U", kind="add", source="t")
+        rest = [e.id for e in rows]
+        assert first + rest == [*expected, late]  # every row once, in order, the late one last
+        assert [e.id for e in store.iter_entries("U", chunk=1, since=T0 + timedelta(hours=2))] == [
+            e.id for e in store.entries("U", since=T0 + timedelta(hours=2))
+        ]

@@ -239,5 +239,17 @@ def test_writes_and_windows_search_indexes_instead_of_scanning(tmp_path):
         assert (
             "USING INDEX obs_entry_patient_time (unit=? AND ref=? AND time_utc>? AND" in (plans[3])
         )
-        for plan in plans:
+        # The export's keyset pages: the second page starts inside the index on unit and time.
+        store.record([later_finding(f)], unit="U", kind="add", source="t")
+        pages = _plans(store, lambda: list(store.iter_entries("U", chunk=1)))
+        assert len(pages) == 3  # two rows, one a page, then an empty page
+        assert "USING INDEX obs_entry_unit_time (unit=? AND time_utc>?)" in pages[1]
+        for plan in plans + pages:
             assert "SCAN obs_entry" not in plan, plan
+
+
+def later_finding(f):  # type: ignore[no-untyped-def]
+    from dataclasses import replace
+    from datetime import timedelta
+
+    return replace(f, time=f.time + timedelta(hours=1))

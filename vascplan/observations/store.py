@@ -563,13 +563,28 @@ class ObservationStore:
     ) -> Iterator[Entry]:
         """Like :meth:`entries`, one row at a time: memory does not grow with the record.
 
-        Rows are fetched ``chunk`` at a time (a server-side cursor on PostgreSQL). The read
-        stays open until the iterator is exhausted or closed.
+        Rows are read ``chunk`` at a time, each chunk in its own short read (keyset pages
+        on check time and entry id), so that a long export never holds the database: on
+        SQLite a writer waits for one chunk at most, not for the whole export. A row
+        written during the export is included when it sorts after the rows already read.
         """
-        q = self._query(unit, since=since, until=until)
-        with self.engine.connect() as conn:
-            for r in conn.execution_options(yield_per=chunk).execute(q):
+        q = self._query(unit, since=since, until=until).limit(chunk)
+        after: tuple[str, int] | None = None
+        while True:
+            page = q
+            if after is not None:
+                t, i = after
+                page = q.where(
+                    entries.c.time_utc >= t,
+                    sa.not_(sa.and_(entries.c.time_utc == t, entries.c.id <= i)),
+                )
+            with self.engine.connect() as conn:
+                rows = conn.execute(page).all()
+            for r in rows:
                 yield _entry(r)
+            if len(rows) < chunk:
+                return
+            after = (rows[-1].time_utc, rows[-1].id)
 
     def current(
         self,
