@@ -171,6 +171,9 @@ def open_store(db: str | None = None) -> ObservationStore:
     except sa.exc.DatabaseError as exc:  # also a file that is not an SQLite database
         engine.dispose()
         raise StoreError(f"cannot open the observation store {shown}: {_first_line(exc)}") from None
+    except StoreError:  # a newer store: refused untouched
+        engine.dispose()
+        raise
     return store
 
 
