@@ -336,3 +336,24 @@ def test_streamed_rows_come_in_pages_and_let_writers_in(db_url, monkeypatch):  #
         assert [e.id for e in store.iter_entries("U", chunk=1, since=T0 + timedelta(hours=2))] == [
             e.id for e in store.entries("U", since=T0 + timedelta(hours=2))
         ]
+
+
+def test_streamed_csv_across_pages_marks_superseded_rows(db_url):  # noqa: F811
+    import csv
+    import io
+
+    from vascplan.observations.csvio import export_rows, write_export
+
+    with open_store(db_url) as store:
+        ids = _three_checks(store)  # entry ids[1] (1 h NIRS of DEMO-11) corrected once
+        second = store.correct(ids[1], "61", by="RN-C", reason="second look")
+        out = io.StringIO()
+        # One row a page: the 1 h instant (two originals, two corrections) spans four pages.
+        assert write_export(out, store.iter_entries("U", chunk=1)) == 6
+        assert out.getvalue() == export_rows(store.entries("U"))
+        rows = {int(r["entry"]): r for r in csv.DictReader(io.StringIO(out.getvalue()))}
+        # The original and the first correction both point to the latest correction.
+        assert rows[ids[1]]["superseded_by"] == str(second)
+        assert rows[second - 1]["superseded_by"] == str(second)
+        assert rows[second]["superseded_by"] == ""
+        assert rows[ids[0]]["superseded_by"] == ""
