@@ -357,3 +357,12 @@ def test_streamed_csv_across_pages_marks_superseded_rows(db_url):  # noqa: F811
         assert rows[second - 1]["superseded_by"] == str(second)
         assert rows[second]["superseded_by"] == ""
         assert rows[ids[0]]["superseded_by"] == ""
+
+
+def test_a_naive_bound_is_refused(tmp_path):
+    # A naive time would be read in the machine's zone, not the unit's: refused outright.
+    with open_store(str(tmp_path / "o.db")) as store:
+        with pytest.raises(ValueError, match="since must be time-zone aware"):
+            store.entries("U", since=datetime(2026, 12, 1, 16, 0))
+        with pytest.raises(ValueError, match="until must be time-zone aware"):
+            store.current_by_ref("U", {"DEMO-11": None}, until=datetime(2026, 12, 1, 16, 0))

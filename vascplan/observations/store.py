@@ -521,6 +521,9 @@ class ObservationStore:
         since: datetime | None = None,
         until: datetime | None = None,
     ) -> sa.Select:
+        for name, bound in (("since", since), ("until", until)):
+            if bound is not None and bound.utcoffset() is None:
+                raise ValueError(f"{name} must be time-zone aware, got {bound.isoformat()}")
         q = sa.select(entries).where(entries.c.unit == unit)
         if ref is not None:
             q = q.where(entries.c.ref == ref)
