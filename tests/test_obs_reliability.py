@@ -12,7 +12,7 @@ from datetime import datetime, timedelta
 from pathlib import Path
 
 from tests.obs_fixtures import UNIT, db_url  # noqa: F401 - fixture
-from vascplan.observations.store import open_store
+from vascplan.observations.store import SCHEMA_VERSION, open_store
 
 ROOT = Path(__file__).resolve().parent.parent
 UNIT_NAME = "Cardiac critical care (demo)"
@@ -201,4 +201,4 @@ def test_two_writers_at_once_lose_nothing(tmp_path, db_url):  # noqa: F811
             for i in range(n)
         }
         assert store.count(UNIT_NAME) == 800
-        assert store.version() == 3
+        assert store.version() == SCHEMA_VERSION
