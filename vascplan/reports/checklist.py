@@ -78,6 +78,7 @@ class ChecklistSheet:
     dpc: str
     risk_tier: str
     risk_reasons: tuple[str, ...]
+    risk_total: float
     baseline: tuple[tuple[str, str], ...]
     items: tuple[tuple[str, str], ...]  # (id, wording), in protocol order
     rows: tuple[CheckRow, ...]
@@ -181,9 +182,11 @@ def checklist_sheets(
         item_ids = [i for i in wanted if i in used] + sorted(used - set(wanted))
         if not rows:
             item_ids = wanted
+        advice = getattr(risk, "advice", None)
         if p.dpc is None:
-            advised = getattr(risk, "dpc_advised", None)
-            dpc = "none" + ("; the risk assessment advises one" if advised else "")
+            dpc = "none"
+            if advice is not None:
+                dpc += f"; {advice.text()}"
         else:
             dpc = f"{p.dpc.size_fr:g} Fr, in since {_when(p.dpc.inserted.astimezone(unit.unit.tz))}"
             if p.dpc.removed is not None:
@@ -211,6 +214,7 @@ def checklist_sheets(
                 dpc=dpc,
                 risk_tier=str(risk.tier),
                 risk_reasons=tuple(str(r) for r in getattr(risk, "reasons", ())),
+                risk_total=float(getattr(risk, "total", 1.0)),
                 baseline=baseline_rows(p.baseline),
                 items=tuple((i, protocol.item_text(i)) for i in item_ids),
                 rows=rows,
@@ -311,8 +315,10 @@ def _header_table(sheet: ChecklistSheet, width: float) -> Table:
             para("Risk tier", label),
             Paragraph(  # each piece escaped on its own: user text never meets .format
                 rich(
-                    "<font size=10><b>{tier}</b></font>  {reasons}. ",
+                    "<font size=10><b>{tier}</b></font> (combined relative risk {total}, "
+                    "not a validated score)  {reasons}. ",
                     tier=sheet.risk_tier.upper(),
+                    total=f"{sheet.risk_total:.2f}",
                     reasons="; ".join(sheet.risk_reasons) or "no risk factor recorded",
                 )
                 + _changes_markup(sheet)
