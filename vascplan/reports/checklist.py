@@ -109,6 +109,21 @@ def device_text(device: Any) -> str:
     )
 
 
+def _risk_lines(risk: Any) -> tuple[str, ...]:
+    """The factors with their weights (ids, short), and any clinician's tier event."""
+    weighted = getattr(risk, "weighted", None)
+    if not weighted:
+        return tuple(str(r) for r in getattr(risk, "reasons", ()))
+    factors = " x ".join(
+        f"{w.id} {w.weight:g}" + ("" if w.counted else " (not counted)") for w in weighted
+    )
+    out = [f"factors {factors}"]
+    if not getattr(risk, "vessel_measured", True):
+        out.insert(0, "access vessel not measured: figures use a reference diameter *")
+    out += [str(r) for r in getattr(risk, "reasons", ()) if str(r).startswith("tier set to")]
+    return tuple(out)
+
+
 def baseline_rows(baseline: Any) -> tuple[tuple[str, str], ...]:
     """The baseline findings as (what, value) pairs, sides and sites in a stable order."""
     out = []
@@ -186,7 +201,7 @@ def checklist_sheets(
         if p.dpc is None:
             dpc = "none"
             if advice is not None:
-                dpc += f"; {advice.text()}"
+                dpc += f"; {advice.short()}"
         else:
             dpc = f"{p.dpc.size_fr:g} Fr, in since {_when(p.dpc.inserted.astimezone(unit.unit.tz))}"
             if p.dpc.removed is not None:
@@ -213,7 +228,7 @@ def checklist_sheets(
                 removed=p.device.removed.astimezone(unit.unit.tz) if p.device.removed else None,
                 dpc=dpc,
                 risk_tier=str(risk.tier),
-                risk_reasons=tuple(str(r) for r in getattr(risk, "reasons", ())),
+                risk_reasons=_risk_lines(risk),
                 risk_total=float(getattr(risk, "total", 1.0)),
                 baseline=baseline_rows(p.baseline),
                 items=tuple((i, protocol.item_text(i)) for i in item_ids),

@@ -144,6 +144,7 @@ class CannulaAdvice:
     governs: str | None = None
     distal_flow_pct: float | None = None
     floor_pct: float = 0.0
+    summary: str = ""
 
     @property
     def headline(self) -> str:
@@ -153,6 +154,10 @@ class CannulaAdvice:
         if not self.applies:
             return "does not apply"
         return "ADVISED" if self.advised else "not advised"
+
+    def short(self) -> str:
+        """The headline, the deciding rule and the figures, without the citations."""
+        return f"{self.headline} [{self.rule}]" + (f": {self.summary}" if self.summary else "")
 
     def text(self) -> str:
         """One line for a report: the headline, the deciding rule and the basis."""
@@ -173,13 +178,14 @@ class CannulaAdvice:
             if self.distal_flow_pct is None
             else round(self.distal_flow_pct, 2),
             "floor_pct": self.floor_pct,
+            "summary": self.summary,
         }
 
 
 def not_applicable(rule: str, basis: str, *, advised: bool = False) -> CannulaAdvice:
     """An advice that does not come from the figures (device removed, and the like)."""
     floor = load_advice_rules().distal_flow_floor.value
-    return CannulaAdvice(advised, False, rule, (), [basis], None, None, floor)
+    return CannulaAdvice(advised, False, rule, (), [basis], None, None, floor, basis)
 
 
 def cannula_advice(
@@ -272,6 +278,7 @@ def cannula_advice(
             None,
             distal_flow_pct,
             floor.value,
+            "check its connection and flow at every check",
         )
     if access_vessel not in LEG_VESSELS:
         return CannulaAdvice(
@@ -285,6 +292,7 @@ def cannula_advice(
             None,
             distal_flow_pct,
             floor.value,
+            f"device in the {access_vessel}: check the hand's perfusion",
         )
     flow_low = distal_flow_pct is not None and distal_flow_pct < floor.value
     sar_high = sar is not None and sar >= sar_limit
@@ -314,6 +322,18 @@ def cannula_advice(
         if r.advise:
             fired.append(r.id)
             basis.append(f"[{r.id}] {r.basis}")
+    flow_short = (
+        "flow not estimated"
+        if distal_flow_pct is None
+        else f"best-case distal flow {distal_flow_pct:.1f} %{flow_note} "
+        f"{'under' if flow_low else 'at or above'} the {floor.value:g} % floor"
+    )
+    sar_short = (
+        "SAR unknown"
+        if sar is None
+        else f"SAR {sar:.3f} {'at or above' if sar_high else 'under'} the {sar_limit:g} limit"
+    )
+    summary = f"{flow_short}; {sar_short}"
     governs = None
     if flow_low and not sar_high and sar is not None:
         governs = f"{sar_text} is under its limit {sar_limit:g}, yet {rules.sar_versus_flow}"
@@ -328,7 +348,15 @@ def cannula_advice(
         if device_kind is None:
             basis.append("device kind not given: the device-kind rules were not applied")
         return CannulaAdvice(
-            True, True, fired[0], tuple(fired), basis, governs, distal_flow_pct, floor.value
+            True,
+            True,
+            fired[0],
+            tuple(fired),
+            basis,
+            governs,
+            distal_flow_pct,
+            floor.value,
+            summary + (f"; {', '.join(fired)}" if len(fired) > 1 else ""),
         )
     decider = next(r for r in matching if not r.advise)
     figures = (
@@ -342,4 +370,6 @@ def cannula_advice(
     basis = [f"[{decider.id}] {decider.basis}", figures]
     if device_kind is None:
         basis.append("device kind not given: the device-kind rules were not applied")
-    return CannulaAdvice(False, True, decider.id, (), basis, None, distal_flow_pct, floor.value)
+    return CannulaAdvice(
+        False, True, decider.id, (), basis, None, distal_flow_pct, floor.value, summary
+    )

@@ -219,7 +219,8 @@ def _limb_figures(patient: Patient, od_mm: float, vessel_mm: float) -> tuple[Lim
 
 def _reason(w: WeightedFactor) -> str:
     counted = "" if w.counted else ", not counted: the larger factor of its group counts"
-    return f"x{w.weight:g} {w.reason} ({w.source}{counted})"
+    floor = f"; tier at least {w.min_tier}" if w.min_tier else ""
+    return f"x{w.weight:g} {w.reason} ({w.source}{counted}){floor}"
 
 
 def assess_patient(patient: Patient, protocol: Protocol, at: datetime) -> RiskAssessment:
@@ -309,15 +310,17 @@ def assess_patient(patient: Patient, protocol: Protocol, at: datetime) -> RiskAs
         and limb.distal_flow_pct_eccentric < advice.floor_pct,
     )
     weighted, total = combine(rules, facts)
-    rules_tier = rules.tier_for(total)
+    floor = rules.min_tier([w.id for w in weighted])
+    rules_tier = rules.tier_for(total, floor)
     tier: Tier = rules_tier
     reasons = [_reason(w) for w in weighted]
     thresholds = ", ".join(
         f"{name} at {t.at_least:g} ({t.source})" for name, t in rules.tiers.items()
     )
+    floor_text = "" if floor is None else f", at least {floor} by the device's rule"
     reasons.append(
-        f"combined relative risk {total:.2f}{mark} -> {rules_tier} (thresholds: {thresholds}; "
-        f"{rules.combination}); not a validated score"
+        f"combined relative risk {total:.2f}{mark} -> {rules_tier}{floor_text} (thresholds: "
+        f"{thresholds}; {rules.combination}); not a validated score"
     )
     if not measured:
         reasons.insert(

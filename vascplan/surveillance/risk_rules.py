@@ -76,6 +76,7 @@ class Factor(_Strict):
     threshold: float | None = None
     weight: float = Field(gt=0, le=100)
     group: str | None = None
+    min_tier: Literal["raised", "high"] | None = None
     reason: str = Field(min_length=3)
     source: str = Field(min_length=3)
 
@@ -124,13 +125,24 @@ class RiskRules(_Strict):
                     raise InputError(src, f"factors.{i}.devices.{j}", f"unknown device {d!r}")
         return self
 
-    def tier_for(self, total: float) -> Tier:
-        """The tier a combined relative risk gives (the thresholds are unit policy)."""
+    def tier_for(self, total: float, floor: str | None = None) -> Tier:
+        """The tier a combined relative risk gives (the thresholds are unit policy), not
+        below ``floor`` (the highest ``min_tier`` of the factors that apply)."""
+        order = ("standard", "raised", "high")
+        tier = "standard"
         if total >= self.tiers["high"].at_least:
-            return "high"
-        if total >= self.tiers["raised"].at_least:
-            return "raised"
-        return "standard"
+            tier = "high"
+        elif total >= self.tiers["raised"].at_least:
+            tier = "raised"
+        if floor is not None and order.index(floor) > order.index(tier):
+            tier = floor
+        return tier  # type: ignore[return-value]
+
+    def min_tier(self, factor_ids: list[str]) -> str | None:
+        """The highest ``min_tier`` among the given factors, or None."""
+        order = ("standard", "raised", "high")
+        floors = [f.min_tier for f in self.factors if f.id in factor_ids and f.min_tier]
+        return max(floors, key=order.index) if floors else None
 
 
 @lru_cache(maxsize=4)
@@ -151,6 +163,7 @@ class WeightedFactor:
     counted: bool
     reason: str
     source: str
+    min_tier: str | None = None
 
     def to_dict(self) -> dict[str, object]:
         return {
@@ -159,6 +172,7 @@ class WeightedFactor:
             "counted": self.counted,
             "reason": self.reason,
             "source": self.source,
+            "min_tier": self.min_tier,
         }
 
 
@@ -193,7 +207,9 @@ def combine(rules: RiskRules, facts: Facts) -> tuple[list[WeightedFactor], float
         if f.group is not None and (f.group not in best or f.weight > best[f.group].weight):
             best[f.group] = f
     out = [
-        WeightedFactor(f.id, f.weight, f.group is None or best[f.group] is f, f.reason, f.source)
+        WeightedFactor(
+            f.id, f.weight, f.group is None or best[f.group] is f, f.reason, f.source, f.min_tier
+        )
         for f in applying
     ]
     total = math.prod(w.weight for w in out if w.counted)
