@@ -14,8 +14,17 @@ from vascplan.sizing.advice import DEVICE_KINDS, cannula_advice, load_advice_rul
 from vascplan.sizing.assess import assess_sheath_flow
 
 LIMIT = {"sar_limit": 1.05, "sar_limit_source": "Hayashida et al. 2011"}
-EXAMPLE = ["sheath-flow", "--vessel-mm", "5.8", "--device-fr", "14", "--label", "inner",
-           "--occupied-cm", "12"]
+EXAMPLE = [
+    "sheath-flow",
+    "--vessel-mm",
+    "5.8",
+    "--device-fr",
+    "14",
+    "--label",
+    "inner",
+    "--occupied-cm",
+    "12",
+]
 
 
 def test_floor_is_klein_popliteal_share():
@@ -44,11 +53,13 @@ def test_device_rules_and_arm_and_in_place():
     # Femoral VA-ECMO: prophylactic cannula (Marbach 2022 OR 0.31; Gouchoe 2024; Jang 2018).
     ecmo = cannula_advice("va-ecmo-arterial", sar=0.7, distal_flow_pct=95.0, **LIMIT)
     assert ecmo.advised and ecmo.rule == "va-ecmo-prophylactic" and "OR 0.31" in ecmo.basis[0]
-    arm = cannula_advice("va-ecmo-arterial", sar=0.7, distal_flow_pct=1.0, access_vessel="AXA",
-                         **LIMIT)
+    arm = cannula_advice(
+        "va-ecmo-arterial", sar=0.7, distal_flow_pct=1.0, access_vessel="AXA", **LIMIT
+    )
     assert not arm.applies and arm.headline == "does not apply"
-    placed = cannula_advice("va-ecmo-arterial", sar=0.7, distal_flow_pct=1.0, dpc_in_place=True,
-                            **LIMIT)
+    placed = cannula_advice(
+        "va-ecmo-arterial", sar=0.7, distal_flow_pct=1.0, dpc_in_place=True, **LIMIT
+    )
     assert placed.headline == "in place"
     # A balloon pump whose leg has almost no flow: advised, with the usual remedy said.
     iabp = cannula_advice("balloon-pump", sar=0.9, distal_flow_pct=5.0, **LIMIT)
@@ -79,8 +90,19 @@ def test_issue_example_advises_in_table_and_json():
 def test_map_option_changes_the_estimate():
     # Perfusion = MAP - venous 10 mmHg: 65 -> 55 mmHg, 90 -> 80 mmHg; less pressure, less flow.
     runner = CliRunner()
-    base = ["sheath-flow", "--vessel-mm", "6.5", "--device-fr", "17", "--label", "outer",
-            "--occupied-cm", "15", "--format", "json"]
+    base = [
+        "sheath-flow",
+        "--vessel-mm",
+        "6.5",
+        "--device-fr",
+        "17",
+        "--label",
+        "outer",
+        "--occupied-cm",
+        "15",
+        "--format",
+        "json",
+    ]
     low = json.loads(runner.invoke(cli, [*base, "--map-mmhg", "65"]).output)
     high = json.loads(runner.invoke(cli, [*base, "--map-mmhg", "90"]).output)
     assert low["perfusion_mmhg"] == 55 and high["perfusion_mmhg"] == 80

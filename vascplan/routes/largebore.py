@@ -57,10 +57,10 @@ def _pad_on_side(view: VesselView, side: str) -> bool:
 def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], devices: Devices,
                 limits: dict[str, float], kind: str) -> dict[str, Any]:
     """One axis of the comparison (see the module notes for the keys)."""
-    from vascplan.sizing._tables import SizingValueError
-    from vascplan.sizing.limb import limb_flow_with_device
     from vascplan.safety import REFERENCE_MARK
+    from vascplan.sizing._tables import SizingValueError
     from vascplan.sizing.advice import cannula_advice
+    from vascplan.sizing.limb import limb_flow_with_device
 
     site = facts.site
     od = devices.sheath_od_mm

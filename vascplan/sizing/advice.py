@@ -96,11 +96,14 @@ class AdviceRules(_Strict):
                         f"unknown device {d!r}{did_you_mean(d, DEVICE_KINDS)}; "
                         f"all or one of {', '.join(DEVICE_KINDS)}",
                     )
-        if not any(r.test == "always" and "all" in r.devices and not r.advise
-                   for r in self.device_rules):
+        if not any(
+            r.test == "always" and "all" in r.devices and not r.advise for r in self.device_rules
+        ):
             raise InputError(
-                src, "device_rules", "needs a last rule 'test: always, devices: [all]' that "
-                "does not advise, so every device has a basis"
+                src,
+                "device_rules",
+                "needs a last rule 'test: always, devices: [all]' that "
+                "does not advise, so every device has a basis",
             )
         return self
 
@@ -273,8 +276,10 @@ def cannula_advice(
             False,
             "in-place",
             (),
-            ["a distal perfusion cannula is already in place: check its connection and flow "
-             "at every check"],
+            [
+                "a distal perfusion cannula is already in place: check its connection and flow "
+                "at every check"
+            ],
             None,
             distal_flow_pct,
             floor.value,
@@ -286,9 +291,11 @@ def cannula_advice(
             False,
             "not-the-leg",
             (),
-            [f"access from the {access_vessel}, not the leg: a distal perfusion cannula of the "
-             "leg does not apply; check the hand's perfusion, and for an axillary cannula a "
-             "side graft sewn to the artery keeps the arm perfused (common practice)"],
+            [
+                f"access from the {access_vessel}, not the leg: a distal perfusion cannula of the "
+                "leg does not apply; check the hand's perfusion, and for an axillary cannula a "
+                "side graft sewn to the artery keeps the arm perfused (common practice)"
+            ],
             None,
             distal_flow_pct,
             floor.value,
@@ -315,7 +322,8 @@ def cannula_advice(
         fired.append("sar-limit")
         basis.append(
             f"[sar-limit] {sar_text} is at or above the limit {sar_limit:g} "
-            f"({sar_limit_source}): the device is as wide as the limit allows for this lumen"
+            f"({sar_limit_source}): the device is at least as wide as the limit allows for "
+            "this lumen"
         )
     matching = [r for r in rules.device_rules if r.applies(device_kind, pad)]
     for r in matching:
@@ -338,15 +346,14 @@ def cannula_advice(
     if flow_low and not sar_high and sar is not None:
         governs = f"{sar_text} is under its limit {sar_limit:g}, yet {rules.sar_versus_flow}"
     elif sar_high and distal_flow_pct is not None and not flow_low:
-        governs = (
-            f"{flow_text} clears the {floor.value:g} % floor, yet {rules.flow_versus_sar}"
-        )
+        governs = f"{flow_text} clears the {floor.value:g} % floor, yet {rules.flow_versus_sar}"
     if fired:
         not_advising = next((r for r in matching if not r.advise), None)
         if not_advising is not None and not_advising.when_advised and (flow_low or sar_high):
             basis.append(f"[{not_advising.id}] {not_advising.when_advised}")
         if device_kind is None:
             basis.append("device kind not given: the device-kind rules were not applied")
+        basis.append(f"figures: {summary}")
         return CannulaAdvice(
             True,
             True,

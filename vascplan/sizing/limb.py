@@ -111,7 +111,8 @@ def perfusion_pressure(
     else:
         ref = default_map(device_kind)
         map_mmhg, assumed = ref.value, True
-        who = f" for {device_kind}" if device_kind and ref is not table["mean_arterial_mmhg"] else ""
+        general = ref is table["mean_arterial_mmhg"]
+        who = f" for {device_kind}" if device_kind and not general else ""
         map_text = (
             f"mean arterial pressure {map_mmhg:g} mmHg{who} is a reference default, not the "
             f"patient's: {ref.cite()}"
