@@ -129,3 +129,47 @@ def test_never_not_advised_under_the_floor(vessel, fr, label, occupied, kind):
     if a.limb.distal_flow_pct_eccentric < floor or a.sar >= a.sar_threshold.value:
         assert a.advice.advised
         assert "not advised" not in a.advice.text()
+
+
+def test_checklist_prints_the_risk_advice_and_factors():
+    # The checklist header reads the risk result: the same rule, basis and factor weights.
+    from datetime import date
+
+    from tests.surv_factory import PROTOCOL, make_unit, sheath_patient
+    from vascplan.reports.checklist import checklist_sheets
+
+    p = sheath_patient(1, "2026-12-02T08:00", vessel_mm=5.8)
+    p["device"].update({"kind": "microaxial-pump", "size_fr": 14, "label": "inner"})
+    unit = make_unit("Europe/London", [p])
+    sheet = checklist_sheets(unit, "day", date(2026, 12, 2), PROTOCOL)[0]
+    assert "ADVISED [distal-flow-floor]" in sheet.dpc and "Klein" in sheet.dpc
+    assert "not advised" not in sheet.dpc
+    # 14 Fr microaxial 1.25 (unit policy) x distal flow under the floor 7.9 (Alderman 1987).
+    assert sheet.risk_tier == "high"
+    assert sheet.risk_total == pytest.approx(1.25 * 7.9)
+    assert any("distal-flow 7.9" in line for line in sheet.risk_reasons)
+
+
+def test_plan_support_and_case_report_use_the_same_rule():
+    # Every leg axis whose best-case flow is under the floor is advised, in the JSON and in
+    # the case report's wording; none says "not advised" beside it.
+    from pathlib import Path
+
+    from vascplan.reports.case_report import _dpc_text
+
+    case = (
+        Path(__file__).resolve().parents[1] / "examples" / "case-DEMO-12-support-small-iliac.yaml"
+    )
+    res = CliRunner().invoke(cli, ["plan", str(case), "--format", "json"])
+    assert res.exit_code == 0, res.output
+    floor = load_advice_rules().distal_flow_floor.value
+    seen = 0
+    for axis in json.loads(res.stdout)["support"]["axes"]:
+        flow = axis["distal_flow_pct"]
+        if axis["limb"] != "leg" or flow is None or flow["eccentric"] >= floor:
+            continue
+        seen += 1
+        assert axis["dpc"]["advised"] is True
+        assert "distal-flow-floor" in axis["dpc"]["fired"]
+        assert _dpc_text(axis["dpc"]).startswith("ADVISED [")
+    assert seen >= 1

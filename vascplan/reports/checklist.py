@@ -201,7 +201,7 @@ def checklist_sheets(
         if p.dpc is None:
             dpc = "none"
             if advice is not None:
-                dpc += f"; {advice.short()}"
+                dpc += f"; {advice.short()}. Basis: {advice.basis[0]}"
         else:
             dpc = f"{p.dpc.size_fr:g} Fr, in since {_when(p.dpc.inserted.astimezone(unit.unit.tz))}"
             if p.dpc.removed is not None:

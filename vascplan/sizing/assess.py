@@ -274,7 +274,9 @@ def assess_sheath_flow(
     assumptions.append(
         f"SAR threshold {th.value:g}: {th.meaning} ({th.source}; {th.certainty}); derived "
         "from transfemoral valve implantation, weaker with newer smaller devices (Front "
-        "Cardiovasc Med 2021, doi 10.3389/fcvm.2021.738854): a guide, not a limit."
+        "Cardiovasc Med 2021, doi 10.3389/fcvm.2021.738854): a limit for access-site "
+        "complications of sheaths taken out at the end of a procedure, not a measure of what a "
+        "device left in place leaves for the leg (the distal flow estimate answers that)."
     )
     limb = limb_flow_with_device(
         vessel_mm,
