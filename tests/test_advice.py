@@ -173,3 +173,12 @@ def test_plan_support_and_case_report_use_the_same_rule():
         assert "distal-flow-floor" in axis["dpc"]["fired"]
         assert _dpc_text(axis["dpc"]).startswith("ADVISED [")
     assert seen >= 1
+
+
+def test_worst_case_under_the_floor_is_said_beside_not_advised():
+    # Best case 20 % clears the 17.5 % floor (Klein 2003, unit policy); centred 10 % does not.
+    a = cannula_advice(
+        "large-bore-sheath", sar=0.8, distal_flow_pct=20.0, worst_flow_pct=10.0, **LIMIT
+    )
+    assert not a.advised
+    assert any("device centred" in b and "10.0 %" in b for b in a.basis)

@@ -137,7 +137,8 @@ def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], device
         sar_limit=float(limiting["sar_limit"]),
         sar_limit_source=f"the plan's SAR limit for the {limiting['segment']}",
         access_vessel=vessel, pad=_pad_on_side(view, site.side),
-        flow_note=f" {REFERENCE_MARK}" if est is not None and est.defaults_used else "")
+        flow_note=f" {REFERENCE_MARK}" if est is not None and est.defaults_used else "",
+        worst_flow_pct=None if est is None else est.distal_flow_pct_concentric)
     out["dpc"] = advice.to_dict()
     if out["limb"] == "arm" and out["lumen_left_pct"] is not None:
         out["arm_note"] = (

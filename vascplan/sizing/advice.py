@@ -202,6 +202,7 @@ def cannula_advice(
     pad: bool = False,
     dpc_in_place: bool = False,
     flow_note: str = "",
+    worst_flow_pct: float | None = None,
     rules: AdviceRules | None = None,
 ) -> CannulaAdvice:
     """Whether a distal perfusion cannula is advised, from the tool's own figures.
@@ -229,6 +230,9 @@ def cannula_advice(
         A distal perfusion cannula is already in.
     flow_note : str
         Appended to the flow figure (e.g. ``" *"`` when it rests on reference values).
+    worst_flow_pct : float, optional
+        The worst case (device centred) [% of resting flow]; when it falls under the floor
+        but the best case does not, a not-advised basis says so.
     rules : AdviceRules, optional
         The rule file; the bundled one by default.
 
@@ -375,6 +379,12 @@ def cannula_advice(
         "so judge the leg at the bedside"
     )
     basis = [f"[{decider.id}] {decider.basis}", figures]
+    if worst_flow_pct is not None and worst_flow_pct < floor.value:
+        basis.append(
+            f"but with the device centred the estimate is {worst_flow_pct:.1f} %{flow_note}, "
+            f"under the floor: the truth lies between, so watch the leg closely and reconsider "
+            "at the first change (unit policy)"
+        )
     if device_kind is None:
         basis.append("device kind not given: the device-kind rules were not applied")
     return CannulaAdvice(

@@ -298,6 +298,7 @@ def assess_sheath_flow(
         sar_limit_source=th.short_source,
         pad=pad,
         flow_note=f" {REFERENCE_MARK}" if limb.defaults_used else "",
+        worst_flow_pct=limb.distal_flow_pct_concentric,
     )
     assumptions.append(
         "Cannula advice assumes the device lies in an artery of the leg (CFA, EIA or SFA)."

@@ -294,6 +294,7 @@ def assess_patient(patient: Patient, protocol: Protocol, at: datetime) -> RiskAs
         pad=patient.pad,
         dpc_in_place=dpc_in,
         flow_note=f" {REFERENCE_MARK}",
+        worst_flow_pct=limb.distal_flow_pct_concentric,
     )
     facts = Facts(
         dev.kind,
