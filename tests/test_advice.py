@@ -182,3 +182,30 @@ def test_worst_case_under_the_floor_is_said_beside_not_advised():
     )
     assert not a.advised
     assert any("device centred" in b and "10.0 %" in b for b in a.basis)
+
+
+def test_case_map_changes_the_support_flow(tmp_path):
+    # Case-file patient.map_mmhg (issue 11): a higher MAP (90 vs the default by device kind)
+    # raises the perfusion pressure (MAP - 10 mmHg) and so the flow past the device.
+    from pathlib import Path
+
+    src = Path(__file__).resolve().parents[1] / "examples" / "case-DEMO-12-support-small-iliac.yaml"
+    text = src.read_text(encoding="utf-8")
+    assert "\n  sex:" in text
+    with_map = tmp_path / "with-map.yaml"
+    with_map.write_text(text.replace("\n  sex:", "\n  map_mmhg: 120\n  sex:", 1), encoding="utf-8")
+
+    def flows(path):
+        res = CliRunner().invoke(cli, ["plan", str(path), "--format", "json"])
+        assert res.exit_code == 0, res.output
+        axes = json.loads(res.stdout)["support"]["axes"]
+        return [a["distal_flow_pct"]["eccentric"] for a in axes if a["distal_flow_pct"]]
+
+    base, high = flows(src), flows(with_map)
+    assert len(base) == len(high) >= 1
+    assert all(h >= b for h, b in zip(high, base, strict=True))
+    assert any(h > b for h, b in zip(high, base, strict=True))
+    bad = tmp_path / "bad.yaml"
+    bad.write_text(text.replace("\n  sex:", "\n  map_mmhg: 400\n  sex:", 1), encoding="utf-8")
+    res = CliRunner().invoke(cli, ["plan", str(bad)])
+    assert res.exit_code == 2 and "map_mmhg" in res.output
