@@ -413,7 +413,9 @@ def test_planner_support_axes_match_sheath_flow(tmp_path):
         vessel = min(s["mld_mm"] for s in axis["segments"])
         doc = flow_json("--vessel-mm", str(vessel), "--device-fr", "15", "--label", "outer",
                         "--outer-mm", str(axis["device_od_mm"]),
-                        "--occupied-cm", str(axis["occupied_cm"]))
+                        "--occupied-cm", str(axis["occupied_cm"]),
+                        # the same device kind, so the same default MAP (issue 11)
+                        "--device-kind", support["device_kind"])
         assert axis["device_od_mm"] == pytest.approx(15 / 3, abs=0.01)  # 1 Fr = 1/3 mm
         assert axis["lumen_left_pct"] == pytest.approx(doc["lumen_left_pct"], abs=0.1)
         for k in ("concentric", "eccentric"):

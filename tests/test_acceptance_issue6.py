@@ -227,8 +227,8 @@ def test_report_renders_to_an_image(tmp_path: Path) -> None:
 
 
 def _standard_tier(data: dict[str, Any]) -> dict[str, Any]:
-    # A balloon pump is tier "raised" by itself (maintenance every 30 min); the team sets
-    # "standard" so that the maintenance phase is hourly (README: events set the tier).
+    # The team sets "standard" so that the maintenance phase stays hourly whatever the rules
+    # give (a long dwell would raise it; README: events set the tier).
     for p in data["patients"]:
         p["events"] = [{"at": "2026-12-01T10:20", "tier": "standard", "note": "team review"}]
     return data
@@ -238,7 +238,11 @@ def test_checklist_raised_tier_half_hourly_and_every_page_named(tmp_path: Path) 
     # Standard protocol: the raised tier tightens maintenance to every 30 min
     # (vascplan/data/protocols/standard.yaml, tiers.raised): 07:20, 07:50, ... 18:50 = 24 checks,
     # more than one sheet; every page's head names the patient (README).
-    unit = _write(tmp_path / "u.yaml", _unit())
+    # Issue 11: a balloon pump alone is standard; diabetes (relative risk 2.0, Alderman et al.,
+    # J Am Coll Cardiol 1987) raises it (threshold 1.5, data/surveillance/risk_rules.yaml).
+    data = _unit()
+    data["patients"][0]["diabetes"] = True
+    unit = _write(tmp_path / "u.yaml", data)
     out = tmp_path / "c.pdf"
     res = _run("checklist", str(unit), "--shift", "day", "--date", "2026-12-03",
                "--bed", "2", "-o", str(out))

@@ -57,7 +57,8 @@ def test_table_shows_figures_units_threshold_and_caution():
     res = run([*BASE, *DPC])
     assert res.exit_code == 0, res.output
     out = res.output
-    assert "SAR                    0.872  (below the 1.05 threshold: Hayashida et al. 2011)" in out
+    # 17 Fr = 17/3 mm over 6.5 mm = 0.872 (French scale, exact); flow well above the floor.
+    assert "SAR                    0.872  (under the 1.05 limit: Hayashida et al. 2011)" in out
     assert "mm2" in out and "% of the open" in out
     assert "% of the resting flow" in out and "mL/min" in out
     assert "perfusion cannula" in out and "Re " in out

@@ -15,7 +15,7 @@ MMHG = 133.322387415  # Pa
 
 def test_defaults_are_sourced_and_marked():
     d = limb_defaults()
-    for key in ("limb_flow_ml_min", "perfusion_mmhg"):
+    for key in ("limb_flow_ml_min", "mean_arterial_mmhg", "venous_mmhg", "occupied_cm"):
         assert d[key].certainty in ("from memory", "common practice", "seen")
         assert d[key].source
 
@@ -49,7 +49,8 @@ def test_defaults_are_listed_as_assumptions():
     est = limb_flow_with_device(8.0, 6.0, 10.0)
     text = " ".join(est.assumptions)
     assert "Resting limb flow 350 mL/min is a reference default" in text
-    assert "Perfusion pressure 80 mmHg is a reference default" in text
+    # Perfusion = MAP 90 - venous 10 = 80 mmHg (physiology; both reference defaults).
+    assert "Perfusion pressure 80 mmHg = mean arterial pressure 90 mmHg is a reference" in text
     assert "against the wall" in text
 
 

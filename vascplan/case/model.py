@@ -65,6 +65,13 @@ class Patient(_Strict):
     )
     weight_kg: float | None = Field(default=None, gt=0, le=400, description="body weight [kg]")
     anticoagulated: bool | None = Field(default=None, description="on anticoagulation")
+    map_mmhg: float | None = Field(
+        default=None,
+        ge=30,
+        le=150,
+        description="mean arterial pressure [mmHg] (plausibility bound 30-150, common practice);"
+        " drives the limb flow estimate of a support device, default by device kind",
+    )
 
 
 class VesselMeasure(_Strict):

@@ -149,6 +149,24 @@ EPILOG = (
     help="Perfusion pressure across the leg [mmHg]; default likewise.",
 )
 @click.option(
+    "--map-mmhg",
+    type=_Positive("mmHg", "map_mmhg"),
+    default=None,
+    help="The patient's mean arterial pressure [mmHg]: perfusion = MAP - venous pressure. "
+    "Default by device kind (VA-ECMO 65, others 90; data/sizing/limb_defaults.yaml).",
+)
+@click.option(
+    "--device-kind",
+    type=_OneOf("va-ecmo-arterial", "microaxial-pump", "balloon-pump", "large-bore-sheath"),
+    default=None,
+    help="What the device is: sets the default MAP and the device rules of the cannula advice.",
+)
+@click.option(
+    "--pad/--no-pad",
+    default=False,
+    help="Known peripheral arterial disease on that side (a rule of the cannula advice).",
+)
+@click.option(
     "--viscosity-mpa-s",
     type=_Positive("mPa s", "viscosity_mpa_s"),
     default=None,
@@ -175,6 +193,9 @@ def sheath_flow(
     line_cm: float | None,
     limb_flow_ml_min: float | None,
     perfusion_mmhg: float | None,
+    map_mmhg: float | None,
+    device_kind: str | None,
+    pad: bool,
     viscosity_mpa_s: float | None,
     density_kg_m3: float | None,
     fmt: str,
@@ -183,8 +204,9 @@ def sheath_flow(
 
     Shows the sheath-to-artery ratio beside its published threshold, the lumen left
     round the device, the estimated flow to the leg as a percentage of the resting
-    flow (device centred .. device against the wall) and, given --dpc-fr, --dpc-cm and
-    --driving-mmhg, the distal perfusion cannula's flow. Every assumption is listed.
+    flow (device centred .. device against the wall), whether a distal perfusion cannula
+    is advised (the same rule as plan and risk) and, given --dpc-fr, --dpc-cm and
+    --driving-mmhg, the cannula's flow. Every assumption is listed.
     """
     from vascplan.sizing._tables import SizingValueError
     from vascplan.sizing.assess import assess_sheath_flow
@@ -239,6 +261,9 @@ def sheath_flow(
             density_kg_m3=density_kg_m3,
             line_mm=line_mm,
             line_cm=line_cm,
+            mean_arterial_mmhg=map_mmhg,
+            device_kind=device_kind,
+            pad=pad,
         )
     except SizingValueError as exc:
         raise InputError("--" + exc.field.replace("_", "-"), "", str(exc)) from None
@@ -254,7 +279,16 @@ def render_table(result: Any) -> str:
     """The terminal view of a :class:`~vascplan.sizing.assess.SheathFlowAssessment`."""
     limb = result.limb
     th = result.sar_threshold
-    side = "at or above" if result.sar_at_or_above_threshold else "below"
+    advice = result.advice
+    if result.sar_at_or_above_threshold:
+        sar_note = f"at or above the {th.value:g} limit: {th.short_source}"
+    elif advice.governs:
+        sar_note = (
+            f"under the {th.value:g} limit ({th.short_source}), which does not protect the "
+            "leg here: see the cannula advice"
+        )
+    else:
+        sar_note = f"under the {th.value:g} limit: {th.short_source}"
     od_note = {
         "measured": "measured",
         "label": "from the label",
@@ -267,8 +301,7 @@ def render_table(result: Any) -> str:
         f"artery over {limb.occupied_cm:g} cm",
         "",
         f"  device outer diameter  {result.device_od.mm:.2f} mm ({od_note})",
-        f"  SAR                    {result.sar:.3f}  ({side} the {th.value:g} threshold: "
-        f"{th.short_source})",
+        f"  SAR                    {result.sar:.3f}  ({sar_note})",
         f"  lumen left             {limb.lumen_left_mm2:.2f} mm2 = {limb.lumen_left_pct:.1f} % "
         f"of the open {open_mm2:.2f} mm2",
         f"  distal flow            {limb.distal_flow_pct_concentric:.1f} .. "
@@ -277,6 +310,11 @@ def render_table(result: Any) -> str:
         f"of {limb.baseline_flow_ml_min:.0f} mL/min; device centred .. against the wall)"
         f"{flow_mark}",
     ]
+    lines.append(f"  perfusion pressure     {limb.perfusion_mmhg:g} mmHg{flow_mark}")
+    lines.append(f"  distal perfusion cannula  {advice.headline} [{advice.rule}]")
+    lines += [f"    basis: {b}" for b in advice.basis]
+    if advice.governs:
+        lines.append(f"    which governs: {advice.governs}")
     if result.dpc is not None:
         d = result.dpc
         lines.append(
@@ -296,7 +334,7 @@ def render_table(result: Any) -> str:
             )
     else:
         lines.append(
-            "  perfusion cannula      not described (give --dpc-fr, --dpc-cm, --driving-mmhg)"
+            "  perfusion cannula flow not described (give --dpc-fr, --dpc-cm, --driving-mmhg)"
         )
     lines += ["", "Assumptions:"]
     lines += [f"  - {a}" for a in result.assumptions]

@@ -603,14 +603,22 @@ def support_tables(support: Mapping[str, Any], width: float, od_assumed: bool = 
 
 
 def _dpc_text(dpc: Mapping[str, Any] | None) -> str:
-    """``advised: basis`` / ``not advised: basis`` for a distal perfusion cannula."""
+    """The shared cannula rule's answer: headline, deciding rule, basis, which governs."""
     if not dpc:
         return "-"
     basis = dpc.get("basis")
     if isinstance(basis, list | tuple):
         basis = "; ".join(str(b) for b in basis)
-    head = "advised" if dpc.get("advised") else "not advised"
-    return f"{head}: {basis}" if basis else head
+    if dpc.get("applies") is False and dpc.get("rule") != "in-place":
+        head = "does not apply"
+    else:
+        head = "ADVISED" if dpc.get("advised") else "not advised"
+    if dpc.get("rule"):
+        head += f" [{dpc['rule']}]"
+    text = f"{head}: {basis}" if basis else head
+    if dpc.get("governs"):
+        text += f". Which governs: {dpc['governs']}"
+    return text
 
 
 def _segment_sar(s: Mapping[str, Any]) -> str:

@@ -79,6 +79,7 @@ class ChecklistSheet:
     dpc: str
     risk_tier: str
     risk_reasons: tuple[str, ...]
+    risk_total: float
     baseline: tuple[tuple[str, str], ...]
     items: tuple[tuple[str, str], ...]  # (id, wording), in protocol order
     rows: tuple[CheckRow, ...]
@@ -107,6 +108,21 @@ def device_text(device: Any) -> str:
         f"{device.size_fr:g} Fr ({device.label} size{od}) {kind}, "
         f"{SIDE_NAMES.get(device.side, device.side)} {device.vessel}"
     )
+
+
+def _risk_lines(risk: Any) -> tuple[str, ...]:
+    """The factors with their weights (ids, short), and any clinician's tier event."""
+    weighted = getattr(risk, "weighted", None)
+    if not weighted:
+        return tuple(str(r) for r in getattr(risk, "reasons", ()))
+    factors = " x ".join(
+        f"{w.id} {w.weight:g}" + ("" if w.counted else " (not counted)") for w in weighted
+    )
+    out = [f"factors {factors}"]
+    if not getattr(risk, "vessel_measured", True):
+        out.insert(0, "access vessel not measured: figures use a reference diameter *")
+    out += [str(r) for r in getattr(risk, "reasons", ()) if str(r).startswith("tier set to")]
+    return tuple(out)
 
 
 def baseline_rows(baseline: Any) -> tuple[tuple[str, str], ...]:
@@ -182,9 +198,11 @@ def checklist_sheets(
         item_ids = [i for i in wanted if i in used] + sorted(used - set(wanted))
         if not rows:
             item_ids = wanted
+        advice = getattr(risk, "advice", None)
         if p.dpc is None:
-            advised = getattr(risk, "dpc_advised", None)
-            dpc = "none" + ("; the risk assessment advises one" if advised else "")
+            dpc = "none"
+            if advice is not None:
+                dpc += f"; {advice.short()}. Basis: {advice.basis[0]}"
         else:
             dpc = f"{p.dpc.size_fr:g} Fr, in since {_when(p.dpc.inserted.astimezone(unit.unit.tz))}"
             if p.dpc.removed is not None:
@@ -211,7 +229,8 @@ def checklist_sheets(
                 removed=p.device.removed.astimezone(unit.unit.tz) if p.device.removed else None,
                 dpc=dpc,
                 risk_tier=str(risk.tier),
-                risk_reasons=tuple(str(r) for r in getattr(risk, "reasons", ())),
+                risk_reasons=_risk_lines(risk),
+                risk_total=float(getattr(risk, "total", 1.0)),
                 baseline=baseline_rows(p.baseline),
                 items=tuple((i, protocol.item_text(i)) for i in item_ids),
                 rows=rows,
@@ -312,8 +331,10 @@ def _header_table(sheet: ChecklistSheet, width: float) -> Table:
             para("Risk tier", label),
             Paragraph(  # each piece escaped on its own: user text never meets .format
                 rich(
-                    "<font size=10><b>{tier}</b></font>  {reasons}. ",
+                    "<font size=10><b>{tier}</b></font> (combined relative risk {total}, "
+                    "not a validated score)  {reasons}. ",
                     tier=sheet.risk_tier.upper(),
+                    total=f"{sheet.risk_total:.2f}",
                     reasons="; ".join(sheet.risk_reasons) or "no risk factor recorded",
                 )
                 + _changes_markup(sheet)

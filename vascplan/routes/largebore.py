@@ -4,7 +4,8 @@ For a sheath or cannula left in place (``procedure.purpose: support``) the quest
 not only whether it gets there, but what it leaves for the limb below. For each of the
 four axes this reports the SAR on every segment the device occupies, the limiting
 segment, the lumen left and the distal-flow estimate (``vascplan.sizing.limb``), and
-whether a distal perfusion cannula would be advised (``vascplan.surveillance.risk``).
+whether a distal perfusion cannula would be advised (the one shared rule,
+``vascplan.sizing.advice``).
 """
 
 from __future__ import annotations
@@ -67,9 +68,10 @@ def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], device
     unrounded, ``sar_limit_source`` names the limit's source. ``settings`` is the limits
     table after overrides (sources); without it the bundled one with ``limits`` applied.
     """
+    from vascplan.safety import REFERENCE_MARK
     from vascplan.sizing._tables import SizingValueError
+    from vascplan.sizing.advice import cannula_advice
     from vascplan.sizing.limb import limb_flow_with_device
-    from vascplan.surveillance.risk import dpc_advice
 
     site = facts.site
     od = devices.sheath_od_mm
@@ -119,9 +121,11 @@ def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], device
         return out
     vessel_mm = float(limiting["mld_mm"])  # the binding segment's MLD (limits by site)
     limiting_sar = None if limiting["sar"] is None else float(limiting["sar"])
+    est = None
     if occupied_cm > EPS_CM and vessel_mm > 0:
         try:
-            est = limb_flow_with_device(vessel_mm, od, occupied_cm)
+            est = limb_flow_with_device(vessel_mm, od, occupied_cm, device_kind=kind,
+                                        mean_arterial_mmhg=view.case.patient.map_mmhg)
         except SizingValueError as exc:
             # Outside the flow model's range (e.g. a long stretch too narrow to carry the
             # resting flow at all): no estimate, and the reason is shown.
@@ -139,9 +143,15 @@ def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], device
                 "percentages show the narrowing only (common practice)")
     access = site.segment.split("-", 1)[-1]
     vessel = access if access in FEMORAL_ACCESS else "AXA"
-    advised, basis = dpc_advice(kind, limiting_sar, _pad_on_side(view, site.side),
-                                view.case.patient.sex, vessel_mm, False, access_vessel=vessel)
-    out["dpc"] = {"advised": advised, "basis": basis}
+    advice = cannula_advice(
+        kind, sar=od / vessel_mm if vessel_mm > 0 else None,
+        distal_flow_pct=None if est is None else est.distal_flow_pct_eccentric,
+        sar_limit=float(limiting["sar_limit"]),
+        sar_limit_source=f"the plan's SAR limit for the {limiting['segment']}",
+        access_vessel=vessel, pad=_pad_on_side(view, site.side),
+        flow_note=f" {REFERENCE_MARK}" if est is not None and est.defaults_used else "",
+        worst_flow_pct=None if est is None else est.distal_flow_pct_concentric)
+    out["dpc"] = advice.to_dict()
     if out["limb"] == "arm" and out["lumen_left_pct"] is not None:
         out["arm_note"] = (
             f"no leg cannula helps the arm: with {out['lumen_left_pct']:.0f}% of the "

@@ -184,9 +184,13 @@ def render_support(support: dict[str, Any]) -> list[str]:
                          f"flow {flow['concentric']:.0f}-{flow['eccentric']:.0f}% of baseline "
                          "(estimate)")
         if axis["dpc"] is not None:
-            advised = "advised" if axis["dpc"]["advised"] else "not advised"
-            basis = "; ".join(axis["dpc"]["basis"])
-            lines.append(f"      distal perfusion cannula {advised}: {basis}")
+            dpc = axis["dpc"]
+            advised = ("does not apply" if dpc.get("applies") is False
+                       else "ADVISED" if dpc["advised"] else "not advised")
+            basis = "; ".join(dpc["basis"])
+            lines.append(f"      distal perfusion cannula {advised} [{dpc.get('rule')}]: {basis}")
+            if dpc.get("governs"):
+                lines.append(f"      which governs: {dpc['governs']}")
         if axis.get("arm_note"):
             lines.append(f"      arm: {axis['arm_note']}")
         if axis.get("lumen_note"):

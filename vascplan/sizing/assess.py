@@ -9,8 +9,9 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Any, Literal, cast
 
-from vascplan.safety import CAUTION
+from vascplan.safety import CAUTION, REFERENCE_MARK
 from vascplan.sizing._tables import SizingValueError, check_range, threshold
+from vascplan.sizing.advice import CannulaAdvice, cannula_advice
 from vascplan.sizing.cannula import CannulaFlow, cannula_flow
 from vascplan.sizing.french import OuterDiameter, device_outer_mm, sar
 from vascplan.sizing.limb import LimbFlowEstimate, limb_flow_with_device
@@ -50,6 +51,8 @@ class SheathFlowAssessment:
         Lumen left and distal flow range.
     dpc : CannulaFlow or None
         The distal perfusion cannula's flow, when one was described.
+    advice : CannulaAdvice
+        Whether a distal perfusion cannula is advised: the rule every output shares.
     assumptions : list of str
         Every assumption, in order.
     """
@@ -62,6 +65,7 @@ class SheathFlowAssessment:
     sar_threshold: Threshold
     limb: LimbFlowEstimate
     dpc: CannulaFlow | None
+    advice: CannulaAdvice
     assumptions: list[str] = field(default_factory=list)
 
     @property
@@ -119,6 +123,8 @@ class SheathFlowAssessment:
                 },
                 "above_typical": self.dpc.above_typical,
             },
+            "perfusion_mmhg": r(limb.perfusion_mmhg, 1),
+            "cannula_advice": self.advice.to_dict(),
             "reference_defaults_used": list(limb.defaults_used),
             "assumptions": list(self.assumptions),
             "caution": CAUTION,
@@ -150,6 +156,9 @@ def assess_sheath_flow(
     density_kg_m3: float | None = None,
     line_mm: float | None = None,
     line_cm: float | None = None,
+    mean_arterial_mmhg: float | None = None,
+    device_kind: str | None = None,
+    pad: bool = False,
 ) -> SheathFlowAssessment:
     """Assess a device in an artery, and the distal perfusion cannula if given.
 
@@ -174,6 +183,14 @@ def assess_sheath_flow(
         Overrides of the limb and blood defaults [mL/min, mmHg, Pa s, kg/m3].
     line_mm, line_cm : float, optional
         Connecting line in series with the cannula: inner diameter [mm], length [cm].
+    mean_arterial_mmhg : float, optional
+        The patient's mean arterial pressure [mmHg] (perfusion = MAP - venous), used
+        unless ``perfusion_mmhg`` is given; default by ``device_kind``.
+    device_kind : str, optional
+        ``va-ecmo-arterial``, ``microaxial-pump``, ``balloon-pump`` or
+        ``large-bore-sheath``: the default MAP and the device rules of the cannula advice.
+    pad : bool
+        Known peripheral arterial disease (a device rule of the advice).
 
     Returns
     -------
@@ -206,6 +223,7 @@ def assess_sheath_flow(
         "line_cm": line_cm,
         "limb_flow_ml_min": limb_flow_ml_min,
         "perfusion_mmhg": perfusion_mmhg,
+        "map_mmhg": mean_arterial_mmhg,
         "viscosity_mpa_s": None if viscosity_pa_s is None else viscosity_pa_s * 1000.0,
         "density_kg_m3": density_kg_m3,
     }
@@ -256,7 +274,9 @@ def assess_sheath_flow(
     assumptions.append(
         f"SAR threshold {th.value:g}: {th.meaning} ({th.source}; {th.certainty}); derived "
         "from transfemoral valve implantation, weaker with newer smaller devices (Front "
-        "Cardiovasc Med 2021, doi 10.3389/fcvm.2021.738854): a guide, not a limit."
+        "Cardiovasc Med 2021, doi 10.3389/fcvm.2021.738854): a limit for access-site "
+        "complications of sheaths taken out at the end of a procedure, not a measure of what a "
+        "device left in place leaves for the leg (the distal flow estimate answers that)."
     )
     limb = limb_flow_with_device(
         vessel_mm,
@@ -266,8 +286,23 @@ def assess_sheath_flow(
         perfusion_mmhg=perfusion_mmhg,
         viscosity_pa_s=viscosity_pa_s,
         density_kg_m3=density_kg_m3,
+        mean_arterial_mmhg=mean_arterial_mmhg,
+        device_kind=device_kind,
     )
     assumptions.extend(limb.assumptions)
+    advice = cannula_advice(
+        device_kind,
+        sar=ratio,
+        distal_flow_pct=limb.distal_flow_pct_eccentric,
+        sar_limit=th.value,
+        sar_limit_source=th.short_source,
+        pad=pad,
+        flow_note=f" {REFERENCE_MARK}" if limb.defaults_used else "",
+        worst_flow_pct=limb.distal_flow_pct_concentric,
+    )
+    assumptions.append(
+        "Cannula advice assumes the device lies in an artery of the leg (CFA, EIA or SFA)."
+    )
     dpc = None
     if len(given) == 3:
         dpc = cannula_flow(
@@ -290,5 +325,6 @@ def assess_sheath_flow(
         sar_threshold=th,
         limb=limb,
         dpc=dpc,
+        advice=advice,
         assumptions=assumptions,
     )

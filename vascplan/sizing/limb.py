@@ -8,6 +8,10 @@ device in place it is an annulus. So with the device the resistance is
 ``100 * R_total / (R_total - R_open + R_annulus)`` percent of baseline. The concentric
 annulus gives the lowest flow, the device lying against the wall the highest; the
 truth for a straight device lies between.
+
+The perfusion pressure is the mean arterial pressure (MAP) minus the venous pressure:
+the patient's MAP when given, otherwise a default by device kind (a patient in shock on
+VA-ECMO is not at a resting 90 mmHg), both from ``data/sizing/limb_defaults.yaml``.
 """
 
 from __future__ import annotations
@@ -22,8 +26,109 @@ LIMB_DEFAULTS = "limb_defaults.yaml"
 
 
 def limb_defaults() -> dict[str, ReferenceValue]:
-    """Resting limb flow and perfusion pressure defaults (``data/sizing/limb_defaults.yaml``)."""
+    """Resting limb flow, pressures and occupied length (``data/sizing/limb_defaults.yaml``)."""
     return read_values(LIMB_DEFAULTS)
+
+
+@dataclass(frozen=True)
+class PerfusionPressure:
+    """The pressure across the limb's bed, and where each part of it comes from.
+
+    Attributes
+    ----------
+    perfusion_mmhg : float
+        Mean arterial minus venous pressure [mmHg].
+    mean_arterial_mmhg, venous_mmhg : float
+        The two pressures used [mmHg].
+    map_assumed : bool
+        True when the MAP is a reference default, not the patient's (flag it ``*``).
+    basis : str
+        One sentence naming the figures and their sources.
+    """
+
+    perfusion_mmhg: float
+    mean_arterial_mmhg: float
+    venous_mmhg: float
+    map_assumed: bool
+    basis: str
+
+
+def default_map(device_kind: str | None = None) -> ReferenceValue:
+    """The default mean arterial pressure for a device kind, else the general one.
+
+    Examples
+    --------
+    >>> default_map("va-ecmo-arterial").value, default_map("balloon-pump").value
+    (65.0, 90.0)
+    """
+    table = limb_defaults()
+    if device_kind is not None:
+        key = "mean_arterial_mmhg_" + device_kind.replace("-", "_")
+        if key in table:
+            return table[key]
+    return table["mean_arterial_mmhg"]
+
+
+def perfusion_pressure(
+    mean_arterial_mmhg: float | None = None, device_kind: str | None = None
+) -> PerfusionPressure:
+    """Perfusion pressure across the limb: the MAP minus the venous pressure.
+
+    Parameters
+    ----------
+    mean_arterial_mmhg : float, optional
+        The patient's mean arterial pressure [mmHg]; default by ``device_kind``.
+    device_kind : str, optional
+        ``va-ecmo-arterial``, ``microaxial-pump``, ``balloon-pump`` or
+        ``large-bore-sheath``: chooses the default MAP when none is given.
+
+    Returns
+    -------
+    PerfusionPressure
+
+    Raises
+    ------
+    ValueError
+        A MAP not above the venous pressure.
+
+    Notes
+    -----
+    Perfusion pressure = MAP - venous pressure (the pressure drop across a vascular bed;
+    common practice). Defaults and their sources: ``data/sizing/limb_defaults.yaml``.
+
+    Examples
+    --------
+    >>> perfusion_pressure(device_kind="va-ecmo-arterial").perfusion_mmhg
+    55.0
+    >>> perfusion_pressure(75).perfusion_mmhg
+    65.0
+    """
+    table = limb_defaults()
+    venous = table["venous_mmhg"]
+    if mean_arterial_mmhg is not None:
+        map_mmhg, assumed = positive("mean_arterial_mmhg", mean_arterial_mmhg), False
+        map_text = f"the patient's mean arterial pressure {map_mmhg:g} mmHg"
+    else:
+        ref = default_map(device_kind)
+        map_mmhg, assumed = ref.value, True
+        general = ref is table["mean_arterial_mmhg"]
+        who = f" for {device_kind}" if device_kind and not general else ""
+        map_text = (
+            f"mean arterial pressure {map_mmhg:g} mmHg{who} is a reference default, not the "
+            f"patient's: {ref.cite()}"
+        )
+    if map_mmhg <= venous.value:
+        raise SizingValueError(
+            "mean_arterial_mmhg",
+            f"mean arterial pressure {map_mmhg:g} mmHg is not above the venous pressure "
+            f"{venous.value:g} mmHg: no pressure would drive the limb's flow",
+        )
+    perfusion = map_mmhg - venous.value
+    basis = (
+        f"Perfusion pressure {perfusion:g} mmHg = {map_text}, minus venous pressure "
+        f"{venous.value:g} mmHg ({venous.cite()})."
+    )
+    return PerfusionPressure(perfusion, map_mmhg, venous.value, assumed, basis)
 
 
 @dataclass(frozen=True)
@@ -83,6 +188,8 @@ def limb_flow_with_device(
     perfusion_mmhg: float | None = None,
     viscosity_pa_s: float | None = None,
     density_kg_m3: float | None = None,
+    mean_arterial_mmhg: float | None = None,
+    device_kind: str | None = None,
 ) -> LimbFlowEstimate:
     """Estimate the flow reaching the leg past a device in its artery.
 
@@ -97,11 +204,17 @@ def limb_flow_with_device(
     limb_flow_ml_min : float, optional
         Resting limb flow at baseline [mL/min]; default from ``limb_defaults.yaml``.
     perfusion_mmhg : float, optional
-        Arterial minus venous pressure across the leg [mmHg]; default likewise.
+        Arterial minus venous pressure across the leg [mmHg]; when not given, the
+        ``mean_arterial_mmhg`` minus the venous default (:func:`perfusion_pressure`).
     viscosity_pa_s : float, optional
         Blood viscosity [Pa s]; default from ``blood.yaml``.
     density_kg_m3 : float, optional
         Blood density [kg/m3], for the Reynolds check only; default from ``blood.yaml``.
+    mean_arterial_mmhg : float, optional
+        The patient's mean arterial pressure [mmHg], when ``perfusion_mmhg`` is not given;
+        default by ``device_kind``.
+    device_kind : str, optional
+        Chooses the default mean arterial pressure (``va-ecmo-arterial``: shock).
 
     Returns
     -------
@@ -159,7 +272,13 @@ def limb_flow_with_device(
         return ref.value
 
     q_base_ml_min = pick(limb_flow_ml_min, "limb_flow_ml_min", defaults, "Resting limb flow")
-    p_mmhg = pick(perfusion_mmhg, "perfusion_mmhg", defaults, "Perfusion pressure")
+    if perfusion_mmhg is not None:
+        p_mmhg = positive("perfusion_mmhg", perfusion_mmhg)
+    else:
+        pressure = perfusion_pressure(mean_arterial_mmhg, device_kind)
+        p_mmhg = pressure.perfusion_mmhg
+        assumptions.append(pressure.basis)
+        defaults_used.append("perfusion_mmhg" if pressure.map_assumed else "venous_mmhg")
     mu = pick(viscosity_pa_s, "viscosity_pa_s", blood, "Blood viscosity")
     rho = pick(density_kg_m3, "density_kg_m3", blood, "Blood density")
 

@@ -14,7 +14,7 @@ from datetime import UTC, datetime, timedelta
 from typing import Any
 from zoneinfo import ZoneInfo
 
-from vascplan.safety import CAUTION
+from vascplan.safety import CAUTION, REFERENCE_MARK
 from vascplan.surveillance.protocol import Protocol
 from vascplan.surveillance.risk import RiskAssessment, load_rules
 from vascplan.surveillance.rota import UNASSIGNED, Rota, RotaCheck
@@ -35,6 +35,28 @@ def iso(value: datetime) -> str:
 # -- risk -------------------------------------------------------------------------------
 
 
+def _limb_dict(a: RiskAssessment) -> dict[str, Any] | None:
+    limb = a.limb
+    if limb is None:
+        return None
+
+    def r(x: float | None, nd: int = 2) -> float | None:
+        return None if x is None else round(x, nd)
+
+    return {
+        "occupied_cm": limb.occupied_cm,
+        "lumen_left_pct": r(limb.lumen_left_pct),
+        "distal_flow_pct": {
+            "concentric": r(limb.distal_flow_pct_concentric),
+            "eccentric": r(limb.distal_flow_pct_eccentric),
+        },
+        "perfusion_mmhg": limb.perfusion_mmhg,
+        "map_mmhg": limb.mean_arterial_mmhg,
+        "map_assumed": limb.map_assumed,
+        "note": limb.note or None,
+    }
+
+
 def risk_to_dict(assessments: list[RiskAssessment], at: datetime, unit_name: str) -> dict[str, Any]:
     """The ``vascplan risk --format json`` document."""
     assumptions: list[str] = []
@@ -48,6 +70,7 @@ def risk_to_dict(assessments: list[RiskAssessment], at: datetime, unit_name: str
                 "ref": a.ref,
                 "bed": a.bed,
                 "tier": a.tier,
+                "rules_tier": a.rules_tier,
                 "sar": a.sar,
                 "device_od_mm": a.device_od_mm,
                 "vessel_mm": a.vessel_mm,
@@ -55,6 +78,12 @@ def risk_to_dict(assessments: list[RiskAssessment], at: datetime, unit_name: str
                 "dwell_h": a.dwell_h,
                 "dpc_in_place": a.dpc_in_place,
                 "dpc_advised": a.dpc_advised,
+                "cannula_advice": None if a.advice is None else a.advice.to_dict(),
+                "limb": _limb_dict(a),
+                "factors": [w.to_dict() for w in a.weighted],
+                "relative_risk_total": round(a.total, 3),
+                "combination": a.combination,
+                "validated_score": False,
                 "reasons": a.reasons,
                 "basis": a.basis,
                 "assumptions": a.assumptions,
@@ -68,21 +97,36 @@ def risk_to_dict(assessments: list[RiskAssessment], at: datetime, unit_name: str
 
 
 def risk_table(assessments: list[RiskAssessment], at: datetime, unit_name: str) -> str:
-    """A readable risk summary; ``*`` marks a SAR built on a reference diameter."""
+    """A readable risk summary; ``*`` marks a figure built on a reference value."""
     lines = [
         f"Limb-ischaemia risk, {unit_name}, at {iso(at)}",
         f"Caution: {CAUTION}",
         load_rules().statement,
         "",
     ]
-    lines.append(f"{'bed':>3}  {'ref':<10} {'tier':<8} {'SAR':>6}  {'DPC':<22}")
+    lines.append(
+        f"{'bed':>3}  {'ref':<10} {'tier':<8} {'RR':>6}  {'SAR':>6}  {'flow %':>7}  {'DPC':<22}"
+    )
     for a in assessments:
-        sar = "-" if a.sar is None else f"{a.sar:.2f}" + ("" if a.vessel_measured else "*")
-        dpc = "in place" if a.dpc_in_place else ("ADVISED" if a.dpc_advised else "not advised")
-        lines.append(f"{a.bed:>3}  {a.ref:<10} {a.tier:<8} {sar:>6}  {dpc:<22}")
+        ref_mark = "" if a.vessel_measured else REFERENCE_MARK
+        sar = "-" if a.sar is None else f"{a.sar:.3f}{ref_mark}"
+        flow = a.limb.distal_flow_pct_eccentric if a.limb is not None else None
+        flow_text = "-" if flow is None else f"{flow:.1f}{REFERENCE_MARK}"
+        dpc = a.advice.headline if a.advice is not None else "-"
+        lines.append(
+            f"{a.bed:>3}  {a.ref:<10} {a.tier:<8} {a.total:>6.2f}  {sar:>6}  {flow_text:>7}  "
+            f"{dpc:<22}"
+        )
+    lines.append(
+        "RR: combined relative risk (product of the factor weights; not a validated score). "
+        f"flow %: best-case distal flow, % of resting flow. {REFERENCE_MARK}: rests on a "
+        "reference value."
+    )
     for a in assessments:
-        lines += ["", f"Bed {a.bed} {a.ref}: {a.tier}"]
+        lines += ["", f"Bed {a.bed} {a.ref}: tier {a.tier} (not a validated score)"]
         lines += [f"  reason: {r}" for r in a.reasons]
+        if a.advice is not None:
+            lines.append(f"  distal perfusion cannula: {a.advice.headline} [{a.advice.rule}]")
         lines += [f"  basis: {b}" for b in a.basis]
         lines += [f"  assumption: {x}" for x in a.assumptions]
     return "\n".join(lines) + "\n"

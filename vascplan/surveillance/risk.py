@@ -1,137 +1,48 @@
 """Limb-ischaemia risk tier and distal perfusion cannula advice, with reasons and sources.
 
 This is NOT a validated score: no validated risk score for limb ischaemia on mechanical
-support exists (REFERENCES.md). The rules live in ``data/surveillance/risk_rules.yaml``,
-each with its source; this module only evaluates them and keeps the reasons visible.
-
-Tests a rule may use (one registry, :data:`TESTS`): ``femoral-access``, ``sar-at-least``,
-``pad``, ``diabetes``, ``female``, ``vessel-below-mm``, ``dwell-at-least-h``, ``any``.
+support exists. The tier multiplies the weights of the factors that apply (relative risks
+from published series, or unit policy) and compares the total with the thresholds of
+``data/surveillance/risk_rules.yaml`` (:mod:`vascplan.surveillance.risk_rules`). The SAR
+and the distal flow come from the sizing package; the cannula advice is the one rule every
+output shares (:func:`vascplan.sizing.advice.cannula_advice`).
 """
 
 from __future__ import annotations
 
-from collections.abc import Callable
 from dataclasses import dataclass, field
 from datetime import UTC, datetime, timedelta
 from functools import lru_cache
-from typing import Literal
 
-from pydantic import BaseModel, ConfigDict, Field, ValidationInfo, model_validator
-
-from vascplan.errors import InputError
-from vascplan.fileio import did_you_mean, load_model
-from vascplan.paths import data_dir
 from vascplan.safety import REFERENCE_MARK
+from vascplan.sizing.advice import CannulaAdvice, cannula_advice, not_applicable
 from vascplan.sizing.french import device_outer_mm
 from vascplan.sizing.french import sar as sheath_artery_ratio
-from vascplan.surveillance.protocol import DEVICE_KINDS, TIERS, Protocol
+from vascplan.surveillance.protocol import TIERS, Protocol
+from vascplan.surveillance.risk_rules import (
+    Facts,
+    RiskRules,
+    Tier,
+    WeightedFactor,
+    combine,
+    load_rules,
+)
 from vascplan.surveillance.unit import Patient
 
-Tier = Literal["standard", "raised", "high"]
+__all__ = [
+    "TIERS",
+    "FEMORAL_VESSELS",
+    "LimbFigures",
+    "RiskAssessment",
+    "RiskRules",
+    "assess_patient",
+    "load_rules",
+    "reference_diameter",
+    "tier_changes",
+]
 
 FEMORAL_VESSELS = ("CFA", "EIA", "SFA")
 """Access vessels of the leg: a device there can starve the leg below it (common practice)."""
-
-
-@dataclass(frozen=True)
-class Facts:
-    """What the rules look at for one patient at one moment."""
-
-    device_kind: str
-    femoral: bool
-    sar: float | None
-    pad: bool
-    diabetes: bool
-    sex: str
-    vessel_mm: float | None
-    dwell_h: float
-    dpc_in_place: bool
-
-
-def _needs(threshold: float | None) -> float:
-    assert threshold is not None  # rules that need one are checked at load time
-    return threshold
-
-
-TESTS: dict[str, tuple[bool, Callable[[Facts, float | None], bool]]] = {
-    # name -> (needs a threshold, predicate)
-    "femoral-access": (False, lambda f, t: f.femoral),
-    "sar-at-least": (True, lambda f, t: f.sar is not None and f.sar >= _needs(t)),
-    "pad": (False, lambda f, t: f.pad),
-    "diabetes": (False, lambda f, t: f.diabetes),
-    "female": (False, lambda f, t: f.sex == "female"),
-    "vessel-below-mm": (True, lambda f, t: f.vessel_mm is not None and f.vessel_mm < _needs(t)),
-    "dwell-at-least-h": (True, lambda f, t: f.dwell_h >= _needs(t)),
-    "any": (False, lambda f, t: True),
-}
-
-
-class _Strict(BaseModel):
-    model_config = ConfigDict(extra="forbid", frozen=True, str_strip_whitespace=True)
-
-
-class _Rule(_Strict):
-    id: str = Field(min_length=1, max_length=60)
-    test: str
-    devices: list[str] = Field(min_length=1)
-    threshold: float | None = None
-
-    def applies(self, facts: Facts) -> bool:
-        if "all" not in self.devices and facts.device_kind not in self.devices:
-            return False
-        return TESTS[self.test][1](facts, self.threshold)
-
-
-class Factor(_Rule):
-    tier: Literal["raised", "high"]
-    reason: str = Field(min_length=3)
-    source: str = Field(min_length=3)
-
-
-class DpcRule(_Rule):
-    advise: bool
-    basis: str = Field(min_length=3)
-
-
-class Combine(_Strict):
-    factors: int = Field(ge=2, le=20)
-    tier: Literal["raised", "high"]
-    source: str = Field(min_length=3)
-
-
-class RiskRules(_Strict):
-    """The validated rule table (``data/surveillance/risk_rules.yaml``)."""
-
-    format: Literal["vascplan-risk-rules/1"]
-    statement: str = Field(min_length=10)
-    factors: list[Factor] = Field(min_length=1)
-    combine: Combine
-    dpc: list[DpcRule] = Field(min_length=1)
-
-    @model_validator(mode="after")
-    def _check(self, info: ValidationInfo) -> RiskRules:
-        src = (info.context or {}).get("source", "<rules>")
-        for group, rules in (("factors", self.factors), ("dpc", self.dpc)):
-            for i, rule in enumerate(rules):
-                if rule.test not in TESTS:
-                    raise InputError(
-                        src,
-                        f"{group}.{i}.test",
-                        f"unknown test {rule.test!r}{did_you_mean(rule.test, TESTS)}; "
-                        f"one of {', '.join(TESTS)}",
-                    )
-                if TESTS[rule.test][0] and rule.threshold is None:
-                    raise InputError(src, f"{group}.{i}.threshold", f"test {rule.test} needs one")
-                for j, d in enumerate(rule.devices):
-                    if d != "all" and d not in DEVICE_KINDS:
-                        raise InputError(src, f"{group}.{i}.devices.{j}", f"unknown device {d!r}")
-        return self
-
-
-@lru_cache(maxsize=4)
-def load_rules(path: str | None = None) -> RiskRules:
-    """The risk rule table (the bundled one unless ``path`` is given)."""
-    return load_model(path or data_dir() / "surveillance" / "risk_rules.yaml", RiskRules)
 
 
 @dataclass(frozen=True)
@@ -208,24 +119,65 @@ def reference_diameter(
 
 
 @dataclass(frozen=True)
+class LimbFigures:
+    """The sizing figures behind the tier and the advice for one patient.
+
+    Attributes
+    ----------
+    occupied_cm : float
+        Length of artery the device occupies [cm] (a reference default, flagged).
+    lumen_left_pct : float or None
+        Lumen left round the device [% of the open lumen].
+    distal_flow_pct_concentric, distal_flow_pct_eccentric : float or None
+        Estimated distal flow, device centred .. against the wall [% of resting flow].
+    perfusion_mmhg, mean_arterial_mmhg : float or None
+        The pressures used [mmHg]; ``map_assumed`` when the MAP is a default.
+    note : str
+        Why the flow was not estimated, when it was not.
+    """
+
+    occupied_cm: float
+    lumen_left_pct: float | None
+    distal_flow_pct_concentric: float | None
+    distal_flow_pct_eccentric: float | None
+    perfusion_mmhg: float | None
+    mean_arterial_mmhg: float | None
+    map_assumed: bool
+    note: str = ""
+
+
+@dataclass(frozen=True)
 class RiskAssessment:
     """One patient's limb-ischaemia risk at one moment (not a validated score).
 
     Attributes
     ----------
     tier : {"standard", "raised", "high"}
+        From the combined relative risk, or a clinician's tier event.
+    rules_tier : {"standard", "raised", "high"}
+        The tier the rules give, before any clinician's event.
     sar : float or None
         Device outer diameter over the access-vessel diameter [-].
     device_od_mm : float
         Device outer diameter [mm].
     dpc_advised : bool
         Whether a distal perfusion cannula is advised (False when one is in place).
+    advice : CannulaAdvice
+        The shared cannula rule's answer (rule, basis, which figure governs).
+    weighted : list of WeightedFactor
+        Every factor that applies, with its weight and source.
+    total : float
+        The combined relative risk: product of the weights that count [-].
+    limb : LimbFigures
+        Lumen left, distal flow and the pressures used.
     reasons : list of str
-        Each factor that set the tier, with its source.
+        Each factor with its weight and source, the total, and any clinician's event.
     basis : list of str
         The basis of the cannula advice and of the tier's effect on the schedule.
     assumptions : list of str
         Every reference value used instead of a measurement.
+    factors : list of str
+        Ids of the factors that apply.
     """
 
     ref: str
@@ -242,77 +194,59 @@ class RiskAssessment:
     basis: list[str] = field(default_factory=list)
     assumptions: list[str] = field(default_factory=list)
     factors: list[str] = field(default_factory=list)
+    weighted: list[WeightedFactor] = field(default_factory=list)
+    total: float = 1.0
+    rules_tier: Tier = "standard"
+    advice: CannulaAdvice | None = None
+    limb: LimbFigures | None = None
+    combination: str = ""
 
 
-def _tier_max(a: str, b: str) -> Tier:
-    return TIERS[max(TIERS.index(a), TIERS.index(b))]  # type: ignore[return-value]
+def _limb_figures(patient: Patient, od_mm: float, vessel_mm: float) -> tuple[LimbFigures, str]:
+    """Distal flow past the device at the patient's (or the default) perfusion pressure,
+    and the assumption line for the reference values it rests on."""
+    from vascplan.sizing._tables import SizingValueError
+    from vascplan.sizing.limb import limb_defaults, limb_flow_with_device, perfusion_pressure
+
+    defaults = limb_defaults()
+    occ = defaults["occupied_cm"]
+    kind = patient.device.kind
+    pressure = perfusion_pressure(patient.map_mmhg, kind)
+    flow_ref = defaults["limb_flow_ml_min"]
+    note = (
+        f"{patient.ref}: distal flow estimated over an occupied length of {occ.value:g} cm "
+        f"{REFERENCE_MARK} ({occ.cite()}) from a resting limb flow of {flow_ref.value:g} mL/min "
+        f"{REFERENCE_MARK} ({flow_ref.cite()}); {pressure.basis}"
+        + (f" {REFERENCE_MARK}" if pressure.map_assumed else "")
+    )
+    try:
+        est = limb_flow_with_device(
+            vessel_mm, od_mm, occ.value, mean_arterial_mmhg=patient.map_mmhg, device_kind=kind
+        )
+    except SizingValueError as exc:
+        return LimbFigures(
+            occ.value, None, None, None, pressure.perfusion_mmhg, pressure.mean_arterial_mmhg,
+            pressure.map_assumed, f"distal flow not estimated: {exc}",
+        ), note
+    return LimbFigures(
+        occ.value,
+        est.lumen_left_pct,
+        est.distal_flow_pct_concentric,
+        est.distal_flow_pct_eccentric,
+        pressure.perfusion_mmhg,
+        pressure.mean_arterial_mmhg,
+        pressure.map_assumed,
+    ), note
 
 
-def dpc_advice(
-    device_kind: str,
-    sar: float | None,
-    pad: bool,
-    sex: str,
-    vessel_mm: float | None,
-    dpc_in_place: bool,
-    *,
-    access_vessel: str = "CFA",
-    rules: RiskRules | None = None,
-) -> tuple[bool, list[str]]:
-    """Whether a distal perfusion cannula is advised, with its basis.
-
-    Parameters
-    ----------
-    device_kind : str
-        One of ``va-ecmo-arterial``, ``microaxial-pump``, ``balloon-pump``,
-        ``large-bore-sheath``.
-    sar : float or None
-        Device outer diameter over the access-vessel diameter [-]; None when unknown.
-    pad : bool
-        Known peripheral arterial disease.
-    sex : str
-        ``female``, ``male`` or ``unspecified``.
-    vessel_mm : float or None
-        Access-vessel diameter [mm].
-    dpc_in_place : bool
-        A distal perfusion cannula is already in.
-    access_vessel : str
-        The vessel the device sits in; only femoral access (CFA, EIA, SFA) is considered.
-
-    Returns
-    -------
-    (bool, list of str)
-        The advice and its basis (the rule that decided, with its sources).
-
-    Examples
-    --------
-    >>> dpc_advice("va-ecmo-arterial", 0.8, False, "male", 9.0, False)[0]
-    True
-    >>> dpc_advice("va-ecmo-arterial", 0.8, False, "male", 9.0, True)[0]
-    False
-    """
-    if device_kind not in DEVICE_KINDS:
-        raise ValueError(f"unknown device kind {device_kind!r}; one of {', '.join(DEVICE_KINDS)}")
-    rules = rules or load_rules()
-    if dpc_in_place:
-        return False, [
-            "a distal perfusion cannula is already in place: check its connection "
-            "and flow at every check"
-        ]
-    if access_vessel not in FEMORAL_VESSELS:
-        return False, [
-            f"access from the {access_vessel}, not the leg: a distal perfusion "
-            "cannula of the leg does not apply (common practice)"
-        ]
-    facts = Facts(device_kind, True, sar, pad, False, sex, vessel_mm, 0.0, False)
-    for rule in rules.dpc:
-        if rule.applies(facts):
-            return rule.advise, [f"[{rule.id}] {rule.basis}"]
-    return False, ["no rule matched (the rule table has no catch-all)"]
+def _reason(w: WeightedFactor) -> str:
+    counted = "" if w.counted else ", not counted: the larger factor of its group counts"
+    floor = f"; tier at least {w.min_tier}" if w.min_tier else ""
+    return f"x{w.weight:g} {w.reason} ({w.source}{counted}){floor}"
 
 
 def assess_patient(patient: Patient, protocol: Protocol, at: datetime) -> RiskAssessment:
-    """Risk tier, SAR and cannula advice for one patient at moment ``at``.
+    """Risk tier, SAR, distal flow and cannula advice for one patient at moment ``at``.
 
     Parameters
     ----------
@@ -329,10 +263,20 @@ def assess_patient(patient: Patient, protocol: Protocol, at: datetime) -> RiskAs
 
     Notes
     -----
-    Not a validated score. The tier is the highest tier any factor gives; ``combine``
-    raised factors together give the combined tier (unit policy). A clinician's tier
-    event (``events`` in the unit file) at or before ``at`` replaces the rules' tier.
+    Not a validated score. The combined relative risk is the product of the weights of
+    the factors that apply (:func:`vascplan.surveillance.risk_rules.combine`); the tier is
+    the highest whose threshold it reaches. Without a measured ``vessel_mm`` the SAR, the
+    flow, the advice and the tier use the sex's reference diameter, flagged ``*``, and
+    the reasons say the access vessel was not measured. A clinician's tier event at or
+    before ``at`` replaces the rules' tier.
+
+    References
+    ----------
+    Alderman JD et al. J Am Coll Cardiol 1987;9(3):524. Cheng R et al. Ann Thorac Surg
+    2014. Marbach JA et al. Int J Cardiol 2022. Klein WM et al. J Vasc Surg 2003.
     """
+    from vascplan.sizing.assess import sar_threshold
+
     rules = load_rules()
     dev = patient.device
     assumptions: list[str] = []
@@ -345,13 +289,35 @@ def assess_patient(patient: Patient, protocol: Protocol, at: datetime) -> RiskAs
         ref, note = reference_diameter(dev.vessel, patient.sex)
         vessel_mm, measured = ref.diameter_mm, False
         assumptions.append(f"{patient.ref}: {note}")
-    ratio = round(sheath_artery_ratio(od.mm, vessel_mm), 3)
+    ratio = sheath_artery_ratio(od.mm, vessel_mm)
     # Real elapsed time: compare and subtract in UTC (same-zone datetimes use wall time).
     at_utc, inserted = at.astimezone(UTC), dev.inserted.astimezone(UTC)
     removed = None if dev.removed is None else dev.removed.astimezone(UTC)
     end = removed if removed is not None and removed < at_utc else at_utc
     dwell_h = max(0.0, (end - inserted).total_seconds() / 3600.0)
     dpc_in = patient.dpc_in_at(at_utc)
+    # After removal the tier keeps the cannula the device had (it came out with the device).
+    dpc_for_tier = dpc_in or (
+        removed is not None
+        and removed <= at_utc
+        and patient.dpc_in_at(removed - timedelta(seconds=1))
+    )
+    limb, flow_note = _limb_figures(patient, od.mm, vessel_mm)
+    assumptions.append(flow_note)
+    mark = "" if measured else f" {REFERENCE_MARK}"
+    th = sar_threshold()
+    advice = cannula_advice(
+        dev.kind,
+        sar=ratio,
+        distal_flow_pct=limb.distal_flow_pct_eccentric,
+        sar_limit=th.value,
+        sar_limit_source=th.short_source,
+        access_vessel=dev.vessel,
+        pad=patient.pad,
+        dpc_in_place=dpc_in,
+        flow_note=f" {REFERENCE_MARK}",
+        worst_flow_pct=limb.distal_flow_pct_concentric,
+    )
     facts = Facts(
         dev.kind,
         dev.vessel in FEMORAL_VESSELS,
@@ -361,24 +327,33 @@ def assess_patient(patient: Patient, protocol: Protocol, at: datetime) -> RiskAs
         patient.sex,
         vessel_mm,
         dwell_h,
-        dpc_in,
+        dpc_for_tier,
+        sar_at_limit=ratio >= th.value,
+        distal_flow_low=limb.distal_flow_pct_eccentric is not None
+        and limb.distal_flow_pct_eccentric < advice.floor_pct,
     )
-    tier: Tier = "standard"
-    reasons: list[str] = []
-    ids: list[str] = []
-    for factor in rules.factors:
-        if factor.applies(facts):
-            tier = _tier_max(tier, factor.tier)
-            reasons.append(f"{factor.reason} ({factor.source})")
-            ids.append(factor.id)
-    if len(ids) >= rules.combine.factors:
-        tier = _tier_max(tier, rules.combine.tier)
-        reasons.append(
-            f"{len(ids)} factors together (at least {rules.combine.factors} give "
-            f"{rules.combine.tier}; {rules.combine.source})"
-        )
+    weighted, total = combine(rules, facts)
+    floor = rules.min_tier([w.id for w in weighted])
+    rules_tier = rules.tier_for(total, floor)
+    tier: Tier = rules_tier
+    reasons = [_reason(w) for w in weighted]
+    thresholds = ", ".join(
+        f"{name} at {t.at_least:g} ({t.source})" for name, t in rules.tiers.items()
+    )
+    floor_text = "" if floor is None else f", at least {floor} by the device's rule"
+    reasons.append(
+        f"combined relative risk {total:.2f}{mark} -> {rules_tier}{floor_text} (thresholds: "
+        f"{thresholds}; {rules.combination}); not a validated score"
+    )
     if not measured:
-        reasons.append(f"SAR {ratio:.2f} uses a reference vessel diameter {REFERENCE_MARK}")
+        reasons.insert(
+            0,
+            f"access vessel not measured: SAR {ratio:.2f}, distal flow, advice and tier use "
+            f"the reference diameter {vessel_mm:g} mm {REFERENCE_MARK}; measure the "
+            f"{dev.vessel} (minimal lumen diameter)",
+        )
+    if limb.note:
+        reasons.append(limb.note)
     for ev in patient.events:
         if ev.at.astimezone(UTC) <= at_utc:
             tier = ev.tier
@@ -386,26 +361,17 @@ def assess_patient(patient: Patient, protocol: Protocol, at: datetime) -> RiskAs
                 f"tier set to {ev.tier} by a clinician at {ev.at.isoformat()}"
                 + (f": {ev.note}" if ev.note else "")
             )
-    if not reasons:
-        reasons.append("no listed risk factor applies")
-    advised, basis = dpc_advice(
-        dev.kind,
-        ratio,
-        patient.pad,
-        patient.sex,
-        vessel_mm,
-        dpc_in,
-        access_vessel=dev.vessel,
-        rules=rules,
-    )
     if removed is not None and removed <= at_utc:
-        advised = False
-        basis = [
+        advice = not_applicable(
+            "device-removed",
             f"device removed at {removed.astimezone(dev.inserted.tzinfo).isoformat()}: a distal "
             "perfusion cannula is no longer in question; the after-removal checks go on "
-            "(common practice)"
-        ]
-    elif at_utc < inserted:
+            "(common practice)",
+        )
+    basis = list(advice.basis)
+    if advice.governs:
+        basis.append(f"which governs: {advice.governs}")
+    if at_utc < inserted:
         basis.append(
             f"assessed before the device goes in ({dev.inserted.isoformat()}): advice for "
             "the planned device"
@@ -422,17 +388,23 @@ def assess_patient(patient: Patient, protocol: Protocol, at: datetime) -> RiskAs
         ref=patient.ref,
         bed=patient.bed,
         tier=tier,
-        sar=ratio,
+        sar=round(ratio, 3),
         device_od_mm=round(od.mm, 3),
         vessel_mm=vessel_mm,
         vessel_measured=measured,
         dwell_h=round(dwell_h, 2),
         dpc_in_place=dpc_in,
-        dpc_advised=advised,
+        dpc_advised=advice.advised,
         reasons=reasons,
         basis=basis,
         assumptions=assumptions,
-        factors=ids,
+        factors=[w.id for w in weighted],
+        weighted=weighted,
+        total=total,
+        rules_tier=rules_tier,
+        advice=advice,
+        limb=limb,
+        combination=rules.combination,
     )
 
 

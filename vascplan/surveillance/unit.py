@@ -39,6 +39,10 @@ axillary or subclavian device."""
 HEIGHT_RANGE_CM = (100.0, 230.0)
 """Plausible adult height, as for case files (common practice)."""
 
+MAP_RANGE_MMHG = (30.0, 150.0)
+"""Plausible mean arterial pressure of a patient on support: a plausibility bound, not a
+clinical limit; outside it the figure is almost surely a typing error (common practice)."""
+
 
 class _Strict(BaseModel):
     model_config = ConfigDict(extra="forbid", frozen=True, str_strip_whitespace=True)
@@ -163,6 +167,8 @@ class Patient(_Strict):
     diabetes: bool = False
     device: Device
     vessel_mm: float | None = Field(default=None, gt=0, le=15)
+    map_mmhg: float | None = Field(default=None, ge=MAP_RANGE_MMHG[0], le=MAP_RANGE_MMHG[1])
+    """Mean arterial pressure [mmHg]: drives the leg's flow estimate (default by device kind)."""
     dpc: DistalCannula | None = None
     baseline: Baseline = Field(default_factory=Baseline)
     events: list[PatientEvent] = Field(default_factory=list)
