@@ -10,6 +10,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from vascplan.cli import cli
+from vascplan.paths import examples_dir
 from vascplan.sizing.advice import DEVICE_KINDS, cannula_advice, load_advice_rules
 from vascplan.sizing.assess import assess_sheath_flow
 
@@ -153,12 +154,11 @@ def test_checklist_prints_the_risk_advice_and_factors():
 def test_plan_support_and_case_report_use_the_same_rule():
     # Every leg axis whose best-case flow is under the floor is advised, in the JSON and in
     # the case report's wording; none says "not advised" beside it.
-    from pathlib import Path
 
     from vascplan.reports.case_report import _dpc_text
 
     case = (
-        Path(__file__).resolve().parents[1] / "examples" / "case-DEMO-12-support-small-iliac.yaml"
+        examples_dir() / "case-DEMO-12-support-small-iliac.yaml"
     )
     res = CliRunner().invoke(cli, ["plan", str(case), "--format", "json"])
     assert res.exit_code == 0, res.output
@@ -187,9 +187,8 @@ def test_worst_case_under_the_floor_is_said_beside_not_advised():
 def test_case_map_changes_the_support_flow(tmp_path):
     # Case-file patient.map_mmhg (issue 11): a higher MAP (90 vs the default by device kind)
     # raises the perfusion pressure (MAP - 10 mmHg) and so the flow past the device.
-    from pathlib import Path
 
-    src = Path(__file__).resolve().parents[1] / "examples" / "case-DEMO-12-support-small-iliac.yaml"
+    src = examples_dir() / "case-DEMO-12-support-small-iliac.yaml"
     text = src.read_text(encoding="utf-8")
     assert "\n  sex:" in text
     with_map = tmp_path / "with-map.yaml"
