@@ -17,6 +17,8 @@ from pydantic import BaseModel, ConfigDict, Field, ValidationInfo, field_validat
 
 from vascplan.errors import InputError
 from vascplan.fileio import did_you_mean, load_model
+from vascplan.plausibility import TimeText, check_insertion, check_review_time
+from vascplan.textsafety import FreeText, Identifier
 
 UNIT_FORMAT = "vascplan-unit/1"
 
@@ -45,7 +47,7 @@ class _Strict(BaseModel):
 
 
 class UnitInfo(_Strict):
-    name: str = Field(min_length=1, max_length=200)
+    name: Identifier = Field(min_length=1, max_length=200)
     timezone: str
 
     @field_validator("timezone")
@@ -80,7 +82,7 @@ class Shift(_Strict):
 
 
 class StaffAssignment(_Strict):
-    nurse: str = Field(min_length=1, max_length=60)
+    nurse: Identifier = Field(min_length=1, max_length=60)
     beds: list[int] = Field(min_length=1)
     shifts: list[str] = Field(min_length=1)
 
@@ -92,8 +94,8 @@ class Device(_Strict):
     size_fr: float = Field(gt=0, le=30)
     label: Literal["outer", "inner"]
     outer_mm: float | None = Field(default=None, gt=0, le=12)
-    inserted: datetime
-    removed: datetime | None = None
+    inserted: TimeText
+    removed: TimeText | None = None
 
     @property
     def limb(self) -> Literal["leg", "arm"]:
@@ -113,8 +115,8 @@ class Device(_Strict):
 
 class DistalCannula(_Strict):
     size_fr: float = Field(gt=0, le=12)
-    inserted: datetime
-    removed: datetime | None = None
+    inserted: TimeText
+    removed: TimeText | None = None
 
 
 class Baseline(_Strict):
@@ -149,13 +151,13 @@ class PatientEvent(_Strict):
     event; the check schedule re-plans from that moment.
     """
 
-    at: datetime
+    at: TimeText
     tier: Literal["standard", "raised", "high"]
-    note: str = Field(default="", max_length=300)
+    note: FreeText = Field(default="", max_length=300)
 
 
 class Patient(_Strict):
-    ref: str = Field(min_length=1, max_length=60)
+    ref: Identifier = Field(min_length=1, max_length=60)
     bed: int = Field(ge=1, le=999)
     sex: Sex = "unspecified"
     height_cm: float | None = None
@@ -242,7 +244,10 @@ class Unit(_Strict):
             base = f"patients.{i}"
             inserted = _localise(p.device.inserted, tz, source, f"{base}.device.inserted")
             assert inserted is not None  # a required field
+            check_insertion(inserted, source, f"{base}.device.inserted")
             removed = _localise(p.device.removed, tz, source, f"{base}.device.removed")
+            if removed is not None:
+                check_insertion(removed, source, f"{base}.device.removed", what="a removal")
             if removed is not None and _utc(removed) <= _utc(inserted):
                 raise InputError(
                     source, f"{base}.device.removed", "removal must come after insertion"
@@ -252,6 +257,7 @@ class Unit(_Strict):
             if p.dpc is not None:
                 d_in = _localise(p.dpc.inserted, tz, source, f"{base}.dpc.inserted")
                 assert d_in is not None  # a required field
+                check_insertion(d_in, source, f"{base}.dpc.inserted")
                 d_out = _localise(p.dpc.removed, tz, source, f"{base}.dpc.removed")
                 if _utc(d_in) < _utc(inserted):
                     raise InputError(
@@ -270,6 +276,7 @@ class Unit(_Strict):
                 field = f"{base}.events.{k}.at"
                 at = _localise(ev.at, tz, source, field)
                 assert at is not None
+                check_insertion(at, source, field, what="an event")
                 if _utc(at) < _utc(previous):
                     raise InputError(
                         source, field, "events must be in time order, at or after the insertion"
@@ -355,6 +362,7 @@ def parse_local_time(text: str, tz: ZoneInfo, source: str) -> datetime:
         ) from None
     out = _localise(value, tz, source, "")
     assert out is not None
+    check_review_time(out, source)
     return out
 
 
