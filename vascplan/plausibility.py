@@ -67,10 +67,26 @@ def check_override(table: str, name: str, value: float, source: str, field: str)
 # Times
 
 
+NOW_VARIABLE = "VASCPLAN_NOW"
+"""An environment variable that sets "now" for the windows (ISO 8601 with its UTC offset):
+for the test suite, whose invented records are fixed in time, and for replaying an old
+shift's files."""
+
+
 def now() -> datetime:
-    """The current time (aware, UTC); one place for tests to move."""
+    """The current time (aware) the windows are measured from (see :data:`NOW_VARIABLE`)."""
+    import os
     from datetime import UTC
 
+    fixed = os.environ.get(NOW_VARIABLE)
+    if fixed:
+        try:
+            value = datetime.fromisoformat(fixed)
+        except ValueError:
+            raise InputError(NOW_VARIABLE, "", f"{fixed!r} is not an ISO 8601 time") from None
+        if value.tzinfo is None:
+            raise InputError(NOW_VARIABLE, "", "give the time with its UTC offset, e.g. +00:00")
+        return value
     return datetime.now(UTC)
 
 
@@ -82,7 +98,7 @@ def describe_gap(delta: timedelta) -> str:
     """
     days = abs(delta.total_seconds()) / 86400
     if days >= 365.25:
-        n, unit = int(days // 365.25), "year"
+        n, unit = round(days / 365.25), "year"
     elif days >= 1:
         n, unit = int(days), "day"
     elif days * 24 >= 1:
@@ -140,9 +156,9 @@ def check_review_time(moment: datetime, source: str, current: datetime | None = 
     """Refuse a review or planning instant (``--at``, ``--from``) outside its window."""
     current = current or now()
     problem = _ahead(
-        moment, current, timedelta(days=window("review_ahead_max_days")), "the time may be"
+        moment, current, timedelta(days=window("review_ahead_max_days")), "a time here is"
     ) or _behind(
-        moment, current, timedelta(days=window("review_before_now_max_days")), "the time may be"
+        moment, current, timedelta(days=window("review_before_now_max_days")), "a time here is"
     )
     if problem:
         raise InputError(source, "", problem)

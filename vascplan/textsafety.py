@@ -174,6 +174,18 @@ def check_document(source: str, data: Any, path: str = "", depth: int = 0) -> No
             raise InputError(source, path, problem)
 
 
+def check_row(source: str, line: int, cells: dict[str, str]) -> None:
+    """Refuse a CSV row with a control character in any cell (``line N: column``)."""
+    for column, text in cells.items():
+        hit = find_control(text)
+        if hit is not None:
+            raise InputError(
+                source,
+                f"line {line}: {column}",
+                f"holds the control character {describe(hit[1])}; use printable text only",
+            )
+
+
 # ---------------------------------------------------------------------------
 # Output
 
