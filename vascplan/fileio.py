@@ -354,6 +354,32 @@ def safe_filename(text: str, default: str = "unnamed") -> str:
     return name[:80] or default
 
 
+def path_inside(
+    name: str,
+    folders: Iterable[str | os.PathLike[str]],
+    source: str,
+    field: str,
+    allowed: str,
+) -> Path:
+    """Resolve ``name`` (a file named inside another file) within one of ``folders``.
+
+    A relative name is taken from the first folder; the result, with every ``..`` and
+    symbolic link resolved, must lie inside one of the folders, else an
+    :class:`InputError` says where files may be (``allowed``). Returns the joined path
+    (not resolved, so that messages show it as the user wrote it).
+    """
+    folders = list(folders)
+    roots = [Path(f).resolve() for f in folders]
+    raw = Path(name)
+    joined = raw if raw.is_absolute() else Path(folders[0]) / raw
+    target = joined.resolve()
+    if not any(target == r or target.is_relative_to(r) for r in roots):
+        raise InputError(
+            source, field, f"{name!r} lies outside {allowed}; a file named here must be inside"
+        )
+    return joined
+
+
 def output_inside(folder: str | os.PathLike[str], name: str) -> Path:
     """Return ``folder/name`` after checking that it cannot escape ``folder``."""
     base = Path(folder).resolve()
