@@ -310,7 +310,7 @@ def atomic_write_bytes(path: str | os.PathLike[str], data: bytes, mode: int = 0o
         target.parent.mkdir(parents=True, exist_ok=True)
         fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent)
     except OSError as exc:
-        raise InputError(src, "", f"cannot write here ({_reason(exc)})") from None
+        raise InputError(src, "", _cannot_write(exc)) from None
     try:
         with os.fdopen(fd, "wb") as fh:
             fh.write(data)
@@ -322,13 +322,14 @@ def atomic_write_bytes(path: str | os.PathLike[str], data: bytes, mode: int = 0o
         with contextlib.suppress(OSError):
             os.unlink(tmp)
         if isinstance(exc, OSError):
-            raise InputError(src, "", f"cannot write here ({_reason(exc)})") from None
+            raise InputError(src, "", _cannot_write(exc)) from None
         raise
     return target
 
 
-def _reason(exc: OSError) -> str:
-    return (exc.strerror or str(exc) or type(exc).__name__).lower()
+def _cannot_write(exc: OSError) -> str:
+    reason = exc.strerror or str(exc) or type(exc).__name__
+    return f"cannot write here ({reason}); choose a folder you can write to"
 
 
 def atomic_write_text(path: str | os.PathLike[str], text: str, mode: int = 0o640) -> Path:

@@ -111,21 +111,26 @@ def checklist_pdf(
 
 
 def default_report_name(ref: str) -> str:
-    """``<ref>-case-report.pdf``, the ref made safe for a file name.
+    """``<ref>-case-report.pdf``, the ref made safe and unique for a file name.
 
-    >>> default_report_name("../<b>x")
-    'b_x-case-report.pdf'
+    A ref that is not already a safe name gets a short hash of itself, so that two refs
+    never share a file (see :func:`vascplan.textsafety.ref_file_part`).
+
+    >>> default_report_name("../<b>x"), default_report_name("DEMO-07")
+    ('b_x-9f4a08e0-case-report.pdf', 'DEMO-07-case-report.pdf')
     """
-    from vascplan.fileio import safe_filename
+    from vascplan.textsafety import ref_file_part
 
-    return f"{safe_filename(ref)}-case-report.pdf"
+    return f"{ref_file_part(ref)[0]}-case-report.pdf"
 
 
 def default_checklist_name(shift: str, day: date, refs: Sequence[str] = ()) -> str:
     """``checklist-<shift>-<date>[-<ref>].pdf`` (one ref when a single bed is printed)."""
     from vascplan.fileio import safe_filename
 
-    tail = f"-{safe_filename(refs[0])}" if len(refs) == 1 else ""
+    from vascplan.textsafety import ref_file_part
+
+    tail = f"-{ref_file_part(refs[0])[0]}" if len(refs) == 1 else ""
     return f"checklist-{safe_filename(shift)}-{day.isoformat()}{tail}.pdf"
 
 
