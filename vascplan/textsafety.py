@@ -26,7 +26,6 @@ from __future__ import annotations
 import hashlib
 import re
 import unicodedata
-from collections.abc import Iterable
 from typing import Annotated, Any
 
 from pydantic import AfterValidator
@@ -194,14 +193,14 @@ def safe_terminal(text: str) -> str:
     """Text a terminal shows as it is: control characters (but newline, tab) made visible.
 
     >>> safe_terminal("DEMO\\x1b[2J-07\\n")
-    'DEMO\\\\x1b[2J-07\\n'
+    'DEMO\\\\u001b[2J-07\\n'
     """
     return _CONTROL_BUT_NL_TAB.sub(lambda m: _escape(m.group()), text)
 
 
 def _escape(ch: str) -> str:
-    code = ord(ch)
-    return f"\\x{code:02x}" if code < 0x100 else f"\\u{code:04x}"
+    # \\uXXXX reads plainly on a terminal and stays a valid escape inside a JSON string.
+    return f"\\u{ord(ch):04x}"
 
 
 def ical_text(text: str) -> str:

@@ -9,6 +9,7 @@ import click
 from vascplan.errors import InputError
 from vascplan.fileio import atomic_write_text
 from vascplan.safety import CAUTION
+from vascplan.textsafety import safe_terminal
 
 
 @click.command(epilog="Example: vascplan validate examples/case-*.yaml")
@@ -84,7 +85,7 @@ def tree(case: str, fmt: str, out: str | None, every_assumption: bool) -> None:
     if out:
         click.echo(f"wrote {atomic_write_text(out, text)}")
     else:
-        click.echo(text, nl=False)
+        click.echo(safe_terminal(text), nl=False)
 
 
 @click.command(
@@ -108,4 +109,4 @@ def schema(out: str | None) -> None:
     if out:
         click.echo(f"wrote {atomic_write_text(out, text)}")
     else:
-        click.echo(text, nl=False)
+        click.echo(safe_terminal(text), nl=False)

@@ -145,8 +145,8 @@ def add(
 ) -> None:
     """Record one check: each item option is one finding (repeat an option for each site)."""
     from vascplan.observations.findings import check_time, make_finding, split_option
-    from vascplan.plausibility import check_check_time
     from vascplan.observations.store import open_store
+    from vascplan.plausibility import check_check_time
 
     unit = _unit(unit_path)
     patient = unit.patient_at_bed(bed)
@@ -292,22 +292,27 @@ def correct(
 def review(unit_path: str, at_text: str | None, fmt: str, db: str | None) -> None:
     """Overdue checks and deterioration per patient, with the rule, source and whom to call."""
     from vascplan.observations.review import render_table, review_unit, to_json
+    from vascplan.textsafety import safe_terminal
 
     unit = _unit(unit_path)
     at = _at(at_text, unit)
     with _open_for_reading(db) as store:
         result = review_unit(unit, store, at, base_dir=_base_dir(unit_path))
     if fmt == "json":
-        click.echo(json.dumps(to_json(result), indent=2, ensure_ascii=False))
+        click.echo(safe_terminal(json.dumps(to_json(result), indent=2, ensure_ascii=False)))
     else:
-        click.echo(render_table(result))
+        click.echo(safe_terminal(render_table(result)))
     sys.exit(1 if result.open_alerts else 0)
 
 
 @obs.command("trend", epilog="Example: vascplan obs trend unit.yaml --bed 1 -o bed1-trend.pdf")
 @click.argument("unit_path", metavar="UNIT", type=click.Path(dir_okay=False))
 @click.option(
-    "--bed", "beds", type=AsciiInt(1, 999), multiple=True, help="Bed (repeat for several; default every bed)."
+    "--bed",
+    "beds",
+    type=AsciiInt(1, 999),
+    multiple=True,
+    help="Bed (repeat for several; default every bed).",
 )
 @click.option(
     "-o", "--output", type=click.Path(dir_okay=False), required=True, help="PDF file to write."

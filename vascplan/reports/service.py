@@ -127,7 +127,6 @@ def default_report_name(ref: str) -> str:
 def default_checklist_name(shift: str, day: date, refs: Sequence[str] = ()) -> str:
     """``checklist-<shift>-<date>[-<ref>].pdf`` (one ref when a single bed is printed)."""
     from vascplan.fileio import safe_filename
-
     from vascplan.textsafety import ref_file_part
 
     tail = f"-{ref_file_part(refs[0])[0]}" if len(refs) == 1 else ""

@@ -16,8 +16,8 @@ from functools import cache
 
 from vascplan.errors import InputError
 from vascplan.fileio import did_you_mean, read_document
-from vascplan.plausibility import ascii_float, check_override
 from vascplan.paths import data_dir
+from vascplan.plausibility import ascii_float, check_override
 
 LIMITS_FILE = "limits.yaml"
 WEIGHTS_FILE = "weights.yaml"
