@@ -196,8 +196,16 @@ def parse_yaml(src: str, text: str) -> Any:
             # "expected a single document in the stream, but found another document"
             problem = f"{exc.context}, {problem}"
         raise InputError(src, line, f"YAML error: {problem}") from None
+    except yaml.reader.ReaderError as exc:  # a control character YAML does not allow
+        from vascplan.textsafety import describe
+
+        line = text[: exc.position].count("\n") + 1
+        char = chr(exc.character) if isinstance(exc.character, int) else str(exc.character)
+        raise InputError(
+            src, f"line {line}", f"the control character {describe(char)} is not allowed"
+        ) from None
     except yaml.YAMLError as exc:
-        raise InputError(src, "", f"YAML error: {exc}") from None
+        raise InputError(src, "", f"YAML error: {' '.join(str(exc).split())}") from None
 
 
 def _parse_json(src: str, text: str) -> Any:
