@@ -65,7 +65,8 @@ def mutated(draw: st.DrawFn, kind: str) -> bytes:
             size = draw(st.integers(1, 8))
             data[at : at + size] = draw(st.sampled_from(HOSTILE))
         elif op == "insert":
-            data[at:at] = draw(st.one_of(st.sampled_from(HOSTILE), st.binary(min_size=1, max_size=6)))
+            extra = st.one_of(st.sampled_from(HOSTILE), st.binary(min_size=1, max_size=6))
+            data[at:at] = draw(extra)
         elif op == "delete":
             del data[at : at + draw(st.integers(1, 40))]
         elif op == "line":

@@ -199,10 +199,11 @@ def parse_yaml(src: str, text: str) -> Any:
     except yaml.reader.ReaderError as exc:  # a control character YAML does not allow
         from vascplan.textsafety import describe
 
-        line = text[: exc.position].count("\n") + 1
-        char = chr(exc.character) if isinstance(exc.character, int) else str(exc.character)
+        row = text[: exc.position].count("\n") + 1
+        code = exc.character
+        char = chr(code) if isinstance(code, int) else str(code)
         raise InputError(
-            src, f"line {line}", f"the control character {describe(char)} is not allowed"
+            src, f"line {row}", f"the control character {describe(char)} is not allowed"
         ) from None
     except yaml.YAMLError as exc:
         raise InputError(src, "", f"YAML error: {' '.join(str(exc).split())}") from None
@@ -253,7 +254,12 @@ def input_error_from_validation(source: str, exc: ValidationError) -> InputError
     if err.get("type") not in ("missing", "extra_forbidden") and isinstance(
         value, str | int | float | bool
     ):
-        msg = f"{msg} (got {value!r})"
+        shown = (
+            f"{len(value):,} characters"
+            if isinstance(value, str) and len(value) > 60
+            else repr(value)
+        )
+        msg = f"{msg} (got {shown})"
     return InputError(source, field_path(loc), msg)
 
 
