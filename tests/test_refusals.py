@@ -401,6 +401,16 @@ UNIT_TIMES = [
     ("nirs-underscore", "L: 68", "L: 6_8", "line 25",
      "YAML error: 6_8 is not a plain number: write ASCII digits 0-9 without underscores "
      "(quote it if it is text)"),
+    ("bed-as-text", "bed: 1", 'bed: "1"', "patients.0.bed",
+     "Input should be a valid integer (got '1')"),
+    ("size-as-text", "size_fr: 17", 'size_fr: "17"', "patients.0.device.size_fr",
+     "Input should be a valid number (got '17')"),
+    ("pad-as-yes", "pad: false", 'pad: "yes"', "patients.0.pad",
+     "Input should be a valid boolean (got 'yes')"),
+    ("staff-bed-as-text", "beds: [1, 2]", 'beds: ["1", 2]', "staff.0.beds.0",
+     "Input should be a valid integer (got '1')"),
+    ("shift-start-impossible", 'start: "07:30"', 'start: "27:30"', "shifts.0.start",
+     "'27:30' is not a time of day (00:00-23:59) (got '27:30')"),
     ("protocol-outside", "protocol: standard", "protocol: ../../../../etc/passwd", "protocol",
      "'../../../../etc/passwd' lies outside the unit file's folder or the bundled protocols; "
      "a file named here must be inside"),
@@ -413,6 +423,15 @@ UNIT_TIMES = [
 def test_unit_file_plausibility(ws, name, old, new, field, message):
     path = _unit_variant(ws, old, new)
     _one_line(run("risk", path, "--at", "2026-12-02T08:00"), f"{path}: {field}: {message}")
+
+
+def test_protocol_number_as_text(ws):
+    (ws / "p.yaml").write_text(_sub(PROTOCOL, "every_min: 15", 'every_min: "15"'))
+    path = _unit_variant(ws, "protocol: standard", "protocol: p.yaml")
+    res = run("risk", path, "--at", "2026-12-02T08:00")
+    assert res.exit_code == 2
+    assert res.output.startswith("error: p.yaml: phases.0.every_min: Input should be a valid ")
+    assert res.output.endswith("(got '15')\n")
 
 
 def test_protocol_folder_says_so(ws):

@@ -205,7 +205,12 @@ def _time_text(value: Any) -> Any:
         raise ValueError(
             f"{value.strip()!r} has no time of day; give one, e.g. {value.strip()}T14:20"
         )
-    return value
+    try:
+        return datetime.fromisoformat(value.strip())
+    except ValueError:
+        raise ValueError(
+            f"{value.strip()!r} is not an ISO 8601 time such as 2026-12-01T14:20"
+        ) from None
 
 
 TimeText = Annotated[datetime, BeforeValidator(_time_text)]

@@ -29,7 +29,10 @@ _NAME = r"^[A-Za-z0-9][A-Za-z0-9_-]*$"
 
 
 class _Strict(BaseModel):
-    model_config = ConfigDict(extra="forbid", frozen=True, str_strip_whitespace=True)
+    # strict: "15" is not a number of minutes, "yes" not true (issue 18)
+    model_config = ConfigDict(
+        extra="forbid", frozen=True, str_strip_whitespace=True, strict=True, allow_inf_nan=False
+    )
 
 
 Source = Field(

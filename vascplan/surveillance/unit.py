@@ -43,7 +43,11 @@ HEIGHT_RANGE_CM = (100.0, 230.0)
 
 
 class _Strict(BaseModel):
-    model_config = ConfigDict(extra="forbid", frozen=True, str_strip_whitespace=True)
+    # strict: "1" is not a bed number, "17" not a size, "yes" not true (issue 18); times
+    # are parsed by their own validators (TimeText, the shift's HH:MM).
+    model_config = ConfigDict(
+        extra="forbid", frozen=True, str_strip_whitespace=True, strict=True, allow_inf_nan=False
+    )
 
 
 class UnitInfo(_Strict):
@@ -78,6 +82,11 @@ class Shift(_Strict):
             value = f"{value // 60:02d}:{value % 60:02d}"
         if isinstance(value, str) and not re.fullmatch(r"\d{2}:\d{2}", value):
             raise ValueError('shift start must be HH:MM in local time, e.g. "07:30"')
+        if isinstance(value, str):
+            try:
+                return time.fromisoformat(value)
+            except ValueError:
+                raise ValueError(f"{value!r} is not a time of day (00:00-23:59)") from None
         return value
 
 
