@@ -491,7 +491,7 @@ OVERRIDES = [
     ("limit-1e300", ["--limit", "outside_body_cm=1e300"],
      "--limit: outside_body_cm: 1e+300 is outside the plausible range 0-50"),
     ("limit-sar", ["--limit", "sar_max=105"],
-     "--limit: sar_max: 105 is outside the plausible range 0.5-1.5"),
+     "--limit: sar_max: 105 is outside the plausible range 0.1-2"),
     ("limit-underscore", ["--limit", "sar_max=1_0"],
      "--limit: sar_max: value must be a number (got '1_0')"),
     ("weight-huge", ["--weight", "crossover=1000"],
