@@ -5,7 +5,7 @@ Hypothesis mutates the bundled case, unit and protocol files and the demo observ
 ones: control characters, other scripts' digits, underscores, huge numbers, dates alone)
 and feeds each result to the library's own loader in this process. The only allowed
 outcomes are a loaded object or :class:`~vascplan.errors.InputError` whose text is one
-line. About 2,400 examples a run in total (600 per kind).
+line. About 2,200 examples a run in total (550 per kind).
 
 Every input that once crashed is kept in ``tests/data/fuzz_corpus`` (the file name says
 its kind: ``case-``, ``unit-``, ``protocol-``, ``obs-``) and replayed by
@@ -41,7 +41,7 @@ SEEDS = {
         b"2026-12-02T09:00,1,DEMO-11,RN-B,refill,R,3\n"
     ),
 }
-EXAMPLES_PER_KIND = 600
+EXAMPLES_PER_KIND = 550
 WORK = Path(tempfile.mkdtemp(prefix="vascplan-fuzz-"))
 
 HOSTILE = [

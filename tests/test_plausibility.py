@@ -12,8 +12,8 @@ from vascplan.plausibility import (
     check_check_time,
     check_insertion,
     describe_gap,
-    number_problem,
     now,
+    number_problem,
 )
 from vascplan.routes.settings import LIMITS_FILE, WEIGHTS_FILE, load_table
 
