@@ -353,6 +353,8 @@ CSV_ROWS = [
     ("time-years-before", "2024-12-01T10:00,1,DEMO-11,RN-A,nirs,L,64", "line 2: time",
      "2024-12-01 10:00 is before the patient's monitoring began (2026-12-01 14:20, "
      "the device's insertion)"),
+    ("time-fraction", "2026-12-02T16:00:00.5,1,DEMO-11,RN-A,nirs,L,64", "line 2: time",
+     "2026-12-02T16:00:00.500000+00:00 has a fraction of a second; give whole seconds"),
     ("time-date-alone", "2026-12-02,1,DEMO-11,RN-A,nirs,L,64", "line 2: time",
      "'2026-12-02' has no time of day; give one, e.g. 2026-12-02T16:00"),
 ]  # fmt: skip

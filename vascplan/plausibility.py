@@ -175,6 +175,11 @@ def check_check_time(
 
     ``monitoring_start`` is the patient's device insertion.
     """
+    if moment.microsecond:
+        # The store keeps whole seconds: 16:00:00.5 would be 16:00:00 again.
+        raise InputError(
+            source, field, f"{moment.isoformat()} has a fraction of a second; give whole seconds"
+        )
     current = current or now()
     limit = timedelta(minutes=window("check_ahead_max_min"))
     problem = _ahead(moment, current, limit, "a check is")
