@@ -252,6 +252,9 @@ CONTROL_IN_FILES = [
     ("case-avoid-reason-long", "case", "reason: dialysis fistula planned",
      "reason: " + "x" * 2001, "avoid.0.reason",
      "is 2,001 characters long; at most 2,000 allowed"),
+    ("case-avoid-reason-6000", "case", "reason: dialysis fistula planned",
+     "reason: " + "word " * 1199 + "word", "avoid.0.reason",
+     "is 5,999 characters long; at most 2,000 allowed"),
     ("case-key-control", "case", "  weight_kg: 61", '  "weight\\0kg": 61', "patient",
      "a field name holds the control character U+0000 (NUL)"),
 ]  # fmt: skip
