@@ -515,3 +515,30 @@ def test_override_bounds_in_a_case_file(ws):
         run("plan", path),
         f"{path}: limits.outside_body_cm: 500 is outside the plausible range 0-50",
     )
+
+
+CHECKLIST = [
+    ("date-9999", ["--date", "9999-12-31"],
+     "--date: 9999-12-31 12:00 is 7973 years ahead: a typo in the year? "
+     "(a time here is at most 1 year ahead of now)"),
+    ("date-arabic", ["--date", "\u0662\u0660\u0662\u0666-\u0661\u0662-\u0660\u0662"],
+     "--date: '\u0662\u0660\u0662\u0666-\u0661\u0662-\u0660\u0662' is not a date as YYYY-MM-DD, "
+     "e.g. 2026-12-02"),
+    ("bed-arabic", ["--date", "2026-12-02", "--bed", "\u0661"],
+     "--bed: '\u0661' is not a bed number; give a whole number such as 3"),
+    ("bed-underscore", ["--date", "2026-12-02", "--bed", "0_1"],
+     "--bed: '0_1' is not a bed number; give a whole number such as 3"),
+]  # fmt: skip
+
+
+@pytest.mark.parametrize(("name", "args", "expected"), CHECKLIST, ids=[c[0] for c in CHECKLIST])
+def test_checklist_options(ws, name, args, expected):
+    _one_line(run("checklist", "unit.yaml", "--shift", "day", *args, "-o", "c.pdf"), expected)
+
+
+def test_year_one_is_written_with_four_digits(ws):
+    _one_line(
+        run("risk", "unit.yaml", "--at", "0001-01-01T00:00"),
+        "--at: 0001-01-01 00:00 is 2026 years ago: a typo in the year? "
+        "(a time here is at most 5 years before now)",
+    )

@@ -109,7 +109,7 @@ def describe_gap(delta: timedelta) -> str:
 
 
 def _shown(moment: datetime) -> str:
-    return f"{moment:%Y-%m-%d %H:%M}"
+    return f"{moment.year:04d}-{moment:%m-%d %H:%M}"  # %Y drops the zeros of year 1
 
 
 def _ahead(moment: datetime, current: datetime, limit: timedelta, what: str) -> str | None:

@@ -61,12 +61,18 @@ def parse_day(text: str, source: str = "--date") -> date:
     >>> parse_day("2026-12-02")
     datetime.date(2026, 12, 2)
     """
-    if not re.fullmatch(r"\d{4}-\d{2}-\d{2}", text or ""):
+    if not re.fullmatch(r"[0-9]{4}-[0-9]{2}-[0-9]{2}", text or ""):
         raise InputError(source, "", f"{text!r} is not a date as YYYY-MM-DD, e.g. 2026-12-02")
     try:
-        return date.fromisoformat(text)
+        day = date.fromisoformat(text)
     except ValueError:
         raise InputError(source, "", f"{text!r} is not a calendar date") from None
+    from datetime import UTC, datetime, time
+
+    from vascplan.plausibility import check_review_time
+
+    check_review_time(datetime.combine(day, time(12), tzinfo=UTC), source)  # issue 18
+    return day
 
 
 def parse_bed(text: str, source: str = "--bed") -> int:
@@ -75,7 +81,11 @@ def parse_bed(text: str, source: str = "--bed") -> int:
     >>> parse_bed(" 3")
     3
     """
+    from vascplan.plausibility import number_problem
+
     try:
+        if number_problem(text, integer=True):  # only ASCII digits 0-9
+            raise ValueError(text)
         return int(text.strip())
     except ValueError:
         raise InputError(
