@@ -176,8 +176,8 @@ BOUNDS = [
         "entry-arabic-digits",
         ["obs", "correct", "--entry", "\u0664\u0662", "--value", "60", "--by", "RN-B",
          "--reason", "misread", "--db", "o.db"],
-        "vascplan obs correct: Invalid value for '--entry': '\u0664\u0662' is not a whole number "
-        "in ASCII digits 0-9 (see vascplan obs correct --help)",
+        "--entry: '\u0664\u0662' is not a plain number: write ASCII digits 0-9 without "
+        "underscores",
     ),
 ]  # fmt: skip
 
@@ -487,8 +487,7 @@ def test_obs_add_bed_arabic_digit(ws):
               "--time", "2026-12-02T08:00", "--nirs", "L=64", "--db", "o.db")  # fmt: skip
     _one_line(
         res,
-        "vascplan obs add: Invalid value for '--bed': '\u0661' is not a whole number in ASCII "
-        "digits 0-9 (see vascplan obs add --help)",
+        "--bed: '\u0661' is not a plain number: write ASCII digits 0-9 without underscores",
     )
 
 
@@ -525,9 +524,9 @@ CHECKLIST = [
      "--date: '\u0662\u0660\u0662\u0666-\u0661\u0662-\u0660\u0662' is not a date as YYYY-MM-DD, "
      "e.g. 2026-12-02"),
     ("bed-arabic", ["--date", "2026-12-02", "--bed", "\u0661"],
-     "--bed: '\u0661' is not a bed number; give a whole number such as 3"),
+     "--bed: '\u0661' is not a plain number: write ASCII digits 0-9 without underscores"),
     ("bed-underscore", ["--date", "2026-12-02", "--bed", "0_1"],
-     "--bed: '0_1' is not a bed number; give a whole number such as 3"),
+     "--bed: '0_1' is not a plain number: write ASCII digits 0-9 without underscores"),
 ]  # fmt: skip
 
 
@@ -542,3 +541,36 @@ def test_year_one_is_written_with_four_digits(ws):
         "--at: 0001-01-01 00:00 is 2026 years ago: a typo in the year? "
         "(a time here is at most 5 years before now)",
     )
+
+
+NUMERIC_OPTIONS = [
+    ("hours-underscore", ["rota", "unit.yaml", "--from", "2026-12-02T07:30", "--hours", "1_2"],
+     "--hours: '1_2' is not a plain number: write ASCII digits 0-9 without underscores"),
+    ("top-arabic", ["plan", "case.yaml", "--top", "\u0663"],
+     "--top: '\u0663' is not a plain number: write ASCII digits 0-9 without underscores"),
+    ("top-equals-fullwidth", ["plan", "case.yaml", "--top=\uff13"],
+     "--top: '\uff13' is not a plain number: write ASCII digits 0-9 without underscores"),
+]  # fmt: skip
+
+
+@pytest.mark.parametrize(
+    ("name", "args", "expected"), NUMERIC_OPTIONS, ids=[c[0] for c in NUMERIC_OPTIONS]
+)
+def test_numeric_options_in_ascii_digits(ws, name, args, expected):
+    _one_line(run(*args), expected)
+
+
+def test_library_checks_behind_the_command_line():
+    # The same rule where no command line is involved: click types and option parsers.
+    import click
+
+    from vascplan.errors import InputError
+    from vascplan.plausibility import AsciiInt
+    from vascplan.reports.service import parse_bed
+
+    with pytest.raises(click.BadParameter, match="is not a whole number in ASCII digits 0-9"):
+        AsciiInt(1, 9).convert("\u0664", None, None)
+    with pytest.raises(click.BadParameter, match="99 is outside 1-9"):
+        AsciiInt(1, 9).convert("99", None, None)
+    with pytest.raises(InputError, match="is not a bed number"):
+        parse_bed("\u0661")

@@ -125,23 +125,34 @@ def _argument_problem(argv: list[str]) -> str | None:
     Newlines and tabs are allowed (a ``--reason`` may hold them); the value's own checks
     refuse them where an identifier is expected.
     """
+    import re
+
     from vascplan.textsafety import describe, find_control
 
+    # A value that reads as a number to Python (int(), float()) but is not one in ASCII
+    # digits: 1_2, Arabic-Indic or fullwidth digits (issue 18).
+    odd_number = re.compile(r"[-+]?(?=.*\d)[\d_]*\.?[\d_]*(?:[eE][-+]?[\d_]+)?")
     for i, arg in enumerate(argv):
-        hit = find_control(str(arg), allow_newline=True)
-        if hit is None:
-            continue
-        name, sep, _ = str(arg).partition("=")
-        if str(arg).startswith("-") and sep:
+        text = str(arg)
+        name, sep, value = text.partition("=")
+        if text.startswith("-") and sep:
             where = name
         elif i > 0 and str(argv[i - 1]).startswith("-"):
-            where = str(argv[i - 1])
+            where, value = str(argv[i - 1]), text
         else:
-            where = f"argument {i + 1}"
-        return (
-            f"{where}: holds the control character {describe(hit[1])}; "
-            "use printable text only"
-        )
+            where, value = f"argument {i + 1}", text
+        hit = find_control(text, allow_newline=True)
+        if hit is not None:
+            return (
+                f"{where}: holds the control character {describe(hit[1])}; "
+                "use printable text only"
+            )
+        plain = value.strip()
+        if odd_number.fullmatch(plain) and not re.fullmatch(r"[-+0-9.eE]+", plain):
+            return (
+                f"{where}: {plain!r} is not a plain number: write ASCII digits 0-9 "
+                "without underscores"
+            )
     return None
 
 
