@@ -22,12 +22,12 @@ import pytest
 from click.testing import CliRunner
 
 from vascplan.cli import cli
-from vascplan.paths import examples_dir
+from vascplan.paths import data_dir, examples_dir
 
 HERE = Path(__file__).parent
 UNIT = (HERE / "unit_minimal.yaml").read_text()
 CASE = (examples_dir() / "case-DEMO-07-sfa-occlusion.yaml").read_text()
-PROTOCOL = (Path(__file__).parent.parent / "data" / "protocols" / "standard.yaml").read_text()
+PROTOCOL = (data_dir() / "protocols" / "standard.yaml").read_text()
 HEADER = "time,bed,ref,by,item,site,value"
 ROW = "2026-12-02T08:00,1,DEMO-11,RN-A,nirs,L,64"
 

@@ -168,7 +168,9 @@ def check_document(source: str, data: Any, path: str = "", depth: int = 0) -> No
         for i, value in enumerate(data):
             check_document(source, value, f"{path}.{i}" if path else str(i), depth + 1)
     elif isinstance(data, str):
-        problem = identifier_problem(data, max_len=max(len(data), 1))
+        # A trailing newline (a YAML block scalar) is layout, not content.
+        text = data.rstrip(" \n")
+        problem = identifier_problem(text, max_len=max(len(text), 1))
         if problem:
             raise InputError(source, path, problem)
 
