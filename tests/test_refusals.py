@@ -321,8 +321,10 @@ def test_control_characters_in_options(ws, name, by, expected):
         ("a\x00b", "--reason: holds the control character U+0000 (NUL); use printable text only"),
         ("x" * 2001, "--reason: is 2,001 characters long; at most 2,000 allowed"),
         ("a\x07b", "--reason: holds the control character U+0007 (BEL); use printable text only"),
+        ("", "--reason: a correction needs a reason"),
+        (" ", "--reason: a correction needs a reason"),
     ],
-    ids=["nul", "too-long", "bel"],
+    ids=["nul", "too-long", "bel", "empty", "blank"],
 )
 def test_correction_reason(ws, reason, expected):
     res = run("obs", "correct", "--entry", "1", "--value", "60", "--by", "RN-B",
@@ -574,3 +576,9 @@ def test_library_checks_behind_the_command_line():
         AsciiInt(1, 9).convert("99", None, None)
     with pytest.raises(InputError, match="is not a bed number"):
         parse_bed("\u0661")
+
+
+def test_correction_without_author(ws):
+    res = run("obs", "correct", "--entry", "1", "--value", "60", "--by", " ",
+              "--reason", "misread", "--db", "o.db")  # fmt: skip
+    _one_line(res, "--by: who makes the correction is required (a staff id, e.g. RN-A)")

@@ -39,7 +39,8 @@ def _identifier(ctx: click.Context, param: click.Parameter, value: str) -> str:
 
     name = f"--{param.name}"
     if not value.strip():
-        raise InputError(name, "", "who made the check is required (a staff id, e.g. RN-A)")
+        who = "who makes the correction" if ctx.command.name == "correct" else "who made the check"
+        raise InputError(name, "", f"{who} is required (a staff id, e.g. RN-A)")
     return check_identifier(value, name, max_len=60)
 
 
@@ -48,7 +49,7 @@ def _free_text(ctx: click.Context, param: click.Parameter, value: str) -> str:
     from vascplan.textsafety import check_free_text
 
     if not value.strip():
-        raise InputError(f"--{param.name}", "", "is required; say why in a few words")
+        raise InputError(f"--{param.name}", "", "a correction needs a reason")
     return check_free_text(value, f"--{param.name}")
 
 
