@@ -224,3 +224,46 @@ def test_an_event_note_over_its_maximum_is_one_line(tmp_path):
         f"error: {p}: patients.0.events.0.note: String should have at most 300 characters "
         "(got 301 characters)\n"
     )
+
+
+# --- properties -----------------------------------------------------------------------
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+_CONTROLS = {chr(c) for c in range(0x20)} | {chr(c) for c in range(0x7F, 0xA0)}
+_CONTROLS |= {"\u2028", "\u2029"} | {chr(c) for c in range(0x202A, 0x202F)}
+_CONTROLS |= {chr(c) for c in range(0x2066, 0x206A)}
+_TEXT = st.text(
+    alphabet=st.one_of(st.sampled_from(sorted(_CONTROLS)), st.characters()), max_size=30
+)
+
+
+@settings(max_examples=300, deadline=None)
+@given(_TEXT)
+def test_safe_terminal_leaves_no_control_but_newline_and_tab(text):
+    out = safe_terminal(text)
+    assert not (set(out) & (_CONTROLS - {"\n", "\t"}))
+
+
+@settings(max_examples=300, deadline=None)
+@given(_TEXT)
+def test_ical_text_leaves_no_control_but_newline_and_tab(text):
+    assert not (set(ical_text(text)) & (_CONTROLS - {"\n", "\t"}))
+
+
+@settings(max_examples=300, deadline=None)
+@given(_TEXT)
+def test_a_neutralised_cell_never_starts_a_formula(text):
+    out = neutralise_cell(text)
+    probe = out.lstrip(" \u00a0\t\r\n")
+    starts_formula = probe[:1] in ("=", "+", "-", "@") or out[:1] in ("\t", "\r")
+    if starts_formula:  # only a plain number may start with a sign
+        float(out)
+
+
+@settings(max_examples=300, deadline=None)
+@given(st.text(max_size=20), st.text(max_size=20))
+def test_different_refs_never_share_a_file_name(a, b):
+    if a != b:
+        assert ref_file_part(a)[0] != ref_file_part(b)[0]
