@@ -267,3 +267,15 @@ def test_a_neutralised_cell_never_starts_a_formula(text):
 def test_different_refs_never_share_a_file_name(a, b):
     if a != b:
         assert ref_file_part(a)[0] != ref_file_part(b)[0]
+
+
+def test_patient_outputs_never_more_open_than_0640(tmp_path):
+    old = os.umask(0o000)
+    try:
+        assert run("tree", examples_dir() / "case-DEMO-07-sfa-occlusion.yaml", "--out",
+                   tmp_path / "t.txt").exit_code == 0  # fmt: skip
+        assert run("schema", "--out", tmp_path / "s.json").exit_code == 0
+    finally:
+        os.umask(old)
+    assert stat.S_IMODE((tmp_path / "t.txt").stat().st_mode) == 0o640  # a patient's tree
+    assert stat.S_IMODE((tmp_path / "s.json").stat().st_mode) == 0o666  # no patient in it

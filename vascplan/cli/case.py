@@ -106,7 +106,7 @@ def schema(out: str | None) -> None:
     from vascplan.case.schema import case_json_schema
 
     text = json.dumps(case_json_schema(), indent=2, ensure_ascii=False) + "\n"
-    if out:
-        click.echo(f"wrote {atomic_write_text(out, text)}")
+    if out:  # nothing about a patient in it: 0666 less the umask
+        click.echo(f"wrote {atomic_write_text(out, text, mode=0o666)}")
     else:
         click.echo(safe_terminal(text), nl=False)

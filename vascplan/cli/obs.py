@@ -234,7 +234,7 @@ def template(output: str | None, guide: bool, db: str | None) -> None:
         return
     text = template_text()
     if output:
-        atomic_write_text(output, text)
+        atomic_write_text(output, text, mode=0o666)  # a blank template: no patient data
         click.echo(f"wrote {output}")
         click.echo(template_guide(), nl=False)
     else:
