@@ -95,7 +95,8 @@ def test_ical_text_drops_controls():
         ("-1+1", "'-1+1"),
         ("@SUM(A1)", "'@SUM(A1)"),
         ("\t=1", "'\t=1"),
-        ("\r=1", "'\r=1"),
+        ("\r=1", "\\u000d=1"),  # a carriage return is shown, not passed on
+        ("a\x00b", "a\\u0000b"),
         (" =1+1", "' =1+1"),  # a reader that strips spaces would see a formula
         ("\u00a0=1", "'\u00a0=1"),
         ("-3", "-3"),  # a plain number stays a number
@@ -257,7 +258,8 @@ def test_ical_text_leaves_no_control_but_newline_and_tab(text):
 def test_a_neutralised_cell_never_starts_a_formula(text):
     out = neutralise_cell(text)
     probe = out.lstrip(" \u00a0\t\r\n")
-    starts_formula = probe[:1] in ("=", "+", "-", "@") or out[:1] in ("\t", "\r")
+    assert not (set(out) & (_CONTROLS - {"\n", "\t"}))
+    starts_formula = probe[:1] in ("=", "+", "-", "@") or out[:1] == "\t"
     if starts_formula:  # only a plain number may start with a sign
         float(out)
 

@@ -223,6 +223,7 @@ _FORMULA_START = ("=", "+", "-", "@", "\t", "\r", "\n")
 def neutralise_cell(value: Any) -> Any:
     """A CSV cell a spreadsheet will not run: text starting a formula gets a leading ``'``.
 
+    Control characters but newline and tab are first made visible (:func:`safe_terminal`).
     The test is made after stripping the spaces a spreadsheet may strip, so that
     `` =1+1`` is caught too; a plain number (``-3``, ``+1.5``) is left alone. Values that
     are not text (ints, floats, None) pass unchanged.
@@ -232,6 +233,7 @@ def neutralise_cell(value: Any) -> Any:
     """
     if not isinstance(value, str) or not value:
         return value
+    value = safe_terminal(value)  # a control character (an old record) shown, not passed on
     if value[0] in ("\t", "\r", "\n"):
         return "'" + value
     probe = value.lstrip(" \u00a0\t\r\n")
