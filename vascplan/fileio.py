@@ -12,9 +12,9 @@ import json
 import os
 import re
 import tempfile
-from collections.abc import Iterable
+from collections.abc import Iterable, Iterator
 from pathlib import Path
-from typing import Any, TypeVar
+from typing import IO, Any, TypeVar
 
 import yaml
 from pydantic import BaseModel, ValidationError
@@ -303,12 +303,17 @@ def current_umask() -> int:
     return mask
 
 
-def atomic_write_bytes(path: str | os.PathLike[str], data: bytes, mode: int = 0o640) -> Path:
-    """Write ``data`` to ``path`` through a temporary file renamed into place.
+@contextlib.contextmanager
+def atomic_output(
+    path: str | os.PathLike[str], mode: int = 0o640, *, binary: bool = False
+) -> Iterator[IO[Any]]:
+    """A file written in place of ``path`` only when the block ends without error.
 
-    A failure part-way leaves the previous file (or none), never a half-written one. The
-    file gets ``mode`` less the umask: 0640 by default (patient outputs are never more
-    open); pass 0o666 for a file with nothing about a patient in it.
+    Text (UTF-8, ``\n`` kept as written) unless ``binary``. The file goes through a
+    temporary file renamed into place: a failure part-way leaves the previous file (or
+    none), never a half-written one. The file gets ``mode`` less the umask: 0640 by default
+    (patient outputs are never more open); pass 0o666 for a file with nothing about a
+    patient in it.
 
     Raises
     ------
@@ -325,20 +330,34 @@ def atomic_write_bytes(path: str | os.PathLike[str], data: bytes, mode: int = 0o
         fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent)
     except OSError as exc:
         raise InputError(src, "", _cannot_write(exc)) from None
+    done = False
     try:
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(data)
+        fh: IO[Any] = (
+            os.fdopen(fd, "wb") if binary else os.fdopen(fd, "w", encoding="utf-8", newline="")
+        )
+        with fh:
+            yield fh
             fh.flush()
             os.fsync(fh.fileno())
+        done = True  # from here on, an error is about the place, not the content
         os.chmod(tmp, mode & ~current_umask() & 0o777)
         os.replace(tmp, target)
     except BaseException as exc:
         with contextlib.suppress(OSError):
             os.unlink(tmp)
-        if isinstance(exc, OSError):
+        if done and isinstance(exc, OSError):
             raise InputError(src, "", _cannot_write(exc)) from None
         raise
-    return target
+
+
+def atomic_write_bytes(path: str | os.PathLike[str], data: bytes, mode: int = 0o640) -> Path:
+    """Write ``data`` to ``path`` atomically (see :func:`atomic_output`)."""
+    try:
+        with atomic_output(path, mode, binary=True) as fh:
+            fh.write(data)
+    except OSError as exc:  # the write itself (a full disk)
+        raise InputError(str(path), "", _cannot_write(exc)) from None
+    return Path(path)
 
 
 def _cannot_write(exc: OSError) -> str:

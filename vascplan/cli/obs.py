@@ -8,6 +8,7 @@ from __future__ import annotations
 import json
 import sys
 from datetime import UTC, datetime
+from typing import TextIO, cast
 
 import click
 
@@ -398,7 +399,8 @@ def export(
 
     Written as it is read: memory does not grow with the record.
     """
-    from vascplan.observations.export import atomic_text_output, write_export
+    from vascplan.fileio import atomic_output
+    from vascplan.observations.export import write_export
     from vascplan.surveillance.unit import parse_local_time
 
     unit = _unit(unit_path)
@@ -412,9 +414,10 @@ def export(
     generated = datetime.now(UTC)
     with _open_for_reading(db) as store:
         if output:
-            with atomic_text_output(output, mode=0o600) as fh:
+            with atomic_output(output, mode=0o600) as fh:
                 n = write_export(
-                    fh, store, unit, fmt, generated=generated, since=since, until=until
+                    cast(TextIO, fh), store, unit, fmt, generated=generated, since=since,
+                    until=until,
                 )
             click.echo(f"wrote {output} ({n} stored rows)")
             click.echo(f"Caution: {CAUTION}")
