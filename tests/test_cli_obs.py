@@ -37,9 +37,9 @@ def test_template_imports_cleanly(tmp_path, db_url):  # noqa: F811
     assert (tmp_path / "t.csv").read_text().splitlines()[0] == HEADER
     r = run("obs", "import", tmp_path / "t.csv", "--unit", U, "--db", db_url)
     assert r.exit_code == 0, r.output
-    assert r.output.startswith("stored 16 findings from ")
+    assert r.output.startswith("stored 24 findings from ")  # 16 + 8 rows of issue 13 items
     with open_store(db_url) as store:
-        assert store.count() == 16
+        assert store.count() == 24
 
 
 @pytest.mark.parametrize(

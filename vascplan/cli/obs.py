@@ -73,7 +73,12 @@ def _unit(path: str):
 
 
 _ITEM_OPTIONS = [
-    ("pulse", "SITE=GRADE", "pedal pulse, e.g. R-DPA=doppler (palpable | doppler | absent)"),
+    (
+        "pulse",
+        "SITE=GRADE",
+        "pulse at a foot or wrist artery, e.g. R-DPA=doppler or L-RAD=palpable "
+        "(palpable | doppler | absent)",
+    ),
     ("venous", "SITE=SIGNAL", "venous Doppler, e.g. R=present (present | absent)"),
     ("nirs", "SIDE=PCT", "calf tissue oxygen saturation, e.g. L=64"),
     ("refill", "SIDE=S", "capillary refill seconds, e.g. R=3"),
@@ -88,14 +93,32 @@ _ITEM_OPTIONS = [
         "[SITE=]WORD",
         "access site, e.g. R-CFA=dry or R=dry (dry | ooze | bleeding | haematoma)",
     ),
-    ("dpc", "[SITE=]WORD", "distal perfusion cannula, e.g. ok or R-SFA=ok (ok | kinked | no-flow)"),
+    (
+        "dpc",
+        "[SITE=]WORD",
+        "distal perfusion cannula, e.g. ok or R-SFA=ok (ok | kinked | no-flow | disconnected)",
+    ),
+    ("circuit-flow", "WORD", "ECMO circuit flow against the prescription (ok | low | none)"),
+    ("position", "[SITE=]WORD", "cannula, pump or balloon mark at the skin (unchanged | moved)"),
+    ("hand-colour", "SIDE=WORD", "colour of that hand (normal | pale | mottled | blue)"),
+    ("hand-temperature", "SIDE=WORD", "temperature of that hand (warm | cool | cold)"),
+    ("finger-refill", "SIDE=S", "capillary refill of the fingers, seconds, e.g. L=2"),
+    (
+        "hand-sensation",
+        "SIDE=WORD",
+        "sensation of that hand (normal | fingers | beyond-fingers | absent)",
+    ),
+    ("hand-motor", "SIDE=WORD", "movement of that hand (normal | weak | paralysed)"),
+    ("forearm", "SIDE=WORD", "forearm tension (soft | tense)"),
     ("pressure", "SITE=MMHG", "systolic pressure, e.g. R-PTA=110 or R-ARM=124"),
 ]
 
 
 def _item_options(f):
     for name, metavar, text in reversed(_ITEM_OPTIONS):
-        f = click.option(f"--{name}", name, metavar=metavar, multiple=True, help=text)(f)
+        f = click.option(
+            f"--{name}", name.replace("-", "_"), metavar=metavar, multiple=True, help=text
+        )(f)
     return f
 
 
@@ -132,7 +155,7 @@ def add(
     moment = check_time(time_text, unit.unit.tz, "--time")
     findings = []
     for name, _, _ in _ITEM_OPTIONS:
-        for text in items[name]:
+        for text in items[name.replace("-", "_")]:
             site, value = split_option(text)
             findings.append(
                 make_finding(
