@@ -316,7 +316,7 @@ def test_a_pale_cold_leg_against_the_other_leg_and_its_own_earlier_check(tmp_pat
     t = alerts[("skin-change", "R")]
     assert t.escalation == "perfusion-reduced"
     details = [a.detail for a in _alerts(store, 30)[0].alerts if a.rule == "skin-change"]
-    assert "R leg temperature cold at 20:00+00:00; warm at 19:30+00:00" in details
+    assert "R leg temperature cold at 20:00+00:00; this leg warm at 19:30+00:00" in details
     assert "R leg colour mottled at 20:00+00:00; the other leg normal" in details
     assert ("skin-change", "L") not in alerts
     store2 = _store(tmp_path, [(0, "colour", "L", "pale")], name="o2.db")

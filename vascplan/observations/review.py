@@ -684,7 +684,7 @@ def _skin_rules(
             if other is not None and utc(other.time) == utc(f.time) and other.value == normal:
                 reasons.append(f"the other leg {normal}")
             if earlier:
-                reasons.append(f"{normal} at {_hm(earlier[-1].time, tz)}")
+                reasons.append(f"this leg {normal} at {_hm(earlier[-1].time, tz)}")
             if reasons:
                 out.alerts.append(
                     _alert(
