@@ -137,14 +137,20 @@ def _item_options(f):
 @click.option(
     "--time",
     "time_text",
-    required=True,
-    help="When the check was made (ISO 8601; local to the unit without an offset).",
+    default=None,
+    help="When the check was made: now (the default), or ISO 8601 (local to the unit "
+    "without an offset).",
 )
 @click.option("--by", "by", required=True, help="Who made the check (staff id).")
 @_item_options
 @_db_option
 def add(
-    unit_path: str, bed: int, time_text: str, by: str, db: str | None, **items: tuple[str, ...]
+    unit_path: str,
+    bed: int,
+    time_text: str | None,
+    by: str,
+    db: str | None,
+    **items: tuple[str, ...],
 ) -> None:
     """Record one check: each item option is one finding (repeat an option for each site)."""
     from vascplan.observations.findings import check_time, make_finding, split_option
@@ -152,7 +158,12 @@ def add(
 
     unit = _unit(unit_path)
     patient = unit.patient_at_bed(bed)
-    moment = check_time(time_text, unit.unit.tz, "--time")
+    said = ""
+    if time_text is None or time_text.strip().lower() == "now":
+        moment = datetime.now(UTC).astimezone(unit.unit.tz).replace(second=0, microsecond=0)
+        said = " (now: " + ("no --time given" if time_text is None else "--time now") + ")"
+    else:
+        moment = check_time(time_text, unit.unit.tz, "--time")
     findings = []
     for name, _, _ in _ITEM_OPTIONS:
         for text in items[name.replace("-", "_")]:
@@ -178,9 +189,30 @@ def add(
     with open_store(db) as store:
         ids = store.record(findings, unit=unit.unit.name, kind="add", source="obs add")
     click.echo(
-        f"stored {len(ids)} findings for bed {bed} ({patient.ref}) at {moment.isoformat()}: "
-        f"entries {ids[0]}-{ids[-1]} in {store.shown}"
+        f"stored {len(ids)} findings for bed {bed} ({patient.ref}) at "
+        f"{moment.isoformat()}{said}: entries {ids[0]}-{ids[-1]} in {store.shown}"
     )
+    left = _not_in_check(unit, unit_path, patient, moment, findings)
+    if left:
+        click.echo(
+            "partial check: not recorded, so still due: " + ", ".join(left) + " (see vascplan due)"
+        )
+
+
+def _not_in_check(unit, unit_path: str, patient, moment: datetime, findings) -> list[str]:
+    """What the protocol asks at a check of ``patient`` at ``moment`` that ``findings``
+    (one check) do not record (``nirs:R``...)."""
+    from vascplan.observations.coverage import latest_by_need, needs
+    from vascplan.observations.review import unit_protocol
+
+    protocol = unit_protocol(unit, _base_dir(unit_path))
+    dev = patient.device
+    items = protocol.items_for(
+        dev.kind, bool(patient.baseline.nirs), patient.dpc_in_at(moment), dev.limb
+    )
+    wanted = needs(protocol, items)
+    seen = latest_by_need(wanted, ((f.time, f.item, f.site) for f in findings))
+    return [n.label for n in wanted if n not in seen]
 
 
 @obs.command("import", epilog="Example: vascplan obs import night-checks.csv --unit unit.yaml")
