@@ -131,6 +131,7 @@ class Escalation(_Strict):
     )
     limb: Literal["leg", "arm", "any"] = "any"
     devices: list[str] = Field(default_factory=lambda: ["all"], min_length=1)
+    when: Literal["always", "dpc-in-place"] = "always"
     call: str = Field(min_length=3, max_length=200)
     within_min: int = Field(ge=1, le=1440)
     source: str = Source
@@ -393,10 +394,11 @@ class Protocol(_Strict):
         raise KeyError(item_id)
 
     def escalation_for(
-        self, device_kind: str, limb: Literal["leg", "arm"] = "leg"
+        self, device_kind: str, limb: Literal["leg", "arm"] = "leg", dpc_in_place: bool = True
     ) -> list[tuple[Escalation, str]]:
         """The escalation criteria for a device kind and the limb at risk, in file order,
-        each with its finding in the words for that limb (``arm_finding`` for an arm).
+        each with its finding in the words for that limb (``arm_finding`` for an arm);
+        a criterion ``when: dpc-in-place`` only while a distal perfusion cannula is in.
 
         >>> p = load_protocol("standard", "u")
         >>> arm = dict((e.id, text) for e, text in p.escalation_for("microaxial-pump", "arm"))
@@ -408,6 +410,8 @@ class Protocol(_Strict):
             if "all" not in e.devices and device_kind not in e.devices:
                 continue
             if e.limb not in ("any", limb):
+                continue
+            if e.when == "dpc-in-place" and not dpc_in_place:
                 continue
             text = e.arm_finding if limb == "arm" and e.arm_finding else e.finding
             out.append((e, text))
