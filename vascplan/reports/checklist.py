@@ -484,7 +484,7 @@ def _grid(sheet: ChecklistSheet, rows: Sequence[CheckRow], width: float, row_h: 
             + ["" for _ in cols]
             + ["", ""]
         )
-    if not rows:
+    if not sheet.rows:  # (not when measuring a sheet's fixed parts with no row)
         data.append([para("none", small)] + ["" for _ in cols] + ["", ""])
     t = Table(
         data,
@@ -542,7 +542,7 @@ def escalation_box(escalation: Sequence[tuple[str, str, int]], width: float) -> 
     """The escalation criteria in a heavy box, most urgent first: the findings, whom to
     call and how fast, in the protocol's words for the patient's device and limb; findings
     that call the same people as fast share a row."""
-    small, bold = _style("ck-esc", lead=1.08), _style("ck-esc-b", bold=True, lead=1.08)
+    small, bold = _style("ck-esc", lead=1.06), _style("ck-esc-b", bold=True, lead=1.06)
     groups: dict[tuple[int, str], list[str]] = {}
     for finding, call, within in escalation:
         groups.setdefault((within, call), []).append(finding)
@@ -628,14 +628,17 @@ def _bottom(sheet: ChecklistSheet, width: float) -> Table:
     return t
 
 
+TIER_NOTE = "The tier is not a validated score (none exists)."
+"""The bedside form of :data:`NOT_VALIDATED`."""
+
 BASIS_FOOTER = (
-    "No citation on this sheet: the basis of the tier, the check times and these criteria "
-    "(sources, thresholds) is in the risk output (vascplan risk) and the case report. "
+    "Basis of the tier, times and criteria (sources, thresholds): the risk output "
+    "(vascplan risk) and the case report; none is cited here. "
 )
 
 
 def _footer(sheet: ChecklistSheet) -> Any:
-    return Paragraph(rich("{a}{b}", a=BASIS_FOOTER, b=NOT_VALIDATED), _style("ck-foot"))
+    return Paragraph(rich("{a}{b}", a=BASIS_FOOTER, b=TIER_NOTE), _style("ck-foot"))
 
 
 def _height(flowables: Sequence[Any], width: float, height: float) -> float:
