@@ -879,7 +879,9 @@ def render_table(result: UnitReview) -> str:
                 elif ln.count > 1:
                     times = f" x{ln.count}"
                 lines.append(f"      ALERT {ln.rule}{times}: {ln.detail}")
-                lines.append(f"            source: {ln.source}")
+                # The NIRS note is in the head of the table: not repeated on each line.
+                source = ln.source.replace(f"; {result.review_note}", "")
+                lines.append(f"            source: {source}")
         if not p.alerts:
             lines.append("  no alert open")
         lines.append("")
