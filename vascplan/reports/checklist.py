@@ -556,7 +556,7 @@ def escalation_box(escalation: Sequence[tuple[str, str, int]], width: float) -> 
     for (within, call), findings in sorted(groups.items(), key=lambda g: g[0][0]):
         rows.append(
             [
-                para(" | ".join(findings), small),
+                para("; or ".join(findings), small),
                 para(call, small),
                 rich_para("<b>{m} min</b>", small, m=within),
             ]
@@ -581,8 +581,13 @@ def escalation_box(escalation: Sequence[tuple[str, str, int]], width: float) -> 
     return t
 
 
-def _signatures(width: float) -> Table:
-    """The handover note and the signatures of each nurse who fills the sheet."""
+HANDOVER_MAX_PT = 90.0
+"""The most height [pt] a page's spare room adds to the handover and signature box."""
+
+
+def _signatures(width: float, extra: float = 0.0) -> Table:
+    """The handover note and the signatures of each nurse who fills the sheet; ``extra``
+    [pt] of the page's spare room makes them taller."""
     small = _style("ck-sig")
     t = Table(
         [
@@ -590,7 +595,7 @@ def _signatures(width: float) -> Table:
             [para("Initials and full name of each nurse who signs this sheet:", small)],
         ],
         colWidths=[width],
-        rowHeights=[16, 15],
+        rowHeights=[16 + 0.6 * extra, 15 + 0.4 * extra],
     )
     t.setStyle(
         TableStyle(
@@ -606,11 +611,11 @@ def _signatures(width: float) -> Table:
     return t
 
 
-def _bottom(sheet: ChecklistSheet, width: float) -> Table:
+def _bottom(sheet: ChecklistSheet, width: float, extra: float = 0.0) -> Table:
     """The footer naming where the basis is, and beside it the handover and signatures."""
     text_w = 0.5 * width
     t = Table(
-        [[_footer(sheet), _signatures(width - text_w - 3)]],
+        [[_footer(sheet), _signatures(width - text_w - 3, extra)]],
         colWidths=[text_w + 3, width - text_w - 3],
     )
     t.setStyle(
@@ -656,6 +661,7 @@ def _page(
     width: float,
     row_h: float,
     key: bool,
+    extra: float = 0.0,
 ) -> list[Any]:
     story = _header(sheet, page, pages) + [_grid(sheet, rows, width, row_h)]
     story += [para(note, _style("ck-note", 9, bold=True)) for note in sheet.notes]
@@ -665,7 +671,7 @@ def _page(
         Spacer(1, 1.5),
         escalation_box(sheet.escalation, width),
         Spacer(1, 1.5),
-        _bottom(sheet, width),
+        _bottom(sheet, width, extra),
     ]
     return story
 
@@ -681,12 +687,19 @@ def sheet_story(sheet: ChecklistSheet, width: float, height: float = 10_000.0) -
         probe = _page(sheet, sheet.rows[:0], 1, pages, width, ROW_MIN_PT, key)
         return _height(probe, width, height) + 0.5
 
+    def spare(free: float, rows: int, row_h: float) -> float:
+        """Height left under the rows, given to the handover box (at most HANDOVER_MAX_PT)."""
+        return max(0.0, min(HANDOVER_MAX_PT, free - rows * row_h - 1.0))
+
     with_key = room - fixed(True, 1)
     if with_key / n >= ROW_KEY_PT:
-        return _page(sheet, sheet.rows, 1, 1, width, min(ROW_MAX_PT, with_key / n), True)
+        row_h = min(ROW_MAX_PT, with_key / n)
+        extra = spare(with_key, n, row_h)
+        return _page(sheet, sheet.rows, 1, 1, width, row_h, True, extra)
     plain = room - fixed(False, 1)
     if plain / n >= ROW_MIN_PT:
-        return _page(sheet, sheet.rows, 1, 1, width, min(ROW_MAX_PT, plain / n), False)
+        row_h = min(ROW_MAX_PT, plain / n)
+        return _page(sheet, sheet.rows, 1, 1, width, row_h, False, spare(plain, n, row_h))
     per_page = max(1, int((room - fixed(False, 2)) // ROW_MIN_PT))
     pages = -(-n // per_page)
     per_page = -(-n // pages)  # spread the rows evenly
