@@ -12,6 +12,8 @@ from __future__ import annotations
 import json
 from datetime import datetime, timedelta
 
+import yaml
+
 from tests.test_obs_review import FULL_CHECK, PROTOCOL, T, _store, unit
 from vascplan.observations.review import render_table, review_unit, to_json
 from vascplan.surveillance.unit import load_unit
@@ -147,3 +149,23 @@ def test_monitoring_from_needs_its_offset(tmp_path):
     with pytest.raises(InputError) as exc:
         _admitted(tmp_path, "2026-12-01T19:00")
     assert "monitoring_from" in str(exc.value) and "UTC offset" in str(exc.value)
+
+
+def test_a_protocol_without_records_counts_any_finding(tmp_path):
+    # A unit's own protocol written before issue 13 (no `records` on its items): any finding
+    # of the patient counts for the whole check, as before, rather than nothing ever counting.
+    from vascplan.fileio import validate_data
+    from vascplan.paths import data_dir
+    from vascplan.surveillance.protocol import Protocol
+
+    doc = yaml.safe_load((data_dir() / "protocols" / "standard.yaml").read_text())
+    for item in doc["items"]:
+        item.pop("records", None)
+        item.pop("per_side", None)
+    old = validate_data("old.yaml", doc, Protocol)
+    store = _store(tmp_path, [(0, "nirs", "L", "68")])  # one finding at 19:30
+    (p,) = review_unit(unit, store, T + timedelta(minutes=15), protocol=old).patients
+    assert p.overdue == []  # 19:30 covers everything due up to 19:35 (tolerance 10 min)
+    (p,) = review_unit(unit, store, T + timedelta(minutes=46), protocol=old).patients
+    assert [o.due.strftime("%H:%M") for o in p.overdue] == ["20:05"]
+    assert p.overdue[0].missing[:2] == ("pulses", "nirs")  # the protocol's item ids

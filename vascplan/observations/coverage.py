@@ -23,6 +23,9 @@ from typing import Any
 from vascplan.localtime import utc
 from vascplan.observations.findings import SIDES, WRIST_ARTERIES, side_of
 
+ANY_FINDING = "*"
+"""``Need.records`` of a protocol item that names no observation item: any finding counts."""
+
 ARM_PULSE_ARTERIES = (*WRIST_ARTERIES, "BRA")
 """Arteries whose pulse counts for the arm below an arm device (the wrist, and the brachial
 for a radial device)."""
@@ -51,15 +54,19 @@ class Need:
 
     @property
     def label(self) -> str:
-        """``refill:R``; the item word alone when it is not per side (``dpc``)."""
+        """``refill:R``; the item word alone when it is not per side (``dpc``); the
+        protocol's item id when it names no observation item."""
+        if self.records == ANY_FINDING:
+            return self.item
         return f"{self.records}:{self.side}" if self.side else self.records
 
 
 def needs(protocol: Any, item_ids: Iterable[str]) -> list[Need]:
     """What a check of ``item_ids`` must record, in protocol order, left before right.
 
-    Items that name no observation item (a custom protocol's free-text item) need nothing
-    the record can show and are left out.
+    An item that names no observation item (a unit's own protocol without ``records``)
+    is covered by any finding of the patient, as before items were tracked one by one;
+    its label is the item's id.
 
     >>> from vascplan.surveillance.protocol import load_protocol
     >>> p = load_protocol("standard", "u")
@@ -70,6 +77,7 @@ def needs(protocol: Any, item_ids: Iterable[str]) -> list[Need]:
     for item_id in item_ids:
         item = protocol.item(item_id)
         if item.records is None:
+            out.append(Need(item.id, ANY_FINDING, None, item.limb))
             continue
         sides: Sequence[str | None] = SIDES if item.per_side else (None,)
         out.extend(Need(item.id, item.records, s, item.limb) for s in sides)
@@ -77,6 +85,8 @@ def needs(protocol: Any, item_ids: Iterable[str]) -> list[Need]:
 
 
 def _matches(need: Need, item: str, site: str) -> bool:
+    if need.records == ANY_FINDING:
+        return True
     if item != need.records:
         return False
     if need.side is None:
