@@ -394,6 +394,10 @@ def test_review_exit_zero_when_nothing_open(tmp_path):
         "R-CFA=dry",
         "--refill",
         "R=2",
+        # issue 13: a check counts only for what it records, so the whole check is entered
+        *("--refill", "L=2", "--colour", "L=normal", "--colour", "R=normal"),
+        *("--temperature", "L=warm", "--temperature", "R=warm", "--calf", "L=soft"),
+        *("--calf", "R=soft"),
     )
     code, doc = _review(unit, db, "2026-09-10T09:30")
     assert code == 0, doc
@@ -444,6 +448,10 @@ def test_ali_category_reporting_standard(tmp_path, sensation, motor, pulse, veno
         "L=normal",
         "--pulse",
         "L-DPA=palpable",
+        # issue 13: a check counts only for what it records, so the rest of it is entered
+        *("--refill", "L=2", "--refill", "R=2", "--colour", "L=normal", "--colour", "R=normal"),
+        *("--temperature", "L=warm", "--temperature", "R=warm", "--calf", "L=soft"),
+        *("--calf", "R=soft", "--access", "R-CFA=dry"),
     )
     code, doc = _review(unit, db, "2026-09-10T09:10")
     p = _patient(doc, "DEMO-62")
@@ -738,7 +746,10 @@ def test_review_quiet_for_normal_findings_and_unlost_signals(tmp_path):
     )
     code, doc = _review(unit, db, "2026-09-10T09:05")
     p = _patient(doc, "DEMO-62")
-    assert p["alerts"] == [] and code == 0
+    # Issue 13: this partial check leaves motor, calf and the left leg due, so the only alert
+    # open is the overdue check, naming what is missing; no finding raises one.
+    assert [a["rule"] for a in p["alerts"]] == ["check-overdue"] and code == 1
+    assert "motor:R" in p["overdue"][-1]["missing"] and "pulse:R" not in p["overdue"][-1]["missing"]
     assert p["ali_category"] is None
 
 

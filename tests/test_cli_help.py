@@ -73,7 +73,7 @@ def test_unknown_command_exits_2():
         (
             ["plna"],
             "error: vascplan: no command 'plna' (did you mean 'plan'?); commands are checklist, "
-            "demo, obs, plan, report, risk, rota, schema, sheath-flow, tree, validate "
+            "demo, due, obs, plan, report, risk, rota, schema, sheath-flow, tree, validate "
             "(see vascplan --help)",
         ),
     ],

@@ -37,9 +37,9 @@ def test_template_imports_cleanly(tmp_path, db_url):  # noqa: F811
     assert (tmp_path / "t.csv").read_text().splitlines()[0] == HEADER
     r = run("obs", "import", tmp_path / "t.csv", "--unit", U, "--db", db_url)
     assert r.exit_code == 0, r.output
-    assert r.output.startswith("stored 16 findings from ")
+    assert r.output.startswith("stored 24 findings from ")  # 16 + 8 rows of issue 13 items
     with open_store(db_url) as store:
-        assert store.count() == 16
+        assert store.count() == 24
 
 
 @pytest.mark.parametrize(
@@ -260,15 +260,26 @@ def _quiet_check(tmp_path, db, time):
         for item, site, value in [
             ("pulse", "R-DPA", "doppler"),
             ("pulse", "R-PTA", "doppler"),
+            ("pulse", "L-DPA", "palpable"),
             ("venous", "R", "present"),
             ("nirs", "L", "68"),
             ("nirs", "R", "66"),
             ("refill", "R", "2"),
+            ("refill", "L", "2"),
+            ("colour", "L", "normal"),
+            ("colour", "R", "normal"),
+            ("temperature", "L", "warm"),
+            ("temperature", "R", "warm"),
+            ("sensation", "L", "normal"),
             ("sensation", "R", "normal"),
+            ("motor", "L", "normal"),
             ("motor", "R", "normal"),
+            ("calf", "L", "soft"),
             ("calf", "R", "soft"),
             ("access", "R", "dry"),
             ("dpc", "", "ok"),
+            ("circuit-flow", "", "ok"),
+            ("position", "", "unchanged"),
         ]
     ]
     p = _csv(tmp_path, rows, name=f"c{time[11:13]}{time[14:16]}.csv")
@@ -293,10 +304,19 @@ def test_review_exit_status_and_json_contract(tmp_path, db_url):  # noqa: F811
     r = run("obs", "review", U, "--at", "2026-12-01T21:00", "--format", "json", "--db", db_url)
     assert r.exit_code == 1
     (p,) = json.loads(r.output)["patients"]
+    # Nothing recorded since: each lists every item of the standard protocol for a femoral
+    # VA-ECMO with NIRS and a distal cannula (standard.yaml items, left before right).
+    everything = [
+        *[f"{i}:{s}" for i in ("pulse", "nirs", "colour", "temperature", "refill",
+                               "sensation", "motor", "calf") for s in ("L", "R")],
+        "access", "dpc", "circuit-flow", "position",
+    ]  # fmt: skip
     assert p["overdue"] == [
-        {"due": "2026-12-01T20:05:00+00:00", "minutes_late": 55, "phase": "maintenance"},
-        {"due": "2026-12-01T20:35:00+00:00", "minutes_late": 25, "phase": "maintenance"},
-    ]
+        {"due": "2026-12-01T20:05:00+00:00", "minutes_late": 55, "phase": "maintenance",
+         "missing": everything},
+        {"due": "2026-12-01T20:35:00+00:00", "minutes_late": 25, "phase": "maintenance",
+         "missing": everything},
+    ]  # fmt: skip
     assert [a["rule"] for a in p["alerts"]] == ["check-overdue"]
     assert set(p["alerts"][0]) >= {"rule", "detail", "source", "call"}
 

@@ -19,7 +19,15 @@ ISSUE_WORDS = {
     "motor": {"normal", "weak", "paralysed"},
     "calf": {"soft", "tense"},
     "access": {"dry", "ooze", "bleeding", "haematoma"},
-    "dpc": {"ok", "kinked", "no-flow"},
+    "dpc": {"ok", "kinked", "no-flow", "disconnected"},
+    # issue 13: device and circuit items, and the hand below an arm device
+    "circuit-flow": {"ok", "low", "none"},
+    "position": {"unchanged", "moved"},
+    "hand-colour": {"normal", "pale", "mottled", "blue"},
+    "hand-temperature": {"warm", "cool", "cold"},
+    "hand-sensation": {"normal", "fingers", "beyond-fingers", "absent"},
+    "hand-motor": {"normal", "weak", "paralysed"},
+    "forearm": {"soft", "tense"},
 }
 
 
@@ -38,10 +46,18 @@ def test_vocabulary_matches_the_issue():
         "access",
         "dpc",
         "pressure",
+        "circuit-flow",
+        "position",
+        "hand-colour",
+        "hand-temperature",
+        "finger-refill",
+        "hand-sensation",
+        "hand-motor",
+        "forearm",
     }
     for item, words in ISSUE_WORDS.items():
         assert set(ITEMS[item].values) == words
-    for item in ("nirs", "refill", "pain", "pressure"):
+    for item in ("nirs", "refill", "pain", "pressure", "finger-refill"):
         assert ITEMS[item].numeric
 
 
@@ -94,7 +110,8 @@ def test_error_lines_name_file_field_and_allowed():
     assert msg(item="nirss") == (
         "f.csv: line 4: item: unknown item 'nirss' (did you mean 'nirs'?); items are "
         "pulse, venous, nirs, refill, colour, temperature, sensation, motor, calf, "
-        "pain, access, dpc, pressure"
+        "pain, access, dpc, circuit-flow, position, hand-colour, hand-temperature, "
+        "finger-refill, hand-sensation, hand-motor, forearm, pressure"
     )
     assert msg(value="101") == "f.csv: line 4: value: nirs must be 0-100 %, got 101"
     assert msg(value="abc") == "f.csv: line 4: value: nirs must be a number 0-100, got 'abc'"

@@ -137,14 +137,86 @@ def test_a_correction_changes_the_review(tmp_path):
     assert [e.value for e in store.entries(unit.unit.name)] == ["tense", "soft"]
 
 
+# Everything the standard protocol asks at a check of bed 1 (femoral VA-ECMO, NIRS baseline,
+# distal cannula in): standard.yaml items pulses, nirs, colour, temperature, capillary-refill,
+# sensation, movement, calf (each leg), access-site, dpc, circuit-flow, pump-position.
+FULL_CHECK = [
+    *[
+        (item, side, value)
+        for side in ("L", "R")
+        for item, value in (
+            ("nirs", "66"),
+            ("refill", "2"),
+            ("colour", "normal"),
+            ("temperature", "warm"),
+            ("sensation", "normal"),
+            ("motor", "normal"),
+            ("calf", "soft"),
+        )
+    ],
+    ("pulse", "L-DPA", "palpable"),
+    ("pulse", "R-DPA", "doppler"),
+    ("access", "R", "dry"),
+    ("dpc", "", "ok"),
+    ("circuit-flow", "", "ok"),
+    ("position", "", "unchanged"),
+]
+
+
 def test_overdue_against_the_schedule(tmp_path):
     # Raised tier, maintenance every 30 min from 18:35 (standard protocol, tolerance 10 min).
-    store = _store(tmp_path, [(0, "nirs", "L", "68")])  # 19:30 covers the 19:35 check
+    store = _store(tmp_path, [(0, *f) for f in FULL_CHECK])  # 19:30 covers the 19:35 check
     p, _ = _alerts(store, minutes=15)  # 19:45: 19:35 + 10 not yet passed for a check after 19:25
     assert p.overdue == []
     p, alerts = _alerts(store, minutes=46)  # 20:16: 20:05 + 10 has passed
     assert [(o.due.strftime("%H:%M"), o.minutes_late) for o in p.overdue] == [("20:05", 11)]
     assert alerts[("check-overdue", None)].call == "Nurse in charge of the shift (within 15 min)"
+
+
+def test_a_partial_check_leaves_the_other_items_due(tmp_path):
+    # Issue 13: a check counts only for what it records. The full 19:30 check less NIRS of the
+    # left leg and refill of the right: the 19:35 check (window opened 19:25) still wants them.
+    partial = [f for f in FULL_CHECK if f[:2] not in (("nirs", "L"), ("refill", "R"))]
+    p, _ = _alerts(_store(tmp_path, [(0, *f) for f in partial]), minutes=16)  # 19:46
+    # Every check since insertion, up to the one due 19:35, still wants exactly those two.
+    assert p.overdue[-1].due.strftime("%H:%M") == "19:35"
+    assert {o.missing for o in p.overdue} == {("nirs:L", "refill:R")}
+    assert p.overdue[-1].partial
+
+
+def test_one_limb_leaves_the_other_limb_due(tmp_path):
+    # Issue 13: the right leg's items recorded, the left's not: only the left is missing.
+    right_only = [f for f in FULL_CHECK if not f[1].startswith("L")]
+    p, _ = _alerts(_store(tmp_path, [(0, *f) for f in right_only]), minutes=16)
+    assert p.overdue[-1].missing == (
+        "pulse:L",
+        "nirs:L",
+        "colour:L",
+        "temperature:L",
+        "refill:L",
+        "sensation:L",
+        "motor:L",
+        "calf:L",
+    )
+
+
+def test_a_single_item_no_longer_clears_every_overdue_check(tmp_path):
+    # Before issue 13 one NIRS reading at 19:30 cleared every earlier overdue check. Now the
+    # checks since insertion stay overdue for what was not recorded. Schedule by hand
+    # (standard.yaml; tier raised for a 17 Fr cannula): inserted 14:20, every 15 min: 14:35,
+    # 14:50, 15:05; the distal cannula at 15:05 restarts the phases (new_cannula_restarts):
+    # 15:20, 15:35, 15:50, 16:05 (15 min for 60 min), 16:35, 17:05, 17:35, 18:05 (30 min for
+    # 120 min), maintenance every 30 min (raised tier): 18:35, 19:05, 19:35. At 20:01 the
+    # 19:35 check's 10-min tolerance has run out: 14 overdue.
+    p, _ = _alerts(_store(tmp_path, [(0, "nirs", "L", "68")]), minutes=31)
+    assert [o.due.strftime("%H:%M") for o in p.overdue] == [
+        "14:35", "14:50", "15:05", "15:20", "15:35", "15:50", "16:05",
+        "16:35", "17:05", "17:35", "18:05", "18:35", "19:05", "19:35",
+    ]  # fmt: skip
+    assert all("nirs:R" in o.missing for o in p.overdue)
+    # 19:30 is after every one of their windows opened: the left NIRS is seen for all.
+    assert not any("nirs:L" in o.missing for o in p.overdue)
+
 
 
 def test_refill_and_access_and_dpc(tmp_path):
@@ -244,7 +316,7 @@ def test_a_pale_cold_leg_against_the_other_leg_and_its_own_earlier_check(tmp_pat
     t = alerts[("skin-change", "R")]
     assert t.escalation == "perfusion-reduced"
     details = [a.detail for a in _alerts(store, 30)[0].alerts if a.rule == "skin-change"]
-    assert "R leg temperature cold at 20:00+00:00; warm at 19:30+00:00" in details
+    assert "R leg temperature cold at 20:00+00:00; this leg warm at 19:30+00:00" in details
     assert "R leg colour mottled at 20:00+00:00; the other leg normal" in details
     assert ("skin-change", "L") not in alerts
     store2 = _store(tmp_path, [(0, "colour", "L", "pale")], name="o2.db")

@@ -23,6 +23,7 @@ SITES = {
     "artery-or-arm": ["R-PTA", "L-ARM"],
     "optional-side": ["", "R"],
     "optional-artery-or-side": ["", "L", "R-CFA"],
+    "none": [""],
 }
 
 

@@ -179,7 +179,12 @@ def test_trend_marks_checks_overdue_now(tmp_path):
     # then none: at 21:00 the 20:05 and 20:35 checks are past their 10-min tolerance.
     db = tmp_path / "o.db"
     csv = tmp_path / "c.csv"
-    csv.write_text("time,bed,ref,by,item,site,value\n2026-12-01T19:30,1,DEMO-11,RN-A,nirs,L,66\n")
+    # A whole check (issue 13: a check counts only for what it records; the items of
+    # standard.yaml for this femoral VA-ECMO with NIRS and a distal cannula).
+    from tests.test_obs_review import FULL_CHECK
+
+    rows = "".join(f"2026-12-01T19:30,1,DEMO-11,RN-A,{i},{s},{v}\n" for i, s, v in FULL_CHECK)
+    csv.write_text("time,bed,ref,by,item,site,value\n" + rows)
     assert run("obs", "import", csv, "--unit", UNIT, "--db", db).exit_code == 0
     out = tmp_path / "t.pdf"
     r = run("obs", "trend", UNIT, "--bed", 1, "-o", out, "--at", "2026-12-01T21:00", "--db", db)

@@ -208,7 +208,9 @@ def test_twelve_checks_fit_one_sheet(paper):
     assert len(pages) == 1
     for needle in ("CALL AT ONCE IF YOU FIND", "Key.", "Initials and full name", CAUTION):
         assert needle in pages[0]
-    assert "every (min)" in pages[0]
+    # Issue 13: each limb on its own and a column for the action taken or whom was called.
+    assert "Action taken / escalated to" in pages[0]
+    assert "L, R: left and right leg" in pages[0]
 
 
 def test_tier_change_inside_the_shift_is_printed():

@@ -225,7 +225,8 @@ def test_axillary_device_checks_the_arm():
         unit, p, PROTOCOL, p.device.inserted, p.device.inserted + timedelta(hours=12)
     )
     for c in checks:
-        assert {"arm-pulses", "hand-sensation-movement", "forearm"} <= set(c.items)
+        # issue 13 split the hand's sensation and movement into two items
+        assert {"arm-pulses", "hand-sensation", "hand-movement", "forearm"} <= set(c.items)
         assert not {"pulses", "calf", "capillary-refill"} & set(c.items)
     # Sydney clocks go back 2026-04-05 03:00 AEDT -> 02:00 AEST: hourly stays 60 real minutes.
     maint = [c.due.astimezone(UTC) for c in checks if c.phase == "maintenance"]

@@ -92,6 +92,34 @@ def _unit_inserted(zone: str, inserted: datetime):
     return make_unit(zone, [sheath_patient(1, inserted.isoformat())])
 
 
+# A whole check of the sheath patient (standard.yaml items for a large-bore sheath in the
+# leg: pulses, colour, temperature, capillary refill, sensation, movement, calf on each side,
+# and the access site): since issue 13 a check counts only for what it records.
+SHEATH_CHECK = [
+    *[
+        (item, side, value)
+        for side in ("L", "R")
+        for item, value in (
+            ("colour", "normal"),
+            ("temperature", "warm"),
+            ("refill", "2"),
+            ("sensation", "normal"),
+            ("motor", "normal"),
+            ("calf", "soft"),
+        )
+    ],
+    ("pulse", "L-DPA", "palpable"),
+    ("pulse", "R-DPA", "palpable"),
+    ("access", "R", "dry"),
+]
+SHEATH_NEEDS = [
+    f"{item}:{side}"
+    for item in ("pulse", "colour", "temperature", "refill", "sensation", "motor", "calf")
+    for side in ("L", "R")
+] + ["access"]
+"""What an overdue check of the sheath patient lists as missing when nothing was recorded."""
+
+
 def _store_with(tmp_path, unit, times: list[datetime], name: str = "o.db"):
     from vascplan.observations.findings import make_finding
 
@@ -102,12 +130,13 @@ def _store_with(tmp_path, unit, times: list[datetime], name: str = "o.db"):
             bed=1,
             ref=unit.patients[0].ref,
             by="RN-A",
-            item="calf",
-            site="R",
-            value="soft",
+            item=item,
+            site=site,
+            value=value,
             source="t",
         )
         for t in times
+        for item, site, value in SHEATH_CHECK
     ]
     store.record(findings, unit=unit.unit.name, kind="add", source="t")
     return store
@@ -156,7 +185,7 @@ def test_a_check_due_in_the_repeated_hour_is_overdue_once(
     (pj,) = to_json(result)["patients"]
     assert pj["overdue"] == [
         {"due": f"{day}T{due_text_[:5]}:00{due_text_[5:]}", "minutes_late": 30,
-         "phase": "maintenance"}
+         "phase": "maintenance", "missing": SHEATH_NEEDS}
     ]  # fmt: skip
 
 

@@ -37,6 +37,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "report": ("vascplan.cli.reports:report", "Case-conference PDF with the drawn arterial map."),
     "checklist": ("vascplan.cli.reports:checklist", "Nursing checklist PDF for a shift."),
     "obs": ("vascplan.cli.obs:obs", "Record, review, plot and export limb checks."),
+    "due": ("vascplan.cli.shift:due", "The checks overdue and due soon, bed by bed."),
     "demo": ("vascplan.cli.demo:demo", "Run every job on the bundled invented examples."),
 }
 

@@ -102,7 +102,12 @@ def _unit(path: str):
 
 
 _ITEM_OPTIONS = [
-    ("pulse", "SITE=GRADE", "pedal pulse, e.g. R-DPA=doppler (palpable | doppler | absent)"),
+    (
+        "pulse",
+        "SITE=GRADE",
+        "pulse at a foot or wrist artery, e.g. R-DPA=doppler or L-RAD=palpable "
+        "(palpable | doppler | absent)",
+    ),
     ("venous", "SITE=SIGNAL", "venous Doppler, e.g. R=present (present | absent)"),
     ("nirs", "SIDE=PCT", "calf tissue oxygen saturation, e.g. L=64"),
     ("refill", "SIDE=S", "capillary refill seconds, e.g. R=3"),
@@ -117,14 +122,32 @@ _ITEM_OPTIONS = [
         "[SITE=]WORD",
         "access site, e.g. R-CFA=dry or R=dry (dry | ooze | bleeding | haematoma)",
     ),
-    ("dpc", "[SITE=]WORD", "distal perfusion cannula, e.g. ok or R-SFA=ok (ok | kinked | no-flow)"),
+    (
+        "dpc",
+        "[SITE=]WORD",
+        "distal perfusion cannula, e.g. ok or R-SFA=ok (ok | kinked | no-flow | disconnected)",
+    ),
+    ("circuit-flow", "WORD", "ECMO circuit flow against the prescription (ok | low | none)"),
+    ("position", "[SITE=]WORD", "cannula, pump or balloon mark at the skin (unchanged | moved)"),
+    ("hand-colour", "SIDE=WORD", "colour of that hand (normal | pale | mottled | blue)"),
+    ("hand-temperature", "SIDE=WORD", "temperature of that hand (warm | cool | cold)"),
+    ("finger-refill", "SIDE=S", "capillary refill of the fingers, seconds, e.g. L=2"),
+    (
+        "hand-sensation",
+        "SIDE=WORD",
+        "sensation of that hand (normal | fingers | beyond-fingers | absent)",
+    ),
+    ("hand-motor", "SIDE=WORD", "movement of that hand (normal | weak | paralysed)"),
+    ("forearm", "SIDE=WORD", "forearm tension (soft | tense)"),
     ("pressure", "SITE=MMHG", "systolic pressure, e.g. R-PTA=110 or R-ARM=124"),
 ]
 
 
 def _item_options(f):
     for name, metavar, text in reversed(_ITEM_OPTIONS):
-        f = click.option(f"--{name}", name, metavar=metavar, multiple=True, help=text)(f)
+        f = click.option(
+            f"--{name}", name.replace("-", "_"), metavar=metavar, multiple=True, help=text
+        )(f)
     return f
 
 
@@ -143,8 +166,9 @@ def _item_options(f):
 @click.option(
     "--time",
     "time_text",
-    required=True,
-    help="When the check was made (ISO 8601; local to the unit without an offset).",
+    default=None,
+    help="When the check was made: now (the default), or ISO 8601 (local to the unit "
+    "without an offset).",
 )
 @click.option(
     "--by", "by", required=True, callback=_identifier, help="Who made the check (staff id)."
@@ -152,20 +176,31 @@ def _item_options(f):
 @_item_options
 @_db_option
 def add(
-    unit_path: str, bed: int, time_text: str, by: str, db: str | None, **items: tuple[str, ...]
+    unit_path: str,
+    bed: int,
+    time_text: str | None,
+    by: str,
+    db: str | None,
+    **items: tuple[str, ...],
 ) -> None:
     """Record one check: each item option is one finding (repeat an option for each site)."""
     from vascplan.observations.findings import check_time, make_finding, split_option
     from vascplan.observations.store import open_store
     from vascplan.plausibility import check_check_time
+    from vascplan.plausibility import now as plausible_now
 
     unit = _unit(unit_path)
     patient = unit.patient_at_bed(bed)
-    moment = check_time(time_text, unit.unit.tz, "--time")
+    said = ""
+    if time_text is None or time_text.strip().lower() == "now":
+        moment = plausible_now().astimezone(unit.unit.tz).replace(second=0, microsecond=0)
+        said = " (now: " + ("no --time given" if time_text is None else "--time now") + ")"
+    else:
+        moment = check_time(time_text, unit.unit.tz, "--time")
     check_check_time(moment, patient.device.inserted, "--time")
     findings = []
     for name, _, _ in _ITEM_OPTIONS:
-        for text in items[name]:
+        for text in items[name.replace("-", "_")]:
             site, value = split_option(text)
             findings.append(
                 make_finding(
@@ -188,9 +223,30 @@ def add(
     with open_store(db) as store:
         ids = store.record(findings, unit=unit.unit.name, kind="add", source="obs add")
     click.echo(
-        f"stored {len(ids)} findings for bed {bed} ({patient.ref}) at {moment.isoformat()}: "
-        f"entries {ids[0]}-{ids[-1]} in {store.shown}"
+        f"stored {len(ids)} findings for bed {bed} ({patient.ref}) at "
+        f"{moment.isoformat()}{said}: entries {ids[0]}-{ids[-1]} in {store.shown}"
     )
+    left = _not_in_check(unit, unit_path, patient, moment, findings)
+    if left:
+        click.echo(
+            "partial check: not recorded, so still due: " + ", ".join(left) + " (see vascplan due)"
+        )
+
+
+def _not_in_check(unit, unit_path: str, patient, moment: datetime, findings) -> list[str]:
+    """What the protocol asks at a check of ``patient`` at ``moment`` that ``findings``
+    (one check) do not record (``nirs:R``...)."""
+    from vascplan.observations.coverage import latest_by_need, needs
+    from vascplan.observations.review import unit_protocol
+
+    protocol = unit_protocol(unit, _base_dir(unit_path))
+    dev = patient.device
+    items = protocol.items_for(
+        dev.kind, bool(patient.baseline.nirs), patient.dpc_in_at(moment), dev.limb
+    )
+    wanted = needs(protocol, items)
+    seen = latest_by_need(wanted, ((f.time, f.item, f.site) for f in findings))
+    return [n.label for n in wanted if n not in seen]
 
 
 @obs.command("import", epilog="Example: vascplan obs import night-checks.csv --unit unit.yaml")

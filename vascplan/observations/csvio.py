@@ -51,6 +51,14 @@ def template_text() -> str:
         ("dpc", "R", "ok"),
         ("pressure", "R-PTA", "112"),
         ("pressure", "R-ARM", "124"),
+        ("circuit-flow", "", "ok"),
+        ("position", "", "unchanged"),
+        ("hand-colour", "L", "normal"),
+        ("hand-temperature", "L", "warm"),
+        ("finger-refill", "L", "2"),
+        ("hand-sensation", "L", "normal"),
+        ("hand-motor", "L", "normal"),
+        ("forearm", "L", "soft"),
     ]
     assert {e[0] for e in examples} == set(ITEMS), "the template shows every item"
     out = io.StringIO()

@@ -43,10 +43,16 @@ STANDARD_CODES: dict[str, tuple[str, str, str]] = {
     # item -> (system, code, display as published; confirmed in REFERENCES.md (seen) and in
     # FHIR implementation guides that use the code with this display)
     "refill": (LOINC, "44963-7", "Capillary refill [Time] of Nail bed"),
+    # The nail bed is a finger's or a toe's: the same code fits the fingers below an arm device.
+    "finger-refill": (LOINC, "44963-7", "Capillary refill [Time] of Nail bed"),
     "pain": (LOINC, "72514-3", "Pain severity - 0-10 verbal numeric rating [Score] - Reported"),
 }
 """Items with a confirmed standard code. ``pulse`` keeps a local code: LOINC 44974-4 is
-pulse intensity *by palpation*, and our grade ``doppler`` is not a palpation finding."""
+pulse intensity *by palpation*, and our grade ``doppler`` is not a palpation finding; its
+display ("arterial pulse at one artery (foot, leg, wrist or arm)...") names no limb, the
+artery is in ``bodySite``. The device and circuit items (``circuit-flow``, ``position``,
+``dpc``) and the hand items other than finger refill have no standard code we could confirm:
+they use the local system :data:`LOCAL_ITEM` with the item's meaning as display and text."""
 ABI_CODE = (SNOMED, "446841001", "Ankle brachial pressure index (observable entity)")
 """SNOMED CT 446841001 (REFERENCES.md, seen in a draft implementation guide; the same
 fully specified name is used by HL7 Lithuania's CVD guide)."""

@@ -53,7 +53,8 @@ class ItemSpec:
     sites : str
         ``side`` (L or R), ``artery`` (``R-DPA``), ``artery-or-side``,
         ``artery-or-arm`` (``L-ARM``), ``optional-side`` (empty, L or R), or
-        ``optional-artery-or-side`` (empty, L, R or an artery such as ``R-CFA``).
+        ``optional-artery-or-side`` (empty, L, R or an artery such as ``R-CFA``), or
+        ``none`` (no site). For the hand items, ``L``/``R`` is the arm of that side.
     values : tuple of str
         Allowed words, or empty for a number.
     number_range : tuple of float, optional
@@ -82,7 +83,13 @@ class ItemSpec:
 ITEMS: dict[str, ItemSpec] = {
     spec.name: spec
     for spec in (
-        ItemSpec("pulse", "artery", PULSE_GRADES, meaning="pedal or leg pulse at one artery"),
+        ItemSpec(
+            "pulse",
+            "artery",
+            PULSE_GRADES,
+            meaning="arterial pulse at one artery (foot, leg, wrist or arm), by palpation or "
+            "Doppler",
+        ),
         ItemSpec(
             "venous", "artery-or-side", ("present", "absent"), meaning="venous Doppler signal"
         ),
@@ -134,9 +141,54 @@ ITEMS: dict[str, ItemSpec] = {
         ItemSpec(
             "dpc",
             "optional-artery-or-side",
-            ("ok", "kinked", "no-flow"),
+            ("ok", "kinked", "no-flow", "disconnected"),
             meaning="distal perfusion cannula: connection and flow",
         ),
+        ItemSpec(
+            "circuit-flow",
+            "none",
+            ("ok", "low", "none"),
+            meaning="ECMO circuit flow against the prescribed flow: as prescribed, low, none",
+        ),
+        ItemSpec(
+            "position",
+            "optional-artery-or-side",
+            ("unchanged", "moved"),
+            meaning="cannula, pump or balloon position mark at the skin",
+        ),
+        ItemSpec(
+            "hand-colour",
+            "side",
+            ("normal", "pale", "mottled", "blue"),
+            meaning="skin colour of the hand and fingers",
+        ),
+        ItemSpec(
+            "hand-temperature",
+            "side",
+            ("warm", "cool", "cold"),
+            meaning="skin temperature of the hand to touch",
+        ),
+        # 0-20 s: common practice, a range that catches slips (normal is under 2-3 s).
+        ItemSpec(
+            "finger-refill",
+            "side",
+            number_range=(0, 20),
+            unit="s",
+            meaning="capillary refill time of the fingers, seconds",
+        ),
+        ItemSpec(
+            "hand-sensation",
+            "side",
+            ("normal", "fingers", "beyond-fingers", "absent"),
+            meaning="sensation of the hand: normal, lost in the fingers, lost beyond, absent",
+        ),
+        ItemSpec(
+            "hand-motor",
+            "side",
+            ("normal", "weak", "paralysed"),
+            meaning="movement of the hand and fingers",
+        ),
+        ItemSpec("forearm", "side", ("soft", "tense"), meaning="forearm tension"),
         # 0-300 mmHg: common practice, a range that catches slips.
         ItemSpec(
             "pressure",
@@ -156,6 +208,7 @@ _SITE_HELP = {
     "artery-or-arm": "an artery such as R-PTA, or L-ARM / R-ARM",
     "optional-side": "empty, L or R",
     "optional-artery-or-side": "empty, L, R or an artery such as R-CFA",
+    "none": "no site (leave it empty)",
 }
 
 
@@ -221,6 +274,7 @@ def check_site(item: str, site: str) -> str:
         or (kind == "artery-or-arm" and (site in ARMS or artery))
         or (kind == "optional-side" and site in ("", *SIDES))
         or (kind == "optional-artery-or-side" and (site in ("", *SIDES) or artery))
+        or (kind == "none" and site == "")
     )
     if not ok:
         shown = repr(site) if site else "empty"

@@ -23,6 +23,7 @@ from typing import Any
 
 from vascplan.localtime import day_hm, hm, utc
 from vascplan.observations.abi import AbiResult, ankle_brachial_index, arm_sites
+from vascplan.observations.alerts import group_alerts, group_key
 from vascplan.observations.ali import AliResult, classify_leg, worst
 from vascplan.observations.findings import PEDAL_ARTERIES, SIDES, WRIST_ARTERIES
 from vascplan.observations.store import CurrentFinding, ObservationStore
@@ -132,6 +133,30 @@ RULES: dict[str, Rule] = {
         Rule(
             "abi-abnormal", ("perfusion-reduced",), ABI_SOURCE, "ankle-brachial index 0.90 or below"
         ),
+        Rule(
+            "circuit-fault",
+            ("circuit-fault",),
+            "unit policy (ECMO circuit flow below the prescription)",
+            "ECMO circuit flow low or none",
+        ),
+        Rule(
+            "device-moved",
+            ("device-moved",),
+            "unit policy (device position watched at the skin mark)",
+            "cannula, pump or balloon mark moved",
+        ),
+        Rule(
+            "forearm-tense",
+            ("compartment",),
+            "compartment syndrome signs (REFERENCES.md, seen), applied to the arm",
+            "a tense forearm",
+        ),
+        Rule(
+            "finger-refill-slow",
+            ("perfusion-reduced",),
+            "protocol review threshold capillary_refill_slow_s, applied to the fingers",
+            "finger capillary refill slower than the threshold",
+        ),
     )
 }
 
@@ -175,11 +200,22 @@ class Alert:
 
 @dataclass(frozen=True)
 class Overdue:
-    """A scheduled check with no check recorded since its window opened."""
+    """A scheduled check with part or all of it not recorded since its window opened.
+
+    ``missing`` lists what is still to record (``nirs:L``, ``refill:R``, ``dpc``: see
+    :mod:`~vascplan.observations.coverage`); ``items`` is everything the check asks for.
+    """
 
     due: datetime
     minutes_late: int
     phase: str
+    missing: tuple[str, ...] = ()
+    items: tuple[str, ...] = ()
+
+    @property
+    def partial(self) -> bool:
+        """Some of the check was recorded, not all."""
+        return 0 < len(self.missing) < len(self.items)
 
 
 @dataclass
@@ -256,30 +292,57 @@ def _hm(moment: datetime, tz) -> str:
 
 
 def overdue_checks(
-    unit: Unit, patient: Patient, protocol: Protocol, check_times: list[datetime], at: datetime
+    unit: Unit,
+    patient: Patient,
+    protocol: Protocol,
+    check_times: list[datetime],
+    at: datetime,
+    findings: list[CurrentFinding] | None = None,
 ) -> list[Overdue]:
     """Scheduled checks overdue at ``at``.
 
     A scheduled check is overdue when its tolerance has run out (``due + tolerance_min``
-    before ``at``) and no check of the patient was recorded at or after ``due -
-    tolerance_min``: a check counts for every scheduled check whose window had opened
-    by then (the leg has been seen since).
+    before ``at``) and part of it was not recorded at or after ``due - tolerance_min``:
+    a finding counts for every scheduled check whose window had opened by then (the limb
+    has been seen since). With ``findings``, a check counts only for the items and sides
+    it records (:mod:`~vascplan.observations.coverage`); without, any check of the
+    patient counts for the whole check. Nothing is due before the patient's monitoring
+    start (:func:`~vascplan.surveillance.schedule.monitoring_start`).
     """
+    from vascplan.observations.coverage import latest_by_need, missing, needs
+    from vascplan.observations.findings import ENTERED_IN_ERROR
+
     schedule = patient_schedule(unit, patient, protocol, patient.device.inserted, at)
     # Instants only: same-zone aware datetimes compare by wall time (PEP 495), which
     # would lose or invent overdue checks in the hour repeated when the clocks go back.
     at_utc = utc(at)
     out = []
     latest = max(utc(t) for t in check_times) if check_times else None
+    wanted = {tuple(s.items): needs(protocol, s.items) for s in schedule}
+    seen = (
+        latest_by_need(
+            {n for ns in wanted.values() for n in ns},
+            ((f.time, f.item, f.site) for f in findings if f.value != ENTERED_IN_ERROR),
+        )
+        if findings is not None
+        else {}
+    )
     for s in schedule:
         tol = timedelta(minutes=s.tolerance_min)
         due = utc(s.due)
         if due + tol >= at_utc:
             continue
-        if latest is not None and latest >= due - tol:
-            continue
+        labels = tuple(n.label for n in wanted[tuple(s.items)])
+        if findings is not None:
+            gap = tuple(missing(wanted[tuple(s.items)], seen, s.due, s.tolerance_min))
+            if not gap:
+                continue
+        else:
+            if latest is not None and latest >= due - tol:
+                continue
+            gap = labels
         late = int((at_utc - due).total_seconds() // 60)
-        out.append(Overdue(s.due, late, s.phase))
+        out.append(Overdue(s.due, late, s.phase, gap, labels))
     return out
 
 
@@ -302,7 +365,7 @@ def review_patient(
     )
     times = sorted({utc(f.time) for f in findings})
     out = PatientReview(patient.ref, patient.bed, times[-1] if times else None)
-    out.overdue = overdue_checks(unit, patient, protocol, times, at)
+    out.overdue = overdue_checks(unit, patient, protocol, times, at, findings)
     if out.overdue:
         first = out.overdue[0]
         out.alerts.append(
@@ -382,7 +445,48 @@ def review_patient(
                     time=f.time,
                 )
             )
-        if item == "dpc" and f.value in ("kinked", "no-flow"):
+        if item == "circuit-flow" and f.value in ("low", "none"):
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "circuit-fault",
+                    f"ECMO circuit flow {f.value} at {_hm(f.time, tz)}",
+                    time=f.time,
+                )
+            )
+        if item == "position" and f.value == "moved":
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "device-moved",
+                    f"device position mark moved at {_hm(f.time, tz)}",
+                    side=site[:1] or None,
+                    time=f.time,
+                )
+            )
+        if item == "forearm" and f.value == "tense":
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "forearm-tense",
+                    f"{site} forearm tense at {_hm(f.time, tz)}",
+                    side=site,
+                    time=f.time,
+                )
+            )
+        if item == "finger-refill" and float(f.value) > slow.value:
+            out.alerts.append(
+                _alert(
+                    protocol,
+                    "finger-refill-slow",
+                    f"{site} finger capillary refill {f.value} s at {_hm(f.time, tz)} "
+                    f"(slow above {slow.value:g} s)",
+                    side=site,
+                    time=f.time,
+                    extra_source=slow.source,
+                )
+            )
+        if item == "dpc" and f.value in ("kinked", "no-flow", "disconnected"):
             out.alerts.append(
                 _alert(
                     protocol,
@@ -580,7 +684,7 @@ def _skin_rules(
             if other is not None and utc(other.time) == utc(f.time) and other.value == normal:
                 reasons.append(f"the other leg {normal}")
             if earlier:
-                reasons.append(f"{normal} at {_hm(earlier[-1].time, tz)}")
+                reasons.append(f"this leg {normal} at {_hm(earlier[-1].time, tz)}")
             if reasons:
                 out.alerts.append(
                     _alert(
@@ -651,6 +755,10 @@ def review_unit(
 # Renderers
 
 
+def _iso(moment: datetime | None, tz: Any) -> str | None:
+    return moment.astimezone(tz).isoformat() if moment is not None else None
+
+
 def to_json(result: UnitReview) -> dict[str, Any]:
     """The machine contract of ``obs review --format json``."""
     tz = result.at.tzinfo
@@ -670,6 +778,7 @@ def to_json(result: UnitReview) -> dict[str, Any]:
                         "due": o.due.astimezone(tz).isoformat(),
                         "minutes_late": o.minutes_late,
                         "phase": o.phase,
+                        "missing": list(o.missing),
                     }
                     for o in p.overdue
                 ],
@@ -683,8 +792,29 @@ def to_json(result: UnitReview) -> dict[str, Any]:
                         "escalation": a.escalation,
                         "side": a.side,
                         "time": a.time.astimezone(tz).isoformat() if a.time else None,
+                        "group": group_key(a.rule, a.side),
                     }
                     for a in p.alerts
+                ],
+                "alert_groups": [
+                    {
+                        "group": g.key,
+                        "label": g.label,
+                        "within_min": g.within_min,
+                        "lines": [
+                            {
+                                "rule": ln.rule,
+                                "count": ln.count,
+                                "first": _iso(ln.first, tz),
+                                "last": _iso(ln.last, tz),
+                                "detail": ln.detail,
+                                "call": ln.call,
+                                "within_min": ln.within_min,
+                            }
+                            for ln in g.lines
+                        ],
+                    }
+                    for g in group_alerts(p.alerts)
                 ],
                 "ali_category": p.ali_category,
                 "ali_by_leg": {
@@ -722,18 +852,36 @@ def render_table(result: UnitReview) -> str:
             f"Bed {p.bed}  {p.ref}  last check {last}  "
             f"ALI category {p.ali_category or '-'}  ABI {abi}"
         )
-        shown = p.overdue if len(p.overdue) <= 6 else [*p.overdue[:3], None, *p.overdue[-2:]]
+        shown = p.overdue if len(p.overdue) <= 4 else [p.overdue[0], None, *p.overdue[-2:]]
         for o in shown:
             if o is None:
-                lines.append(f"  ... {len(p.overdue) - 5} more overdue (all in --format json)")
+                lines.append(f"  ... {len(p.overdue) - 3} more overdue (all in --format json)")
                 continue
+            gap = f"; not yet recorded: {', '.join(o.missing)}" if o.partial else ""
             lines.append(
-                f"  overdue  due {day_hm(o.due, tz)} ({o.phase}), {o.minutes_late} min late"
+                f"  overdue  due {day_hm(o.due, tz)} ({o.phase}), {o.minutes_late} min late{gap}"
             )
-        for a in p.alerts:
-            lines.append(f"  ALERT {a.rule}: {a.detail}")
-            lines.append(f"        call: {a.call or NO_CALL}")
-            lines.append(f"        source: {a.source}")
+        for g in group_alerts(p.alerts):
+            urgency = f"within {g.within_min} min" if g.within_min is not None else "no call named"
+            lines.append(f"  [{g.label}] most urgent: {urgency}")
+            previous: tuple[str | None, int | None] | None = None
+            for ln in g.lines:
+                if (ln.call, ln.within_min) != previous:
+                    # One call line heads each run of alerts calling the same person as fast.
+                    lines.append(f"    call: {ln.call or NO_CALL}, for:")
+                    previous = (ln.call, ln.within_min)
+                times = ""
+                if ln.count > 1 and ln.first is not None and ln.last is not None:
+                    span = hm(ln.first, tz)
+                    if utc(ln.first) != utc(ln.last):
+                        span += f" to {hm(ln.last, tz)}"
+                    times = f" x{ln.count} ({span})"
+                elif ln.count > 1:
+                    times = f" x{ln.count}"
+                lines.append(f"      ALERT {ln.rule}{times}: {ln.detail}")
+                # The NIRS note is in the head of the table: not repeated on each line.
+                source = ln.source.replace(f"; {result.review_note}", "")
+                lines.append(f"            source: {source}")
         if not p.alerts:
             lines.append("  no alert open")
         lines.append("")

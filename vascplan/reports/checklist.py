@@ -22,7 +22,6 @@ from reportlab.lib import colors
 from reportlab.lib.styles import ParagraphStyle
 from reportlab.platypus import (
     Flowable,
-    KeepInFrame,
     PageBreak,
     Paragraph,
     Spacer,
@@ -31,7 +30,14 @@ from reportlab.platypus import (
 )
 
 from vascplan.localtime import offset_text
-from vascplan.reports.page import PageLabel, PageSetup, build_pdf, fonts, frame_box, styles
+from vascplan.reports.page import (
+    NARROW_MARGIN_PT,
+    PageLabel,
+    PageSetup,
+    build_pdf,
+    fonts,
+    frame_box,
+)
 from vascplan.reports.text import clean, para, rich, rich_para
 
 DEVICE_NAMES = {
@@ -87,7 +93,12 @@ class ChecklistSheet:
     notes: tuple[str, ...] = field(default_factory=tuple)
     tier_changes: tuple[tuple[datetime, str, str], ...] = field(default_factory=tuple)
     """(from when, new tier, the team's note): tier events of the unit file in the shift."""
-    """Said when the device sits in an arm artery: the protocol's items name the legs."""
+    per_side: tuple[str, ...] = field(default_factory=tuple)
+    """Item ids checked and written down for each limb (L and R) on its own."""
+    limb: str = "leg"
+    """The limb at risk below the device: ``leg`` or ``arm`` (the columns' L and R)."""
+    bedside_reasons: tuple[str, ...] = field(default_factory=tuple)
+    """The risk factors in a few words, without their sources (those are in the report)."""
 
 
 def _utc(at: datetime) -> datetime:
@@ -137,6 +148,35 @@ def baseline_rows(baseline: Any) -> tuple[tuple[str, str], ...]:
     if baseline.pulses:
         out.append(("Pulses", ", ".join(f"{k} {v}" for k, v in sorted(baseline.pulses.items()))))
     return tuple(out) or (("None recorded", "the unit file holds no baseline: record one now"),)
+
+
+def _per_side(protocol: Any, item_id: str) -> bool:
+    try:
+        return bool(protocol.item(item_id).per_side)
+    except KeyError:
+        return False
+
+
+def bedside_reasons(risk: Any) -> tuple[str, ...]:
+    """The risk factors that set the tier, in a few words each and without their sources
+    (the bedside sheet cites nothing; the risk output and the case report do).
+
+    The words are the risk rules' own ``reason`` up to its first colon, without remarks in
+    brackets; the SAR is added with ``*`` when the vessel diameter is a reference value.
+    """
+    import re
+
+    from vascplan.surveillance.risk import load_rules
+
+    by_id = {f.id: f.reason for f in load_rules().factors}
+    out = []
+    for fid in getattr(risk, "factors", ()) or ():
+        text = by_id.get(fid, fid).split(":", 1)[0]
+        out.append(re.sub(r"\s*\([^)]*\)", "", text).strip())
+    sar = getattr(risk, "sar", None)
+    if sar is not None:
+        out.append(f"SAR {sar:.2f}" + ("" if getattr(risk, "vessel_measured", True) else " *"))
+    return tuple(out) or ("no listed risk factor",)
 
 
 def checklist_sheets(
@@ -234,153 +274,20 @@ def checklist_sheets(
                 baseline=baseline_rows(p.baseline),
                 items=tuple((i, protocol.item_text(i)) for i in item_ids),
                 rows=rows,
-                escalation=tuple((e.finding, e.call, e.within_min) for e in protocol.escalation),
+                escalation=tuple(
+                    (text, e.call, e.within_min)
+                    for e, text in protocol.escalation_for(
+                    p.device.kind, p.device.limb, dpc_in_place=p.dpc is not None
+                )
+                ),
                 notes=tuple(notes),
                 tier_changes=changes,
+                per_side=tuple(i for i in item_ids if _per_side(protocol, i)),
+                limb=p.device.limb,
+                bedside_reasons=bedside_reasons(risk),
             )
         )
     return sheets
-
-
-# ---------------------------------------------------------------------------
-# Rendering
-
-
-class VerticalText(Flowable):
-    """A column heading written bottom-to-top, to keep narrow columns legible."""
-
-    def __init__(self, text: str, size: float = 7.0) -> None:
-        super().__init__()
-        self.text = clean(text)
-        self.size = size
-
-    def wrap(self, avail_width: float, avail_height: float) -> tuple[float, float]:
-        from reportlab.pdfbase.pdfmetrics import stringWidth
-
-        self._length = stringWidth(self.text, fonts().bold, self.size)
-        return self.size + 2, self._length + 2
-
-    def draw(self) -> None:
-        c = self.canv
-        c.saveState()
-        c.setFont(fonts().bold, self.size)
-        c.translate(self.size, 1)
-        c.rotate(90)
-        c.drawString(0, 0, self.text)
-        c.restoreState()
-
-
-def _item_heading(item_id: str) -> str:
-    return item_id.replace("-", " ")
-
-
-def _changes_markup(sheet: ChecklistSheet) -> str:
-    """``<b>From 12:00 GMT: HIGH</b> (set by the team: note).`` for each tier change in
-    the shift, escaped, ready to join our own markup."""
-    out = []
-    for at, tier, note in sheet.tier_changes:
-        when = f"{at:%H:%M} {at.tzname()}"
-        if at.date() != sheet.shift_start.date():
-            when = f"{at:%d %b} {when}"
-        out.append(
-            rich(
-                "<b>From {when}: {tier}</b> (set by the team{sep}{note}). ",
-                when=when,
-                tier=tier.upper(),
-                sep=": " if note else "",
-                note=note,
-            )
-        )
-    return "".join(out)
-
-
-def _header_table(sheet: ChecklistSheet, width: float) -> Table:
-    st = styles()
-    label, cell = st["cell-bold"], st["cell"]
-    shift = f"{sheet.shift_name}: {_when(sheet.shift_start)} to {_when(sheet.shift_end)}"
-    rows = [
-        [
-            para("Bed", label),
-            para(str(sheet.bed), st["alarm"]),
-            para("Ref", label),
-            para(sheet.ref, st["alarm"]),
-        ],
-        [
-            para("Unit", label),
-            para(sheet.unit_name, cell),
-            para("Shift", label),
-            para(shift, cell),
-        ],
-        [
-            para("Device", label),
-            para(sheet.device, cell),
-            para("Inserted", label),
-            para(
-                _when(sheet.inserted)
-                + (f"; removed {_when(sheet.removed)}" if sheet.removed else ""),
-                cell,
-            ),
-        ],
-        [
-            para("Distal perfusion cannula", label),
-            para(sheet.dpc, cell),
-            para("Nurse", label),
-            para(sheet.nurse or "not assigned in the unit file: write name", cell),
-        ],
-        [
-            para("Risk tier", label),
-            Paragraph(  # each piece escaped on its own: user text never meets .format
-                rich(
-                    "<font size=10><b>{tier}</b></font> (combined relative risk {total}, "
-                    "not a validated score)  {reasons}. ",
-                    tier=sheet.risk_tier.upper(),
-                    total=f"{sheet.risk_total:.2f}",
-                    reasons="; ".join(sheet.risk_reasons) or "no risk factor recorded",
-                )
-                + _changes_markup(sheet)
-                + rich("<i>{note}</i>", note=NOT_VALIDATED),
-                st["small"],
-            ),
-            "",
-            "",
-        ],
-    ]
-    t = Table(rows, colWidths=[0.2 * width, 0.33 * width, 0.11 * width, 0.36 * width])
-    t.setStyle(
-        TableStyle(
-            [
-                ("GRID", (0, 0), (-1, -1), 0.4, colors.grey),
-                ("SPAN", (1, -1), (-1, -1)),
-                ("BACKGROUND", (0, 0), (0, -1), colors.Color(0.92, 0.92, 0.92)),
-                ("BACKGROUND", (2, 0), (2, -2), colors.Color(0.92, 0.92, 0.92)),
-                ("VALIGN", (0, 0), (-1, -1), "TOP"),
-                ("TOPPADDING", (0, 0), (-1, -1), 2),
-                ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
-            ]
-        )
-    )
-    return t
-
-
-def _baseline_table(sheet: ChecklistSheet, width: float) -> Table:
-    st = styles()
-    rows = [
-        [para("Baseline", st["cell-bold"]), para("compare every check with these", st["small"])]
-    ]
-    rows += [[para(k, st["cell-bold"]), para(v, st["cell"])] for k, v in sheet.baseline]
-    t = Table(rows, colWidths=[0.2 * width, 0.8 * width])
-    t.setStyle(
-        TableStyle(
-            [
-                ("BACKGROUND", (0, 0), (-1, 0), colors.Color(0.92, 0.92, 0.92)),
-                ("BOX", (0, 0), (-1, -1), 0.4, colors.grey),
-                ("LINEBELOW", (0, 0), (-1, -2), 0.25, colors.lightgrey),
-                ("TOPPADDING", (0, 0), (-1, -1), 1.5),
-                ("BOTTOMPADDING", (0, 0), (-1, -1), 1.5),
-            ]
-        )
-    )
-    return t
 
 
 def _ambiguous(at: datetime) -> bool:
@@ -410,205 +317,450 @@ def due_text(row: CheckRow, sheet: ChecklistSheet) -> str:
     return text
 
 
-ROW_HEIGHT_PT = 15.0
-"""Height [pt] of a grid row: room for a handwritten value (common practice for forms)."""
+# ---------------------------------------------------------------------------
+# Rendering
+#
+# One sheet per patient per shift, portrait: the header line (ref, bed, device and side,
+# tier, risk factors), the shift line (unit, times, nurse, insertion, distal cannula,
+# baseline), the grid (a row per check: time due, a box per item per limb, initials, the
+# action taken or whom it was escalated to), the key when there is room, the escalation
+# box in the protocol's words for the device and limb, the signature and handover box, and
+# a footer naming where the basis is. Rows take the height left on the page, between
+# ROW_MAX_PT and ROW_MIN_PT; a shift with more rows than fit at ROW_MIN_PT continues on a
+# second page that repeats the header and ends with the escalation box.
+
+FONT_MIN_PT = 7.0
+"""The smallest text on the sheet [pt]: readable when printed (common practice for forms)."""
+
+ROW_MIN_PT = 8.6
+"""Least height of a grid row [pt] (about 3 mm): a tick, a number or initials written
+small (unit policy); 48 rows of 15-min checks fit one A4 or Letter page."""
+
+ROW_MAX_PT = 16.0
+"""Most height of a grid row [pt] (about 5.6 mm: common practice for handwritten forms)."""
+
+ROW_KEY_PT = 11.0
+"""The key of the columns is printed when rows can still be at least this high [pt]."""
 
 
-def _grid(sheet: ChecklistSheet, width: float) -> Table:
-    st = styles()
-    ids = [i for i, _ in sheet.items]
-    due_w, every_w, initials_w = 114.0, 20.0, 38.0  # due: room for "25 Oct 01:15 AEDT +11:00"
-    item_w = (width - due_w - every_w - initials_w) / max(len(ids), 1)
-    head = [
-        rich_para(
-            "<b>Due</b> ({zone})<br/>bed {bed}<br/>{ref}",
-            st["small"],
-            zone=sheet.shift_start.tzname(),
-            bed=sheet.bed,
-            ref=sheet.ref,
-        )
-    ]
-    head += [VerticalText("every (min)")]
-    head += [VerticalText(_item_heading(i)) for i in ids]
-    head += [VerticalText("initials")]
-    rows: list[list[Any]] = [head]
-    for r in sheet.rows:
-        cells: list[Any] = [
-            rich_para("<b>{due}</b>", st["due"], due=due_text(r, sheet)),
-            para(r.interval_min, st["tiny"]),
-        ]
-        cells += ["" for _ in ids]
-        cells.append("")
-        rows.append(cells)
-    if not sheet.rows:
-        rows.append([para("none", st["cell"]), ""] + ["" for _ in ids] + [""])
-    t = Table(
-        rows,
-        colWidths=[due_w, every_w] + [item_w] * len(ids) + [initials_w],
-        repeatRows=1,
-        rowHeights=[None] + [ROW_HEIGHT_PT] * (len(rows) - 1),
+def _style(name: str, size: float = FONT_MIN_PT, bold: bool = False, lead: float = 1.18) -> Any:
+    f = fonts()
+    return ParagraphStyle(
+        name, fontName=f.bold if bold else f.regular, fontSize=size, leading=size * lead
     )
-    style = [
-        ("GRID", (0, 0), (-1, -1), 0.6, colors.black),
-        ("LINEAFTER", (1, 0), (1, -1), 1.4, colors.black),
-        ("ALIGN", (1, 1), (1, -1), "CENTER"),
-        ("LEFTPADDING", (1, 0), (1, -1), 2),
-        ("RIGHTPADDING", (1, 0), (1, -1), 2),
-        ("LINEBEFORE", (-1, 0), (-1, -1), 1.4, colors.black),
-        ("LINEBELOW", (0, 0), (-1, 0), 1.4, colors.black),
+
+
+class VerticalText(Flowable):
+    """A column heading written bottom-to-top, to keep narrow columns legible."""
+
+    def __init__(self, text: str, size: float = FONT_MIN_PT) -> None:
+        super().__init__()
+        self.text = clean(text)
+        self.size = size
+
+    def wrap(self, avail_width: float, avail_height: float) -> tuple[float, float]:
+        from reportlab.pdfbase.pdfmetrics import stringWidth
+
+        self._length = stringWidth(self.text, fonts().bold, self.size)
+        return self.size + 2, self._length + 4
+
+    def draw(self) -> None:
+        c = self.canv
+        c.saveState()
+        c.setFont(fonts().bold, self.size)
+        c.translate(self.size, 1)
+        c.rotate(90)
+        c.drawString(0, 0, self.text)
+        c.restoreState()
+
+
+HEADINGS = {
+    "capillary-refill": "refill",
+    "temperature": "temp",
+    "pump-position": "position",
+    "circuit-flow": "flow",
+    "access-site": "access",
+    "arm-pulses": "wrist pulses",
+    "hand-colour": "hand colour",
+    "hand-temperature": "hand temp",
+    "finger-refill": "finger refill",
+    "hand-sensation": "sensation",
+    "hand-movement": "movement",
+}
+"""Short column headings of the bundled protocol's items (the key gives their wording);
+any other item is headed by its id."""
+
+
+def _item_heading(item_id: str) -> str:
+    return HEADINGS.get(item_id, item_id.replace("-", " "))
+
+
+def _changes_markup(sheet: ChecklistSheet) -> str:
+    """``<b>From 12:00 GMT: HIGH</b> (set by the team: note).`` for each tier change in
+    the shift, escaped, ready to join our own markup."""
+    out = []
+    for at, tier, note in sheet.tier_changes:
+        when = f"{at:%H:%M} {at.tzname()}"
+        if at.date() != sheet.shift_start.date():
+            when = f"{at:%d %b} {when}"
+        out.append(
+            rich(
+                "<b>From {when}: {tier}</b> (set by the team{sep}{note}). ",
+                when=when,
+                tier=tier.upper(),
+                sep=": " if note else "",
+                note=note,
+            )
+        )
+    return "".join(out)
+
+
+def _header(sheet: ChecklistSheet, page: int, pages: int) -> list[Any]:
+    """The header line and the shift line (repeated on a continuation page)."""
+    of = f" (page {page} of {pages})" if pages > 1 else ""
+    line = rich(
+        "<font size=10><b>Limb-perfusion checklist: bed {bed}, {ref}</b></font>{of} &#183; "
+        "{device} &#183; <b>tier {tier}</b>: {reasons}",
+        bed=sheet.bed,
+        ref=sheet.ref,
+        of=of,
+        device=sheet.device,
+        tier=sheet.risk_tier.upper(),
+        reasons="; ".join(sheet.bedside_reasons) or "; ".join(sheet.risk_reasons),
+    )
+    shift = f"{sheet.shift_name}: {_when(sheet.shift_start)} to {_when(sheet.shift_end)}"
+    inserted = _when(sheet.inserted) + (
+        f"; removed {_when(sheet.removed)}" if sheet.removed else ""
+    )
+    base = "; ".join(f"{k} {v}" for k, v in sheet.baseline)
+    info = rich(
+        "<b>Shift</b> {shift} &#183; <b>Nurse</b> {nurse} &#183; "
+        "<b>Inserted</b> {inserted} &#183; <b>Distal perfusion cannula</b> {dpc} &#183; "
+        "<b>Baseline</b> (compare every check): {base}. ",
+        shift=shift,
+        nurse=sheet.nurse or "not assigned in the unit file: write name",
+        inserted=inserted,
+        dpc=sheet.dpc,
+        base=base,
+    ) + _changes_markup(sheet)
+    return [
+        PageLabel(f"bed {sheet.bed}, {sheet.ref}"),
+        Paragraph(line, _style("ck-line", 8.5, lead=1.2)),
+        Paragraph(info, _style("ck-info")),
+        Spacer(1, 1.5),
+    ]
+
+
+def _columns(sheet: ChecklistSheet) -> list[tuple[str, str | None]]:
+    """The item columns, (item id, side or None), left before right."""
+    out: list[tuple[str, str | None]] = []
+    for item_id, _ in sheet.items:  # the limbs first, then the device and access site
+        if item_id in sheet.per_side:
+            out += [(item_id, "L"), (item_id, "R")]
+    out += [(item_id, None) for item_id, _ in sheet.items if item_id not in sheet.per_side]
+    return out
+
+
+def _due_width(sheet: ChecklistSheet) -> float:
+    from reportlab.pdfbase.pdfmetrics import stringWidth
+
+    texts = [due_text(r, sheet) for r in sheet.rows] or ["none"]
+    return max(36.0, 6 + max(stringWidth(t, fonts().bold, FONT_MIN_PT) for t in texts))
+
+
+def _grid(sheet: ChecklistSheet, rows: Sequence[CheckRow], width: float, row_h: float) -> Table:
+    """The check grid: a row per check, a box per item per limb, initials, action."""
+    cols = _columns(sheet)
+    due_w, initials_w = _due_width(sheet), 16.0
+    action_w = max(72.0, 0.17 * width)
+    item_w = (width - due_w - initials_w - action_w) / max(len(cols), 1)
+    small, bold = _style("ck-cell"), _style("ck-bold", bold=True)
+    head0: list[Any] = [
+        rich_para("<b>Due</b><br/>{zone}", small, zone=sheet.shift_start.tzname() or "")
+    ]
+    head1: list[Any] = [""]
+    spans: list[tuple[str, tuple[int, int], tuple[int, int]]] = [("SPAN", (0, 0), (0, 1))]
+    c = 1
+    for item_id, side in cols:
+        if side in (None, "L"):
+            head0.append(VerticalText(_item_heading(item_id)))
+            if side is None:
+                spans.append(("SPAN", (c, 0), (c, 1)))
+        else:
+            head0.append("")
+        head1.append(side or "")
+        if side == "L":
+            spans.append(("SPAN", (c, 0), (c + 1, 0)))
+        c += 1
+    head0 += [VerticalText("initials"), para("Action taken / escalated to (whom, when)", bold)]
+    head1 += ["", ""]
+    spans += [("SPAN", (c, 0), (c, 1)), ("SPAN", (c + 1, 0), (c + 1, 1))]
+    data: list[list[Any]] = [head0, head1]
+    due_style = _style("ck-due", bold=True, lead=1.1)
+    for r in rows:
+        data.append(
+            [rich_para("<b>{due}</b>", due_style, due=due_text(r, sheet))]
+            + ["" for _ in cols]
+            + ["", ""]
+        )
+    if not sheet.rows:  # (not when measuring a sheet's fixed parts with no row)
+        data.append([para("none", small)] + ["" for _ in cols] + ["", ""])
+    t = Table(
+        data,
+        colWidths=[due_w] + [item_w] * len(cols) + [initials_w, action_w],
+        rowHeights=[None, FONT_MIN_PT + 3] + [row_h] * (len(data) - 2),
+        repeatRows=2,
+    )
+    style: list[Any] = [
+        *spans,
+        ("GRID", (0, 0), (-1, -1), 0.5, colors.black),
+        ("LINEAFTER", (0, 0), (0, -1), 1.4, colors.black),
+        ("LINEBEFORE", (-2, 0), (-2, -1), 1.4, colors.black),
+        ("LINEBELOW", (0, 1), (-1, 1), 1.4, colors.black),
+        ("BACKGROUND", (0, 0), (-1, 1), colors.Color(0.88, 0.88, 0.88)),
         ("VALIGN", (0, 0), (-1, 0), "BOTTOM"),
         ("VALIGN", (0, 1), (-1, -1), "MIDDLE"),
-        ("ALIGN", (1, 0), (-1, 0), "CENTER"),
-        ("BACKGROUND", (0, 0), (-1, 0), colors.Color(0.90, 0.90, 0.90)),
-        ("TOPPADDING", (0, 1), (-1, -1), 1),
-        ("BOTTOMPADDING", (0, 1), (-1, -1), 1),
+        ("ALIGN", (1, 0), (-2, 1), "CENTER"),
+        ("FONT", (1, 1), (-3, 1), fonts().bold, FONT_MIN_PT + 0.5),
+        ("TOPPADDING", (0, 0), (-1, 0), 1),
+        ("BOTTOMPADDING", (0, 0), (-1, 0), 1),
+        ("TOPPADDING", (0, 1), (-1, -1), 0),
+        ("BOTTOMPADDING", (0, 1), (-1, -1), 0.5),
+        ("LEFTPADDING", (0, 0), (-1, -1), 1.5),
+        ("RIGHTPADDING", (0, 0), (-1, -1), 1.5),
     ]
-    for n, r in enumerate(sheet.rows, start=1):
-        for k, i in enumerate(ids, start=2):
-            if i not in r.items:  # not due at this check: shaded and crossed
-                style.append(("BACKGROUND", (k, n), (k, n), colors.Color(0.78, 0.78, 0.78)))
+    # A heavier line between the items of one limb pair and the next, so L and R read apart.
+    for k, (_, side) in enumerate(cols, start=1):
+        if side == "R" or side is None:
+            style.append(("LINEAFTER", (k, 0), (k, -1), 1.0, colors.black))
+    for n, r in enumerate(rows, start=2):
+        if n % 4 == 1:  # every fourth row a little heavier: easier to follow a line across
+            style.append(("LINEBELOW", (0, n), (-1, n), 0.9, colors.black))
+        for k, (item_id, _) in enumerate(cols, start=1):
+            if item_id not in r.items:  # not due at this check: shaded
+                style.append(("BACKGROUND", (k, n), (k, n), colors.Color(0.72, 0.72, 0.72)))
     t.setStyle(TableStyle(style))
     return t
 
 
-def _item_key(sheet: ChecklistSheet, width: float) -> Any:
-    """What each column means: one flowing paragraph of bold heading and wording, so the
-    key takes a few lines and a 12-check shift stays on one sheet (A4 and Letter)."""
-    st = styles()
-    entries = [(_item_heading(i), text) for i, text in sheet.items]
-    entries.append(("every (min)", "minutes of real time since the previous check"))
-    entries.append(("shaded box", "not due at that check"))
-    parts = [rich("<b>{h}</b>: {t}", h=h, t=t) for h, t in entries]
-    return Paragraph("<b>Key.</b> " + " &#183; ".join(parts), st["tiny"])
+def _key(sheet: ChecklistSheet) -> Any:
+    """What each column asks, in the protocol's words."""
+    side = "arm" if sheet.limb == "arm" else "leg"
+    parts = [rich("<b>{h}</b>: {t}", h=_item_heading(i), t=t) for i, t in sheet.items]
+    parts.append(
+        rich(
+            "<b>L, R</b>: left and right {side}, each checked and written on its own "
+            "(a value, or a tick when normal); <b>shaded box</b>: not due at that check",
+            side=side,
+        )
+    )
+    return Paragraph("<b>Key.</b> " + " &#183; ".join(parts), _style("ck-key"))
 
 
 def escalation_box(escalation: Sequence[tuple[str, str, int]], width: float) -> Table:
-    """The escalation criteria in a heavy box: finding, whom to call, how fast."""
-    st = styles()
+    """The escalation criteria in a heavy box, most urgent first: the findings, whom to
+    call and how fast, in the protocol's words for the patient's device and limb; findings
+    that call the same people as fast share a row."""
+    small, bold = _style("ck-esc", lead=1.06), _style("ck-esc-b", bold=True, lead=1.06)
+    groups: dict[tuple[int, str], list[str]] = {}
+    for finding, call, within in escalation:
+        groups.setdefault((within, call), []).append(finding)
     rows: list[list[Any]] = [
         [
-            para("CALL AT ONCE IF YOU FIND", st["alarm"]),
-            para("Call", st["cell-bold"]),
-            para("Within", st["cell-bold"]),
+            para("CALL AT ONCE IF YOU FIND", _style("ck-alarm", 8, bold=True, lead=1.1)),
+            para("Call", bold),
+            para("Within", bold),
         ]
     ]
-    for finding, call, within in escalation:
+    for (within, call), findings in sorted(groups.items(), key=lambda g: g[0][0]):
         rows.append(
             [
-                para(finding, st["small"]),
-                para(call, st["small"]),
-                rich_para("<b>{m} min</b>", st["small"], m=within),
+                para("; or ".join(findings), small),
+                para(call, small),
+                rich_para("<b>{m} min</b>", small, m=within),
             ]
         )
-    t = Table(rows, colWidths=[0.61 * width, 0.29 * width, 0.10 * width])
+    t = Table(rows, colWidths=[0.585 * width, 0.345 * width, 0.07 * width])
     t.setStyle(
         TableStyle(
             [
-                ("BOX", (0, 0), (-1, -1), 2.5, colors.black),
-                ("LINEBELOW", (0, 0), (-1, 0), 1.2, colors.black),
+                ("BOX", (0, 0), (-1, -1), 2.0, colors.black),
+                ("LINEBELOW", (0, 0), (-1, 0), 1.0, colors.black),
                 ("BACKGROUND", (0, 0), (-1, 0), colors.Color(0.82, 0.82, 0.82)),
                 ("LINEBELOW", (0, 1), (-1, -2), 0.3, colors.grey),
                 ("VALIGN", (0, 0), (-1, -1), "TOP"),
-                ("VALIGN", (0, 0), (-1, 0), "BOTTOM"),
-                ("TOPPADDING", (0, 0), (-1, -1), 0.8),
-                ("BOTTOMPADDING", (0, 0), (-1, -1), 0.8),
-                ("BOTTOMPADDING", (0, -1), (-1, -1), 2.2),  # clear of the heavy frame
+                ("TOPPADDING", (0, 0), (-1, -1), 0.3),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 0.5),
+                ("LEFTPADDING", (0, 0), (-1, -1), 2),
+                ("RIGHTPADDING", (0, 0), (-1, -1), 2),
+                ("BOTTOMPADDING", (0, -1), (-1, -1), 1.6),  # clear of the heavy frame
             ]
         )
     )
     return t
 
 
-def _signatures(width: float) -> Table:
-    """One row of boxes: initials and full name of each nurse who signs the sheet."""
-    st = styles()
-    label = para("Initials and full name of each nurse who signs this sheet", st["small"])
-    t = Table([[label, "", "", ""]], colWidths=[0.31 * width] + [0.23 * width] * 3, rowHeights=[20])
+HANDOVER_MAX_PT = 90.0
+"""The most height [pt] a page's spare room adds to the handover and signature box."""
+
+
+def _signatures(width: float, extra: float = 0.0) -> Table:
+    """The handover note and the signatures of each nurse who fills the sheet; ``extra``
+    [pt] of the page's spare room makes them taller."""
+    small = _style("ck-sig")
+    t = Table(
+        [
+            [para("Handover (findings, actions pending, calls made):", small)],
+            [para("Initials and full name of each nurse who signs this sheet:", small)],
+        ],
+        colWidths=[width],
+        rowHeights=[16 + 0.6 * extra, 15 + 0.4 * extra],
+    )
     t.setStyle(
         TableStyle(
-            [("GRID", (1, 0), (-1, 0), 0.5, colors.black), ("VALIGN", (0, 0), (-1, -1), "MIDDLE")]
+            [
+                ("BOX", (0, 0), (-1, -1), 1.0, colors.black),
+                ("LINEBELOW", (0, 0), (-1, 0), 0.6, colors.black),
+                ("VALIGN", (0, 0), (-1, -1), "TOP"),
+                ("TOPPADDING", (0, 0), (-1, -1), 0.5),
+                ("LEFTPADDING", (0, 0), (-1, -1), 2),
+            ]
         )
     )
     return t
 
 
-def sheet_story(sheet: ChecklistSheet, width: float) -> list[Any]:
-    """The flowables of one patient's sheet."""
-    st = styles()
-    title = ParagraphStyle("sheet-title", parent=st["title"], fontSize=13, leading=15.5)
-    title.spaceAfter = 2
-    story: list[Any] = [
-        PageLabel(f"bed {sheet.bed}, {sheet.ref}"),
-        rich_para(
-            "Limb-perfusion checklist: bed {bed}, {ref}", title, bed=sheet.bed, ref=sheet.ref
-        ),
-        _header_table(sheet, width),
-        Spacer(1, 3),
-        escalation_box(sheet.escalation, width),
-        Spacer(1, 2),
-        _baseline_table(sheet, width),
-        Spacer(1, 3),
-        _grid(sheet, width),
-    ]
-    for note in sheet.notes:
-        story.append(para(note, st["alarm"]))
+def _bottom(sheet: ChecklistSheet, width: float, extra: float = 0.0) -> Table:
+    """The footer naming where the basis is, and beside it the handover and signatures."""
+    text_w = 0.5 * width
+    t = Table(
+        [[_footer(sheet), _signatures(width - text_w - 3, extra)]],
+        colWidths=[text_w + 3, width - text_w - 3],
+    )
+    t.setStyle(
+        TableStyle(
+            [
+                ("VALIGN", (0, 0), (-1, -1), "TOP"),
+                ("LEFTPADDING", (0, 0), (-1, -1), 0),
+                ("RIGHTPADDING", (0, 0), (-1, -1), 0),
+                ("TOPPADDING", (0, 0), (-1, -1), 0),
+                ("BOTTOMPADDING", (0, 0), (-1, -1), 0),
+                ("RIGHTPADDING", (0, 0), (0, 0), 3),
+            ]
+        )
+    )
+    return t
+
+
+TIER_NOTE = "The tier is not a validated score (none exists)."
+"""The bedside form of :data:`NOT_VALIDATED`."""
+
+BASIS_FOOTER = (
+    "Basis of the tier, times and criteria (sources, thresholds): the risk output "
+    "(vascplan risk) and the case report; none is cited here. "
+)
+
+
+def _footer(sheet: ChecklistSheet) -> Any:
+    return Paragraph(rich("{a}{b}", a=BASIS_FOOTER, b=TIER_NOTE), _style("ck-foot"))
+
+
+def _height(flowables: Sequence[Any], width: float, height: float) -> float:
+    total = 0.0
+    for f in flowables:
+        total += f.wrap(width, height)[1] + f.getSpaceBefore() + f.getSpaceAfter()
+    return total
+
+
+def _page(
+    sheet: ChecklistSheet,
+    rows: Sequence[CheckRow],
+    page: int,
+    pages: int,
+    width: float,
+    row_h: float,
+    key: bool,
+    extra: float = 0.0,
+) -> list[Any]:
+    story = _header(sheet, page, pages) + [_grid(sheet, rows, width, row_h)]
+    story += [para(note, _style("ck-note", 9, bold=True)) for note in sheet.notes]
+    if key:
+        story += [Spacer(1, 1.5), _key(sheet)]
     story += [
-        Spacer(1, 2),
-        _item_key(sheet, width),
-        Spacer(1, 3),
-        _signatures(width),
+        Spacer(1, 1.5),
+        escalation_box(sheet.escalation, width),
+        Spacer(1, 1.5),
+        _bottom(sheet, width, extra),
     ]
     return story
 
 
-ONE_SHEET_ROWS = 12
-"""A shift of up to this many checks is printed on one sheet (README), A4 or Letter."""
+def sheet_story(sheet: ChecklistSheet, width: float, height: float = 10_000.0) -> list[Any]:
+    """The flowables of one patient's sheet: one page, or more when the shift has more
+    rows than fit at :data:`ROW_MIN_PT` (each page then repeats the header and ends with
+    the escalation box and signatures)."""
+    n = max(len(sheet.rows), 1)
+    room = height - 2.0  # rounding slack
 
-MIN_FIT_SCALE = 0.85
-"""The least scale [1] a one-sheet shift is shrunk to so that it fits its page; a sheet
-that would need more (very long notes) runs on overleaf at full size instead."""
+    def fixed(key: bool, pages: int) -> float:
+        probe = _page(sheet, sheet.rows[:0], 1, pages, width, ROW_MIN_PT, key)
+        return _height(probe, width, height) + 0.5
 
+    def spare(free: float, rows: int, row_h: float) -> float:
+        """Height left under the rows, given to the handover box (at most HANDOVER_MAX_PT)."""
+        return max(0.0, min(HANDOVER_MAX_PT, free - rows * row_h - 1.0))
 
-def _fitted(story: list[Any], sheet: ChecklistSheet, width: float, height: float) -> list[Any]:
-    """``story`` shrunk just enough to fit one page when the shift has at most
-    :data:`ONE_SHEET_ROWS` checks and a little too much text for the page (long risk
-    reasons, the shorter US Letter); otherwise unchanged, so that the grid runs on."""
-    if len(sheet.rows) > ONE_SHEET_ROWS:
-        return story
-    total = 0.0
-    for f in story:
-        total += f.wrap(width, height)[1] + f.getSpaceBefore() + f.getSpaceAfter()
-    if total <= height or height / total < MIN_FIT_SCALE:
-        return story
-    # The page label stays outside, so the head of the page still names the patient.
-    return [story[0], KeepInFrame(width, height - 1, story[1:], mode="shrink")]
+    with_key = room - fixed(True, 1)
+    if with_key / n >= ROW_KEY_PT:
+        row_h = min(ROW_MAX_PT, with_key / n)
+        extra = spare(with_key, n, row_h)
+        return _page(sheet, sheet.rows, 1, 1, width, row_h, True, extra)
+    plain = room - fixed(False, 1)
+    if plain / n >= ROW_MIN_PT:
+        row_h = min(ROW_MAX_PT, plain / n)
+        return _page(sheet, sheet.rows, 1, 1, width, row_h, False, spare(plain, n, row_h))
+    per_page = max(1, int((room - fixed(False, 2)) // ROW_MIN_PT))
+    pages = -(-n // per_page)
+    per_page = -(-n // pages)  # spread the rows evenly
+    row_h = min(ROW_MAX_PT, (room - fixed(False, pages)) / per_page)
+    story: list[Any] = []
+    for k in range(pages):
+        if k:
+            story.append(PageBreak())
+        chunk = sheet.rows[k * per_page : (k + 1) * per_page]
+        story += _page(sheet, chunk, k + 1, pages, width, row_h, False)
+    return story
 
 
 def render_checklist(
     sheets: Sequence[ChecklistSheet], *, paper: str = "a4", generated_at: datetime | None = None
 ) -> bytes:
-    """The checklist PDF, one patient per page (a long shift's grid runs on overleaf)."""
+    """The checklist PDF: each patient's sheet on a page of its own (two when the shift
+    holds more checks than one page can)."""
     if not sheets:
         raise ValueError("no patient to print")
     first = sheets[0]
     at = generated_at or datetime.now(first.shift_start.tzinfo)
-    _, _, width, height = frame_box(paper)
+    _, _, width, height = frame_box(paper, NARROW_MARGIN_PT)
     story: list[Any] = []
     for n, sheet in enumerate(sheets):
         if n:
             story.append(PageBreak())
-        story += _fitted(sheet_story(sheet, width), sheet, width, height)
+        story += sheet_story(sheet, width, height)
     title = (
         f"Limb checks - {clean(first.unit_name)} - shift {first.shift_name} "
         f"{first.shift_start:%Y-%m-%d}"
     )
-    return build_pdf(story, PageSetup(paper=paper, title=title, generated_at=at))
+    setup = PageSetup(paper=paper, title=title, generated_at=at, margin_pt=NARROW_MARGIN_PT)
+    return build_pdf(story, setup)
 
 
 __all__ = [
     "CheckRow",
     "ChecklistSheet",
+    "bedside_reasons",
     "checklist_sheets",
+    "due_text",
     "escalation_box",
     "render_checklist",
     "sheet_story",

@@ -40,6 +40,10 @@ PAPERS: dict[str, tuple[float, float]] = {"a4": A4, "letter": LETTER}
 MARGIN_PT = 15 * mm
 """Page margin [pt] (common practice for office printers, which cannot print to the edge)."""
 
+NARROW_MARGIN_PT = 10 * mm
+"""The narrower margin [pt] of a form that must hold much on one page (the bedside
+checklist); office printers leave about 5 mm unprinted (common practice)."""
+
 FOOTER_PT = 30.0
 """Height [pt] kept at the foot of every page for the caution, timestamp and page number."""
 
@@ -143,11 +147,14 @@ class PageSetup:
         The title line at the head of each page; may hold user text (drawn, never parsed).
     generated_at : datetime
         When the document was made; must be time-zone aware.
+    margin_pt : float
+        The page margin [pt]: :data:`MARGIN_PT`, or :data:`NARROW_MARGIN_PT` for a form.
     """
 
     paper: str
     title: str
     generated_at: datetime
+    margin_pt: float = MARGIN_PT
 
 
 def _numbered_canvas(setup: PageSetup) -> type:
@@ -175,11 +182,12 @@ def _numbered_canvas(setup: PageSetup) -> type:
 
         def _decorate(self, total: int) -> None:
             width, height = self._pagesize
-            left, right = MARGIN_PT, width - MARGIN_PT
+            margin = setup.margin_pt
+            left, right = margin, width - margin
             self.saveState()
             self.setFillGray(0)
             self.setFont(f.bold, 8)
-            top = height - MARGIN_PT + 4
+            top = height - margin + 4
             label = getattr(self, "_vp_page_label", "")
             line = f"{title} - {label}" if label else title
             self.drawString(left, top, _fit(line, f.bold, 8, right - left - 90))
@@ -188,7 +196,7 @@ def _numbered_canvas(setup: PageSetup) -> type:
             self.setLineWidth(0.5)
             self.line(left, top - 4, right, top - 4)
             # Foot: the caution (bold, wrapped), then the timestamp and the page number.
-            base = MARGIN_PT - 6
+            base = margin - 6
             self.line(left, base + FOOTER_PT - 4, right, base + FOOTER_PT - 4)
             from reportlab.lib.utils import simpleSplit
 
@@ -230,25 +238,25 @@ def _fit(text: str, font: str, size: float, width: float) -> str:
     return text + "..."
 
 
-def frame_box(paper: str) -> tuple[float, float, float, float]:
+def frame_box(paper: str, margin_pt: float = MARGIN_PT) -> tuple[float, float, float, float]:
     """The story frame (x, y, width, height) [pt] inside the margins, header and footer."""
     width, height = paper_size(paper)
-    x = MARGIN_PT
-    y = MARGIN_PT + FOOTER_PT
-    return x, y, width - 2 * MARGIN_PT, height - 2 * MARGIN_PT - FOOTER_PT - HEADER_PT
+    x = margin_pt
+    y = margin_pt + FOOTER_PT
+    return x, y, width - 2 * margin_pt, height - 2 * margin_pt - FOOTER_PT - HEADER_PT
 
 
 def build_pdf(story: Sequence[Any], setup: PageSetup, *, author: str = "vascplan") -> bytes:
     """Lay ``story`` (reportlab flowables) out on the template; return the PDF bytes."""
-    x, y, w, h = frame_box(setup.paper)
+    x, y, w, h = frame_box(setup.paper, setup.margin_pt)
     buf = io.BytesIO()
     doc = BaseDocTemplate(
         buf,
         pagesize=paper_size(setup.paper),
-        leftMargin=MARGIN_PT,
-        rightMargin=MARGIN_PT,
-        topMargin=MARGIN_PT + HEADER_PT,
-        bottomMargin=MARGIN_PT + FOOTER_PT,
+        leftMargin=setup.margin_pt,
+        rightMargin=setup.margin_pt,
+        topMargin=setup.margin_pt + HEADER_PT,
+        bottomMargin=setup.margin_pt + FOOTER_PT,
         title=clean(setup.title),
         author=author,
         subject=CAUTION,

@@ -110,6 +110,14 @@ class CheckItem(_Strict):
         description="the limb the item examines: leg (femoral/iliac access), arm (axillary/"
         "subclavian access) or any",
     )
+    records: str | None = Field(
+        default=None,
+        description="the observation item (obs add --ITEM) that records this check",
+    )
+    per_side: bool = Field(
+        default=False,
+        description="each limb (L and R) is checked and recorded on its own",
+    )
     source: str = Source
 
 
@@ -118,6 +126,15 @@ class Escalation(_Strict):
 
     id: str = Field(pattern=_NAME, max_length=40)
     finding: str = Field(min_length=3, max_length=400)
+    arm_finding: str | None = Field(
+        default=None,
+        min_length=3,
+        max_length=400,
+        description="the finding in words for a device in an arm artery",
+    )
+    limb: Literal["leg", "arm", "any"] = "any"
+    devices: list[str] = Field(default_factory=lambda: ["all"], min_length=1)
+    when: Literal["always", "dpc-in-place"] = "always"
     call: str = Field(min_length=3, max_length=200)
     within_min: int = Field(ge=1, le=1440)
     source: str = Source
@@ -277,6 +294,25 @@ class Protocol(_Strict):
                         f"unknown device kind {d!r}{did_you_mean(d, DEVICE_KINDS)}; "
                         f"use all or one of {', '.join(DEVICE_KINDS)}",
                     )
+        from vascplan.observations.findings import ITEMS as OBS_ITEMS
+
+        for i, it in enumerate(self.items):
+            if it.records is not None and it.records not in OBS_ITEMS:
+                raise InputError(
+                    src,
+                    f"items.{i}.records",
+                    f"unknown observation item {it.records!r}"
+                    f"{did_you_mean(it.records, OBS_ITEMS)}; items are {', '.join(OBS_ITEMS)}",
+                )
+        for i, e in enumerate(self.escalation):
+            for j, d in enumerate(e.devices):
+                if d != "all" and d not in DEVICE_KINDS:
+                    raise InputError(
+                        src,
+                        f"escalation.{i}.devices.{j}",
+                        f"unknown device kind {d!r}{did_you_mean(d, DEVICE_KINDS)}; "
+                        f"use all or one of {', '.join(DEVICE_KINDS)}",
+                    )
         esc = [e.id for e in self.escalation]
         for i, e in enumerate(self.escalation):
             if esc.index(e.id) != i:
@@ -352,6 +388,37 @@ class Protocol(_Strict):
             if it.id == item_id:
                 return it.text
         raise KeyError(item_id)
+
+    def item(self, item_id: str) -> CheckItem:
+        """The check item ``item_id``."""
+        for it in self.items:
+            if it.id == item_id:
+                return it
+        raise KeyError(item_id)
+
+    def escalation_for(
+        self, device_kind: str, limb: Literal["leg", "arm"] = "leg", dpc_in_place: bool = True
+    ) -> list[tuple[Escalation, str]]:
+        """The escalation criteria for a device kind and the limb at risk, in file order,
+        each with its finding in the words for that limb (``arm_finding`` for an arm);
+        a criterion ``when: dpc-in-place`` only while a distal perfusion cannula is in.
+
+        >>> p = load_protocol("standard", "u")
+        >>> arm = dict((e.id, text) for e, text in p.escalation_for("microaxial-pump", "arm"))
+        >>> "calf" in arm["compartment"].lower(), "nirs-fall" in arm, "circuit-fault" in arm
+        (False, False, False)
+        """
+        out = []
+        for e in self.escalation:
+            if "all" not in e.devices and device_kind not in e.devices:
+                continue
+            if e.limb not in ("any", limb):
+                continue
+            if e.when == "dpc-in-place" and not dpc_in_place:
+                continue
+            text = e.arm_finding if limb == "arm" and e.arm_finding else e.finding
+            out.append((e, text))
+        return out
 
     def escalation_by_id(self, escalation_id: str) -> Escalation:
         for e in self.escalation:

@@ -93,6 +93,18 @@ def _events(
     return out
 
 
+def monitoring_start(patient: Patient) -> datetime:
+    """When the unit's checks of ``patient`` start (UTC): the unit file's
+    ``monitoring_from`` (admission to the unit), else the device's insertion.
+
+    A patient admitted with a device already in place is not behind on the checks before
+    admission: the schedule still runs from the insertion (so the phase is the one the
+    device's age gives), but no check falls due before this moment.
+    """
+    start = getattr(patient, "monitoring_from", None) or patient.device.inserted
+    return start.astimezone(UTC)
+
+
 def patient_schedule(
     unit: Unit, patient: Patient, protocol: Protocol, start: datetime, end: datetime
 ) -> list[ScheduledCheck]:
@@ -126,6 +138,7 @@ def patient_schedule(
     ['14:35', '14:50', '15:05']
     """
     start_utc, end_utc = _aware(start, "start"), _aware(end, "end")
+    start_utc = max(start_utc, monitoring_start(patient))  # nothing due before monitoring
     tz = unit.unit.tz
     dev = patient.device
     inserted = dev.inserted.astimezone(UTC)

@@ -183,6 +183,21 @@ class Patient(_Strict):
     dpc: DistalCannula | None = None
     baseline: Baseline = Field(default_factory=Baseline)
     events: list[PatientEvent] = Field(default_factory=list)
+    monitoring_from: datetime | None = Field(
+        default=None,
+        description="when this unit's limb checks start (admission, with its UTC offset); "
+        "default the device's insertion. No check is due before it.",
+    )
+
+    @field_validator("monitoring_from")
+    @classmethod
+    def _monitoring_from(cls, value: datetime | None) -> datetime | None:
+        if value is not None and (value.tzinfo is None or value.utcoffset() is None):
+            raise ValueError(
+                "give the time with its UTC offset, e.g. 2026-12-02T03:10+00:00 "
+                "(when the patient's checks start on this unit)"
+            )
+        return value
 
     @field_validator("height_cm")
     @classmethod
