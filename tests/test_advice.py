@@ -133,7 +133,8 @@ def test_never_not_advised_under_the_floor(vessel, fr, label, occupied, kind):
 
 
 def test_checklist_prints_the_risk_advice_and_factors():
-    # The checklist header reads the risk result: the same rule, basis and factor weights.
+    # The checklist header reads the risk result: the same rule and factor weights. The
+    # bedside sheet cites nothing (issue 13): it points to the risk output for the basis.
     from datetime import date
 
     from tests.surv_factory import PROTOCOL, make_unit, sheath_patient
@@ -143,7 +144,8 @@ def test_checklist_prints_the_risk_advice_and_factors():
     p["device"].update({"kind": "microaxial-pump", "size_fr": 14, "label": "inner"})
     unit = make_unit("Europe/London", [p])
     sheet = checklist_sheets(unit, "day", date(2026, 12, 2), PROTOCOL)[0]
-    assert "ADVISED [distal-flow-floor]" in sheet.dpc and "Klein" in sheet.dpc
+    assert "ADVISED [distal-flow-floor]" in sheet.dpc and "Klein" not in sheet.dpc
+    assert "basis: risk output and case report" in sheet.dpc
     assert "not advised" not in sheet.dpc
     # 14 Fr microaxial 1.25 (unit policy) x distal flow under the floor 7.9 (Alderman 1987).
     assert sheet.risk_tier == "high"

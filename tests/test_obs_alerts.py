@@ -47,7 +47,7 @@ def test_grouped_alerts_exact_table(tmp_path):
         "  [right leg] most urgent: within 5 min",
         "    call: Vascular surgeon and doctor in charge, immediately (within 5 min), for:",
         "      ALERT calf-tense: R calf tense at 19:40+00:00",
-        "            source: compartment syndrome signs (REFERENCES.md, seen)",
+        "            source: compartment syndrome signs (common practice; clinical reviews seen)",
         "    call: Doctor in charge of the patient; vascular surgeon (within 15 min), for:",
         "      ALERT pedal-signal-lost: R-DPA absent at 19:40+00:00; was doppler at 19:30+00:00",
         "            source: common practice (a lost pedal signal that was present)",
@@ -56,7 +56,7 @@ def test_grouped_alerts_exact_table(tmp_path):
         "R leg temperature cool at 19:40+00:00; the other leg warm and this leg warm at "
         "19:30+00:00; R leg colour pale at 19:40+00:00; the other leg normal and this leg "
         "normal at 19:30+00:00",
-        "            source: six Ps: pallor and poikilothermia (REFERENCES.md, seen); compared "
+        "            source: six Ps: pallor and poikilothermia (common practice); compared "
         "with the other leg and the earlier check: common practice",
         "  [device and access site] most urgent: within 15 min",
         "    call: ECMO specialist and doctor in charge (within 15 min), for:",

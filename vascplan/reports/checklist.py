@@ -176,6 +176,8 @@ def bedside_reasons(risk: Any) -> tuple[str, ...]:
     sar = getattr(risk, "sar", None)
     if sar is not None:
         out.append(f"SAR {sar:.2f}" + ("" if getattr(risk, "vessel_measured", True) else " *"))
+    # A clinician's tier (with the note the team wrote) is a reason of its own.
+    out += [str(r) for r in getattr(risk, "reasons", ()) if str(r).startswith("tier set to")]
     return tuple(out) or ("no listed risk factor",)
 
 
@@ -242,7 +244,7 @@ def checklist_sheets(
         if p.dpc is None:
             dpc = "none"
             if advice is not None:
-                dpc += f"; {advice.short()}. Basis: {advice.basis[0]}"
+                dpc += f"; {advice.short()} (basis: risk output and case report)"
         else:
             dpc = f"{p.dpc.size_fr:g} Fr, in since {_when(p.dpc.inserted.astimezone(unit.unit.tz))}"
             if p.dpc.removed is not None:

@@ -183,7 +183,7 @@ class Patient(_Strict):
     dpc: DistalCannula | None = None
     baseline: Baseline = Field(default_factory=Baseline)
     events: list[PatientEvent] = Field(default_factory=list)
-    monitoring_from: datetime | None = Field(
+    monitoring_from: TimeText | None = Field(
         default=None,
         description="when this unit's limb checks start (admission, with its UTC offset); "
         "default the device's insertion. No check is due before it.",
