@@ -148,7 +148,8 @@ RULES: dict[str, Rule] = {
         Rule(
             "forearm-tense",
             ("compartment",),
-            "compartment syndrome signs (common practice; clinical reviews seen), applied to the arm",
+            "compartment syndrome signs (common practice; clinical reviews seen), "
+            "applied to the arm",
             "a tense forearm",
         ),
         Rule(
