@@ -582,3 +582,15 @@ def test_correction_without_author(ws):
     res = run("obs", "correct", "--entry", "1", "--value", "60", "--by", " ",
               "--reason", "misread", "--db", "o.db")  # fmt: skip
     _one_line(res, "--by: who makes the correction is required (a staff id, e.g. RN-A)")
+
+
+@pytest.mark.parametrize("text", ["{a: 1}: 2\n", "[1]: 2\n", "? [a, b]\n: 1\n"])
+def test_a_key_that_is_not_a_name_is_one_line(tmp_path, text):
+    # Found by the fuzzer: a YAML key that is a list or a mapping crashed the duplicate check.
+    p = tmp_path / "case.yaml"
+    p.write_text(text)
+    res = run("validate", p)
+    assert res.exit_code == 2
+    assert res.output.startswith(
+        f"error: {p}: line 1: YAML error: a key must be a plain name, not a list or a mapping"
+    )

@@ -36,6 +36,13 @@ def _construct_mapping(
 ) -> dict:
     seen: dict[Any, int] = {}
     for key_node, _ in node.value:
+        if not isinstance(key_node, yaml.ScalarNode):
+            raise yaml.constructor.ConstructorError(
+                None,
+                None,
+                "a key must be a plain name, not a list or a mapping",
+                key_node.start_mark,
+            )
         key = loader.construct_object(key_node, deep=deep)
         if key in seen:
             raise yaml.constructor.ConstructorError(
