@@ -340,6 +340,9 @@ class _TargetView:
         # point before). The target's number is the largest: a path that ends sooner
         # comes after, as with the name ``__target__``.
         heap: list[tuple[float, tuple[int, ...], float, int, int, int]] = []
+        arrives = self._arrives
+        if not self._can_arrive(start_bit, start_bit):
+            return []
         for v, w in start:
             if to_go[v] < inf:
                 heap.append((round(w + to_go[v], _DIGITS), (v,), w, v, start_bit, -1))
@@ -349,8 +352,6 @@ class _TargetView:
             _f, points, g, u, seen, prev = heapq.heappop(heap)
             if u == dst:
                 found.append(list(points[:-1]))
-                continue
-            if not self._can_arrive(bit[u], seen):
                 continue
             here = bit[u]
             for v, w in adj[u]:
@@ -363,6 +364,12 @@ class _TargetView:
                     continue  # re-enters a node it left
                 else:
                     mask = seen | b
+                    # Entering a node: can the target's node still be reached from it?
+                    ok = arrives.get((b, mask))
+                    if ok is None:
+                        ok = self._can_arrive(b, mask)
+                    if not ok:
+                        continue
                 h = to_go[v]
                 if h < inf:
                     heapq.heappush(heap, (round(g + w + h, _DIGITS), (*points, v), g + w, v,
