@@ -89,10 +89,10 @@ def test_first_result_comes_before_the_last_case_is_read(registry, jobs):
             read.append(registry[i % 7])
             yield registry[i % 7]
 
-    stream = plan_stream(paths(), jobs=jobs, window=4)
+    stream = plan_stream(paths(), jobs=jobs, window=2, batch=2)
     first = next(stream)
     assert first.ok and json.loads(first.line)["case"] == "TEST-00"
-    assert len(read) <= 5 < 40  # at most the window (and one more) read so far
+    assert len(read) <= 4 < 40  # at most the window of batches read so far
     rest = list(stream)
     assert len(rest) == 39 and len(read) == 40
     assert [json.loads(o.line)["case"] for o in rest[:6]] == [f"TEST-{i:02d}" for i in

@@ -11,6 +11,7 @@ with its one-line error instead of a result, and the others go on.
 
 from __future__ import annotations
 
+import itertools
 import json
 import os
 from collections import deque
@@ -20,8 +21,11 @@ from typing import Any
 
 from vascplan.errors import InputError
 
-WINDOW_PER_JOB = 8
-"""Files in flight per worker: enough to keep every worker busy, few enough to stay small."""
+WINDOW_PER_JOB = 4
+"""Batches in flight per worker: enough to keep every worker busy, few enough to stay small."""
+
+BATCH = 4
+"""Files sent to a worker at once (fewer messages between processes)."""
 
 
 @dataclass(frozen=True)
@@ -62,6 +66,10 @@ def _dumps(data: Any) -> str:
     return json.dumps(data, ensure_ascii=False, separators=(",", ":"))
 
 
+def _plan_batch(paths: list[str], job: _Job) -> list[Outcome]:
+    return [plan_one(path, job) for path in paths]
+
+
 def plan_one(path: str, job: _Job) -> Outcome:
     """Load, validate, plan and serialise one case file; an InputError becomes its line."""
     from vascplan.case.load import load_case
@@ -83,6 +91,7 @@ def plan_stream(
     limits: Mapping[str, float] | None = None,
     top: int | None = None,
     window: int | None = None,
+    batch: int = BATCH,
 ) -> Generator[Outcome, None, None]:
     """Plan every case file of ``paths``, yielding outcomes in input order.
 
@@ -97,7 +106,9 @@ def plan_stream(
     top : int, optional
         Keep only the best ``top`` routes of each case.
     window : int, optional
-        Files in flight at most (default ``WINDOW_PER_JOB`` per job).
+        Batches in flight at most (default ``WINDOW_PER_JOB`` per job).
+    batch : int
+        Files per batch sent to a worker.
 
     Yields
     ------
@@ -116,11 +127,12 @@ def plan_stream(
         for path in head:
             yield plan_one(path, job)
         return
-    yield from _pooled([*head], it, job, jobs, window or WINDOW_PER_JOB * jobs)
+    yield from _pooled(itertools.chain(head, it), job, jobs, window or WINDOW_PER_JOB * jobs,
+                       max(1, batch))
 
 
-def _pooled(head: list[str], rest: Iterator[str], job: _Job, jobs: int,
-            window: int) -> Generator[Outcome, None, None]:
+def _pooled(paths: Iterator[str], job: _Job, jobs: int, window: int,
+            batch: int) -> Generator[Outcome, None, None]:
     import multiprocessing
     from concurrent.futures import Future, ProcessPoolExecutor
 
@@ -128,12 +140,11 @@ def _pooled(head: list[str], rest: Iterator[str], job: _Job, jobs: int,
 
     methods = multiprocessing.get_all_start_methods()
     context = multiprocessing.get_context("fork" if "fork" in methods else None)
-    pending: deque[Future[Outcome]] = deque()
+    pending: deque[Future[list[Outcome]]] = deque()
     with ProcessPoolExecutor(max_workers=jobs, mp_context=context) as pool:
-        for source in (head, rest):
-            for path in source:
-                pending.append(pool.submit(plan_one, path, job))
-                if len(pending) >= window:
-                    yield pending.popleft().result()
+        while chunk := list(itertools.islice(paths, batch)):
+            pending.append(pool.submit(_plan_batch, chunk, job))
+            if len(pending) >= window:
+                yield from pending.popleft().result()
         while pending:
-            yield pending.popleft().result()
+            yield from pending.popleft().result()
