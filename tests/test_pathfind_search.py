@@ -127,3 +127,17 @@ def test_paths_match_networkx_k_shortest_simple_paths(label, case):
                                                                         direction)
             checked += 1
     assert checked >= 20 and skipped <= 2, (checked, skipped)
+
+
+def test_a_search_that_runs_out_of_prefixes_keeps_the_shortest_found(monkeypatch):
+    # With a budget of one prefix per search only the start opens: nothing found, no hang;
+    # with the full budget the same search finds its paths (the budget is only a guard).
+    from vascplan.routes import pathfind
+
+    case = validate_case("gen", graft_case(4, 1))
+    tree = build_tree(case)
+    view = VesselView(case, tree)
+    args = ("R-CFA", 2.0, "retrograde", view.target_segment, view.target_cm)
+    assert len(PointGraph(tree).paths(*args)) == 3
+    monkeypatch.setattr(pathfind, "MAX_PREFIXES", 1)
+    assert PointGraph(tree).paths(*args) == []

@@ -44,6 +44,10 @@ EPS_CM = 1e-6
 K_PATHS = 3
 """How many paths to keep per site and direction (the k of the k best)."""
 
+MAX_PREFIXES = 200_000
+"""Prefixes one search may open before it stops with the paths found so far (a guard
+against a pathological file; real trees, even with 100 grafts, open a few thousand)."""
+
 _DIGITS = 9
 """Path lengths equal to this many decimals of a cm tie; then the points' names decide."""
 
@@ -348,7 +352,9 @@ class _TargetView:
                 heap.append((round(w + to_go[v], _DIGITS), (v,), w, v, start_bit, -1))
         heapq.heapify(heap)
         found: list[list[int]] = []
-        while heap and len(found) < k:
+        budget = MAX_PREFIXES
+        while heap and len(found) < k and budget:
+            budget -= 1
             _f, points, g, u, seen, prev = heapq.heappop(heap)
             if u == dst:
                 found.append(list(points[:-1]))
