@@ -106,28 +106,12 @@ def test_graft_count_growth():
         assert worst < 5  # loose
 
 
-def _run_plan(paths: list[str], jobs: int) -> tuple[float, float, int]:
-    """Wall time, CPU time (parent and workers) and peak RSS [kB] of one plan run."""
-    listing = "\n".join(paths) + "\n"
-    start = time.perf_counter()
-    proc = subprocess.Popen([sys.executable, "-m", "vascplan", "plan", "--format", "jsonl",
-                             "--files-from", "-", "--jobs", str(jobs)], cwd=ROOT,
-                            stdin=subprocess.PIPE, stdout=subprocess.DEVNULL,
-                            stderr=subprocess.PIPE)
-    _out, err = proc.communicate(listing.encode())
-    _pid, status, usage = os.wait4(proc.pid, 0) if proc.returncode is None else (0, 0, None)
-    wall = time.perf_counter() - start
-    assert proc.returncode == 0, err.decode()[:500]
-    del status
-    if usage is None:  # communicate() reaped it: fall back to the children's totals
-        import resource
-
-        usage = resource.getrusage(resource.RUSAGE_CHILDREN)
-    return wall, usage.ru_utime + usage.ru_stime, usage.ru_maxrss
-
-
 def _child_run(paths: list[str], jobs: int) -> tuple[float, float, int]:
-    """As _run_plan, in a fresh measuring process, so the rusage is this run's alone."""
+    """Wall time, CPU time (parent and workers) and peak RSS [kB] of one plan run.
+
+    Measured from a fresh process that runs the command, so the rusage of its children
+    is this run's alone (ru_maxrss: the largest process of the run).
+    """
     code = (
         "import json, os, subprocess, sys, time, resource\n"
         "paths = sys.stdin.read()\n"
