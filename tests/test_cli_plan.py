@@ -185,11 +185,12 @@ def test_json_score_is_the_sum_of_the_points_shown_and_ranks_in_order():
 
 
 def test_one_bad_file_in_a_registry_review_prints_nothing_but_its_error(tmp_path):
-    # Every file is validated before any output: a bad file among many gives its one
-    # error line and exit 2, with no partial JSON lines before it.
+    # table and json validate every file before any output: a bad file among many gives
+    # its one error line and exit 2, with no partial output before it. (jsonl streams and
+    # goes on: tests/test_cli_plan_batch.py.)
     bad = tmp_path / "bad.yaml"
     bad.write_text("format: vascplan-case/1\npatient: {ref: DEMO-99, sex: male, height_cm: 300}\n")
-    res = _run(DEMO07, DEMO07, str(bad), "--format", "jsonl")
+    res = _run(DEMO07, DEMO07, str(bad), "--format", "json")
     assert res.exit_code == 2
     assert res.stdout == ""
     assert res.stderr.startswith(f"error: {bad}: patient.height_cm: ")

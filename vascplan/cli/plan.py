@@ -2,8 +2,12 @@
 
 from __future__ import annotations
 
+import itertools
 import json
+import os
 import sys
+from collections.abc import Iterator
+from typing import TextIO
 
 import click
 
@@ -15,14 +19,26 @@ Examples:
   vascplan plan examples/case-DEMO-07-sfa-occlusion.yaml --explain L-CFA
   vascplan plan case.yaml --weight crossover=2.5 --limit sar_max=1.0 --top 5
   vascplan plan registry/*.yaml --format jsonl > review.jsonl
+  find registry -name '*.yaml' | vascplan plan --files-from - --format jsonl --jobs 2
 
 Score: lower is better; feasible routes come first. Weights and limits live in
 data/access/weights.yaml and data/access/limits.yaml, each with its basis.
+
+With --format jsonl the cases are planned in --jobs worker processes and each line is
+written as soon as its case is done, in the order given; a case that cannot be read or
+planned gives {"case": FILE, "error": "..."} and the run goes on (exit status 2 at the
+end). table and json read and check every file first: one bad file stops the run.
 """
 
 
 @click.command(epilog=EPILOG)
-@click.argument("cases", nargs=-1, required=True, type=click.Path(dir_okay=False))
+@click.argument("cases", nargs=-1, type=click.Path(dir_okay=False))
+@click.option("--files-from", "files_from", type=click.File("r", encoding="utf-8"),
+              default=None, metavar="FILE",
+              help="Read more case files from FILE, one path per line ('-' for standard "
+                   "input); for any number of cases.")
+@click.option("--jobs", type=click.IntRange(min=1), default=None,
+              help="Worker processes for --format jsonl (default: all cores).")
 @click.option("--format", "fmt", type=click.Choice(["table", "json", "jsonl"]),
               default="table", show_default=True,
               help="table for people; json (one object, or a list for several cases); "
@@ -35,8 +51,9 @@ data/access/weights.yaml and data/access/limits.yaml, each with its basis.
               help="Override a soft-factor weight (repeatable).")
 @click.option("--limit", "limits", multiple=True, metavar="NAME=VALUE",
               help="Override a hard limit (repeatable).")
-def plan(cases: tuple[str, ...], fmt: str, top: int | None, explain: str | None,
-         weights: tuple[str, ...], limits: tuple[str, ...]) -> None:
+def plan(cases: tuple[str, ...], files_from: TextIO | None, jobs: int | None, fmt: str,
+         top: int | None, explain: str | None, weights: tuple[str, ...],
+         limits: tuple[str, ...]) -> None:
     """Rank the access routes for each CASE file: site, direction, path and why.
 
     Every usable puncture site and direction is checked against the sheath size
@@ -61,6 +78,15 @@ def plan(cases: tuple[str, ...], fmt: str, top: int | None, explain: str | None,
         raise InputError("--explain", explain,
                          f"unknown site{did_you_mean(explain.upper(), sites)}; allowed: a "
                          f"site id ({', '.join(sites)}) or the segment id of one")
+    if not cases and files_from is None:
+        raise click.UsageError("give one or more CASE files, or --files-from FILE")
+    paths: Iterator[str] = iter(cases)
+    if files_from is not None:
+        paths = itertools.chain(paths, _lines(files_from))
+    if fmt == "jsonl" and explain is None:
+        _stream(paths, jobs, w, lim, top, known=None if files_from else len(cases))
+        return
+    cases = tuple(paths)
     progress = sys.stderr.isatty() and len(cases) > 1
     # Every file is read and validated before anything is printed, so that one bad file
     # in a registry review stops the run with its error line and no partial output.
@@ -85,3 +111,43 @@ def plan(cases: tuple[str, ...], fmt: str, top: int | None, explain: str | None,
     if fmt == "json" and explain is None:
         out = results[0] if len(results) == 1 else results
         click.echo(json.dumps(out, indent=2, ensure_ascii=False))
+
+
+def _lines(handle: TextIO) -> Iterator[str]:
+    """The paths in a --files-from file, one a line, read as they come; blanks skipped."""
+    for line in handle:
+        path = line.rstrip("\r\n")
+        if path.strip():
+            yield path
+
+
+def _stream(paths: Iterator[str], jobs: int | None, weights: dict, limits: dict,
+            top: int | None, known: int | None) -> None:
+    """Write one JSON line per case as each is planned; exit 2 at the end if any failed."""
+    from vascplan.routes.batch import default_jobs, plan_stream
+
+    progress = sys.stderr.isatty()
+    failed = done = 0
+    out = sys.stdout
+    stream = plan_stream(paths, jobs=jobs or default_jobs(), weights=weights, limits=limits,
+                         top=top)
+    for outcome in stream:
+        try:
+            out.write(outcome.line + "\n")
+            out.flush()
+        except BrokenPipeError:  # the reader stopped (| head): stop quietly
+            stream.close()
+            os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+            click.get_current_context().exit(1)
+        done += 1
+        failed += not outcome.ok
+        if progress:
+            total = f"/{known}" if known else ""
+            click.echo(f"\rplanned {done}{total}" + (f", {failed} failed" if failed else ""),
+                       err=True, nl=False)
+    if progress and done:
+        click.echo("", err=True)
+    if failed:
+        click.echo(f"error: {failed} of {done} cases failed; their error lines are in the "
+                   "output", err=True)
+        click.get_current_context().exit(2)

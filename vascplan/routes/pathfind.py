@@ -7,9 +7,24 @@ anastomoses), joined by edges weighted with the distance between them [cm]; a ju
 joins the two points that touch, at zero length. The puncture and the target are
 inserted as points of their segments for each search, and the puncture is joined only
 on the side its direction allows: retrograde (against the flow, towards the segment's
-origin) or antegrade (with the flow). The k shortest simple paths (Yen's algorithm,
-``networkx.shortest_simple_paths``) give the best few routes; a path that re-enters a
-segment it left is dropped (a catheter does not double back into the same vessel).
+origin) or antegrade (with the flow). A path that re-enters a segment it left is not a
+catheter path (a catheter does not double back into the same vessel); the k shortest of
+the others are the routes.
+
+The search, once per case: shortest distances from the target to every point (one
+Dijkstra run per target, memoised), then for each puncture a best-first search over path
+prefixes ordered by length so far plus that distance, a lower bound of what is left
+(A* enumerating paths [1]_). Prefixes that re-enter a segment are cut at once, so the
+search opens only the few prefixes that can still beat the k-th path: where the tree has
+no loop, straight down the one path; where grafts and the plantar loops make cycles, the
+few rivals. The first k complete paths are the k shortest, in order; equal lengths keep
+the order of the search (deterministic).
+
+References
+----------
+.. [1] Hart PE, Nilsson NJ, Raphael B. A formal basis for the heuristic determination of
+   minimum cost paths. IEEE Trans Syst Sci Cybern 1968;4(2):100-107.
+   doi:10.1109/TSSC.1968.300136
 
 Positions along a segment are in cm from its origin in the direction of flow, the
 convention of the case file; a graft runs from its ``from`` end (0) to its ``to`` end.
@@ -18,11 +33,10 @@ convention of the case file; a graft runs from its ``from`` end (0) to its ``to`
 from __future__ import annotations
 
 import bisect
+import heapq
 import itertools
 from dataclasses import dataclass
 from typing import Any
-
-import networkx as nx
 
 EPS_CM = 1e-6
 """Nudge [cm] that keeps an inserted point off an existing junction (numerical only)."""
@@ -30,11 +44,12 @@ EPS_CM = 1e-6
 K_PATHS = 3
 """How many paths to keep per site and direction (the k of the k best)."""
 
-_CANDIDATES_PER_PATH = 2
-"""Candidates drawn from Yen's algorithm per path kept, to allow for dropped ones."""
+MAX_PREFIXES = 200_000
+"""Prefixes one search may open before it stops with the paths found so far (a guard
+against a pathological file; real trees, even with 100 grafts, open a few thousand)."""
 
-_SRC = ("__puncture__", 0.0)
-_DST = ("__target__", 0.0)
+_DIGITS = 9
+"""Path lengths equal to this many decimals of a cm tie; then the points' names decide."""
 
 
 @dataclass(frozen=True)
@@ -165,25 +180,31 @@ class PointGraph:
             points[a].add(ca)
             points[b].add(cb)
             junctions.append(((a, ca), (b, cb)))
-        self.graph = nx.Graph()
-        self.chains: dict[str, list[float]] = {}
-        for node, cms in points.items():
-            chain = sorted(cms)
-            self.chains[node] = chain
-            self.graph.add_node((node, chain[0]))
+        # Points are numbered in the order of (node, cm), so that comparing two paths'
+        # numbers compares their points by name; each point knows its node's bit (for the
+        # re-entry test) and its neighbours with the distance to them [cm].
+        self.chains = {node: sorted(cms) for node, cms in points.items()}
+        self._point: list[tuple[str, float]] = sorted(
+            (node, cm) for node, chain in self.chains.items() for cm in chain)
+        self._id = {point: i for i, point in enumerate(self._point)}
+        self._node_bit = {node: 1 << i for i, node in enumerate(points)}
+        self._bit = [self._node_bit[node] for node, _cm in self._point]
+        self._adj: list[list[tuple[int, float]]] = [[] for _ in self._point]
+        for node, chain in self.chains.items():
             for x, y in itertools.pairwise(chain):
-                self.graph.add_edge((node, x), (node, y), w=y - x)
+                self._join(self._id[(node, x)], self._id[(node, y)], y - x)
         for u, v in junctions:
-            self.graph.add_edge(u, v, w=0.0)
-        # Edges on a cycle (pedal loop, graft), by block: only a path using one can have
-        # rivals, and every rival stays inside the cyclic blocks the shortest one uses.
-        self.block_of: dict[frozenset, int] = {}
-        self.block_nodes: list[set[Any]] = []
-        for block in nx.biconnected_component_edges(self.graph):
-            if len(block) > 1:
-                self.block_nodes.append({n for e in block for n in e})
-                for e in block:
-                    self.block_of[frozenset(e)] = len(self.block_nodes) - 1
+            self._join(self._id[u], self._id[v], 0.0)
+        # Node level: which nodes touch each node (by bit), for the can-still-arrive test.
+        self._touches = dict.fromkeys(self._node_bit.values(), 0)
+        for (a, _ca), (b, _cb) in junctions:
+            self._touches[self._node_bit[a]] |= self._node_bit[b]
+            self._touches[self._node_bit[b]] |= self._node_bit[a]
+        self._targets: dict[tuple[str, float], _TargetView] = {}
+
+    def _join(self, u: int, v: int, w: float) -> None:
+        self._adj[u].append((v, w))
+        self._adj[v].append((u, w))
 
     def _place(self, node: str, cm: float, direction: str | None) -> float:
         """Clamp a point inside its node and off every existing junction point."""
@@ -202,6 +223,14 @@ class PointGraph:
         lo = chain[i - 1] if i > 0 else None
         hi = chain[i] if i < len(chain) else None
         return lo, hi
+
+    def _target(self, node: str, cm: float) -> _TargetView:
+        """The graph with the target point inserted, and every point's distance to it."""
+        key = (node, cm)
+        view = self._targets.get(key)
+        if view is None:
+            view = self._targets[key] = _TargetView(self, node, cm)
+        return view
 
     def paths(
         self,
@@ -238,127 +267,151 @@ class PointGraph:
             return []
         p = self._place(segment, puncture_cm, direction)
         t = self._place(target_segment, target_cm, None)
-        if segment == target_segment and self._neighbours(segment, p) == self._neighbours(
-            segment, t
-        ):
+        lo, hi = self._neighbours(segment, p)
+        if segment == target_segment and (lo, hi) == self._neighbours(segment, t):
             # No junction between puncture and target: straight there, or not at all
             # (going round a loop would re-enter this segment).
             if (t > p) == (direction == "antegrade"):
                 return [CatheterPath((Leg(segment, p, t),))]
             return []
-        g = self.graph
-        added: list[tuple[Any, Any]] = []
-        removed: list[tuple[Any, Any, dict]] = []
-
-        block_of = dict(self.block_of)
-
-        def split(node: str, cm: float, key: Any, lower: bool, upper: bool) -> None:
-            lo, hi = self._neighbours(node, cm)
-            block = None
-            if lo is not None and hi is not None and g.has_edge((node, lo), (node, hi)):
-                removed.append(((node, lo), (node, hi), dict(g.edges[(node, lo), (node, hi)])))
-                g.remove_edge((node, lo), (node, hi))
-                block = block_of.get(frozenset(((node, lo), (node, hi))))
-            if lower and lo is not None:
-                g.add_edge(key, (node, lo), w=cm - lo)
-                added.append((key, (node, lo)))
-                if block is not None:
-                    block_of[frozenset((key, (node, lo)))] = block
-            if upper and hi is not None:
-                g.add_edge((node, hi), key, w=hi - cm)
-                added.append(((node, hi), key))
-                if block is not None:
-                    block_of[frozenset(((node, hi), key))] = block
-
-        try:
-            split(segment, p, _SRC, direction == "retrograde", direction == "antegrade")
-            split(target_segment, t, _DST, True, True)
-            return self._k_best(segment, p, target_segment, t, k, block_of)
-        finally:
-            for node in (_SRC, _DST):
-                if node in g:
-                    g.remove_node(node)
-            for u, v, attrs in removed:
-                g.add_edge(u, v, **attrs)
-
-    def _k_best(self, segment: str, p: float, target_segment: str, t: float,
-                k: int, block_of: dict[frozenset, int]) -> list[CatheterPath]:
-        """The k shortest paths from the inserted puncture to the inserted target."""
-        g = self.graph
-        if _SRC not in g or _DST not in g:
-            return []
-        try:
-            first = nx.dijkstra_path(g, _SRC, _DST, weight="w")
-        except nx.NetworkXNoPath:
-            return []
-        blocks = {block_of[e] for e in map(frozenset, itertools.pairwise(first))
-                  if e in block_of}
-        if not blocks:
-            # The shortest path touches no cycle: it is the only simple path.
-            path = _to_path(first, segment, p, target_segment, t)
-            return [path] if path is not None else []
-        # Every simple path runs through the same bridges and, within each cyclic block
-        # the shortest path crosses, between the same two points: the k best overall are
-        # the best combinations of each block's k best (Yen's search inside the block).
-        runs = _block_runs(first, block_of)
-        options: list[list[tuple[float, list[Any]]]] = []
-        for b, i, j in runs:
-            nodes = set(self.block_nodes[b]) | {n for e, blk in block_of.items() if blk == b
-                                                for n in e}
-            sub = g.subgraph(nodes)
-            inner = itertools.islice(
-                nx.shortest_simple_paths(sub, first[i], first[j], weight="w"),
-                k * _CANDIDATES_PER_PATH)
-            options.append([(nx.path_weight(sub, q, "w"), q) for q in inner])
-        combos = sorted(
-            (sum(c[0] for c in choice), choice) for choice in itertools.product(*options)
-        )
+        view = self._target(target_segment, t)
+        start: list[tuple[int, float]] = []
+        if direction == "retrograde" and lo is not None:
+            start.append((self._id[(segment, lo)], p - lo))
+        if direction == "antegrade" and hi is not None:
+            start.append((self._id[(segment, hi)], hi - p))
+        cut = (-1, -1)
+        if lo is not None and hi is not None:
+            cut = (self._id[(segment, lo)], self._id[(segment, hi)])
+        bit = self._node_bit[segment]
         out: list[CatheterPath] = []
-        for _cost, choice in combos:
-            points: list[Any] = []
-            last = 0
-            for (_b, i, j), (_w, inner_path) in zip(runs, choice, strict=True):
-                points.extend(first[last:i])
-                points.extend(inner_path)
-                last = j + 1
-            points.extend(first[last:])
-            path = _to_path(points, segment, p, target_segment, t)
-            if path is not None:
-                out.append(path)
-            if len(out) >= k:
-                break
+        for trail in view.search(start, bit, cut, k):
+            located = [(segment, p)] + [self._point[i] for i in trail] + [(target_segment, t)]
+            out.append(_legs(located))
         return out
 
 
-def _block_runs(points: list[Any], block_of: dict[frozenset, int]) -> list[tuple[int, int, int]]:
-    """(block, first index, last index) of each stretch of a path inside one cyclic block."""
-    runs: list[tuple[int, int, int]] = []
-    for i, edge in enumerate(itertools.pairwise(points)):
-        b = block_of.get(frozenset(edge))
-        if b is None:
-            continue
-        if runs and runs[-1][0] == b and runs[-1][2] == i:
-            runs[-1] = (b, runs[-1][1], i + 1)
-        else:
-            runs.append((b, i, i + 1))
-    return runs
+class _TargetView:
+    """A point graph with one target point inserted: adjacency and distances to it."""
+
+    def __init__(self, graph: PointGraph, node: str, cm: float) -> None:
+        self.dst = len(graph._point)
+        adj = [list(nbrs) for nbrs in graph._adj]
+        lo, hi = graph._neighbours(node, cm)
+        ends: list[tuple[int, float]] = []
+        if lo is not None:
+            ends.append((graph._id[(node, lo)], cm - lo))
+        if hi is not None:
+            ends.append((graph._id[(node, hi)], hi - cm))
+        if lo is not None and hi is not None:
+            a, b = graph._id[(node, lo)], graph._id[(node, hi)]
+            adj[a] = [(v, w) for v, w in adj[a] if v != b]
+            adj[b] = [(v, w) for v, w in adj[b] if v != a]
+        for u, w in ends:
+            adj[u].append((self.dst, w))
+        adj.append(list(ends))
+        self.adj = adj
+        self.bit = [*graph._bit, graph._node_bit[node]]
+        self.target_bit = graph._node_bit[node]
+        self.touches = graph._touches
+        self._arrives: dict[tuple[int, int], bool] = {}
+        # Dijkstra from the target: the length still to go from every point, at least.
+        dist = [float("inf")] * len(adj)
+        dist[self.dst] = 0.0
+        heap = [(0.0, self.dst)]
+        while heap:
+            d, u = heapq.heappop(heap)
+            if d > dist[u]:
+                continue
+            for v, w in adj[u]:
+                if d + w < dist[v]:
+                    dist[v] = d + w
+                    heapq.heappush(heap, (d + w, v))
+        self.to_go = dist
+
+    def search(self, start: list[tuple[int, float]], start_bit: int, cut: tuple[int, int],
+               k: int) -> list[list[int]]:
+        """The k shortest paths that never re-enter a node, as lists of point numbers.
+
+        ``start`` holds the puncture's neighbours and the distance to each, ``start_bit``
+        its node's bit; ``cut`` is the chain edge the puncture splits (not walked).
+        """
+        adj, to_go, bit, dst = self.adj, self.to_go, self.bit, self.dst
+        inf = float("inf")
+        cut_a, cut_b = cut
+        # A prefix: (length so far + still to go, rounded so that equal lengths tie and
+        # the points decide; its points; length so far; last point; nodes seen; the
+        # point before). The target's number is the largest: a path that ends sooner
+        # comes after, as with the name ``__target__``.
+        heap: list[tuple[float, tuple[int, ...], float, int, int, int]] = []
+        arrives = self._arrives
+        if not self._can_arrive(start_bit, start_bit):
+            return []
+        for v, w in start:
+            if to_go[v] < inf:
+                heap.append((round(w + to_go[v], _DIGITS), (v,), w, v, start_bit, -1))
+        heapq.heapify(heap)
+        found: list[list[int]] = []
+        budget = MAX_PREFIXES
+        while heap and len(found) < k and budget:
+            budget -= 1
+            _f, points, g, u, seen, prev = heapq.heappop(heap)
+            if u == dst:
+                found.append(list(points[:-1]))
+                continue
+            here = bit[u]
+            for v, w in adj[u]:
+                b = bit[v]
+                if b == here:
+                    if v == prev or (u == cut_a and v == cut_b) or (u == cut_b and v == cut_a):
+                        continue
+                    mask = seen
+                elif seen & b:
+                    continue  # re-enters a node it left
+                else:
+                    mask = seen | b
+                    # Entering a node: can the target's node still be reached from it?
+                    ok = arrives.get((b, mask))
+                    if ok is None:
+                        ok = self._can_arrive(b, mask)
+                    if not ok:
+                        continue
+                h = to_go[v]
+                if h < inf:
+                    heapq.heappush(heap, (round(g + w + h, _DIGITS), (*points, v), g + w, v,
+                                          mask, u))
+        return found
+
+    def _can_arrive(self, here: int, seen: int) -> bool:
+        """Whether the target's node can be reached from node ``here`` through nodes
+        not yet ``seen`` (a bound: within a node, direction is not looked at)."""
+        key = (here, seen)
+        known = self._arrives.get(key)
+        if known is None:
+            touches, goal = self.touches, self.target_bit
+            closed = seen & ~here
+            reached = frontier = here
+            while frontier and not reached & goal:
+                step = 0
+                while frontier:
+                    low = frontier & -frontier
+                    frontier ^= low
+                    step |= touches[low]
+                frontier = step & ~reached & ~closed
+                reached |= frontier
+            known = self._arrives[key] = bool(reached & goal)
+        return known
 
 
-def _to_path(points: list[Any], segment: str, p: float, target_segment: str,
-             t: float) -> CatheterPath | None:
-    """Turn a point-graph path into legs; None if it re-enters a node it left."""
-    located = [(segment, p)] + list(points[1:-1]) + [(target_segment, t)]
+def _legs(located: list[tuple[str, float]]) -> CatheterPath:
+    """Turn the points of a path, puncture to target, into legs (one per node run)."""
     legs: list[Leg] = []
-    seen: set[str] = set()
     run_node, run_start, run_end = located[0][0], located[0][1], located[0][1]
     for node, cm in located[1:]:
         if node == run_node:
             run_end = cm
             continue
         legs.append(Leg(run_node, run_start, run_end))
-        seen.add(run_node)
-        if node in seen:
-            return None
         run_node, run_start, run_end = node, cm, cm
     legs.append(Leg(run_node, run_start, run_end))
     return CatheterPath(tuple(legs))

@@ -29,11 +29,9 @@ import math
 from dataclasses import dataclass, field
 from typing import Literal
 
-import numpy as np
-
 from vascplan.sizing import flow
 from vascplan.sizing._tables import ReferenceValue, positive, read_csv, read_values
-from vascplan.sizing.french import MM_PER_FR
+from vascplan.sizing.french import MM_PER_FR, interpolate
 
 CANNULA_WALLS = "cannula_walls.csv"
 CANNULA_DEFAULTS = "cannula_defaults.yaml"
@@ -105,10 +103,10 @@ def cannula_wall_mm(outer_fr: float) -> tuple[float, str]:
         table's source and certainty.
     """
     rows = read_csv(CANNULA_WALLS)
-    fr = np.array([float(r["outer_fr"]) for r in rows])
-    wall = np.array([float(r["wall_mm"]) for r in rows])
+    fr = [float(r["outer_fr"]) for r in rows]
+    wall = [float(r["wall_mm"]) for r in rows]
     certainty = " and ".join(sorted({r["certainty"] for r in rows}))
-    return float(np.interp(outer_fr, fr, wall)), f"cannula wall table ({certainty})"
+    return interpolate(outer_fr, fr, wall), f"cannula wall table ({certainty})"
 
 
 def cannula_inner_mm(

@@ -25,11 +25,12 @@ from __future__ import annotations
 import csv
 import math
 from functools import lru_cache
-from typing import Any
-
-import numpy as np
+from typing import TYPE_CHECKING, Any
 
 from vascplan.paths import data_dir
+
+if TYPE_CHECKING:
+    import numpy as np
 
 TABLE_FILE = "sizing/eccentric_annulus_factor.csv"
 """Relative path (under ``data/``) of the touching-annulus ratio table."""
@@ -52,6 +53,8 @@ def _axis_hit(
     ``inside`` says whether the points lie inside the circle (the ray then always
     leaves it at the positive root) or outside (the ray may enter at the smaller root).
     """
+    import numpy as np
+
     ox = px - cx
     oy = py
     b = ox * dx + oy * dy
@@ -99,6 +102,7 @@ def solve_annulus_factor(kappa: float, eccentricity: float, cells: int = 200) ->
     >>> round(solve_annulus_factor(0.0, 0.0), 2)   # the open tube
     1.0
     """
+    import numpy as np
     from scipy.sparse import csr_matrix
     from scipy.sparse.linalg import spsolve
 
@@ -227,6 +231,7 @@ def build_touching_table(path: str | None = None) -> list[tuple[float, float, in
 @lru_cache(maxsize=1)
 def _touching_interpolant() -> Any:
     """PCHIP of ``factor / (1 - kappa)**3`` over kappa (monotone between table points)."""
+    import numpy as np
     from scipy.interpolate import PchipInterpolator
 
     kappas: list[float] = []

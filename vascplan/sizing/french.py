@@ -9,11 +9,11 @@ maker, so the user's measured ``outer_mm`` wins and a table is the fallback.
 
 from __future__ import annotations
 
+import bisect
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Literal
-
-import numpy as np
 
 from vascplan.sizing._tables import read_csv
 
@@ -94,11 +94,38 @@ def mm_to_fr(mm: float) -> float:
     return _check_size("mm", mm) * 3.0
 
 
-def sheath_outer_table() -> tuple[np.ndarray, np.ndarray, tuple[dict[str, str], ...]]:
+def interpolate(x: float, xs: Sequence[float], ys: Sequence[float]) -> float:
+    """Piecewise-linear interpolation in a table, end values kept beyond the ends.
+
+    Parameters
+    ----------
+    x : float
+        Where to read the table.
+    xs, ys : sequence of float
+        The table, ``xs`` increasing.
+
+    Examples
+    --------
+    >>> interpolate(5.0, [4.0, 6.0], [1.0, 2.0])
+    1.5
+    >>> interpolate(9.0, [4.0, 6.0], [1.0, 2.0])
+    2.0
+    """
+    if x <= xs[0]:
+        return float(ys[0])
+    if x >= xs[-1]:
+        return float(ys[-1])
+    hi = bisect.bisect_right(xs, x)
+    x0, x1, y0, y1 = xs[hi - 1], xs[hi], ys[hi - 1], ys[hi]
+    slope = (y1 - y0) / (x1 - x0)
+    return float(slope * (x - x0) + y0)
+
+
+def sheath_outer_table() -> tuple[list[float], list[float], tuple[dict[str, str], ...]]:
     """The standard-wall sheath table: inner labels [Fr], outer diameters [mm], rows."""
     rows = read_csv(SHEATH_TABLE)
-    fr = np.array([float(r["inner_fr"]) for r in rows])
-    od = np.array([float(r["outer_mm"]) for r in rows])
+    fr = [float(r["inner_fr"]) for r in rows]
+    od = [float(r["outer_mm"]) for r in rows]
     return fr, od, rows
 
 
@@ -136,8 +163,8 @@ def sheath_outer_mm(inner_fr: float) -> tuple[float, str]:
         if inner_fr == fr[-1]:
             how = f"the {rows[-1]['inner_fr']} Fr row"
     else:
-        allowance = float(np.interp(inner_fr, fr, od)) - label_mm
-        hi = int(np.searchsorted(fr, inner_fr))
+        allowance = interpolate(inner_fr, fr, od) - label_mm
+        hi = bisect.bisect_left(fr, inner_fr)
         if fr[hi] == inner_fr:
             used = [rows[hi]]
             how = f"the {rows[hi]['inner_fr']} Fr row"
