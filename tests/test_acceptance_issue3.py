@@ -104,7 +104,10 @@ def test_json_contract_keys_types_and_order(tmp_path: Path) -> None:
     feas = [r["feasible"] for r in doc["routes"]]
     # feasible routes first, best score first (issue item 7; README: lower is better)
     assert feas == sorted(feas, reverse=True)
-    scores = [r["score"] for r in doc["routes"] if r["feasible"]]
+    # issue 12: within the feasible ones, therapeutic before crossing, then the tier of
+    # the ordering rules (data/access/order.yaml; common practice), then the score
+    scores = [(r["role"] != "therapeutic", r["tier"], r["score"])
+              for r in doc["routes"] if r["feasible"]]
     assert scores == sorted(scores)
     # the path runs from the puncture segment to the target segment
     for r in doc["routes"]:

@@ -142,12 +142,20 @@ def test_every_catalogue_site_is_planned_and_both_sides_exist():
     assert planned == expected
 
 
-def test_ranking_feasible_first_then_score():
+def test_ranking_feasible_first_then_role_tier_score():
+    # Issue 12: feasible first, then therapeutic before crossing, then the tier of the
+    # ordering rules (data/access/order.yaml; common practice), then the score.
     result = plan_case(make_case())
     flags = [r.feasible for r in result.routes]
     assert flags == sorted(flags, reverse=True)
-    feasible = [r.score for r in result.routes if r.feasible]
+    feasible = [(r.role != "therapeutic", r.tier, round(r.score, 6))
+                for r in result.routes if r.feasible]
     assert feasible == sorted(feasible)
+    groups: dict = {}
+    for r in result.routes:
+        if r.feasible:
+            groups.setdefault((r.role, r.tier), []).append(r.score)
+    assert all(v == sorted(v) for v in groups.values())
     assert [r.rank for r in result.routes] == list(range(1, len(result.routes) + 1))
 
 

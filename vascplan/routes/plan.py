@@ -15,6 +15,7 @@ from vascplan.routes.dual import rank_pairs
 from vascplan.routes.facts import Devices, RouteFacts, resolve_devices, route_facts
 from vascplan.routes.largebore import SUPPORT_SITES, support_block
 from vascplan.routes.limits import Block, LimitContext, bind_sar, hard_limits, sar_limit
+from vascplan.routes.order import load_order, role_of, tier_of
 from vascplan.routes.pathfind import K_PATHS, CatheterPath, PointGraph
 from vascplan.routes.result import PlanResult, Route
 from vascplan.routes.scoring import ScoreContext, soft_factors
@@ -117,7 +118,23 @@ def _route(view: VesselView, facts: RouteFacts, blocks: list[Block], factors: li
         factors=factors,
         position=facts.site.position,
         assumed=assumed,
+        **_order_fields(facts, devices, limit_ctx),
     )
+
+
+def _order_fields(facts: RouteFacts, devices: Devices, ctx: LimitContext) -> dict[str, Any]:
+    """Role, tier and the ordering rules' basis of one route (``data/access/order.yaml``)."""
+    from vascplan.sizing.french import MM_PER_FR
+
+    rules = load_order()
+    role = role_of(facts.approach)
+    large = round(devices.sheath_od_mm / MM_PER_FR, 9) >= ctx.limits["large_bore_fr"]
+    tier, name, basis = tier_of(facts.site.segment, large)
+    ordering = [f"tier {tier} ({name}): {basis}"]
+    if role == "crossing":
+        ordering.insert(0, f"crossing access, ranked after the therapeutic ones: "
+                           f"{rules['role_basis']}")
+    return {"role": role, "tier": tier, "ordering": ordering}
 
 
 def _assumptions(tree: Any, routes: list[Route], devices: Devices, extra: list[str],
