@@ -7,8 +7,9 @@ numbers come from ``data/access/limits.yaml`` (each with its source), overridabl
 Reason codes (the JSON contract, ``blocked_by[].code``):
 
 ======================  =============================================================
-``unmeasured``          large-bore device (``large_bore_fr`` outer or more) where a
-                        segment it occupies has only a reference diameter
+``unmeasured``          large-bore device (``large_bore_fr`` outer or more) whose fit
+                        rests on a reference diameter (fails the SAR limit at mean -
+                        2 SD of the segment's reference)
 ``sheath-too-large``    SAR in a segment the sheath occupies at or above that
                         segment's limit (limits by site)
 ``device-too-large``    device profile wider than the vessel beyond the sheath tip
@@ -40,7 +41,8 @@ from vascplan.routes.settings import Setting
 from vascplan.routes.vessels import VesselView
 
 REASON_CODES: dict[str, str] = {
-    "unmeasured": "a large-bore device occupies a segment whose diameter was not measured",
+    "unmeasured": "a large-bore device's fit rests on a reference diameter (it would fail "
+                  "the SAR limit at the reference mean - 2 SD)",
     "sheath-too-large": "sheath-to-artery ratio in a segment the sheath occupies at or above "
                         "that segment's limit",
     "device-too-large": "device profile wider than the vessel beyond the sheath tip",
@@ -204,13 +206,42 @@ def _fr_text(devices: Devices) -> str:
     return f"{devices.sheath_fr:g} Fr"
 
 
+def pessimistic_mld_mm(view: VesselView, node: str, mld_mm: float) -> float | None:
+    """The pessimistic end of a reference diameter: mean - 2 SD, floored [mm].
+
+    The reference row's mean less two standard deviations (about the 2.5th centile of
+    a normal distribution), not below the table's plausible minimum
+    (``data/anatomy/segments.csv``), scaled by the share of the lumen a stenosis on the
+    stretch leaves (``mld_mm`` over the reference mean). None when the row has no SD.
+
+    References
+    ----------
+    The rule is common practice: a fit that holds at the lower end of the population
+    range does not rest on the patient's unknown diameter (``limits.yaml``
+    ``large_bore_fr``).
+    """
+    from vascplan.anatomy.reference import load_reference
+
+    attrs = view.node(node)
+    sd = attrs.get("diameter_sd_mm")
+    mean = attrs.get("diameter_mm")
+    row = load_reference().get(node)
+    if sd is None or not mean or row is None:
+        return None
+    low = max(row.diameter_min_mm, float(mean) - 2.0 * float(sd))
+    return low * (mld_mm / float(mean))
+
+
 def check_unmeasured(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
-    """``unmeasured``: a large-bore device on a reference diameter.
+    """``unmeasured``: a large-bore fit that rests on a reference diameter.
 
     A sheath or cannula of ``large_bore_fr`` or more (outer: French = outer mm x 3) is
-    not judged on population means: each segment it occupies whose diameter was not
-    measured blocks the route, and the detail gives the MLD that segment would need for
-    its SAR limit to hold (outer diameter / limit, rounded up to 0.1 mm).
+    not judged on population means. A segment it occupies whose diameter was not
+    measured blocks the route when the device would fail that segment's SAR limit at
+    the pessimistic end of the reference (mean - 2 SD of the segment's reference row,
+    floored at the plausible minimum; :func:`pessimistic_mld_mm`): an unmeasured aorta
+    does not block a 14 Fr pump, an unmeasured common femoral does. The detail gives
+    the MLD the segment would need (outer diameter / limit, rounded up to 0.1 mm).
     """
     d = ctx.devices
     from vascplan.sizing.french import MM_PER_FR
@@ -225,12 +256,18 @@ def check_unmeasured(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
     for fit in facts.fits:
         if fit.measured or any(b.segment == fit.node for b in out):
             continue
+        low = pessimistic_mld_mm(ctx.view, fit.node, fit.mld_mm)
+        if low is not None and low > 0 and d.sheath_od_mm / low < fit.limit.value:
+            continue  # fits even at the lower end of the reference range
         need = needed_mld_mm(d.sheath_od_mm, fit.limit.value)
+        low_text = "" if low is None else (
+            f"; at the lower end of the reference range (mean - 2 SD, {low:.1f} mm*) the "
+            f"SAR would be {d.sheath_od_mm / low:.2f}" if low > 0 else "")
         out.append(Block("unmeasured", fit.node,
                          f"measure {fit.node}: needs MLD >= {need:.1f} mm for this "
                          f"{_fr_text(d)} sheath (outer {d.sheath_od_mm:.2f} mm{od_star}, SAR "
                          f"limit {fit.limit.text()}); the {fit.mld_mm:.1f} mm* used is a "
-                         "reference value, not this patient's lumen"))
+                         f"reference value, not this patient's lumen{low_text}"))
     return out
 
 
