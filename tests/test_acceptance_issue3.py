@@ -44,6 +44,10 @@ def _case(**over: Any) -> dict[str, Any]:
             "target": {"segment": "R-SFA", "at_cm": 10},
             "sheath": {"size_fr": 6, "length_cm": 45, "outer_mm": 2.62},
             "device": {"profile_fr": 6, "working_length_cm": 150},
+            # issue 12: the 45 cm sheath is the up-and-over one; the antegrade groin takes
+            # an 11 cm one (a 45 cm sheath would pass the target: sheath-too-long)
+            "access_equipment": [{"site": "R-CFA", "direction": "antegrade", "size_fr": 6,
+                                  "length_cm": 11, "outer_mm": 2.62}],
         },
     }
     for key, value in over.items():
@@ -116,8 +120,9 @@ def test_json_contract_keys_types_and_order(tmp_path: Path) -> None:
 
 
 def test_sar_hand_computed_ipsilateral_antegrade(tmp_path: Path) -> None:
-    # R-CFA antegrade: the sheath (45 cm - 4 cm skin) runs down R-CFA (8.0 mm) into R-SFA
-    # (6.0 mm) and stops short of the target stenosis at 8 cm: MLD 6.0 mm.
+    # R-CFA antegrade: the sheath (11 cm - 4 cm skin, stated for this access) runs down
+    # R-CFA (8.0 mm) into R-SFA (6.0 mm) and stops short of the target stenosis at 8 cm:
+    # MLD 6.0 mm.
     # SAR = 2.62 / 6.0 = 0.437 (SAR definition: sheath OD / MLD, issue item 3).
     doc = _plan(_write(tmp_path, _case()))
     (r,) = _routes(doc, "R-CFA", "antegrade")
@@ -175,6 +180,7 @@ def test_calcified_stretch_lowers_the_sar_limit(tmp_path: Path) -> None:
     # limit 1.00 (limits.yaml) once the SFA is severely calcified.
     case = _case()
     case["procedure"]["sheath"].update(size_fr=16, outer_mm=6.1)
+    case["procedure"]["access_equipment"][0].update(size_fr=16, outer_mm=6.1)
     doc = _plan(_write(tmp_path, case))
     (r,) = _routes(doc, "R-CFA", "antegrade")
     assert "sheath-too-large" not in _codes(r) and r["sar_limit"] == 1.05

@@ -265,7 +265,10 @@ def test_antegrade_brachial_reaches_the_forearm():
     # Target L-RAD at 5 cm (a forearm lesion). L-BRA antegrade: puncture 0.9 x 25 =
     # 22.5 cm, skin 1 cm: 1 + (25 - 22.5) + 5 = 8.5 cm, down the arm. Retrograde from the
     # brachial points away from the forearm: unreachable. (Lengths: tests/routes_cases.py.)
-    case = make_case(procedure={"target": {"segment": "L-RAD", "at_cm": 5}})
+    # A 4 cm sheath for this access (issue 12: the 11 cm one would pass the target).
+    case = make_case(procedure={"target": {"segment": "L-RAD", "at_cm": 5},
+                                "access_equipment": [{"site": "L-BRA", "size_fr": 6,
+                                                      "length_cm": 4, "outer_mm": 2.6}]})
     result = plan_case(case)
     (down,) = routes_from(result, "L-BRA", "antegrade")
     assert down.path == ["L-BRA", "L-RAD"] and down.feasible

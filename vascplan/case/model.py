@@ -17,6 +17,7 @@ from pydantic import BaseModel, ConfigDict, Field, ValidationInfo, model_validat
 from pydantic_core import PydanticCustomError
 
 from vascplan.anatomy.reference import load_reference, suggest_segment
+from vascplan.case.access import AccessEquipment, AccessInPlace, AccessTried, check_access_sites
 from vascplan.errors import InputError
 
 CASE_FORMAT = "vascplan-case/1"
@@ -224,9 +225,13 @@ class Procedure(_Strict):
     target: Target
     sheath: Sheath
     device: Device
+    access_equipment: list[AccessEquipment] = Field(
+        default_factory=list,
+        description="equipment per access (issue 12); the sheath above stays the therapeutic one")
 
 
-SECTIONS = ("vessels", "lesions", "stents", "grafts", "avoid", "weights", "limits")
+SECTIONS = ("vessels", "lesions", "stents", "grafts", "avoid", "weights", "limits",
+            "access_in_place", "access_tried")
 """Optional sections that may be left empty in the file (read as none)."""
 
 
@@ -241,6 +246,10 @@ class Case(_Strict):
     grafts: list[Graft] = Field(default_factory=list)
     avoid: list[Avoid] = Field(default_factory=list)
     procedure: Procedure | None = None
+    access_in_place: list[AccessInPlace] = Field(
+        default_factory=list, description="arterial lines or sheaths already in place")
+    access_tried: list[AccessTried] = Field(
+        default_factory=list, description="accesses attempted before and their outcome")
     weights: dict[str, float] = Field(
         default_factory=dict,
         description="route-planner soft-factor weight overrides (name -> weight)",
@@ -347,4 +356,10 @@ class Case(_Strict):
             target = self.procedure.target
             known(target.segment, "procedure.target.segment")
             within(target.segment, "procedure.target.at_cm", target.at_cm, "target")
+        return self
+
+    @model_validator(mode="after")
+    def _check_access_fields(self, info: ValidationInfo) -> Case:
+        # issue 12: access equipment, access in place, access tried (vascplan.case.access)
+        check_access_sites(self, str((info.context or {}).get("source", "<case>")))
         return self

@@ -41,6 +41,18 @@ class Devices:
     device_od_mm: float | None
     working_length_cm: float | None
     device_kind: str | None = None
+    sheath_label: str = "inner"
+    sheathless: bool = False
+
+    @property
+    def sheath_inner_mm(self) -> float | None:
+        """Inner diameter of a sheath labelled by inner size: French / 3 [mm] (ISO 11070
+        labels introducer sheaths by inner size); None for an outer label or sheathless."""
+        from vascplan.sizing.french import MM_PER_FR
+
+        if self.sheathless or self.sheath_label != "inner":
+            return None
+        return self.sheath_fr * MM_PER_FR
 
 
 @dataclass
@@ -89,6 +101,9 @@ class RouteFacts:
     crossover_dropped: bool = False
     fits: list[SegmentFit] = field(default_factory=list)
     sar_limit: LimitUsed | None = None
+    role: str = "therapeutic"
+    to_lesion_cm: float | None = None
+    inside_cm: float = 0.0
 
 
 def route_facts(view: VesselView, site: AccessSite, direction: str,
@@ -113,7 +128,9 @@ def route_facts(view: VesselView, site: AccessSite, direction: str,
         return facts
     facts.length_cm = site.skin_depth_cm + path.vessel_cm
     inside_cm = max(0.0, devices.sheath_length_cm - site.skin_depth_cm)
-    reach_cm = min(inside_cm, _distance_to_target_lesion(view, path))
+    facts.inside_cm = inside_cm
+    facts.to_lesion_cm = _distance_to_target_lesion(view, path)
+    reach_cm = min(inside_cm, facts.to_lesion_cm)
     facts.sheath_legs = path.portion(0.0, reach_cm)
     facts.beyond_legs = path.portion(reach_cm, path.vessel_cm) if reach_cm < path.vessel_cm else []
     facts.min_lumen = view.lumen_over(facts.sheath_legs)
@@ -121,10 +138,17 @@ def route_facts(view: VesselView, site: AccessSite, direction: str,
         facts.min_lumen = (view.mld_mm(site.segment, puncture_cm, puncture_cm), site.segment)
     if facts.min_lumen[0] > 0:  # an occlusion (MLD 0) is reported as occlusion-en-route
         facts.sar = devices.sheath_od_mm / facts.min_lumen[0]
-    if view.target_is_occlusion:
-        last = path.legs[-1]
-        facts.approach = "proximal-cap" if last.to_cm >= last.from_cm else "distal-cap"
+    facts.approach = approach_of(view, path)
     return facts
+
+
+def approach_of(view: VesselView, path: CatheterPath | None) -> str:
+    """``proximal-cap`` or ``distal-cap`` for an occlusion target (the way the last leg
+    runs), else ``none``."""
+    if path is None or not view.target_is_occlusion:
+        return "none"
+    last = path.legs[-1]
+    return "proximal-cap" if last.to_cm >= last.from_cm else "distal-cap"
 
 
 def _distance_to_target_lesion(view: VesselView, path: CatheterPath) -> float:
@@ -166,4 +190,5 @@ def resolve_devices(case: Any) -> Devices:
         device_od_mm=device_od,
         working_length_cm=float(device.working_length_cm) if device is not None else None,
         device_kind=device.kind if device is not None else None,
+        sheath_label=sheath.label,
     )

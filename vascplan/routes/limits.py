@@ -19,6 +19,11 @@ Reason codes (the JSON contract, ``blocked_by[].code``):
 ``site-diseased``       stenosis, occlusion or stent in the puncture zone
 ``no-crossover``        the bifurcation is stented or grafted: no up-and-over
 ``unreachable``         no path from this site in this direction reaches the target
+``tried-before``        this access was tried before and failed (``access_tried``)
+``sheath-too-long``     the sheath reaches the target lesion or leaves less working
+                        room than ``working_room_cm``; the detail gives the longest
+                        sheath that would do
+``device-exceeds-sheath`` device profile larger than the sheath's inner diameter
 ======================  =============================================================
 """
 
@@ -52,6 +57,10 @@ REASON_CODES: dict[str, str] = {
     "site-diseased": "stenosis, occlusion or stent in the puncture zone",
     "no-crossover": "the aortic bifurcation is stented or grafted: no up-and-over",
     "unreachable": "no path from this site in this direction reaches the target",
+    "tried-before": "this access was tried before and failed (access_tried in the case)",
+    "sheath-too-long": "the sheath reaches the target lesion or leaves less working room "
+                       "than the limit",
+    "device-exceeds-sheath": "device profile larger than the sheath's inner diameter",
 }
 """Every reason code with its meaning (README table)."""
 
@@ -306,7 +315,7 @@ def check_device(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
     stenoses, which are a soft factor (they can be dilated first).
     """
     d = ctx.devices
-    if facts.path is None or d.device_od_mm is None:
+    if facts.path is None or d.device_od_mm is None or facts.role != "therapeutic":
         return []
     lumen = ctx.view.open_lumen_over(facts.beyond_legs)
     if lumen is None or d.device_od_mm <= lumen[0]:
@@ -335,7 +344,7 @@ def _apart(wider: float, narrower: float) -> tuple[str, str]:
 def check_too_short(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
     """``too-short``: path plus the outside allowance longer than the working length."""
     d = ctx.devices
-    if facts.length_cm is None or d.working_length_cm is None:
+    if facts.length_cm is None or d.working_length_cm is None or facts.role != "therapeutic":
         return []
     outside = ctx.limits["outside_body_cm"]
     need = facts.length_cm + outside
@@ -366,7 +375,80 @@ def check_crossover(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
     return [Block("no-crossover", "AO-INFRA", f"up-and-over is not possible: {why}")]
 
 
+def check_tried(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
+    """``tried-before``: the case records this access (site, direction) as failed.
+
+    Not raised when the entry says ``retry: true`` (the user asks for it again).
+    """
+    from vascplan.case.access import matches
+
+    out = []
+    for entry in getattr(ctx.view.case, "access_tried", ()):
+        if entry.retry or not matches(entry.site, entry.direction, facts.site.id,
+                                      facts.site.segment, facts.direction):
+            continue
+        out.append(Block("tried-before", facts.site.segment,
+                         f"{facts.site.id} {facts.direction} was tried before and "
+                         f"{entry.outcome}: {entry.reason} (set retry: true to plan it again)"))
+    return out[:1]
+
+
+def _treating(ctx: LimitContext) -> bool:
+    procedure = ctx.view.case.procedure
+    return procedure is None or procedure.purpose == "treat"
+
+
+def check_sheath_too_long(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
+    """``sheath-too-long``: the sheath tip reaches the target lesion (or target point) or
+    leaves less working room before it than ``working_room_cm``.
+
+    Treatment only: a support cannula's tip is meant to lie at its target. The detail
+    gives the longest sheath that would do: skin depth + distance to the lesion -
+    working room, rounded down to the whole cm.
+    """
+    import math
+
+    if facts.path is None or facts.to_lesion_cm is None or not _treating(ctx):
+        return []
+    if ctx.devices.sheathless or facts.inside_cm <= 0:
+        return []
+    need = ctx.limits["working_room_cm"]
+    room = facts.to_lesion_cm - facts.inside_cm
+    if room >= need:
+        return []
+    longest = math.floor(facts.site.skin_depth_cm + facts.to_lesion_cm - need)
+    where = "the target lesion" if ctx.view.target_lesion is not None else "the target"
+    what = (f"its tip passes {where} by {-room:.1f} cm" if room < 0
+            else f"it leaves {room:.1f} cm before {where}, under the {need:g} cm needed")
+    advice = (f"the longest sheath that would do is {longest} cm"
+              if longest > facts.site.skin_depth_cm
+              else "no sheath leaves that room: go sheathless or puncture further away")
+    return [Block("sheath-too-long", facts.site.segment,
+                  f"{ctx.devices.sheath_length_cm:g} cm sheath ({facts.inside_cm:.1f} cm inside "
+                  f"the artery) on a {facts.to_lesion_cm:.1f} cm* path to {where}: {what}; "
+                  f"{advice}")]
+
+
+def check_device_in_sheath(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
+    """``device-exceeds-sheath``: device profile (outer, French / 3) larger than the
+    sheath's inner diameter (inner label, French / 3; ISO 11070).
+
+    Therapeutic routes only (a crossing access takes a wire and a catheter, not the
+    device); not checked for a sheath labelled by outer size or sheathless.
+    """
+    d = ctx.devices
+    inner = d.sheath_inner_mm
+    if facts.path is None or facts.role != "therapeutic" or inner is None \
+            or d.device_od_mm is None or d.device_od_mm <= inner + 1e-9:
+        return []
+    return [Block("device-exceeds-sheath", facts.site.segment,
+                  f"{d.device_fr:g} Fr device ({d.device_od_mm:.2f} mm outer) does not pass a "
+                  f"{d.sheath_fr:g} Fr sheath ({inner:.2f} mm inner): "
+                  f"{d.device_od_mm - inner:.2f} mm too large")]
+
+
 CHECKS: tuple[tuple[str, Check], ...] = (
+    ("tried-before", check_tried),
     ("unreachable", check_unreachable),
     ("site-avoided", check_site_avoided),
     ("site-diseased", check_site_diseased),
@@ -376,6 +458,8 @@ CHECKS: tuple[tuple[str, Check], ...] = (
     ("sheath-too-large", check_sheath),
     ("device-too-large", check_device),
     ("too-short", check_too_short),
+    ("sheath-too-long", check_sheath_too_long),
+    ("device-exceeds-sheath", check_device_in_sheath),
 )
 """The registry: every hard limit, in the order reasons are listed."""
 

@@ -50,7 +50,10 @@ def load_order() -> dict[str, Any]:
         tiers.append(Tier(str(entry["name"]), int(entry["tier"]),
                           tuple(entry.get("kinds", ())), bool(entry.get("below_large_bore")),
                           " ".join(str(entry["basis"]).split())))
+    in_place = data.get("in_place") or {}
     return {"role_basis": " ".join(str(data["role"]["basis"]).split()),
+            "in_place": {"tier": int(in_place.get("tier", 0)),
+                         "basis": " ".join(str(in_place.get("basis", "")).split())},
             "default_tier": int(data["default_tier"]),
             "default_basis": " ".join(str(data["default_basis"]).split()),
             "tiers": tuple(tiers)}

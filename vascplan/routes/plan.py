@@ -8,13 +8,16 @@ from __future__ import annotations
 
 import os
 from collections.abc import Mapping
+from dataclasses import replace
 from typing import Any
 
 from vascplan.errors import InputError
 from vascplan.routes.dual import rank_pairs
-from vascplan.routes.facts import Devices, RouteFacts, resolve_devices, route_facts
+from vascplan.routes.equipment import route_devices
+from vascplan.routes.facts import Devices, RouteFacts, approach_of, resolve_devices, route_facts
 from vascplan.routes.largebore import SUPPORT_SITES, support_block
 from vascplan.routes.limits import Block, LimitContext, bind_sar, hard_limits, sar_limit
+from vascplan.routes.margins import route_margins
 from vascplan.routes.order import load_order, role_of, tier_of
 from vascplan.routes.pathfind import K_PATHS, CatheterPath, PointGraph
 from vascplan.routes.result import PlanResult, Route
@@ -120,6 +123,27 @@ def _route(view: VesselView, facts: RouteFacts, blocks: list[Block], factors: li
         assumed=assumed,
         **_order_fields(facts, devices, limit_ctx),
     )
+
+
+def _mark_in_place(case: Any, route: Route, site: AccessSite) -> None:
+    """A route through an access already in place: no new puncture, so the site's
+    complication factor is not counted, and it ranks in the first tier (order.yaml)."""
+    from vascplan.case.access import matches
+    from vascplan.routes.scoring import Factor
+
+    entry = next((e for e in case.access_in_place
+                  if matches(e.site, e.direction, site.id, site.segment, route.direction)), None)
+    if entry is None:
+        return
+    since = f" since {entry.since}" if entry.since else ""
+    route.in_place = f"{entry.what}{since}"
+    route.factors = [f for f in route.factors if f.name != "site_risk"]
+    route.factors.insert(0, Factor("access_in_place", 0.0,
+                                   f"uses the {entry.what} already in place at {site.id}{since}: "
+                                   "no new puncture (site complication risk not counted)"))
+    rule = load_order()["in_place"]
+    route.tier = min(route.tier, rule["tier"])
+    route.ordering.insert(0, f"tier {rule['tier']} (access in place): {rule['basis']}")
 
 
 def _order_fields(facts: RouteFacts, devices: Devices, ctx: LimitContext) -> dict[str, Any]:
@@ -231,12 +255,20 @@ def plan_case(case: Any, *, top: int | None = None, weights: Mapping[str, float]
             paths = kept
         candidates: list[CatheterPath | None] = list(paths) or [None]
         for i, path in enumerate(candidates):
-            facts = route_facts(view, site, direction, path, devices)
+            role = role_of(approach_of(view, path))
+            r_devices, equipment = route_devices(case, site, direction, role, devices)
+            r_limit = replace(limit_ctx, devices=r_devices)
+            facts = route_facts(view, site, direction, path, r_devices)
             facts.crossover_dropped = dropped
-            bind_sar(facts, limit_ctx)
-            blocks = hard_limits(facts, limit_ctx)
-            factors = soft_factors(facts, score_ctx)
-            routes.append(_route(view, facts, blocks, factors, devices, limit_ctx))
+            facts.role = role
+            bind_sar(facts, r_limit)
+            blocks = hard_limits(facts, r_limit)
+            factors = soft_factors(facts, replace(score_ctx, devices=r_devices))
+            route = _route(view, facts, blocks, factors, r_devices, r_limit)
+            route.equipment = equipment
+            route.margins = route_margins(facts, r_limit)
+            _mark_in_place(case, route, site)
+            routes.append(route)
             if purpose == "support" and i == 0:
                 support_axes.append((facts, blocks))
     routes.sort(key=Route.sort_key)
