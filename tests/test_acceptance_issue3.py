@@ -272,7 +272,7 @@ def test_no_crossover_with_kissing_iliac_stents(tmp_path: Path) -> None:
 def test_unreachable_from_other_leg_below_groin(tmp_path: Path) -> None:
     # A puncture of the left mid-thigh SFA serves its own leg only: the right SFA is
     # unreachable from it (README, sites).
-    doc = _plan(_write(tmp_path, _case()))
+    doc = _plan(_write(tmp_path, _case()), "--all")  # unreachable rows: --all (issue 12)
     lsfa = _routes(doc, "L-SFA")
     assert lsfa and all("unreachable" in _codes(r) for r in lsfa)
 
@@ -527,7 +527,7 @@ def test_route_round_the_pedal_loop(tmp_path: Path) -> None:
     case["procedure"]["target"] = {"segment": "R-DPA", "at_cm": 2}
     case["procedure"]["sheath"] = {"size_fr": 6, "length_cm": 11, "outer_mm": 2.62}
     case["procedure"]["device"] = {"profile_fr": 3, "working_length_cm": 150}
-    doc = _plan(_write(tmp_path, case))
+    doc = _plan(_write(tmp_path, case), "--all")  # every path of a route: --all (issue 12)
     ante = _routes(doc, "R-CFA", "antegrade")
     loops = [r for r in ante if "R-PLA" in r["path"]]
     straight = [r for r in ante if "R-ATA" in r["path"]]

@@ -178,7 +178,8 @@ def test_a_sar_near_the_limit_prints_on_its_verdicts_side(outer_mm, printed, fea
     row = next(line for line in render_plan(result.to_dict()).splitlines()
                if line.split()[1:3] == ["R-CFA", "retrograde"])
     cells = row.split()
-    assert cells[5] == printed  # rank, site, direction, length, "cm", SAR
+    # rank, site, direction, role, equipment ("24 Fr 6 cm", issue 12), length, "cm", SAR
+    assert cells[10] == printed
     assert ("ok" in cells) is feasible and ("BLOCKED" in cells) is not feasible
 
 
@@ -206,7 +207,7 @@ def test_property_the_table_never_prints_a_sar_against_its_verdict(outer_mm):
                  if r["site"] == "R-CFA" and r["direction"] == "retrograde")
     row = next(line for line in render_plan(plan).splitlines()
                if line.split()[1:3] == ["R-CFA", "retrograde"]).split()
-    over = float(row[5]) >= route["sar_limit"]
+    over = float(row[10]) >= route["sar_limit"]  # SAR cell (layout as above)
     assert over is (route["sar"] >= route["sar_limit"]) is (not route["feasible"])
     assert ("BLOCKED" in row) is over
 

@@ -14,6 +14,7 @@ Examples:
   vascplan plan examples/case-DEMO-07-sfa-occlusion.yaml
   vascplan plan examples/case-DEMO-07-sfa-occlusion.yaml --explain L-CFA
   vascplan plan case.yaml --weight crossover=2.5 --limit sar_max=1.0 --top 5
+  vascplan plan case.yaml --all       (also routes with no path, other paths)
   vascplan plan registry/*.yaml --format jsonl > review.jsonl
 
 Score: lower is better; feasible routes come first. Weights and limits live in
@@ -35,8 +36,12 @@ data/access/weights.yaml and data/access/limits.yaml, each with its basis.
               help="Override a soft-factor weight (repeatable).")
 @click.option("--limit", "limits", multiple=True, metavar="NAME=VALUE",
               help="Override a hard limit (repeatable).")
+@click.option("--all", "all_routes", is_flag=True, default=False,
+              help="List every route: also those with no path to the target and the "
+                   "other paths of a route (by default only routes with a path, one per "
+                   "site and direction).")
 def plan(cases: tuple[str, ...], fmt: str, top: int | None, explain: str | None,
-         weights: tuple[str, ...], limits: tuple[str, ...]) -> None:
+         weights: tuple[str, ...], limits: tuple[str, ...], all_routes: bool) -> None:
     """Rank the access routes for each CASE file: site, direction, path and why.
 
     Every usable puncture site and direction is checked against the sheath size
@@ -68,7 +73,7 @@ def plan(cases: tuple[str, ...], fmt: str, top: int | None, explain: str | None,
     results = []
     for i, (path, case) in enumerate(loaded, start=1):
         result = plan_case(case, weights=w, limits=lim, top=None if explain else top,
-                           source=str(path))
+                           source=str(path), all_routes=all_routes or explain is not None)
         data = result.to_dict()
         if explain is not None:
             click.echo(render_explain(data, [r.to_dict() for r in result.route(explain)]), nl=False)

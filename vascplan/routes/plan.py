@@ -183,8 +183,22 @@ def _assumptions(tree: Any, routes: list[Route], devices: Devices, extra: list[s
     return out
 
 
+def shown_routes(routes: list[Route]) -> list[Route]:
+    """The default view (issue 12): routes with a path only, one per site and direction
+    (the best-ranked path; the others are alternatives of the same route)."""
+    seen: set[tuple[str, str]] = set()
+    out = []
+    for r in routes:
+        if r.length_cm is None or (r.site, r.direction) in seen:
+            continue
+        seen.add((r.site, r.direction))
+        out.append(r)
+    return out
+
+
 def plan_case(case: Any, *, top: int | None = None, weights: Mapping[str, float] | None = None,
-              limits: Mapping[str, float] | None = None, source: str = "") -> PlanResult:
+              limits: Mapping[str, float] | None = None, source: str = "",
+              all_routes: bool = True) -> PlanResult:
     """Rank every access route for a case, with the reasons.
 
     Parameters
@@ -200,6 +214,11 @@ def plan_case(case: Any, *, top: int | None = None, weights: Mapping[str, float]
         Hard-limit overrides (``data/access/limits.yaml`` names); win over the case's.
     source : str
         The case file's name, for error lines and the result.
+    all_routes : bool
+        True (the library's default): every route, unreachable ones and alternative
+        paths included. False (the command line's default): only routes with a path, one
+        per site and direction (:func:`shown_routes`); ``routes_left_out`` and
+        ``pairs_left_out`` count the rest.
 
     Returns
     -------
@@ -272,9 +291,15 @@ def plan_case(case: Any, *, top: int | None = None, weights: Mapping[str, float]
             if purpose == "support" and i == 0:
                 support_axes.append((facts, blocks))
     routes.sort(key=Route.sort_key)
+    everything = len(routes)
+    if not all_routes:
+        routes = shown_routes(routes)
     for rank, route in enumerate(routes, start=1):
         route.rank = rank
-    pairs = rank_pairs(routes) if view.target_is_occlusion and purpose == "treat" else []
+    pairs: list = []
+    pairs_left_out = 0
+    if view.target_is_occlusion and purpose == "treat":
+        pairs, pairs_left_out = rank_pairs(routes)
     extra: list[str] = []
     support = None
     if purpose == "support":
@@ -293,6 +318,8 @@ def plan_case(case: Any, *, top: int | None = None, weights: Mapping[str, float]
         target=target,
         routes=routes[:top] if top is not None else routes,
         routes_total=len(routes),
+        routes_left_out=everything - len(routes),
+        pairs_left_out=pairs_left_out,
         pairs=pairs,
         assumptions=_assumptions(tree, routes, devices, extra, top),
         weights=w,

@@ -253,6 +253,12 @@ class PlanResult:
         The values that applied (after overrides).
     support : dict or None
         Large-bore support comparison (support mode only).
+    routes_left_out : int
+        Routes not listed by the default view (no path, or another path of a route
+        listed); 0 with ``--all``.
+    pairs_left_out : int
+        Pairs one to each cap that were not listed (an end practitioners do not use for
+        it, or beyond the best few).
     """
 
     case: str
@@ -266,6 +272,8 @@ class PlanResult:
     weights: dict[str, float]
     limits: dict[str, float]
     support: dict[str, Any] | None = None
+    routes_left_out: int = 0
+    pairs_left_out: int = 0
 
     def route(self, site: str) -> list[Route]:
         """The routes from one site id (or from every site of a segment id)."""
@@ -285,6 +293,8 @@ class PlanResult:
             "score_convention": SCORE_CONVENTION,
             "routes": [r.to_dict() for r in self.routes],
             "routes_total": self.routes_total,
+            "routes_left_out": self.routes_left_out,
+            "pairs_left_out": self.pairs_left_out,
             "pairs": [p.to_dict() for p in self.pairs],
             "assumptions": list(self.assumptions),
             "weights": dict(self.weights),
