@@ -501,7 +501,9 @@ def test_route_through_patent_graft_and_not_a_closed_one(tmp_path: Path) -> None
     case["lesions"] = [{"segment": "R-SFA", "kind": "occlusion", "start_cm": 2,
                         "length_cm": 24}]
     case["procedure"]["target"] = {"segment": "R-POP", "at_cm": 10}
-    graft = {"name": "fp-1", "from": "R-CFA", "from_cm": 3, "to": "R-POP", "to_cm": 6,
+    # inflow at 3.5 cm: outside the 1 cm puncture zone about the puncture at 2 cm
+    # (issue 12: an anastomosis within it blocks the site as graft-anastomosis)
+    graft = {"name": "fp-1", "from": "R-CFA", "from_cm": 3.5, "to": "R-POP", "to_cm": 6,
              "diameter_mm": 6, "patent": True}
     case["grafts"] = [graft]
     doc = _plan(_write(tmp_path, case))

@@ -17,7 +17,8 @@ from vascplan.routes.settings import LIMITS_FILE, load_table
 
 def test_every_reason_code_has_a_check_and_a_meaning():
     assert [code for code, _ in CHECKS] == [
-        "tried-before", "unreachable", "site-avoided", "site-diseased", "no-crossover",
+        "tried-before", "unreachable", "site-avoided", "site-diseased", "graft-anastomosis",
+        "no-crossover",
         "occlusion-en-route", "unmeasured", "sheath-too-large", "device-too-large", "too-short",
         "sheath-too-long", "device-exceeds-sheath"]
     assert set(REASON_CODES) == {code for code, _ in CHECKS}

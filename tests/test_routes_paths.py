@@ -72,12 +72,14 @@ def test_arch_route_from_the_left_arm_crosses_less_arch():
 
 
 def test_route_through_a_patent_graft():
-    # Fem-pop graft from L-CFA 3 cm to L-POP 12 cm; the L-SFA is occluded 2-28 cm.
+    # Fem-pop graft from L-CFA 3.5 cm to L-POP 12 cm; the L-SFA is occluded 2-28 cm.
+    # (3.5, not 3: the anastomosis must lie outside the 1 cm puncture zone about the
+    # puncture at 2 cm, or the site is blocked as graft-anastomosis, issue 12.)
     # Target L-POP at 14. Native antegrade path: blocked by the SFA occlusion.
-    # Through the graft: skin 4 + L-CFA 2->3 = 1 + graft (length = distance between its
-    # ends along the native arteries: 1 + 30 + 12 = 43) + L-POP 12->14 = 2: 50 cm.
+    # Through the graft: skin 4 + L-CFA 2->3.5 = 1.5 + graft (length = distance between
+    # its ends along the native arteries: 0.5 + 30 + 12 = 42.5) + L-POP 12->14 = 2: 50 cm.
     case = make_case(
-        grafts=[{"name": "fem-pop", "from": "L-CFA", "from_cm": 3, "to": "L-POP",
+        grafts=[{"name": "fem-pop", "from": "L-CFA", "from_cm": 3.5, "to": "L-POP",
                  "to_cm": 12, "diameter_mm": 6}],
         lesions=[{"segment": "L-SFA", "kind": "occlusion", "start_cm": 2, "length_cm": 26}],
         procedure={"target": {"segment": "L-POP", "at_cm": 14}},

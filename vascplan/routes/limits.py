@@ -24,6 +24,7 @@ Reason codes (the JSON contract, ``blocked_by[].code``):
                         room than ``working_room_cm``; the detail gives the longest
                         sheath that would do
 ``device-exceeds-sheath`` device profile larger than the sheath's inner diameter
+``graft-anastomosis``   a graft anastomosis within the puncture zone
 ======================  =============================================================
 """
 
@@ -61,6 +62,7 @@ REASON_CODES: dict[str, str] = {
     "sheath-too-long": "the sheath reaches the target lesion or leaves less working room "
                        "than the limit",
     "device-exceeds-sheath": "device profile larger than the sheath's inner diameter",
+    "graft-anastomosis": "a bypass graft anastomosis lies within the puncture zone",
 }
 """Every reason code with its meaning (README table)."""
 
@@ -393,6 +395,20 @@ def check_tried(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
     return out[:1]
 
 
+def check_graft_anastomosis(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
+    """``graft-anastomosis``: a graft end on the punctured segment within
+    ``puncture_zone_cm`` of the puncture point (near it, the soft factor
+    ``graft_anastomosis_near`` counts it instead)."""
+    half = ctx.limits["puncture_zone_cm"]
+    out = []
+    for name, cm in ctx.view.anastomoses_on(facts.site.segment):
+        if abs(cm - facts.puncture_cm) <= half:
+            out.append(Block("graft-anastomosis", facts.site.segment,
+                             f"anastomosis of graft {name} at {cm:g} cm lies within {half:g} cm "
+                             f"of the puncture point ({facts.puncture_cm:.1f} cm)"))
+    return out
+
+
 def _treating(ctx: LimitContext) -> bool:
     procedure = ctx.view.case.procedure
     return procedure is None or procedure.purpose == "treat"
@@ -452,6 +468,7 @@ CHECKS: tuple[tuple[str, Check], ...] = (
     ("unreachable", check_unreachable),
     ("site-avoided", check_site_avoided),
     ("site-diseased", check_site_diseased),
+    ("graft-anastomosis", check_graft_anastomosis),
     ("no-crossover", check_crossover),
     ("occlusion-en-route", check_occlusion),
     ("unmeasured", check_unmeasured),

@@ -254,10 +254,25 @@ def f_pedal_loop(facts: RouteFacts, ctx: ScoreContext) -> list[Factor]:
                    "round the pedal loop (plantar arch and dorsalis pedis)")]
 
 
+def f_anastomosis_near(facts: RouteFacts, ctx: ScoreContext) -> list[Factor]:
+    """A graft anastomosis near the puncture (outside the puncture zone, within
+    ``anastomosis_near_cm``): puncture away from it under ultrasound."""
+    half = ctx.limits["puncture_zone_cm"]
+    near = ctx.limits["anastomosis_near_cm"]
+    hits = [(n, cm) for n, cm in ctx.view.anastomoses_on(facts.site.segment)
+            if half < abs(cm - facts.puncture_cm) <= near]
+    if not hits:
+        return []
+    w = ctx.weights["graft_anastomosis_near"]
+    where = ", ".join(f"graft {n} at {cm:g} cm" for n, cm in hits)
+    return [Factor("graft_anastomosis_near", w * len(hits),
+                   f"graft anastomosis near the puncture ({where}) x {w:g}")]
+
+
 FACTORS: tuple[FactorFn, ...] = (
     f_sar, f_puncture_calcification, f_puncture_plaque, f_site_risk, f_sheath_size,
     f_stenoses, f_crossover, f_arch, f_prone, f_length_margin, f_anticoagulation, f_approach,
-    f_graft, f_pedal_loop,
+    f_graft, f_pedal_loop, f_anastomosis_near,
 )
 """The registry of soft factors, in the order they are listed."""
 
