@@ -310,3 +310,34 @@ def test_plan_json_validates_against_its_schema(name):
     broken = dict(default, routes=[dict(default["routes"][0], role="primary")])
     with pytest.raises(jsonschema.ValidationError):
         jsonschema.validate(broken, schema)
+
+
+# 13 ----------------------------------------------------------------------------------
+def test_obese_patient_radial_against_femoral():
+    # An iliac target (L-CIA 70% stenosis) reachable from the left radial (measured 3.2 mm:
+    # 6 Fr outer 2.6 / 3.2 = 0.81, under the radial 1.00 of Saito et al. 1999).
+    # Lean (70 kg, 175 cm: BMI 70 / 1.75^2 = 22.9): the open common femoral comes first
+    # (femoral-first, common practice). BMI 130 / 1.75^2 = 42.4 (40 or more): transfemoral
+    # access had more bleeding and access-site complications than transradial (7.5% vs
+    # 2.0%, Hibbert B et al., JACC Cardiovasc Interv 2012;5:819): femoral-first is lifted and
+    # the femoral scores severe_obesity_femoral (2 points, weights.yaml): the radial leads.
+    # BMI 115 / 1.75^2 = 37.6 (35-40, TROP registry): femoral still first, +1 point, and the
+    # groin 2 cm deeper (limits.yaml obese_groin_extra_cm): L-CFA 4 + 2 + 2 + 4 + ... cm.
+    def plan(weight: float):
+        return plan_case(make_case(
+            patient={"weight_kg": weight}, vessels={"L-RAD": {"diameter_mm": 3.2}},
+            lesions=[{"segment": "L-CIA", "kind": "stenosis", "stenosis_pct": 70,
+                      "start_cm": 2, "length_cm": 2}],
+            procedure={"target": {"segment": "L-CIA", "at_cm": 3}}), all_routes=False)
+
+    lean, obese, severe = plan(70), plan(115), plan(130)
+    assert (_first_feasible(lean).site, _first_feasible(obese).site) == ("L-CFA", "L-CFA")
+    assert _first_feasible(severe).site in ("L-RAD", "L-RAD-DIST")
+    (cfa_lean,) = routes_from(lean, "L-CFA", "retrograde")
+    (cfa_obese,) = routes_from(obese, "L-CFA", "retrograde")
+    (cfa_severe,) = routes_from(severe, "L-CFA", "retrograde")
+    assert cfa_obese.length_cm == pytest.approx(cfa_lean.length_cm + 2.0)
+    assert [f.points for f in cfa_obese.factors if f.name == "obesity_femoral"] == [1.0]
+    assert [f.points for f in cfa_severe.factors if f.name == "severe_obesity_femoral"] == [2.0]
+    assert cfa_lean.tier == 0 and cfa_severe.tier == 1
+    assert any("Hibbert" in line for line in cfa_severe.ordering)

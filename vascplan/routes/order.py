@@ -28,6 +28,7 @@ class Tier:
     kinds: tuple[str, ...]
     below_large_bore: bool
     basis: str
+    lifted_by_severe_obesity: bool = False
 
 
 @cache
@@ -49,7 +50,8 @@ def load_order() -> dict[str, Any]:
             raise InputError(str(path), str(entry.get("name")), "every tier needs a basis")
         tiers.append(Tier(str(entry["name"]), int(entry["tier"]),
                           tuple(entry.get("kinds", ())), bool(entry.get("below_large_bore")),
-                          " ".join(str(entry["basis"]).split())))
+                          " ".join(str(entry["basis"]).split()),
+                          bool(entry.get("lifted_by_severe_obesity"))))
     in_place = data.get("in_place") or {}
     return {"role_basis": " ".join(str(data["role"]["basis"]).split()),
             "in_place": {"tier": int(in_place.get("tier", 0)),
@@ -65,7 +67,8 @@ def segment_kind(segment: str) -> str:
     return kind if sep and side in ("L", "R") else segment
 
 
-def tier_of(segment: str, large_bore: bool) -> tuple[int, str, str]:
+def tier_of(segment: str, large_bore: bool,
+            severe_obesity: bool = False) -> tuple[int, str, str]:
     """The tier of a therapeutic access on ``segment``: (tier, rule name, basis).
 
     >>> tier_of("L-CFA", False)[:2]
@@ -76,6 +79,8 @@ def tier_of(segment: str, large_bore: bool) -> tuple[int, str, str]:
     rules = load_order()
     kind = segment_kind(segment)
     for t in rules["tiers"]:
+        if t.lifted_by_severe_obesity and severe_obesity:
+            continue
         if kind in t.kinds and (not t.below_large_bore or not large_bore):
             return t.tier, t.name, t.basis
     return rules["default_tier"], "default", rules["default_basis"]

@@ -12,6 +12,7 @@ from dataclasses import replace
 from typing import Any
 
 from vascplan.errors import InputError
+from vascplan.routes.body import body_mass_index, femoral_first_lifted, is_femoral, site_for_body
 from vascplan.routes.dual import rank_pairs
 from vascplan.routes.equipment import route_devices
 from vascplan.routes.facts import Devices, RouteFacts, approach_of, resolve_devices, route_facts
@@ -153,8 +154,14 @@ def _order_fields(facts: RouteFacts, devices: Devices, ctx: LimitContext) -> dic
     rules = load_order()
     role = role_of(facts.approach)
     large = round(devices.sheath_od_mm / MM_PER_FR, 9) >= ctx.limits["large_bore_fr"]
-    tier, name, basis = tier_of(facts.site.segment, large)
+    bmi = body_mass_index(ctx.view.case.patient)
+    lifted = femoral_first_lifted(bmi, ctx.limits)
+    tier, name, basis = tier_of(facts.site.segment, large, lifted)
     ordering = [f"tier {tier} ({name}): {basis}"]
+    if lifted and is_femoral(facts.site):
+        ordering.append(f"femoral-first not applied: body mass index {bmi:.1f} kg/m2 is "
+                        f"{ctx.limits['severe_obesity_bmi']:g} or more (Hibbert B et al., "
+                        "JACC Cardiovasc Interv 2012;5:819)")
     if role == "crossing":
         ordering.insert(0, f"crossing access, ranked after the therapeutic ones: "
                            f"{rules['role_basis']}")
@@ -258,9 +265,11 @@ def plan_case(case: Any, *, top: int | None = None, weights: Mapping[str, float]
     purpose = case.procedure.purpose
     routes: list[Route] = []
     support_axes: list[tuple[RouteFacts, list[Block]]] = []
+    bmi = body_mass_index(case.patient)
     for site, direction in _candidates(purpose):
         if site.segment not in tree.graph:
             continue
+        site = site_for_body(site, bmi, lim)
         length = view.length_cm(site.segment)
         paths: list[CatheterPath] = list(points.paths(
             site.segment, site.puncture_cm(length), direction, view.target_segment,
