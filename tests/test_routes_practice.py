@@ -341,3 +341,23 @@ def test_obese_patient_radial_against_femoral():
     assert [f.points for f in cfa_severe.factors if f.name == "severe_obesity_femoral"] == [2.0]
     assert cfa_lean.tier == 0 and cfa_severe.tier == 1
     assert any("Hibbert" in line for line in cfa_severe.ordering)
+
+
+# 14 ----------------------------------------------------------------------------------
+def test_graft_routes_state_their_direction():
+    # A fem-pop graft runs from its inflow (L-CFA 3.5 cm) to its outflow (L-POP 4 cm). The
+    # antegrade groin route runs through it with the flow; a retrograde popliteal puncture
+    # (at 0.5 x 16 = 8 cm, below the outflow at 4 cm) runs through it against the flow.
+    graft = {"name": "fp", "from": "L-CFA", "from_cm": 3.5, "to": "L-POP", "to_cm": 4,
+             "diameter_mm": 6}
+    occl = {"segment": "L-SFA", "kind": "occlusion", "start_cm": 1, "length_cm": 28}
+    down = make_case(lesions=[occl], grafts=[graft],
+                     procedure={"target": {"segment": "L-POP", "at_cm": 10}})
+    words = [r.path_words for r in routes_from(plan_case(down), "L-CFA", "antegrade")
+             if "GRAFT:fp" in r.path]
+    assert words and "through graft fp (inflow to outflow, with the flow)" in words[0]
+    up = make_case(lesions=[occl], grafts=[graft],
+                   procedure={"target": {"segment": "L-EIA", "at_cm": 5}})
+    words = [r.path_words for r in routes_from(plan_case(up), "L-POP", "retrograde")
+             if "GRAFT:fp" in r.path]
+    assert words and "through graft fp (outflow to inflow, against the flow)" in words[0]

@@ -55,8 +55,9 @@ def path_words(view: VesselView, path: CatheterPath) -> str:
     """The path in words, for people.
 
     ``up`` is against the flow, ``down`` with it; the bifurcation, the arch, a graft
-    and the pedal loop are named. Example: ``up R-CFA R-EIA R-CIA, over the
-    bifurcation, down L-CIA L-EIA L-CFA L-SFA``.
+    (with its direction: inflow to outflow is with the flow) and the pedal loop are
+    named. Example: ``up R-CFA R-EIA R-CIA, over the bifurcation, down L-CIA L-EIA L-CFA
+    L-SFA``.
     """
     parts: list[str] = []
     heading: bool | None = None
@@ -68,7 +69,10 @@ def path_words(view: VesselView, path: CatheterPath) -> str:
         elif leg.node == ARCH_NODE:
             special = "across the arch,"
         elif leg.node.startswith(GRAFT_PREFIX):
-            special = f"through graft {leg.node[len(GRAFT_PREFIX):]},"
+            # a graft runs from its inflow (from) end to its outflow (to) end
+            way = {True: " (inflow to outflow, with the flow)",
+                   False: " (outflow to inflow, against the flow)"}.get(leg.with_flow, "")
+            special = f"through graft {leg.node[len(GRAFT_PREFIX):]}{way},"
         elif leg.node.endswith("-PLA"):
             special = f"round the pedal loop ({leg.node}),"
         if special:

@@ -61,16 +61,6 @@ class VesselView:
         Its tree (``vascplan.anatomy.graph.build_tree``).
     """
 
-    def anastomoses_on(self, segment: str) -> list[tuple[str, float]]:
-        """``(graft name, position cm)`` of every graft end on ``segment``."""
-        out = []
-        for g in self.case.grafts:
-            if g.from_segment == segment:
-                out.append((g.name, float(g.from_cm)))
-            if g.to_segment == segment:
-                out.append((g.name, float(g.to_cm)))
-        return out
-
     def __init__(self, case: Any, tree: Any) -> None:
         self.case = case
         self.tree = tree
@@ -88,6 +78,16 @@ class VesselView:
         self.target_lesion: Span | None = self._find_target_lesion()
 
     # -- lookups -----------------------------------------------------------------
+
+    def anastomoses_on(self, segment: str) -> list[tuple[str, float]]:
+        """``(graft name, position cm)`` of every graft end on ``segment``."""
+        out = []
+        for g in self.case.grafts:
+            if g.from_segment == segment:
+                out.append((g.name, float(g.from_cm)))
+            if g.to_segment == segment:
+                out.append((g.name, float(g.to_cm)))
+        return out
 
     def node(self, node: str) -> dict:
         """Attributes of a tree node."""
