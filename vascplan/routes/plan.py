@@ -70,8 +70,9 @@ def path_words(view: VesselView, path: CatheterPath) -> str:
             special = "across the arch,"
         elif leg.node.startswith(GRAFT_PREFIX):
             # a graft runs from its inflow (from) end to its outflow (to) end
-            way = {True: " (inflow to outflow, with the flow)",
-                   False: " (outflow to inflow, against the flow)"}.get(leg.with_flow, "")
+            flow = leg.with_flow
+            way = ("" if flow is None else " (inflow to outflow, with the flow)" if flow
+                   else " (outflow to inflow, against the flow)")
             special = f"through graft {leg.node[len(GRAFT_PREFIX):]}{way},"
         elif leg.node.endswith("-PLA"):
             special = f"round the pedal loop ({leg.node}),"
