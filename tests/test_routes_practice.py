@@ -361,3 +361,18 @@ def test_graft_routes_state_their_direction():
     words = [r.path_words for r in routes_from(plan_case(up), "L-POP", "retrograde")
              if "GRAFT:fp" in r.path]
     assert words and "through graft fp (outflow to inflow, against the flow)" in words[0]
+
+
+# 15 ----------------------------------------------------------------------------------
+def test_mid_thigh_puncture_comes_after_the_antegrade_common_femoral():
+    # A popliteal stenosis (L-POP 70% at 6-8 cm, target at 7): the antegrade common
+    # femoral is the usual access; a mid-thigh SFA puncture is kept for a hostile groin
+    # (data/access/sites.csv note; femoral-first, common practice), so it never ties it.
+    case = make_case(lesions=[{"segment": "L-POP", "kind": "stenosis", "stenosis_pct": 70,
+                               "start_cm": 6, "length_cm": 2}],
+                     procedure={"target": {"segment": "L-POP", "at_cm": 7}})
+    result = plan_case(case)
+    (cfa,) = routes_from(result, "L-CFA", "antegrade")
+    sfa = [r for r in routes_from(result, "L-SFA", "antegrade") if r.feasible]
+    assert cfa.feasible and sfa
+    assert all(cfa.rank < r.rank and r.tier > cfa.tier for r in sfa)
