@@ -30,7 +30,8 @@ def _sfa_case(**changes: Any):
     proc = {"target": {"segment": "L-SFA", "at_cm": 12},
             "access_equipment": [SHORT_ANTEGRADE]}
     proc.update(changes.pop("procedure", {}))
-    return make_case(lesions=[SFA_OCCLUSION], procedure=proc, **changes)
+    lesions = changes.pop("lesions", [SFA_OCCLUSION])
+    return make_case(lesions=lesions, procedure=proc, **changes)
 
 
 def _first_feasible(result) -> Any:
@@ -376,3 +377,56 @@ def test_mid_thigh_puncture_comes_after_the_antegrade_common_femoral():
     sfa = [r for r in routes_from(result, "L-SFA", "antegrade") if r.feasible]
     assert cfa.feasible and sfa
     assert all(cfa.rank < r.rank and r.tier > cfa.tier for r in sfa)
+
+
+# 16 ----------------------------------------------------------------------------------
+def _pop_tpt_case(**proc: Any):
+    occl = {"segment": "L-POP", "kind": "occlusion", "start_cm": 10,
+            "end": {"segment": "L-TPT", "at_cm": 2}, "proximal_cap": "blunt",
+            "distal_cap": "tapered"}
+    procedure = {"target": {"segment": "L-POP", "at_cm": 12},
+                 "access_equipment": [{"site": "L-CFA", "direction": "antegrade",
+                                       "size_fr": 6, "length_cm": 23, "outer_mm": 2.6}]}
+    procedure.update(proc)
+    return make_case(lesions=[occl], procedure=procedure)
+
+
+def test_cto_of_the_popliteal_into_the_tibioperoneal_trunk_is_one_lesion():
+    # One occlusion from L-POP 10 cm to L-TPT 2 cm (L-POP 16 cm long: 6 + 2 = 8 cm). It is
+    # one lesion: the retrograde tibial routes up through the TPT reach its distal cap (no
+    # occlusion-en-route at L-TPT), and dual access pairs the antegrade groin with one of
+    # them (common practice: antegrade first, retrograde tibial crossing with it).
+    # Antegrade CFA: 2 + 30 + 10 = 42 cm of artery to the cap; a 23 cm sheath (19 inside).
+    result = plan_case(_pop_tpt_case())
+    case = result.target["lesion"]
+    assert case["segments"] == ["L-POP", "L-TPT"]
+    assert case["total_length_cm"] == pytest.approx(8.0)
+    assert (case["proximal_cap"], case["distal_cap"]) == ("blunt", "tapered")
+    (pta,) = routes_from(result, "L-PTA", "retrograde")
+    assert pta.feasible and pta.approach == "distal-cap" and pta.role == "crossing"
+    assert "occlusion-en-route" not in _codes_of(pta)
+    first = _first_feasible(result)
+    assert (first.site, first.direction) == ("L-CFA", "antegrade")
+    assert any(p.proximal.site == "L-CFA" and p.distal.site == "L-PTA" for p in result.pairs)
+    assert "from L-POP 10 cm to L-TPT 2 cm (8 cm)" in render_plan(result.to_dict())
+
+
+def test_a_lesion_given_with_an_end_is_checked():
+    from vascplan.errors import InputError
+
+    occl = {"segment": "L-POP", "kind": "occlusion", "start_cm": 10,
+            "end": {"segment": "R-TPT", "at_cm": 2}}
+    with pytest.raises(InputError, match="not downstream of L-POP"):
+        make_case(lesions=[occl])
+    with pytest.raises(InputError, match="length_cm or end, not both"):
+        make_case(lesions=[{**occl, "end": {"segment": "L-TPT", "at_cm": 2},
+                            "length_cm": 4}])
+
+
+def test_an_in_stent_occlusion_says_so():
+    # in_stent: true marks in-stent restenosis or occlusion; the target line says it.
+    stent = {"segment": "L-SFA", "start_cm": 4, "length_cm": 18, "diameter_mm": 6}
+    result = plan_case(_sfa_case(stents=[stent],
+                                 lesions=[{**SFA_OCCLUSION, "in_stent": True}]))
+    assert result.target["lesion"]["in_stent"] is True
+    assert "in an in-stent occlusion" in render_plan(result.to_dict())

@@ -85,8 +85,16 @@ class VesselMeasure(_Strict):
     calcification: Calcification | None = Field(default=None, description="the vessel's own grade")
 
 
+class LesionEnd(_Strict):
+    """Where a lesion ends when it runs into another segment (issue 12)."""
+
+    segment: str = Field(description="segment id where the lesion ends")
+    at_cm: float = Field(ge=0, description="from that segment's origin [cm]")
+
+
 class Lesion(_Strict):
-    """A stenosis or occlusion along one segment."""
+    """A stenosis or occlusion along one segment (a lesion given with ``end`` across
+    segments is split into one piece per segment, :mod:`vascplan.case.spanning`)."""
 
     segment: str = Field(description="segment id, e.g. L-SFA")
     kind: Literal["stenosis", "occlusion"]
@@ -99,10 +107,18 @@ class Lesion(_Strict):
     start_cm: float = Field(
         ge=0, description="from the segment's origin, in the direction of flow [cm]"
     )
-    length_cm: float = Field(gt=0, description="lesion length [cm]")
+    length_cm: float = Field(gt=0, description="lesion length [cm] (or end instead)")
     calcification: Calcification = "none"
     proximal_cap: Cap | None = Field(default=None, description="occlusions only")
     distal_cap: Cap | None = Field(default=None, description="occlusions only")
+    # issue 12: lesions as they lie (vascplan.case.spanning)
+    end: LesionEnd | None = Field(
+        default=None, description="instead of length_cm: where the lesion ends, possibly in "
+        "a segment further down the tree")
+    in_stent: bool = Field(default=False, description="in-stent restenosis or occlusion")
+    part_of: str | None = Field(
+        default=None, max_length=120,
+        description="set by vascplan on the pieces of a lesion given with end")
 
     @model_validator(mode="before")
     @classmethod
@@ -257,6 +273,14 @@ class Case(_Strict):
     limits: dict[str, float] = Field(
         default_factory=dict, description="route-planner hard-limit overrides (name -> value)"
     )
+
+    @model_validator(mode="before")
+    @classmethod
+    def _split_spanning_lesions(cls, data: Any, info: ValidationInfo) -> Any:
+        # issue 12: a lesion given with end is split per segment (vascplan.case.spanning)
+        from vascplan.case.spanning import split_spanning_lesions
+
+        return split_spanning_lesions(data, str((info.context or {}).get("source", "<case>")))
 
     @model_validator(mode="before")
     @classmethod

@@ -152,20 +152,26 @@ def approach_of(view: VesselView, path: CatheterPath | None) -> str:
 
 
 def _distance_to_target_lesion(view: VesselView, path: CatheterPath) -> float:
-    """Distance along the path to where it enters the target lesion [cm].
+    """Distance along the path to where it first enters the target lesion [cm].
 
     The sheath stops short of the target lesion (crossing it is the procedure, done
-    with the device); without a target lesion, the target point itself.
+    with the device); a lesion running across segments is entered at its first piece
+    met along the path. Without a target lesion, the target point itself.
     """
-    lesion = view.target_lesion
-    last = path.legs[-1]
-    if lesion is None or last.node != lesion.node:
+    if view.target_lesion is None:
         return path.vessel_cm
-    if last.to_cm >= last.from_cm:
-        entry = max(last.from_cm, lesion.start_cm)
-    else:
-        entry = min(last.from_cm, lesion.end_cm)
-    return max(0.0, path.vessel_cm - abs(last.to_cm - entry))
+    pieces = view.target_pieces()
+    run = 0.0
+    for leg in path.legs:
+        hits = [p for p in pieces if p.node == leg.node and p.overlaps(leg.lo_cm, leg.hi_cm)]
+        if hits:
+            if leg.to_cm >= leg.from_cm:
+                entry = max(leg.from_cm, min(p.start_cm for p in hits))
+                return max(0.0, run + entry - leg.from_cm)
+            entry = min(leg.from_cm, max(p.end_cm for p in hits))
+            return max(0.0, run + leg.from_cm - entry)
+        run += leg.length_cm
+    return path.vessel_cm
 
 
 def resolve_devices(case: Any) -> Devices:

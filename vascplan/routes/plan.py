@@ -322,9 +322,17 @@ def plan_case(case: Any, *, top: int | None = None, weights: Mapping[str, float]
     target: dict[str, Any] = {"segment": view.target_segment, "at_cm": view.target_cm}
     if view.target_lesion is not None:
         item = view.target_lesion.item
+        pieces = view.target_pieces()
+        first, last = pieces[0].item, pieces[-1].item
         target["lesion"] = {"kind": item.kind, "stenosis_pct": item.percent,
                             "start_cm": item.start_cm, "length_cm": item.length_cm,
-                            "proximal_cap": item.proximal_cap, "distal_cap": item.distal_cap}
+                            "proximal_cap": first.proximal_cap, "distal_cap": last.distal_cap,
+                            "in_stent": bool(getattr(item, "in_stent", False)),
+                            "segments": [p.node for p in pieces],
+                            "total_length_cm": round(sum(p.item.length_cm for p in pieces), 2),
+                            "from": {"segment": pieces[0].node, "at_cm": first.start_cm},
+                            "to": {"segment": pieces[-1].node,
+                                   "at_cm": round(last.start_cm + last.length_cm, 2)}}
     return PlanResult(
         case=case.patient.ref,
         source=source,

@@ -56,7 +56,14 @@ def _target_line(plan: dict[str, Any]) -> str:
     if lesion:
         end = lesion["start_cm"] + lesion["length_cm"]
         article = "an" if lesion["kind"] == "occlusion" else "a"
-        line += f", in {article} {lesion['kind']} at {lesion['start_cm']:g}-{end:g} cm"
+        if lesion.get("in_stent"):
+            article += " in-stent"
+        if len(lesion.get("segments") or []) > 1:
+            a, b = lesion["from"], lesion["to"]
+            line += (f", in {article} {lesion['kind']} from {a['segment']} {a['at_cm']:g} cm "
+                     f"to {b['segment']} {b['at_cm']:g} cm ({lesion['total_length_cm']:g} cm)")
+        else:
+            line += f", in {article} {lesion['kind']} at {lesion['start_cm']:g}-{end:g} cm"
         if lesion["kind"] == "occlusion":
             line += (f" (proximal cap {lesion['proximal_cap'] or 'not stated'}, "
                      f"distal cap {lesion['distal_cap'] or 'not stated'})")
