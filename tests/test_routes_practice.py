@@ -430,3 +430,15 @@ def test_an_in_stent_occlusion_says_so():
                                  lesions=[{**SFA_OCCLUSION, "in_stent": True}]))
     assert result.target["lesion"]["in_stent"] is True
     assert "in an in-stent occlusion" in render_plan(result.to_dict())
+
+
+def test_the_case_schema_takes_a_lesion_with_an_end():
+    jsonschema = pytest.importorskip("jsonschema")
+    from vascplan.case.schema import case_json_schema
+
+    data = case_data(lesions=[{"segment": "L-POP", "kind": "occlusion", "start_cm": 10,
+                               "end": {"segment": "L-TPT", "at_cm": 2}}])
+    jsonschema.validate(data, case_json_schema())
+    data["lesions"][0]["length_cm"] = 4  # both: refused, as the tool refuses it
+    with pytest.raises(jsonschema.ValidationError):
+        jsonschema.validate(data, case_json_schema())
