@@ -442,3 +442,28 @@ def test_the_case_schema_takes_a_lesion_with_an_end():
     data["lesions"][0]["length_cm"] = 4  # both: refused, as the tool refuses it
     with pytest.raises(jsonschema.ValidationError):
         jsonschema.validate(data, case_json_schema())
+
+
+# 17 ----------------------------------------------------------------------------------
+def test_aorto_bifemoral_graft_with_an_occluded_limb():
+    # Aorto-bifemoral graft (AO-INFRA 3 cm to each CFA at 3.5 cm), its right limb occluded
+    # (patent: false) over an occluded native right CIA; target: a 70% R-SFA stenosis.
+    # Common practice: the run-off below an occluded graft limb is treated from the
+    # ipsilateral groin antegrade; nothing comes up and over from the left (the right limb
+    # and the native iliac are shut), and a groin with a graft hood 1.5 cm from the
+    # puncture scores graft_anastomosis_near.
+    grafts = [{"name": "abf-L", "from": "AO-INFRA", "from_cm": 3, "to": "L-CFA",
+               "to_cm": 3.5, "diameter_mm": 8},
+              {"name": "abf-R", "from": "AO-INFRA", "from_cm": 3, "to": "R-CFA",
+               "to_cm": 3.5, "diameter_mm": 8, "patent": False}]
+    lesions = [{"segment": "R-CIA", "kind": "occlusion", "start_cm": 0, "length_cm": 6},
+               {"segment": "R-SFA", "kind": "stenosis", "stenosis_pct": 70, "start_cm": 9,
+                "length_cm": 2}]
+    result = plan_case(make_case(grafts=grafts, lesions=lesions,
+                                 procedure={"target": {"segment": "R-SFA", "at_cm": 10}}))
+    first = _first_feasible(result)
+    assert (first.site, first.direction) == ("R-CFA", "antegrade")
+    assert "graft_anastomosis_near" in [f.name for f in first.factors]
+    for route in routes_from(result, "L-CFA"):
+        assert not route.feasible
+    assert not any("GRAFT:abf-R" in r.path for r in result.routes if r.feasible)
