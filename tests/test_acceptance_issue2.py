@@ -528,8 +528,10 @@ def test_adding_a_lesion_never_widens_an_mld(pct1, pct2, s1, s2, a, span):
 def test_schema_structure_matches_the_file_format():
     schema = json.loads(run("schema").stdout)
     # Top-level fields of vascplan-case/1 (issue 2 Deliver 5, README field table).
+    # issue 12 adds access_in_place and access_tried.
     assert set(schema["properties"]) == {"format", "patient", "vessels", "lesions", "stents",
-                                         "grafts", "avoid", "procedure", "weights", "limits"}
+                                         "grafts", "avoid", "procedure", "weights", "limits",
+                                         "access_in_place", "access_tried"}
     assert schema.get("additionalProperties") is False  # an unknown field is refused (README)
     assert set(schema["required"]) == {"format", "patient"}
     patient = schema["$defs"]["Patient"]

@@ -44,6 +44,10 @@ def _case(**over: Any) -> dict[str, Any]:
             "target": {"segment": "R-SFA", "at_cm": 10},
             "sheath": {"size_fr": 6, "length_cm": 45, "outer_mm": 2.62},
             "device": {"profile_fr": 6, "working_length_cm": 150},
+            # issue 12: the 45 cm sheath is the up-and-over one; the antegrade groin takes
+            # an 11 cm one (a 45 cm sheath would pass the target: sheath-too-long)
+            "access_equipment": [{"site": "R-CFA", "direction": "antegrade", "size_fr": 6,
+                                  "length_cm": 11, "outer_mm": 2.62}],
         },
     }
     for key, value in over.items():
@@ -104,7 +108,10 @@ def test_json_contract_keys_types_and_order(tmp_path: Path) -> None:
     feas = [r["feasible"] for r in doc["routes"]]
     # feasible routes first, best score first (issue item 7; README: lower is better)
     assert feas == sorted(feas, reverse=True)
-    scores = [r["score"] for r in doc["routes"] if r["feasible"]]
+    # issue 12: within the feasible ones, therapeutic before crossing, then the tier of
+    # the ordering rules (data/access/order.yaml; common practice), then the score
+    scores = [(r["role"] != "therapeutic", r["tier"], r["score"])
+              for r in doc["routes"] if r["feasible"]]
     assert scores == sorted(scores)
     # the path runs from the puncture segment to the target segment
     for r in doc["routes"]:
@@ -113,8 +120,9 @@ def test_json_contract_keys_types_and_order(tmp_path: Path) -> None:
 
 
 def test_sar_hand_computed_ipsilateral_antegrade(tmp_path: Path) -> None:
-    # R-CFA antegrade: the sheath (45 cm - 4 cm skin) runs down R-CFA (8.0 mm) into R-SFA
-    # (6.0 mm) and stops short of the target stenosis at 8 cm: MLD 6.0 mm.
+    # R-CFA antegrade: the sheath (11 cm - 4 cm skin, stated for this access) runs down
+    # R-CFA (8.0 mm) into R-SFA (6.0 mm) and stops short of the target stenosis at 8 cm:
+    # MLD 6.0 mm.
     # SAR = 2.62 / 6.0 = 0.437 (SAR definition: sheath OD / MLD, issue item 3).
     doc = _plan(_write(tmp_path, _case()))
     (r,) = _routes(doc, "R-CFA", "antegrade")
@@ -172,6 +180,7 @@ def test_calcified_stretch_lowers_the_sar_limit(tmp_path: Path) -> None:
     # limit 1.00 (limits.yaml) once the SFA is severely calcified.
     case = _case()
     case["procedure"]["sheath"].update(size_fr=16, outer_mm=6.1)
+    case["procedure"]["access_equipment"][0].update(size_fr=16, outer_mm=6.1)
     doc = _plan(_write(tmp_path, case))
     (r,) = _routes(doc, "R-CFA", "antegrade")
     assert "sheath-too-large" not in _codes(r) and r["sar_limit"] == 1.05
@@ -263,7 +272,7 @@ def test_no_crossover_with_kissing_iliac_stents(tmp_path: Path) -> None:
 def test_unreachable_from_other_leg_below_groin(tmp_path: Path) -> None:
     # A puncture of the left mid-thigh SFA serves its own leg only: the right SFA is
     # unreachable from it (README, sites).
-    doc = _plan(_write(tmp_path, _case()))
+    doc = _plan(_write(tmp_path, _case()), "--all")  # unreachable rows: --all (issue 12)
     lsfa = _routes(doc, "L-SFA")
     assert lsfa and all("unreachable" in _codes(r) for r in lsfa)
 
@@ -492,7 +501,9 @@ def test_route_through_patent_graft_and_not_a_closed_one(tmp_path: Path) -> None
     case["lesions"] = [{"segment": "R-SFA", "kind": "occlusion", "start_cm": 2,
                         "length_cm": 24}]
     case["procedure"]["target"] = {"segment": "R-POP", "at_cm": 10}
-    graft = {"name": "fp-1", "from": "R-CFA", "from_cm": 3, "to": "R-POP", "to_cm": 6,
+    # inflow at 3.5 cm: outside the 1 cm puncture zone about the puncture at 2 cm
+    # (issue 12: an anastomosis within it blocks the site as graft-anastomosis)
+    graft = {"name": "fp-1", "from": "R-CFA", "from_cm": 3.5, "to": "R-POP", "to_cm": 6,
              "diameter_mm": 6, "patent": True}
     case["grafts"] = [graft]
     doc = _plan(_write(tmp_path, case))
@@ -518,7 +529,7 @@ def test_route_round_the_pedal_loop(tmp_path: Path) -> None:
     case["procedure"]["target"] = {"segment": "R-DPA", "at_cm": 2}
     case["procedure"]["sheath"] = {"size_fr": 6, "length_cm": 11, "outer_mm": 2.62}
     case["procedure"]["device"] = {"profile_fr": 3, "working_length_cm": 150}
-    doc = _plan(_write(tmp_path, case))
+    doc = _plan(_write(tmp_path, case), "--all")  # every path of a route: --all (issue 12)
     ante = _routes(doc, "R-CFA", "antegrade")
     loops = [r for r in ante if "R-PLA" in r["path"]]
     straight = [r for r in ante if "R-ATA" in r["path"]]

@@ -35,7 +35,8 @@ EXPECTED = {
     " (did you mean 'vascplan-case/1'?)",
     "missing-patient.yaml": "patient: required field is missing",
     "unknown-top-field.yaml": "lesion: unknown field (did you mean 'lesions'?); allowed: format, "
-    "patient, vessels, lesions, stents, grafts, avoid, procedure, weights, limits",
+    "patient, vessels, lesions, stents, grafts, avoid, procedure, access_in_place, "
+    "access_tried, weights, limits",
     "unknown-field.yaml": "vessels.R-CFA.diameter: unknown field (did you mean 'diameter_mm'?); "
     "allowed: diameter_mm, length_cm, calcification",
     "unknown-segment.yaml": "vessels.R-CFX: unknown segment 'R-CFX' (did you mean 'R-CFA'?)",

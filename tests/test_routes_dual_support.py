@@ -170,15 +170,6 @@ def test_support_example_prefers_the_roomy_left_groin():
     assert result.support["best_site"] == "R-AXA"
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="issue 11: the axillary complication ratio was corrected from 2.0 (mis-cited) to "
-    "1.14 (meta-analysis of 21 transcatheter valve studies, PMC9718962, not significant); the "
-    "route weights (data/access/weights.yaml: site_risk, arch_traversal) were calibrated on "
-    "2.0 and now rank an axillary route before an open femoral one. Needs the weights "
-    "recalibrated (or a factor for the axillary route's other risks, e.g. stroke) by the "
-    "routes owner; strict, so it reports when that is done.",
-)
 def test_support_example_ranks_the_roomy_left_groin_first():
     # DEMO-12, as above: a practitioner takes the open left femoral before an axillary
     # route (common practice).

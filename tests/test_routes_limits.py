@@ -17,8 +17,10 @@ from vascplan.routes.settings import LIMITS_FILE, load_table
 
 def test_every_reason_code_has_a_check_and_a_meaning():
     assert [code for code, _ in CHECKS] == [
-        "unreachable", "site-avoided", "site-diseased", "no-crossover", "occlusion-en-route",
-        "unmeasured", "sheath-too-large", "device-too-large", "too-short"]
+        "tried-before", "unreachable", "site-avoided", "site-diseased", "graft-anastomosis",
+        "no-crossover",
+        "occlusion-en-route", "unmeasured", "sheath-too-large", "device-too-large", "too-short",
+        "sheath-too-long", "device-exceeds-sheath"]
     assert set(REASON_CODES) == {code for code, _ in CHECKS}
 
 
@@ -92,7 +94,10 @@ def test_device_too_large_beyond_the_sheath_tip():
                      procedure={"target": {"segment": "L-POP", "at_cm": 5},
                                 "device": {"profile_fr": 7, "working_length_cm": 150}})
     (route,) = routes_from(plan_case(case), "L-CFA", "antegrade")
-    assert codes(route) == [("device-too-large", "L-POP")]
+    # issue 12: the 7 Fr device (7 / 3 = 2.33 mm outer) does not pass the 6 Fr sheath
+    # either (inner 6 / 3 = 2.00 mm, sheaths labelled by inner size, ISO 11070).
+    assert codes(route) == [("device-too-large", "L-POP"), ("device-exceeds-sheath", "L-CFA")]
+    assert route.margins["device_in_sheath_mm"] == pytest.approx(2.0 - 2.33, abs=0.01)
 
 
 def test_target_lesion_is_excluded_and_other_stenoses_are_soft():

@@ -72,12 +72,14 @@ def test_arch_route_from_the_left_arm_crosses_less_arch():
 
 
 def test_route_through_a_patent_graft():
-    # Fem-pop graft from L-CFA 3 cm to L-POP 12 cm; the L-SFA is occluded 2-28 cm.
+    # Fem-pop graft from L-CFA 3.5 cm to L-POP 12 cm; the L-SFA is occluded 2-28 cm.
+    # (3.5, not 3: the anastomosis must lie outside the 1 cm puncture zone about the
+    # puncture at 2 cm, or the site is blocked as graft-anastomosis, issue 12.)
     # Target L-POP at 14. Native antegrade path: blocked by the SFA occlusion.
-    # Through the graft: skin 4 + L-CFA 2->3 = 1 + graft (length = distance between its
-    # ends along the native arteries: 1 + 30 + 12 = 43) + L-POP 12->14 = 2: 50 cm.
+    # Through the graft: skin 4 + L-CFA 2->3.5 = 1.5 + graft (length = distance between
+    # its ends along the native arteries: 0.5 + 30 + 12 = 42.5) + L-POP 12->14 = 2: 50 cm.
     case = make_case(
-        grafts=[{"name": "fem-pop", "from": "L-CFA", "from_cm": 3, "to": "L-POP",
+        grafts=[{"name": "fem-pop", "from": "L-CFA", "from_cm": 3.5, "to": "L-POP",
                  "to_cm": 12, "diameter_mm": 6}],
         lesions=[{"segment": "L-SFA", "kind": "occlusion", "start_cm": 2, "length_cm": 26}],
         procedure={"target": {"segment": "L-POP", "at_cm": 14}},
@@ -142,12 +144,20 @@ def test_every_catalogue_site_is_planned_and_both_sides_exist():
     assert planned == expected
 
 
-def test_ranking_feasible_first_then_score():
+def test_ranking_feasible_first_then_role_tier_score():
+    # Issue 12: feasible first, then therapeutic before crossing, then the tier of the
+    # ordering rules (data/access/order.yaml; common practice), then the score.
     result = plan_case(make_case())
     flags = [r.feasible for r in result.routes]
     assert flags == sorted(flags, reverse=True)
-    feasible = [r.score for r in result.routes if r.feasible]
+    feasible = [(r.role != "therapeutic", r.tier, round(r.score, 6))
+                for r in result.routes if r.feasible]
     assert feasible == sorted(feasible)
+    groups: dict = {}
+    for r in result.routes:
+        if r.feasible:
+            groups.setdefault((r.role, r.tier), []).append(r.score)
+    assert all(v == sorted(v) for v in groups.values())
     assert [r.rank for r in result.routes] == list(range(1, len(result.routes) + 1))
 
 
@@ -257,7 +267,10 @@ def test_antegrade_brachial_reaches_the_forearm():
     # Target L-RAD at 5 cm (a forearm lesion). L-BRA antegrade: puncture 0.9 x 25 =
     # 22.5 cm, skin 1 cm: 1 + (25 - 22.5) + 5 = 8.5 cm, down the arm. Retrograde from the
     # brachial points away from the forearm: unreachable. (Lengths: tests/routes_cases.py.)
-    case = make_case(procedure={"target": {"segment": "L-RAD", "at_cm": 5}})
+    # A 4 cm sheath for this access (issue 12: the 11 cm one would pass the target).
+    case = make_case(procedure={"target": {"segment": "L-RAD", "at_cm": 5},
+                                "access_equipment": [{"site": "L-BRA", "size_fr": 6,
+                                                      "length_cm": 4, "outer_mm": 2.6}]})
     result = plan_case(case)
     (down,) = routes_from(result, "L-BRA", "antegrade")
     assert down.path == ["L-BRA", "L-RAD"] and down.feasible

@@ -161,15 +161,6 @@ def test_demo07_contralateral_femoral_before_arm_and_tibial_routes():
     assert later and all(cross.rank < r.rank for r in later)
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="issue 11: the axillary complication ratio was corrected from 2.0 (mis-cited) to "
-    "1.14 (meta-analysis of 21 transcatheter valve studies, PMC9718962, not significant); the "
-    "route weights (data/access/weights.yaml: site_risk, arch_traversal) were calibrated on "
-    "2.0 and now rank an axillary route before an open femoral one. Needs the weights "
-    "recalibrated (or a factor for the axillary route's other risks, e.g. stroke) by the "
-    "routes owner; strict, so it reports when that is done.",
-)
 def test_demo07_contralateral_femoral_before_axillary_routes():
     # DEMO-07, as above: the contralateral femoral up-and-over before an axillary route
     # (common practice: the axillary is kept for a hostile groin or aortoiliac route).

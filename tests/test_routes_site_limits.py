@@ -178,7 +178,8 @@ def test_a_sar_near_the_limit_prints_on_its_verdicts_side(outer_mm, printed, fea
     row = next(line for line in render_plan(result.to_dict()).splitlines()
                if line.split()[1:3] == ["R-CFA", "retrograde"])
     cells = row.split()
-    assert cells[5] == printed  # rank, site, direction, length, "cm", SAR
+    # rank, site, direction, role, equipment ("24 Fr 6 cm", issue 12), length, "cm", SAR
+    assert cells[10] == printed
     assert ("ok" in cells) is feasible and ("BLOCKED" in cells) is not feasible
 
 
@@ -206,7 +207,7 @@ def test_property_the_table_never_prints_a_sar_against_its_verdict(outer_mm):
                  if r["site"] == "R-CFA" and r["direction"] == "retrograde")
     row = next(line for line in render_plan(plan).splitlines()
                if line.split()[1:3] == ["R-CFA", "retrograde"]).split()
-    over = float(row[5]) >= route["sar_limit"]
+    over = float(row[10]) >= route["sar_limit"]  # SAR cell (layout as above)
     assert over is (route["sar"] >= route["sar_limit"]) is (not route["feasible"])
     assert ("BLOCKED" in row) is over
 
@@ -260,3 +261,46 @@ def test_an_overridden_limit_prints_exactly_and_says_who_set_it():
     assert "transfemoral limit of 1.045" in route.blocked_by[0].detail
     table = render_plan(result.to_dict())
     assert "1.045 transfemoral: set to 1.045 by --limit" in table
+
+
+# Issue 12: "unmeasured" means the fit rests on a reference diameter: a segment blocks
+# only where the device would fail its SAR limit at the reference mean - 2 SD (floored at
+# the plausible minimum), a rule of common practice stated in limits.yaml.
+
+def _pump_case(unmeasured: tuple[str, ...], sheath: dict | None = None):
+    data = case_data(patient={"sex": "male"},
+                     procedure={"purpose": "support",
+                                "target": {"segment": "AO-ASC", "at_cm": 2},
+                                "sheath": sheath or {"size_fr": 14, "length_cm": 25,
+                                                     "outer_mm": 5.7},
+                                "device": {"profile_fr": 14, "working_length_cm": 110,
+                                           "kind": "microaxial-pump"}})
+    for seg in unmeasured:
+        data["vessels"][seg].pop("diameter_mm", None)
+    return validate_case("test-case", data)
+
+
+def test_an_unmeasured_aorta_does_not_block_a_14_fr_pump():
+    # AO-INFRA men: reference 18.4 +/- 1.8 mm (data/anatomy/segments.csv, Joh et al.
+    # 2013 row); mean - 2 SD = 14.8 mm; 5.7 / 14.8 = 0.39, far under 1.05 (Hayashida).
+    assert TRANSFEMORAL > 5.7 / (18.4 - 2 * 1.8)
+    axes = {a["site"]: a for a in plan_case(_pump_case(("AO-INFRA",))).support["axes"]}
+    for site in ("R-CFA", "L-CFA"):
+        assert "unmeasured" not in [b["code"] for b in axes[site]["blocked_by"]]
+
+
+def test_an_unmeasured_cfa_blocks_a_14_fr_pump_and_a_24_fr_sheath():
+    # R-CFA men: reference 7.3 +/- 1.8 mm; mean - 2 SD = 3.7 mm; the pump 5.7 / 3.7 =
+    # 1.54 and a 24 Fr sheath (outer 9.1 mm) 9.1 / 3.7 = 2.46, both over 1.05.
+    assert TRANSFEMORAL <= 5.7 / (7.3 - 2 * 1.8)
+    axes = {a["site"]: a for a in plan_case(_pump_case(("R-CFA",))).support["axes"]}
+    (block,) = [b for b in axes["R-CFA"]["blocked_by"] if b["code"] == "unmeasured"]
+    assert block["segment"] == "R-CFA"
+    # needed MLD 5.7 / 1.05 = 5.43 -> 5.5 mm (hand arithmetic)
+    assert block["detail"].startswith("measure R-CFA: needs MLD >= 5.5 mm for this 14 Fr")
+    assert "mean - 2 SD, 3.7 mm*" in block["detail"]
+    case = _pump_case(("R-CFA",), {"size_fr": 24, "length_cm": 25})
+    axes = {a["site"]: a for a in plan_case(case).support["axes"]}
+    (block,) = [b for b in axes["R-CFA"]["blocked_by"] if b["code"] == "unmeasured"]
+    # 9.1 / 1.05 = 8.67 -> 8.7 mm
+    assert block["detail"].startswith("measure R-CFA: needs MLD >= 8.7 mm for this 24 Fr")

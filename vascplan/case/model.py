@@ -17,6 +17,7 @@ from pydantic import BaseModel, ConfigDict, Field, ValidationInfo, model_validat
 from pydantic_core import PydanticCustomError
 
 from vascplan.anatomy.reference import load_reference, suggest_segment
+from vascplan.case.access import AccessEquipment, AccessInPlace, AccessTried, check_access_sites
 from vascplan.errors import InputError
 from vascplan.textsafety import FREE_TEXT_MAX, FreeText, Identifier
 
@@ -85,8 +86,16 @@ class VesselMeasure(_Strict):
     calcification: Calcification | None = Field(default=None, description="the vessel's own grade")
 
 
+class LesionEnd(_Strict):
+    """Where a lesion ends when it runs into another segment (issue 12)."""
+
+    segment: str = Field(description="segment id where the lesion ends")
+    at_cm: float = Field(ge=0, description="from that segment's origin [cm]")
+
+
 class Lesion(_Strict):
-    """A stenosis or occlusion along one segment."""
+    """A stenosis or occlusion along one segment (a lesion given with ``end`` across
+    segments is split into one piece per segment, :mod:`vascplan.case.spanning`)."""
 
     segment: str = Field(description="segment id, e.g. L-SFA")
     kind: Literal["stenosis", "occlusion"]
@@ -99,10 +108,18 @@ class Lesion(_Strict):
     start_cm: float = Field(
         ge=0, description="from the segment's origin, in the direction of flow [cm]"
     )
-    length_cm: float = Field(gt=0, description="lesion length [cm]")
+    length_cm: float = Field(gt=0, description="lesion length [cm] (or end instead)")
     calcification: Calcification = "none"
     proximal_cap: Cap | None = Field(default=None, description="occlusions only")
     distal_cap: Cap | None = Field(default=None, description="occlusions only")
+    # issue 12: lesions as they lie (vascplan.case.spanning)
+    end: LesionEnd | None = Field(
+        default=None, description="instead of length_cm: where the lesion ends, possibly in "
+        "a segment further down the tree")
+    in_stent: bool = Field(default=False, description="in-stent restenosis or occlusion")
+    part_of: str | None = Field(
+        default=None, max_length=120,
+        description="set by vascplan on the pieces of a lesion given with end")
 
     @model_validator(mode="before")
     @classmethod
@@ -225,9 +242,13 @@ class Procedure(_Strict):
     target: Target
     sheath: Sheath
     device: Device
+    access_equipment: list[AccessEquipment] = Field(
+        default_factory=list,
+        description="equipment per access (issue 12); the sheath above stays the therapeutic one")
 
 
-SECTIONS = ("vessels", "lesions", "stents", "grafts", "avoid", "weights", "limits")
+SECTIONS = ("vessels", "lesions", "stents", "grafts", "avoid", "weights", "limits",
+            "access_in_place", "access_tried")
 """Optional sections that may be left empty in the file (read as none)."""
 
 
@@ -242,6 +263,10 @@ class Case(_Strict):
     grafts: list[Graft] = Field(default_factory=list)
     avoid: list[Avoid] = Field(default_factory=list)
     procedure: Procedure | None = None
+    access_in_place: list[AccessInPlace] = Field(
+        default_factory=list, description="arterial lines or sheaths already in place")
+    access_tried: list[AccessTried] = Field(
+        default_factory=list, description="accesses attempted before and their outcome")
     weights: dict[str, float] = Field(
         default_factory=dict,
         description="route-planner soft-factor weight overrides (name -> weight)",
@@ -249,6 +274,14 @@ class Case(_Strict):
     limits: dict[str, float] = Field(
         default_factory=dict, description="route-planner hard-limit overrides (name -> value)"
     )
+
+    @model_validator(mode="before")
+    @classmethod
+    def _split_spanning_lesions(cls, data: Any, info: ValidationInfo) -> Any:
+        # issue 12: a lesion given with end is split per segment (vascplan.case.spanning)
+        from vascplan.case.spanning import split_spanning_lesions
+
+        return split_spanning_lesions(data, str((info.context or {}).get("source", "<case>")))
 
     @model_validator(mode="before")
     @classmethod
@@ -348,4 +381,10 @@ class Case(_Strict):
             target = self.procedure.target
             known(target.segment, "procedure.target.segment")
             within(target.segment, "procedure.target.at_cm", target.at_cm, "target")
+        return self
+
+    @model_validator(mode="after")
+    def _check_access_fields(self, info: ValidationInfo) -> Case:
+        # issue 12: access equipment, access in place, access tried (vascplan.case.access)
+        check_access_sites(self, str((info.context or {}).get("source", "<case>")))
         return self

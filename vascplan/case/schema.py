@@ -13,6 +13,7 @@ SCHEMA_ID = "https://vascplan.invalid/schema/vascplan-case-1.json"
 
 _SEGMENT_FIELDS = {
     "Lesion": ["segment"],
+    "LesionEnd": ["segment"],
     "Stent": ["segment"],
     "Graft": ["from", "to"],
     "Avoid": ["site"],
@@ -60,7 +61,13 @@ def case_json_schema() -> dict[str, Any]:
         for name in fields:
             props[name]["enum"] = ids
     schema["properties"]["vessels"]["propertyNames"] = {"enum": ids}
-    schema["$defs"]["Lesion"]["allOf"] = _LESION_RULES
+    lesion = schema["$defs"]["Lesion"]
+    # issue 12: length_cm or end (a lesion running into another segment), not both
+    lesion["required"] = [r for r in lesion.get("required", []) if r != "length_cm"]
+    lesion["allOf"] = [*_LESION_RULES,
+                       {"anyOf": [{"required": ["length_cm"]}, {"required": ["end"]}]},
+                       {"if": {"required": ["end"]},
+                        "then": {"properties": {"length_cm": {"type": "null"}}}}]
     for name in SECTIONS:  # an empty section in the file is read as none
         prop = schema["properties"][name]
         keep = {k: prop.pop(k) for k in ("title", "description") if k in prop}

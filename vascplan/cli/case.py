@@ -89,7 +89,8 @@ def tree(case: str, fmt: str, out: str | None, every_assumption: bool) -> None:
 
 
 @click.command(
-    epilog="Example: vascplan schema --out case.schema.json",
+    epilog="Example: vascplan schema --out case.schema.json\n\n"
+           "and: vascplan schema --kind plan   (the JSON of vascplan plan --format json)",
 )
 @click.option(
     "--out",
@@ -97,15 +98,24 @@ def tree(case: str, fmt: str, out: str | None, every_assumption: bool) -> None:
     default=None,
     help="Write to this file (atomically) instead of the terminal.",
 )
-def schema(out: str | None) -> None:
-    """Print the JSON Schema of the case file (format vascplan-case/1).
+@click.option("--kind", type=click.Choice(["case", "plan"]), default="case", show_default=True,
+              help="case: the case file; plan: the planner's JSON output.")
+def schema(out: str | None, kind: str) -> None:
+    """Print the JSON Schema of the case file (format vascplan-case/1), or with
+    --kind plan of the planner's JSON output (vascplan-plan/1).
 
     Editors that understand JSON Schema can use it to check and complete case files
     as they are typed. Segment ids are listed as the allowed values.
     """
-    from vascplan.case.schema import case_json_schema
+    if kind == "plan":
+        from vascplan.routes.plan_schema import plan_json_schema
 
-    text = json.dumps(case_json_schema(), indent=2, ensure_ascii=False) + "\n"
+        doc = plan_json_schema()
+    else:
+        from vascplan.case.schema import case_json_schema
+
+        doc = case_json_schema()
+    text = json.dumps(doc, indent=2, ensure_ascii=False) + "\n"
     if out:  # nothing about a patient in it: 0666 less the umask
         click.echo(f"wrote {atomic_write_text(out, text, mode=0o666)}")
     else:

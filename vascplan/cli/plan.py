@@ -15,9 +15,10 @@ from vascplan.errors import InputError
 
 EPILOG = """\b
 Examples:
-  vascplan plan examples/case-DEMO-07-sfa-occlusion.yaml
-  vascplan plan examples/case-DEMO-07-sfa-occlusion.yaml --explain L-CFA
+  vascplan plan vascplan/examples/case-DEMO-07-sfa-occlusion.yaml
+  vascplan plan vascplan/examples/case-DEMO-07-sfa-occlusion.yaml --explain L-CFA
   vascplan plan case.yaml --weight crossover=2.5 --limit sar_max=1.0 --top 5
+  vascplan plan case.yaml --all       (also routes with no path, other paths)
   vascplan plan registry/*.yaml --format jsonl > review.jsonl
   find registry -name '*.yaml' | vascplan plan --files-from - --format jsonl --jobs 2
 
@@ -51,9 +52,13 @@ end). table and json read and check every file first: one bad file stops the run
               help="Override a soft-factor weight (repeatable).")
 @click.option("--limit", "limits", multiple=True, metavar="NAME=VALUE",
               help="Override a hard limit (repeatable).")
+@click.option("--all", "all_routes", is_flag=True, default=False,
+              help="List every route: also those with no path to the target and the "
+                   "other paths of a route (by default only routes with a path, one per "
+                   "site and direction).")
 def plan(cases: tuple[str, ...], files_from: TextIO | None, jobs: int | None, fmt: str,
          top: int | None, explain: str | None, weights: tuple[str, ...],
-         limits: tuple[str, ...]) -> None:
+         limits: tuple[str, ...], all_routes: bool) -> None:
     """Rank the access routes for each CASE file: site, direction, path and why.
 
     Every usable puncture site and direction is checked against the sheath size
@@ -84,7 +89,8 @@ def plan(cases: tuple[str, ...], files_from: TextIO | None, jobs: int | None, fm
     if files_from is not None:
         paths = itertools.chain(paths, _lines(files_from))
     if fmt == "jsonl" and explain is None:
-        _stream(paths, jobs, w, lim, top, known=None if files_from else len(cases))
+        _stream(paths, jobs, w, lim, top, known=None if files_from else len(cases),
+                all_routes=all_routes)
         return
     cases = tuple(paths)
     progress = sys.stderr.isatty() and len(cases) > 1
@@ -94,7 +100,7 @@ def plan(cases: tuple[str, ...], files_from: TextIO | None, jobs: int | None, fm
     results = []
     for i, (path, case) in enumerate(loaded, start=1):
         result = plan_case(case, weights=w, limits=lim, top=None if explain else top,
-                           source=str(path))
+                           source=str(path), all_routes=all_routes or explain is not None)
         data = result.to_dict()
         if explain is not None:
             click.echo(render_explain(data, [r.to_dict() for r in result.route(explain)]), nl=False)
@@ -122,7 +128,7 @@ def _lines(handle: TextIO) -> Iterator[str]:
 
 
 def _stream(paths: Iterator[str], jobs: int | None, weights: dict, limits: dict,
-            top: int | None, known: int | None) -> None:
+            top: int | None, known: int | None, all_routes: bool = False) -> None:
     """Write one JSON line per case as each is planned; exit 2 at the end if any failed."""
     from vascplan.routes.batch import default_jobs, plan_stream
 
@@ -130,7 +136,7 @@ def _stream(paths: Iterator[str], jobs: int | None, weights: dict, limits: dict,
     failed = done = 0
     out = sys.stdout
     stream = plan_stream(paths, jobs=jobs or default_jobs(), weights=weights, limits=limits,
-                         top=top)
+                         top=top, all_routes=all_routes)
     for outcome in stream:
         try:
             out.write(outcome.line + "\n")

@@ -52,6 +52,7 @@ class _Job:
     weights: Mapping[str, float]
     limits: Mapping[str, float]
     top: int | None
+    all_routes: bool = False
 
 
 def default_jobs() -> int:
@@ -77,7 +78,7 @@ def plan_one(path: str, job: _Job) -> Outcome:
 
     try:
         result = plan_case(load_case(path), weights=job.weights, limits=job.limits,
-                           top=job.top, source=path)
+                           top=job.top, source=path, all_routes=job.all_routes)
     except InputError as exc:
         return Outcome(path, False, _dumps({"case": path, "error": str(exc)}))
     return Outcome(path, True, _dumps(result.to_dict()))
@@ -90,6 +91,7 @@ def plan_stream(
     weights: Mapping[str, float] | None = None,
     limits: Mapping[str, float] | None = None,
     top: int | None = None,
+    all_routes: bool = False,
     window: int | None = None,
     batch: int = BATCH,
 ) -> Generator[Outcome, None, None]:
@@ -105,6 +107,8 @@ def plan_stream(
         Overrides, as :func:`vascplan.routes.plan.plan_case`.
     top : int, optional
         Keep only the best ``top`` routes of each case.
+    all_routes : bool
+        Also the routes with no path (``plan --all``).
     window : int, optional
         Batches in flight at most (default ``WINDOW_PER_JOB`` per job).
     batch : int
@@ -115,7 +119,7 @@ def plan_stream(
     Outcome
         One per file, in the order of ``paths``.
     """
-    job = _Job(dict(weights or {}), dict(limits or {}), top)
+    job = _Job(dict(weights or {}), dict(limits or {}), top, all_routes)
     it = iter(paths)
     if jobs <= 1:
         for path in it:

@@ -31,7 +31,28 @@ def _runs_through_puncture(route: Route, other: Route) -> bool:
                for leg in route.legs)
 
 
-def rank_pairs(routes: list[Route], max_pairs: int = MAX_PAIRS) -> list[Pair]:
+def _default_tier() -> int:
+    from vascplan.routes.order import load_order
+
+    return int(load_order()["default_tier"])
+
+
+def _used_for_a_cap(route: Route, cap: str) -> bool:
+    """Whether practitioners use this route as that end of a dual access (common practice).
+
+    The proximal end is a therapeutic access (antegrade or up-and-over to the proximal
+    cap) of the usual tiers (not an axillary for a small sheath, ``order.yaml``). The
+    distal end is a crossing access straight up from below: no pedal loop and
+    no turn (not "up the peroneal, down the posterior tibial").
+    """
+    if cap == "proximal":
+        return route.role == "therapeutic" and route.tier <= _default_tier()
+    if any(leg.node.endswith("-PLA") for leg in route.legs):
+        return False
+    return all(leg.with_flow is not True for leg in route.legs)
+
+
+def rank_pairs(routes: list[Route], max_pairs: int = MAX_PAIRS) -> tuple[list[Pair], int]:
     """Pairs usable together: both feasible, one to each cap, no shared puncture.
 
     Parameters
@@ -43,8 +64,11 @@ def rank_pairs(routes: list[Route], max_pairs: int = MAX_PAIRS) -> list[Pair]:
 
     Returns
     -------
-    list of Pair
-        Lower combined score first (lower is better), ranked from 1.
+    (list of Pair, int)
+        The proximal end's tier first, then the lower combined score (lower is
+        better), ranked from 1; and how many
+        candidate pairs (one to each cap) were left out (an end practitioners do not use
+        for it, or beyond ``max_pairs``).
 
     Notes
     -----
@@ -58,9 +82,13 @@ def rank_pairs(routes: list[Route], max_pairs: int = MAX_PAIRS) -> list[Pair]:
     distal = [r for r in routes if r.feasible and r.approach == "distal-cap"]
     pairs: list[Pair] = []
     seen: set[tuple[str, str]] = set()
+    unused = 0
     for a in proximal:
         for b in distal:
             if a.site == b.site or a.segment == b.segment or (a.site, b.site) in seen:
+                continue
+            if not (_used_for_a_cap(a, "proximal") and _used_for_a_cap(b, "distal")):
+                unused += 1
                 continue
             if a.position != b.position:
                 continue  # one prone, one supine: not both in place at once
@@ -72,7 +100,9 @@ def rank_pairs(routes: list[Route], max_pairs: int = MAX_PAIRS) -> list[Pair]:
             if side is not None and side == _side(b.segment):
                 notes.append(f"both punctures on the {side} side")
             pairs.append(Pair(a, b, notes))
-    pairs.sort(key=lambda p: (round(p.score, 6), p.proximal.rank, p.distal.rank))
+    # the proximal end's tier first (femoral before others, order.yaml), then the score
+    pairs.sort(key=lambda p: (p.proximal.tier, round(p.score, 6), p.proximal.rank,
+                              p.distal.rank))
     for i, pair in enumerate(pairs[:max_pairs], start=1):
         pair.rank = i
-    return pairs[:max_pairs]
+    return pairs[:max_pairs], unused + max(0, len(pairs) - max_pairs)

@@ -41,6 +41,18 @@ class Devices:
     device_od_mm: float | None
     working_length_cm: float | None
     device_kind: str | None = None
+    sheath_label: str = "inner"
+    sheathless: bool = False
+
+    @property
+    def sheath_inner_mm(self) -> float | None:
+        """Inner diameter of a sheath labelled by inner size: French / 3 [mm] (ISO 11070
+        labels introducer sheaths by inner size); None for an outer label or sheathless."""
+        from vascplan.sizing.french import MM_PER_FR
+
+        if self.sheathless or self.sheath_label != "inner":
+            return None
+        return self.sheath_fr * MM_PER_FR
 
 
 @dataclass
@@ -89,6 +101,9 @@ class RouteFacts:
     crossover_dropped: bool = False
     fits: list[SegmentFit] = field(default_factory=list)
     sar_limit: LimitUsed | None = None
+    role: str = "therapeutic"
+    to_lesion_cm: float | None = None
+    inside_cm: float = 0.0
 
 
 def route_facts(view: VesselView, site: AccessSite, direction: str,
@@ -113,7 +128,9 @@ def route_facts(view: VesselView, site: AccessSite, direction: str,
         return facts
     facts.length_cm = site.skin_depth_cm + path.vessel_cm
     inside_cm = max(0.0, devices.sheath_length_cm - site.skin_depth_cm)
-    reach_cm = min(inside_cm, _distance_to_target_lesion(view, path))
+    facts.inside_cm = inside_cm
+    facts.to_lesion_cm = _distance_to_target_lesion(view, path)
+    reach_cm = min(inside_cm, facts.to_lesion_cm)
     facts.sheath_legs = path.portion(0.0, reach_cm)
     facts.beyond_legs = path.portion(reach_cm, path.vessel_cm) if reach_cm < path.vessel_cm else []
     facts.min_lumen = view.lumen_over(facts.sheath_legs)
@@ -121,27 +138,40 @@ def route_facts(view: VesselView, site: AccessSite, direction: str,
         facts.min_lumen = (view.mld_mm(site.segment, puncture_cm, puncture_cm), site.segment)
     if facts.min_lumen[0] > 0:  # an occlusion (MLD 0) is reported as occlusion-en-route
         facts.sar = devices.sheath_od_mm / facts.min_lumen[0]
-    if view.target_is_occlusion:
-        last = path.legs[-1]
-        facts.approach = "proximal-cap" if last.to_cm >= last.from_cm else "distal-cap"
+    facts.approach = approach_of(view, path)
     return facts
 
 
+def approach_of(view: VesselView, path: CatheterPath | None) -> str:
+    """``proximal-cap`` or ``distal-cap`` for an occlusion target (the way the last leg
+    runs), else ``none``."""
+    if path is None or not view.target_is_occlusion:
+        return "none"
+    last = path.legs[-1]
+    return "proximal-cap" if last.to_cm >= last.from_cm else "distal-cap"
+
+
 def _distance_to_target_lesion(view: VesselView, path: CatheterPath) -> float:
-    """Distance along the path to where it enters the target lesion [cm].
+    """Distance along the path to where it first enters the target lesion [cm].
 
     The sheath stops short of the target lesion (crossing it is the procedure, done
-    with the device); without a target lesion, the target point itself.
+    with the device); a lesion running across segments is entered at its first piece
+    met along the path. Without a target lesion, the target point itself.
     """
-    lesion = view.target_lesion
-    last = path.legs[-1]
-    if lesion is None or last.node != lesion.node:
+    if view.target_lesion is None:
         return path.vessel_cm
-    if last.to_cm >= last.from_cm:
-        entry = max(last.from_cm, lesion.start_cm)
-    else:
-        entry = min(last.from_cm, lesion.end_cm)
-    return max(0.0, path.vessel_cm - abs(last.to_cm - entry))
+    pieces = view.target_pieces()
+    run = 0.0
+    for leg in path.legs:
+        hits = [p for p in pieces if p.node == leg.node and p.overlaps(leg.lo_cm, leg.hi_cm)]
+        if hits:
+            if leg.to_cm >= leg.from_cm:
+                entry = max(leg.from_cm, min(p.start_cm for p in hits))
+                return max(0.0, run + entry - leg.from_cm)
+            entry = min(leg.from_cm, max(p.end_cm for p in hits))
+            return max(0.0, run + leg.from_cm - entry)
+        run += leg.length_cm
+    return path.vessel_cm
 
 
 def resolve_devices(case: Any) -> Devices:
@@ -166,4 +196,5 @@ def resolve_devices(case: Any) -> Devices:
         device_od_mm=device_od,
         working_length_cm=float(device.working_length_cm) if device is not None else None,
         device_kind=device.kind if device is not None else None,
+        sheath_label=sheath.label,
     )

@@ -7,8 +7,9 @@ numbers come from ``data/access/limits.yaml`` (each with its source), overridabl
 Reason codes (the JSON contract, ``blocked_by[].code``):
 
 ======================  =============================================================
-``unmeasured``          large-bore device (``large_bore_fr`` outer or more) where a
-                        segment it occupies has only a reference diameter
+``unmeasured``          large-bore device (``large_bore_fr`` outer or more) whose fit
+                        rests on a reference diameter (fails the SAR limit at mean -
+                        2 SD of the segment's reference)
 ``sheath-too-large``    SAR in a segment the sheath occupies at or above that
                         segment's limit (limits by site)
 ``device-too-large``    device profile wider than the vessel beyond the sheath tip
@@ -18,6 +19,12 @@ Reason codes (the JSON contract, ``blocked_by[].code``):
 ``site-diseased``       stenosis, occlusion or stent in the puncture zone
 ``no-crossover``        the bifurcation is stented or grafted: no up-and-over
 ``unreachable``         no path from this site in this direction reaches the target
+``tried-before``        this access was tried before and failed (``access_tried``)
+``sheath-too-long``     the sheath reaches the target lesion or leaves less working
+                        room than ``working_room_cm``; the detail gives the longest
+                        sheath that would do
+``device-exceeds-sheath`` device profile larger than the sheath's inner diameter
+``graft-anastomosis``   a graft anastomosis within the puncture zone
 ======================  =============================================================
 """
 
@@ -40,7 +47,8 @@ from vascplan.routes.settings import Setting
 from vascplan.routes.vessels import VesselView
 
 REASON_CODES: dict[str, str] = {
-    "unmeasured": "a large-bore device occupies a segment whose diameter was not measured",
+    "unmeasured": "a large-bore device's fit rests on a reference diameter (it would fail "
+                  "the SAR limit at the reference mean - 2 SD)",
     "sheath-too-large": "sheath-to-artery ratio in a segment the sheath occupies at or above "
                         "that segment's limit",
     "device-too-large": "device profile wider than the vessel beyond the sheath tip",
@@ -50,6 +58,11 @@ REASON_CODES: dict[str, str] = {
     "site-diseased": "stenosis, occlusion or stent in the puncture zone",
     "no-crossover": "the aortic bifurcation is stented or grafted: no up-and-over",
     "unreachable": "no path from this site in this direction reaches the target",
+    "tried-before": "this access was tried before and failed (access_tried in the case)",
+    "sheath-too-long": "the sheath reaches the target lesion or leaves less working room "
+                       "than the limit",
+    "device-exceeds-sheath": "device profile larger than the sheath's inner diameter",
+    "graft-anastomosis": "a bypass graft anastomosis lies within the puncture zone",
 }
 """Every reason code with its meaning (README table)."""
 
@@ -204,13 +217,42 @@ def _fr_text(devices: Devices) -> str:
     return f"{devices.sheath_fr:g} Fr"
 
 
+def pessimistic_mld_mm(view: VesselView, node: str, mld_mm: float) -> float | None:
+    """The pessimistic end of a reference diameter: mean - 2 SD, floored [mm].
+
+    The reference row's mean less two standard deviations (about the 2.5th centile of
+    a normal distribution), not below the table's plausible minimum
+    (``data/anatomy/segments.csv``), scaled by the share of the lumen a stenosis on the
+    stretch leaves (``mld_mm`` over the reference mean). None when the row has no SD.
+
+    References
+    ----------
+    The rule is common practice: a fit that holds at the lower end of the population
+    range does not rest on the patient's unknown diameter (``limits.yaml``
+    ``large_bore_fr``).
+    """
+    from vascplan.anatomy.reference import load_reference
+
+    attrs = view.node(node)
+    sd = attrs.get("diameter_sd_mm")
+    mean = attrs.get("diameter_mm")
+    row = load_reference().get(node)
+    if sd is None or not mean or row is None:
+        return None
+    low = max(row.diameter_min_mm, float(mean) - 2.0 * float(sd))
+    return low * (mld_mm / float(mean))
+
+
 def check_unmeasured(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
-    """``unmeasured``: a large-bore device on a reference diameter.
+    """``unmeasured``: a large-bore fit that rests on a reference diameter.
 
     A sheath or cannula of ``large_bore_fr`` or more (outer: French = outer mm x 3) is
-    not judged on population means: each segment it occupies whose diameter was not
-    measured blocks the route, and the detail gives the MLD that segment would need for
-    its SAR limit to hold (outer diameter / limit, rounded up to 0.1 mm).
+    not judged on population means. A segment it occupies whose diameter was not
+    measured blocks the route when the device would fail that segment's SAR limit at
+    the pessimistic end of the reference (mean - 2 SD of the segment's reference row,
+    floored at the plausible minimum; :func:`pessimistic_mld_mm`): an unmeasured aorta
+    does not block a 14 Fr pump, an unmeasured common femoral does. The detail gives
+    the MLD the segment would need (outer diameter / limit, rounded up to 0.1 mm).
     """
     d = ctx.devices
     from vascplan.sizing.french import MM_PER_FR
@@ -225,12 +267,18 @@ def check_unmeasured(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
     for fit in facts.fits:
         if fit.measured or any(b.segment == fit.node for b in out):
             continue
+        low = pessimistic_mld_mm(ctx.view, fit.node, fit.mld_mm)
+        if low is not None and low > 0 and d.sheath_od_mm / low < fit.limit.value:
+            continue  # fits even at the lower end of the reference range
         need = needed_mld_mm(d.sheath_od_mm, fit.limit.value)
+        low_text = "" if low is None else (
+            f"; at the lower end of the reference range (mean - 2 SD, {low:.1f} mm*) the "
+            f"SAR would be {d.sheath_od_mm / low:.2f}" if low > 0 else "")
         out.append(Block("unmeasured", fit.node,
                          f"measure {fit.node}: needs MLD >= {need:.1f} mm for this "
                          f"{_fr_text(d)} sheath (outer {d.sheath_od_mm:.2f} mm{od_star}, SAR "
                          f"limit {fit.limit.text()}); the {fit.mld_mm:.1f} mm* used is a "
-                         "reference value, not this patient's lumen"))
+                         f"reference value, not this patient's lumen{low_text}"))
     return out
 
 
@@ -269,7 +317,7 @@ def check_device(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
     stenoses, which are a soft factor (they can be dilated first).
     """
     d = ctx.devices
-    if facts.path is None or d.device_od_mm is None:
+    if facts.path is None or d.device_od_mm is None or facts.role != "therapeutic":
         return []
     lumen = ctx.view.open_lumen_over(facts.beyond_legs)
     if lumen is None or d.device_od_mm <= lumen[0]:
@@ -298,7 +346,7 @@ def _apart(wider: float, narrower: float) -> tuple[str, str]:
 def check_too_short(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
     """``too-short``: path plus the outside allowance longer than the working length."""
     d = ctx.devices
-    if facts.length_cm is None or d.working_length_cm is None:
+    if facts.length_cm is None or d.working_length_cm is None or facts.role != "therapeutic":
         return []
     outside = ctx.limits["outside_body_cm"]
     need = facts.length_cm + outside
@@ -329,16 +377,106 @@ def check_crossover(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
     return [Block("no-crossover", "AO-INFRA", f"up-and-over is not possible: {why}")]
 
 
+def check_tried(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
+    """``tried-before``: the case records this access (site, direction) as failed.
+
+    Not raised when the entry says ``retry: true`` (the user asks for it again).
+    """
+    from vascplan.case.access import matches
+
+    out = []
+    for entry in getattr(ctx.view.case, "access_tried", ()):
+        if entry.retry or not matches(entry.site, entry.direction, facts.site.id,
+                                      facts.site.segment, facts.direction):
+            continue
+        out.append(Block("tried-before", facts.site.segment,
+                         f"{facts.site.id} {facts.direction} was tried before and "
+                         f"{entry.outcome}: {entry.reason} (set retry: true to plan it again)"))
+    return out[:1]
+
+
+def check_graft_anastomosis(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
+    """``graft-anastomosis``: a graft end on the punctured segment within
+    ``puncture_zone_cm`` of the puncture point (near it, the soft factor
+    ``graft_anastomosis_near`` counts it instead)."""
+    half = ctx.limits["puncture_zone_cm"]
+    out = []
+    for name, cm in ctx.view.anastomoses_on(facts.site.segment):
+        if abs(cm - facts.puncture_cm) <= half:
+            out.append(Block("graft-anastomosis", facts.site.segment,
+                             f"anastomosis of graft {name} at {cm:g} cm lies within {half:g} cm "
+                             f"of the puncture point ({facts.puncture_cm:.1f} cm)"))
+    return out
+
+
+def _treating(ctx: LimitContext) -> bool:
+    procedure = ctx.view.case.procedure
+    return procedure is None or procedure.purpose == "treat"
+
+
+def check_sheath_too_long(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
+    """``sheath-too-long``: the sheath tip reaches the target lesion (or target point) or
+    leaves less working room before it than ``working_room_cm``.
+
+    Treatment only: a support cannula's tip is meant to lie at its target. The detail
+    gives the longest sheath that would do: skin depth + distance to the lesion -
+    working room, rounded down to the whole cm.
+    """
+    import math
+
+    if facts.path is None or facts.to_lesion_cm is None or not _treating(ctx):
+        return []
+    if ctx.devices.sheathless or facts.inside_cm <= 0:
+        return []
+    need = ctx.limits["working_room_cm"]
+    room = facts.to_lesion_cm - facts.inside_cm
+    if room >= need:
+        return []
+    longest = math.floor(facts.site.skin_depth_cm + facts.to_lesion_cm - need)
+    where = "the target lesion" if ctx.view.target_lesion is not None else "the target"
+    what = (f"its tip passes {where} by {-room:.1f} cm" if room < 0
+            else f"it leaves {room:.1f} cm before {where}, under the {need:g} cm needed")
+    advice = (f"the longest sheath that would do is {longest} cm"
+              if longest > facts.site.skin_depth_cm
+              else "no sheath leaves that room: go sheathless or puncture further away")
+    return [Block("sheath-too-long", facts.site.segment,
+                  f"{ctx.devices.sheath_length_cm:g} cm sheath ({facts.inside_cm:.1f} cm inside "
+                  f"the artery) on a {facts.to_lesion_cm:.1f} cm* path to {where}: {what}; "
+                  f"{advice}")]
+
+
+def check_device_in_sheath(facts: RouteFacts, ctx: LimitContext) -> list[Block]:
+    """``device-exceeds-sheath``: device profile (outer, French / 3) larger than the
+    sheath's inner diameter (inner label, French / 3; ISO 11070).
+
+    Therapeutic routes only (a crossing access takes a wire and a catheter, not the
+    device); not checked for a sheath labelled by outer size or sheathless.
+    """
+    d = ctx.devices
+    inner = d.sheath_inner_mm
+    if facts.path is None or facts.role != "therapeutic" or inner is None \
+            or d.device_od_mm is None or d.device_od_mm <= inner + 1e-9:
+        return []
+    return [Block("device-exceeds-sheath", facts.site.segment,
+                  f"{d.device_fr:g} Fr device ({d.device_od_mm:.2f} mm outer) does not pass a "
+                  f"{d.sheath_fr:g} Fr sheath ({inner:.2f} mm inner): "
+                  f"{d.device_od_mm - inner:.2f} mm too large")]
+
+
 CHECKS: tuple[tuple[str, Check], ...] = (
+    ("tried-before", check_tried),
     ("unreachable", check_unreachable),
     ("site-avoided", check_site_avoided),
     ("site-diseased", check_site_diseased),
+    ("graft-anastomosis", check_graft_anastomosis),
     ("no-crossover", check_crossover),
     ("occlusion-en-route", check_occlusion),
     ("unmeasured", check_unmeasured),
     ("sheath-too-large", check_sheath),
     ("device-too-large", check_device),
     ("too-short", check_too_short),
+    ("sheath-too-long", check_sheath_too_long),
+    ("device-exceeds-sheath", check_device_in_sheath),
 )
 """The registry: every hard limit, in the order reasons are listed."""
 

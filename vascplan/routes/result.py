@@ -77,6 +77,20 @@ class Route:
         Names of the values above that rest on reference values, not measurements.
     rank : int
         1 = best; set by the planner.
+    role : str
+        ``therapeutic`` (the sheath the device goes through) or ``crossing`` (a small
+        retrograde access to an occlusion's distal cap).
+    tier : int
+        Ordering tier of the access (``data/access/order.yaml``), lower first.
+    ordering : list of str
+        The ordering rules that placed the route, each with its basis.
+    equipment : dict
+        ``{"size_fr", "label", "length_cm", "sheathless", "default", "basis"}``.
+    margins : dict
+        Margin per constraint (``sar``, ``shaft_cm``, ``working_room_cm``,
+        ``device_in_sheath_mm``): positive is room left, negative is short by.
+    in_place : str or None
+        The access already in place the route uses (no new puncture).
     """
 
     site: str
@@ -101,6 +115,12 @@ class Route:
     sar_limit_name: str | None = None
     sar_limit_source: str | None = None
     sar_limit_label: str | None = None
+    role: str = "therapeutic"
+    tier: int = 1
+    ordering: list[str] = field(default_factory=list)
+    equipment: dict[str, Any] = field(default_factory=dict)
+    margins: dict[str, Any] = field(default_factory=dict)
+    in_place: str | None = None
 
     @property
     def feasible(self) -> bool:
@@ -117,10 +137,11 @@ class Route:
         return sum(round(f.points, 2) for f in self.factors)
 
     def sort_key(self) -> tuple:
-        """Feasible first (unreachable last), then lower score, shorter path, site id."""
+        """Feasible first (unreachable last), then therapeutic before crossing, lower tier,
+        lower score, shorter path, site id (ordering rules: ``data/access/order.yaml``)."""
         length = self.length_cm if self.length_cm is not None else float("inf")
-        return (not self.feasible, self.length_cm is None, round(self.score, 6), length,
-                self.site, self.direction)
+        return (not self.feasible, self.length_cm is None, self.role != "therapeutic",
+                self.tier, round(self.score, 6), length, self.site, self.direction)
 
     def main_reason(self) -> str:
         """The one line a table shows: the first block, else the heaviest factor."""
@@ -156,6 +177,12 @@ class Route:
             "sar_limit_label": self.sar_limit_label,
             "sar_limit_source": self.sar_limit_source,
             "score": round(self.score, 2),
+            "role": self.role,
+            "tier": self.tier,
+            "ordering": list(self.ordering),
+            "equipment": dict(self.equipment),
+            "margins": dict(self.margins),
+            "in_place": self.in_place,
             "position": self.position,
             "assumed": list(self.assumed),
             "blocked_by": [b.to_dict() for b in self.blocked_by],
@@ -226,6 +253,12 @@ class PlanResult:
         The values that applied (after overrides).
     support : dict or None
         Large-bore support comparison (support mode only).
+    routes_left_out : int
+        Routes not listed by the default view (no path, or another path of a route
+        listed); 0 with ``--all``.
+    pairs_left_out : int
+        Pairs one to each cap that were not listed (an end practitioners do not use for
+        it, or beyond the best few).
     """
 
     case: str
@@ -239,6 +272,8 @@ class PlanResult:
     weights: dict[str, float]
     limits: dict[str, float]
     support: dict[str, Any] | None = None
+    routes_left_out: int = 0
+    pairs_left_out: int = 0
 
     def route(self, site: str) -> list[Route]:
         """The routes from one site id (or from every site of a segment id)."""
@@ -258,6 +293,8 @@ class PlanResult:
             "score_convention": SCORE_CONVENTION,
             "routes": [r.to_dict() for r in self.routes],
             "routes_total": self.routes_total,
+            "routes_left_out": self.routes_left_out,
+            "pairs_left_out": self.pairs_left_out,
             "pairs": [p.to_dict() for p in self.pairs],
             "assumptions": list(self.assumptions),
             "weights": dict(self.weights),

@@ -254,10 +254,43 @@ def f_pedal_loop(facts: RouteFacts, ctx: ScoreContext) -> list[Factor]:
                    "round the pedal loop (plantar arch and dorsalis pedis)")]
 
 
+def f_anastomosis_near(facts: RouteFacts, ctx: ScoreContext) -> list[Factor]:
+    """A graft anastomosis near the puncture (outside the puncture zone, within
+    ``anastomosis_near_cm``): puncture away from it under ultrasound."""
+    half = ctx.limits["puncture_zone_cm"]
+    near = ctx.limits["anastomosis_near_cm"]
+    hits = [(n, cm) for n, cm in ctx.view.anastomoses_on(facts.site.segment)
+            if half < abs(cm - facts.puncture_cm) <= near]
+    if not hits:
+        return []
+    w = ctx.weights["graft_anastomosis_near"]
+    where = ", ".join(f"graft {n} at {cm:g} cm" for n, cm in hits)
+    return [Factor("graft_anastomosis_near", w * len(hits),
+                   f"graft anastomosis near the puncture ({where}) x {w:g}")]
+
+
+def f_obesity(facts: RouteFacts, ctx: ScoreContext) -> list[Factor]:
+    """A femoral or mid-thigh puncture at ``obesity_bmi`` or more (``severe_obesity_femoral``
+    from ``severe_obesity_bmi``)."""
+    from vascplan.routes.body import body_mass_index, is_femoral
+
+    bmi = body_mass_index(ctx.view.case.patient)
+    if bmi is None or bmi < ctx.limits["obesity_bmi"] or not is_femoral(facts.site):
+        return []
+    name = ("severe_obesity_femoral" if bmi >= ctx.limits["severe_obesity_bmi"]
+            else "obesity_femoral")
+    w = ctx.weights[name]
+    return [Factor(name, w,
+                   f"body mass index {bmi:.1f} kg/m2 ({ctx.limits['obesity_bmi']:g} or more): "
+                   f"deeper groin (+{ctx.limits['obese_groin_extra_cm']:g} cm skin to artery), "
+                   "more femoral complications and bleeding (TROP registry, EuroIntervention; "
+                   f"Hibbert et al., JACC Cardiovasc Interv 2012) x {w:g}")]
+
+
 FACTORS: tuple[FactorFn, ...] = (
     f_sar, f_puncture_calcification, f_puncture_plaque, f_site_risk, f_sheath_size,
     f_stenoses, f_crossover, f_arch, f_prone, f_length_margin, f_anticoagulation, f_approach,
-    f_graft, f_pedal_loop,
+    f_graft, f_pedal_loop, f_anastomosis_near, f_obesity,
 )
 """The registry of soft factors, in the order they are listed."""
 

@@ -56,11 +56,51 @@ def _target_line(plan: dict[str, Any]) -> str:
     if lesion:
         end = lesion["start_cm"] + lesion["length_cm"]
         article = "an" if lesion["kind"] == "occlusion" else "a"
-        line += f", in {article} {lesion['kind']} at {lesion['start_cm']:g}-{end:g} cm"
+        if lesion.get("in_stent"):
+            article += " in-stent"
+        if len(lesion.get("segments") or []) > 1:
+            a, b = lesion["from"], lesion["to"]
+            line += (f", in {article} {lesion['kind']} from {a['segment']} {a['at_cm']:g} cm "
+                     f"to {b['segment']} {b['at_cm']:g} cm ({lesion['total_length_cm']:g} cm)")
+        else:
+            line += f", in {article} {lesion['kind']} at {lesion['start_cm']:g}-{end:g} cm"
         if lesion["kind"] == "occlusion":
             line += (f" (proximal cap {lesion['proximal_cap'] or 'not stated'}, "
                      f"distal cap {lesion['distal_cap'] or 'not stated'})")
     return line
+
+
+def block_reason(route: dict[str, Any], block: dict[str, Any]) -> str:
+    """A broken limit as the table says it: the binding constraint and its margin.
+
+    ``too-short: shaft 7 cm short``, ``sheath-too-large: SAR 1.12 over 1.05 at L-EIA``,
+    ``sheath-too-long: the longest sheath that would do is 8 cm``.
+    """
+    m = route.get("margins") or {}
+    code = block["code"]
+    if code == "too-short" and m.get("shaft_cm") is not None:
+        return f"too-short: shaft {-m['shaft_cm']:.0f} cm short"
+    if code == "sheath-too-large" and route.get("sar") is not None:
+        return (f"sheath-too-large: SAR {format_near_limit(route['sar'], route['sar_limit'])} "
+                f"over {format_limit(route['sar_limit'])} at {route['limiting_segment']}")
+    if code == "sheath-too-long":
+        return f"sheath-too-long: {block['detail'].rsplit('; ', 1)[-1]}"
+    if code == "device-exceeds-sheath" and m.get("device_in_sheath_mm") is not None:
+        return (f"device-exceeds-sheath: {-m['device_in_sheath_mm']:.2f} mm over the "
+                "sheath's inner diameter")
+    if code == "tried-before":
+        return f"tried-before: {block['detail'].split(': ', 1)[-1]}"
+    return headline(block)
+
+
+def equipment_text(route: dict[str, Any]) -> str:
+    """``6 Fr 45 cm``, ``2.9 Fr outer sheathless (default)``: the equipment a route assumes."""
+    e = route.get("equipment") or {}
+    if not e:
+        return "-"
+    size = f"{e['size_fr']:g} Fr{' outer' if e.get('label') == 'outer' else ''}"
+    body = f"{size} sheathless" if e.get("sheathless") else f"{size} {e['length_cm']:g} cm"
+    return f"{body}{' (default)' if e.get('default') else ''}"
 
 
 def route_row(route: dict[str, Any]) -> list[str]:
@@ -70,16 +110,20 @@ def route_row(route: dict[str, Any]) -> list[str]:
     if route["blocked_by"]:
         b = route["blocked_by"][0]
         more = f" (+{len(route['blocked_by']) - 1} more)" if len(route["blocked_by"]) > 1 else ""
-        reason = f"{headline(b)}{more}"
+        reason = f"{block_reason(route, b)}{more}"
     elif route["factors"]:
         top = max(route["factors"], key=lambda f: f["points"])
         reason = f"{top['name']} +{top['points']:.1f}"
     else:
         reason = "nothing against it"
+    if route.get("in_place"):
+        reason = f"in place ({route['in_place']}), no new puncture; {reason}"
     return [
         str(route["rank"]),
         route["site"],
         route["direction"],
+        route.get("role", "therapeutic"),
+        equipment_text(route),
         _num(route["length_cm"], ".1f", "length_cm" in assumed, " cm"),
         sar_text(route["sar"], route.get("sar_limit"), "sar" in assumed),
         limit_text(route),
@@ -89,8 +133,8 @@ def route_row(route: dict[str, Any]) -> list[str]:
     ]
 
 
-HEADERS = ["rank", "site", "direction", "length", "SAR", "SAR limit", "verdict", "score",
-           "main reason"]
+HEADERS = ["rank", "site", "direction", "role", "equipment", "length", "SAR", "SAR limit",
+           "verdict", "score", "main reason"]
 
 
 def render_plan(plan: dict[str, Any]) -> str:
@@ -110,6 +154,10 @@ def render_plan(plan: dict[str, Any]) -> str:
     shown, total = len(plan["routes"]), plan.get("routes_total", len(plan["routes"]))
     if shown < total:
         lines.append(f"({total - shown} more routes not shown; raise --top)")
+    left, pairs_left = plan.get("routes_left_out", 0), plan.get("pairs_left_out", 0)
+    if left or pairs_left:
+        lines.append(f"({left} routes with no path or another path of a route listed, and "
+                     f"{pairs_left} pairs, left out; --all lists every route)")
     if plan["pairs"]:
         lines.append("")
         lines.append("Pairs for the occlusion (one route to each cap, used together):")

@@ -79,6 +79,16 @@ class VesselView:
 
     # -- lookups -----------------------------------------------------------------
 
+    def anastomoses_on(self, segment: str) -> list[tuple[str, float]]:
+        """``(graft name, position cm)`` of every graft end on ``segment``."""
+        out = []
+        for g in self.case.grafts:
+            if g.from_segment == segment:
+                out.append((g.name, float(g.from_cm)))
+            if g.to_segment == segment:
+                out.append((g.name, float(g.to_cm)))
+        return out
+
     def node(self, node: str) -> dict:
         """Attributes of a tree node."""
         return self.tree.graph.nodes[node]
@@ -105,8 +115,25 @@ class VesselView:
         return hits[0] if hits else None
 
     def is_target(self, span: Span) -> bool:
-        """True for the target lesion itself (crossing it is the procedure)."""
-        return self.target_lesion is not None and span is self.target_lesion
+        """True for the target lesion itself (crossing it is the procedure), every piece
+        of it when it runs across segments (``part_of``)."""
+        target = self.target_lesion
+        if target is None:
+            return False
+        if span is target:
+            return True
+        group = getattr(target.item, "part_of", None)
+        return group is not None and getattr(span.item, "part_of", None) == group
+
+    def target_pieces(self) -> list[Span]:
+        """The target lesion's pieces in the order of flow (one unless it spans segments)."""
+        if self.target_lesion is None:
+            return []
+        group = getattr(self.target_lesion.item, "part_of", None)
+        if group is None:
+            return [self.target_lesion]
+        return [s for spans in self.lesions.values() for s in spans
+                if getattr(s.item, "part_of", None) == group]
 
     @property
     def target_is_occlusion(self) -> bool:
