@@ -136,7 +136,7 @@ def test_missing_file_exact_error_line():
 
 def test_help_has_an_example():
     res = _run("--help")
-    assert res.exit_code == 0 and "vascplan plan examples/" in res.output
+    assert res.exit_code == 0 and "vascplan plan vascplan/examples/" in res.output
 
 
 def test_explain_accepts_lower_case_and_marks_unchecked_limits():
