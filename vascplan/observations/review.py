@@ -639,7 +639,7 @@ def review_unit(
         when it is above 0).
     """
     protocol = protocol or unit_protocol(unit, base_dir)
-    every = store.current(unit.unit.name, until=at)  # the store compares UTC text
+    every = store.current(unit.unit.key, until=at)  # the store compares UTC text
     patients = []
     for p in sorted(unit.patients, key=lambda p: p.bed):
         mine = [f for f in every if f.entry.ref == p.ref]
