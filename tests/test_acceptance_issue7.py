@@ -544,8 +544,10 @@ def test_correction_keeps_original(tmp_path):
         "--entry",
         pain["entry"],
         "--withdraw",
+        "--unit",
+        unit,
         "--by",
-        "RN-Q",
+        "RN-P",  # a withdrawal's author must be on the unit's staff
         "--reason",
         "wrong bed",
         "--db",
@@ -769,8 +771,10 @@ def test_review_uses_corrected_value_and_ignores_withdrawn(tmp_path):
         "--entry",
         rows["calf"]["entry"],
         "--withdraw",
+        "--unit",
+        unit,
         "--by",
-        "RN-Q",
+        "RN-P",  # a withdrawal's author must be on the unit's staff
         "--reason",
         "other patient",
         "--db",

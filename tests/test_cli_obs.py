@@ -158,7 +158,7 @@ def test_add_then_correct_then_export_csv(tmp_path, db_url):  # noqa: F811
     with open_store(db_url) as store:
         nirs_r = next(
             e.id
-            for e in store.entries("Cardiac critical care (demo)")
+            for e in store.entries("cardiac-critical-care-demo")  # the id from its name
             if (e.item, e.site) == ("nirs", "R")
         )
     r = run(
@@ -373,8 +373,8 @@ def test_export_marks_every_superseded_row(tmp_path):
     db = tmp_path / "o.db"
     p = _csv(tmp_path, ["2026-12-01T16:00,1,DEMO-11,RN-A,nirs,L,60"])
     assert run("obs", "import", p, "--unit", U, "--db", db).exit_code == 0
-    for args in (["--value", "62"], ["--withdraw"]):
-        r = run("obs", "correct", "--entry", 1, *args, "--by", "RN-B", "--reason", "r", "--db", db)
+    for args in (["--value", "62"], ["--withdraw", "--unit", U]):
+        r = run("obs", "correct", "--entry", 1, *args, "--by", "RN-A", "--reason", "r", "--db", db)
         assert r.exit_code == 0, r.output
     r = run("obs", "export", "--unit", U, "--format", "csv", "--db", db)
     rows = list(csv.DictReader(io.StringIO(r.output)))
