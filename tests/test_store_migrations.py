@@ -13,7 +13,7 @@ import pytest
 import sqlalchemy as sa
 from click.testing import CliRunner
 
-from tests.obs_fixtures import UNIT, db_url, db_urls  # noqa: F401 - fixture
+from tests.obs_fixtures import UNIT, db_urls  # noqa: F401 - fixture
 from vascplan.cli import cli
 from vascplan.errors import InputError, StoreError
 from vascplan.observations import migrations
@@ -152,9 +152,9 @@ def test_released_store_upgrades_in_place(tmp_path):
 
 @pytest.mark.parametrize("version", range(SCHEMA_VERSION))
 def test_upgrade_from_every_earlier_version(db_urls, version):  # noqa: F811
-    _tool_url, db_url = db_urls  # migrations run as the tables' owner
-    _old_store(db_url, version)
-    with open_store(db_url) as store:
+    _tool_url, owner_url = db_urls  # migrations run as the tables' owner
+    _old_store(owner_url, version)
+    with open_store(owner_url) as store:
         _assert_latest_and_guarded(store)
         # Migration 5 keys the old rows by the id a unit file named "U" defaults to: "u".
         if version >= 1:
