@@ -274,7 +274,7 @@ def template(output: str | None, guide: bool, db: str | None) -> None:
 @obs.command(
     "correct",
     epilog=(
-        "Example: vascplan obs correct --entry 42 --value 61 --by RN-B "
+        "Example: vascplan obs correct --unit unit.yaml --entry 42 --value 61 --by RN-B "
         '--reason "misread the monitor"'
     ),
 )
@@ -294,10 +294,9 @@ def template(output: str | None, guide: bool, db: str | None) -> None:
 @click.option(
     "--unit",
     "unit_path",
-    default=None,
+    required=True,
     type=click.Path(dir_okay=False),
-    help="Unit file: the entry must be this unit's and --by one of its staff "
-    "(required for --withdraw).",
+    help="Unit file: the entry must be this unit's and --by one of its staff.",
 )
 @_db_option
 def correct(
@@ -306,7 +305,7 @@ def correct(
     withdraw: bool,
     by: str,
     reason: str,
-    unit_path: str | None,
+    unit_path: str,
     db: str | None,
 ) -> None:
     """Correct a stored finding: a new entry pointing to it; the original is kept."""
@@ -314,19 +313,11 @@ def correct(
 
     if withdraw == (value is not None):
         raise InputError("--value", "", "give either --value or --withdraw")
-    if withdraw and unit_path is None:
-        raise InputError(
-            "--withdraw", "", "give --unit UNIT.yaml: a withdrawal's author is checked "
-            "against the unit's staff"
-        )  # fmt: skip
-    key = None
-    if unit_path is not None:
-        unit = _unit(unit_path)
-        by = _check_author(unit, by)
-        key = unit.unit.key
+    unit = _unit(unit_path)
+    by = _check_author(unit, by)
     with open_store(db) as store:
         new_id = store.correct(
-            entry_id, value or "", by=by, reason=reason, withdraw=withdraw, unit=key
+            entry_id, value or "", by=by, reason=reason, withdraw=withdraw, unit=unit.unit.key
         )
     click.echo(f"stored correction {new_id} of entry {entry_id} in {store.shown}")
 
