@@ -116,6 +116,14 @@ def test_unknown_unit_id_and_missing_id_are_said(tmp_path, monkeypatch):
         f"note: the store sqlite:///{db} has no record of unit id 'ward-b' (it holds ward-a); "
         "'Ward A' is on record as unit id 'ward-a': check the unit file's `id`"
     )
+    # A review of a unit id the store does not know says so too (a typo would else show
+    # an empty record).
+    typo2 = _unit_file(tmp_path, "Ward C", "ward-c", "d.yaml")
+    r = run("obs", "review", typo2, "--at", "2026-12-01T18:30", "--db", db)
+    assert r.stderr.splitlines()[0] == (
+        f"note: the store sqlite:///{db} has no record of unit id 'ward-c' (it holds ward-a, "
+        "ward-b): check the unit file's `id`"
+    )
 
 
 # --- authors --------------------------------------------------------------------------------
@@ -331,3 +339,41 @@ def test_postgres_tool_role_cannot_migrate_or_rewrite_and_owner_edit_is_found(db
     assert r.exit_code == 1
     assert "entry 2 altered (its content no longer matches its hash)" in r.output
     assert "guard trigger obs_entry_append_only missing or disabled" in r.output
+
+
+def test_a_bad_unit_id_is_one_line(tmp_path):
+    bad = _unit_file(tmp_path, "Ward A", '"Ward A"')
+    r = run("obs", "review", bad, "--db", tmp_path / "o.db")
+    assert (r.exit_code, r.output) == (
+        2,
+        f"error: {bad}: unit.id: a unit id is lower-case letters, digits and inner hyphens, "
+        "at most 64 characters, e.g. 'ward-a' (got 'Ward A')\n",
+    )
+
+
+def test_concurrent_writers_keep_one_chain(db_urls):  # noqa: F811
+    # Two writers at once (threads, each its own connection): every batch stored, the chain
+    # unbroken (SQLite's write lock; PostgreSQL's advisory lock around the chain's tail).
+    import threading
+
+    tool, owner = db_urls
+    open_store(owner).close()  # migrated by the owner
+    errors: list[BaseException] = []
+
+    def writer(site: str) -> None:
+        try:
+            with open_store(tool) as store:
+                for hour in range(12):
+                    store.record([_f(hour, site)], unit="icu-1", kind="add", source=site)
+        except BaseException as exc:  # pragma: no cover - reported below
+            errors.append(exc)
+
+    threads = [threading.Thread(target=writer, args=(s,)) for s in ("L", "R")]
+    for t in threads:
+        t.start()
+    for t in threads:
+        t.join()
+    assert errors == []
+    r = _verify(tool)
+    assert r.exit_code == 0, r.output
+    assert ": 24 entries in an unbroken chain" in r.output  # 2 writers x 12 hours

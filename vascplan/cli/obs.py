@@ -344,6 +344,7 @@ def review(unit_path: str, at_text: str | None, fmt: str, db: str | None) -> Non
     unit = _unit(unit_path)
     at = _at(at_text, unit)
     with _open_for_reading(db) as store:
+        _unit_notes(unit, unit_path, store)
         result = review_unit(unit, store, at, base_dir=_base_dir(unit_path))
     if fmt == "json":
         click.echo(json.dumps(to_json(result), indent=2, ensure_ascii=False))
@@ -374,6 +375,7 @@ def trend(
         raise InputError(unit_path, "patients", "the unit file has no patients")
     at = _at(at_text, unit)
     with _open_for_reading(db) as store:
+        _unit_notes(unit, unit_path, store)
         write_trend_pdf(unit, store, patients, at, output, base_dir=_base_dir(unit_path))
     click.echo(f"wrote {output} ({len(patients)} pages)")
 
@@ -442,6 +444,7 @@ def export(
         )
     generated = datetime.now(UTC)
     with _open_for_reading(db) as store:
+        _unit_notes(unit, unit_path, store)
         if output:
             with atomic_text_output(output, mode=0o600) as fh:
                 n = write_export(

@@ -72,9 +72,19 @@ def unit_slug(name: str) -> str:
 class UnitInfo(_Strict):
     name: str = Field(min_length=1, max_length=200)
     timezone: str
-    id: str | None = Field(default=None, pattern=UNIT_ID_PATTERN)
+    id: str | None = None
     """The unit's stable id, the key of its record in the store: renaming ``name`` keeps
     the history. A file without one gets :func:`unit_slug` of the name (and a notice)."""
+
+    @field_validator("id")
+    @classmethod
+    def _id(cls, value: str | None) -> str | None:
+        if value is not None and not re.fullmatch(UNIT_ID_PATTERN, value):
+            raise ValueError(
+                f"a unit id is lower-case letters, digits and inner hyphens, at most 64 "
+                f"characters, e.g. {unit_slug(value)!r}"
+            )
+        return value
 
     @property
     def key(self) -> str:
