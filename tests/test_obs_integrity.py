@@ -139,6 +139,23 @@ def test_author_must_be_on_the_staff(tmp_path):
     )
 
 
+def test_import_authors_must_be_on_the_staff(tmp_path):
+    p = tmp_path / "c.csv"
+    p.write_text(
+        "time,bed,ref,by,item,site,value\n"
+        "2026-12-01T16:00,1,DEMO-11,RN-A,nirs,L,64\n"
+        "2026-12-01T16:00,1,DEMO-11,someone,nirs,R,64\n"
+    )
+    db = tmp_path / "o.db"
+    r = run("obs", "import", p, "--unit", UNIT, "--db", db)
+    assert (r.exit_code, r.output) == (
+        2,
+        f"error: {p}: line 3, column by: 'someone' is not on the unit's staff; allowed: RN-A\n",
+    )
+    with open_store(str(db)) as store:
+        assert store.count() == 0  # nothing of the file stored
+
+
 def test_correction_needs_the_unit_and_a_staff_author_and_withdrawal_shows_in_review(tmp_path):
     db = tmp_path / "o.db"
     r = run("obs", "add", "--unit", UNIT, "--bed", 1, "--time", "2026-12-01T16:00",

@@ -98,17 +98,17 @@ def _unit_notes(unit, unit_path: str, store) -> None:
         )
 
 
-def _check_author(unit, by: str, source: str = "--by") -> str:
+def _check_author(unit, by: str, source: str = "--by", field: str = "") -> str:
     """``by`` must be one of the unit's staff (its unit file), until a sign-in supplies it."""
     staff = sorted({a.nurse for a in unit.staff})
     name = by.strip()
     if not staff:
         raise InputError(
-            source, "", "the unit file lists no staff: add them under `staff:` to record checks"
+            source, field, "the unit file lists no staff: add them under `staff:` to record checks"
         )
     if name not in staff:
         raise InputError(
-            source, "", f"{name!r} is not on the unit's staff; allowed: {', '.join(staff)}"
+            source, field, f"{name!r} is not on the unit's staff; allowed: {', '.join(staff)}"
         )
     return name
 
@@ -218,6 +218,8 @@ def import_(csv_path: str, unit_path: str, db: str | None) -> None:
 
     unit = _unit(unit_path)
     findings, lines = parse_csv(csv_path, unit)
+    for f, line in zip(findings, lines, strict=True):
+        _check_author(unit, f.by, csv_path, f"line {line}, column by")
     with open_store(db) as store:
         _unit_notes(unit, unit_path, store)
         ids = store.record(
