@@ -664,14 +664,15 @@ def test_correction_with_bad_value_is_refused(tmp_path):
 
 
 def test_import_with_offsets_and_other_zone_times(tmp_path):
-    # A time with an offset is taken as given (11:00 UTC is 06:00 CDT).
+    # A time with an offset is taken as given (14:00 UTC is 09:00 CDT, after the 08:00
+    # insertion: a check before it is refused, issue 18).
     unit, db = _unit(tmp_path), tmp_path / "obs.db"
-    path = _write_csv(tmp_path, ["2026-09-10T11:00Z,3,DEMO-61,RN-P,calf,L,tense"])
+    path = _write_csv(tmp_path, ["2026-09-10T14:00Z,3,DEMO-61,RN-P,calf,L,tense"])
     res = _run("obs", "import", path, "--unit", unit, "--db", db)
     assert res.exit_code == 0, res.output
     (row,) = _export_rows(unit, db)
-    assert row["time"] == "2026-09-10T06:00:00-05:00"
-    _code, doc = _review(unit, db, "2026-09-10T06:05")
+    assert row["time"] == "2026-09-10T09:00:00-05:00"
+    _code, doc = _review(unit, db, "2026-09-10T09:05")
     assert any(a["rule"] == "calf-tense" for a in _patient(doc, "DEMO-61")["alerts"])
 
 

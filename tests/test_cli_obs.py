@@ -413,7 +413,9 @@ def test_a_date_without_a_time_of_day_is_refused(tmp_path):
 def test_an_ambiguous_time_names_the_two_real_offsets_of_the_unit_zone(tmp_path):
     # America/New_York leaves EDT (-04:00) for EST (-05:00) at 02:00 on 2026-11-01.
     unit = tmp_path / "unit.yaml"
-    unit.write_text(Path(U).read_text().replace("Europe/London", "America/New_York"))
+    # The device goes in before the clock change (a check before it is refused, issue 18).
+    text = Path(U).read_text().replace("Europe/London", "America/New_York")
+    unit.write_text(text.replace("inserted: 2026-12-01T14:20", "inserted: 2026-10-30T14:20"))
     p = _csv(tmp_path, ["2026-11-01T01:30,1,DEMO-11,RN-A,nirs,L,60"])
     r = run("obs", "import", p, "--unit", unit, "--db", tmp_path / "o.db")
     assert r.exit_code == 2

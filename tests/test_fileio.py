@@ -74,7 +74,8 @@ def test_atomic_write_leaves_old_file_on_failure(tmp_path, monkeypatch):
         raise OSError("disk full")
 
     monkeypatch.setattr(os, "replace", boom)
-    with pytest.raises(OSError):
+    # One line naming the path, never a traceback (issue 18).
+    with pytest.raises(InputError, match=r"out\.txt: cannot write here \(disk full\); choose"):
         atomic_write_text(target, "new")
     assert target.read_text() == "old"
     assert [p.name for p in tmp_path.iterdir()] == ["out.txt"]

@@ -174,11 +174,11 @@ def test_fhir_abi_from_brachial_pressures_validates(tmp_path):
 
 THREE_TIMES = (
     "time,bed,ref,by,item,site,value\n"
-    "2026-12-01T08:00,1,DEMO-11,RN-A,nirs,R,66\n"
-    "2026-12-01T12:00,1,DEMO-11,RN-A,nirs,R,64\n"
-    "2026-12-01T12:00,1,DEMO-11,RN-A,pressure,R-PTA,110\n"
-    "2026-12-01T12:00,1,DEMO-11,RN-A,pressure,R-ARM,130\n"
-    "2026-12-01T16:00,1,DEMO-11,RN-A,nirs,R,63\n"
+    "2026-12-01T15:00,1,DEMO-11,RN-A,nirs,R,66\n"
+    "2026-12-01T19:00,1,DEMO-11,RN-A,nirs,R,64\n"
+    "2026-12-01T19:00,1,DEMO-11,RN-A,pressure,R-PTA,110\n"
+    "2026-12-01T19:00,1,DEMO-11,RN-A,pressure,R-ARM,130\n"
+    "2026-12-01T23:00,1,DEMO-11,RN-A,nirs,R,63\n"
 )
 
 
@@ -220,11 +220,11 @@ def test_ndjson_one_valid_observation_a_line(tmp_path, db_url):  # noqa: F811
 @pytest.mark.parametrize(
     ("since", "until", "nirs"),
     [
-        ("2026-12-01T10:00", None, [60.0, 63.0]),  # 12:00 (corrected 64 -> 60) and 16:00
-        (None, "2026-12-01T12:00", [66.0, 60.0]),  # bounds included
-        ("2026-12-01T12:00", "2026-12-01T12:00", [60.0]),
-        ("2026-12-01T13:00+01:00", "2026-12-01T12:00:00Z", [60.0]),  # offsets honoured
-        ("2026-12-01T17:00", None, []),
+        ("2026-12-01T17:00", None, [60.0, 63.0]),  # 19:00 (corrected 64 -> 60) and 23:00
+        (None, "2026-12-01T19:00", [66.0, 60.0]),  # bounds included
+        ("2026-12-01T19:00", "2026-12-01T19:00", [60.0]),
+        ("2026-12-01T20:00+01:00", "2026-12-01T19:00:00Z", [60.0]),  # offsets honoured
+        ("2026-12-02T00:00", None, []),
     ],
 )
 def test_export_window(tmp_path, db_url, since, until, nirs):  # noqa: F811

@@ -67,8 +67,8 @@ def _wait_for(path: Path, proc: subprocess.Popen, timeout_s: float = 20) -> None
 
 
 def test_sigkill_mid_import_leaves_all_or_none(tmp_path, db_url):  # noqa: F811
-    before = _csv(tmp_path / "before.csv", datetime(2026, 11, 20, 0, 0), 50)
-    big = _csv(tmp_path / "big.csv", datetime(2026, 11, 21, 0, 0), BIG_ROWS)
+    before = _csv(tmp_path / "before.csv", datetime(2026, 12, 1, 15, 0), 50)
+    big = _csv(tmp_path / "big.csv", datetime(2026, 12, 1, 16, 0), BIG_ROWS)
     r = subprocess.run(
         [
             sys.executable,
@@ -166,8 +166,8 @@ def test_two_writers_at_once_lose_nothing(tmp_path, db_url):  # noqa: F811
         )
         for site in ("L", "R")
     ]
-    a = _csv(tmp_path / "a.csv", datetime(2026, 11, 26, 0, 0), 400, site="L")
-    b = _csv(tmp_path / "b.csv", datetime(2026, 11, 26, 0, 0), 400, site="R")
+    a = _csv(tmp_path / "a.csv", datetime(2026, 12, 2, 0, 0), 400, site="L")
+    b = _csv(tmp_path / "b.csv", datetime(2026, 12, 2, 0, 0), 400, site="R")
     imports = [
         subprocess.Popen(
             [

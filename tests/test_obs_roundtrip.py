@@ -37,7 +37,7 @@ def finding_rows(draw):
     else:
         value = draw(st.sampled_from(spec.values))
     minute = draw(st.integers(0, 600))
-    return (f"2026-12-01T{8 + minute // 60:02d}:{minute % 60:02d}", item, site, value)
+    return (f"2026-12-02T{8 + minute // 60:02d}:{minute % 60:02d}", item, site, value)
 
 
 @settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])

@@ -133,8 +133,10 @@ def source_copy(tmp_path_factory) -> Path:
 
 
 def _pip_install(src: Path, *where: str) -> None:
+    # --ignore-installed: without it pip uninstalls the environment's own (editable) vascplan
+    # before installing into the prefix, which would break the developer's venv.
     cmd = [sys.executable, "-m", "pip", "install", "-q", "--no-deps", "--no-build-isolation",
-           "--no-index", "--disable-pip-version-check", *where, str(src)]
+           "--no-index", "--disable-pip-version-check", "--ignore-installed", *where, str(src)]
     r = subprocess.run(cmd, capture_output=True, text=True, timeout=120, check=False)
     assert r.returncode == 0, r.stderr
 

@@ -221,3 +221,22 @@ def test_markup_in_a_ref_prints_literally(tmp_path, ref):
     assert f"Case conference: {ref}" in pages[0]
     for page in pages:  # the head line of every page names the case as written
         assert f"Case conference - {ref}" in page
+
+
+def test_report_says_what_reference_values_are_and_what_to_measure(tmp_path):
+    # Issue 11 "done when": the case report says what reference values are (patients' CT
+    # minimal lumen diameters for access vessels: Chiam et al., Int J Cardiol 2013) and what
+    # to measure.
+    from click.testing import CliRunner
+    from pypdf import PdfReader
+
+    from vascplan.cli import cli as _cli
+
+    out = tmp_path / "r.pdf"
+    case = examples_dir() / "case-DEMO-07-sfa-occlusion.yaml"
+    res = CliRunner().invoke(_cli, ["report", str(case), "-o", str(out)])
+    assert res.exit_code == 0, res.output
+    text = " ".join(" ".join(p.extract_text().split()) for p in PdfReader(out).pages)
+    assert "is a reference value, not this patient's measurement" in text
+    assert "minimal lumen diameter that CT finds in patients" in text
+    assert "Measure on CT angiography or duplex" in text

@@ -10,9 +10,9 @@ from click.testing import CliRunner
 
 from tests.reports_helpers import HOSTILE, pdf_pages, pdf_text
 from vascplan.cli import cli
-from vascplan.fileio import safe_filename
 from vascplan.paths import examples_dir
 from vascplan.safety import CAUTION
+from vascplan.textsafety import ref_file_part
 
 CASE_07 = examples_dir() / "case-DEMO-07-sfa-occlusion.yaml"
 UNIT = Path(__file__).parent / "reports_unit.yaml"
@@ -41,7 +41,7 @@ def test_report_default_name_from_a_hostile_ref(tmp_path, monkeypatch):
     res = _run(["report", str(case)])
     assert res.exit_code == 0, res.output
     files = list(work.iterdir())
-    expected = f"{safe_filename('../../' + HOSTILE)}-case-report.pdf"
+    expected = f"{ref_file_part('../../' + HOSTILE)[0]}-case-report.pdf"
     assert [f.name for f in files] == [expected]
     assert "/" not in expected and "<" not in expected and not expected.startswith(".")
     assert sorted(p.name for p in tmp_path.iterdir()) == ["case.yaml", "work"]
@@ -112,7 +112,7 @@ def test_checklist_one_bed_default_name_is_safe(tmp_path, monkeypatch):
     res = _run(["checklist", str(UNIT), "--shift", "night", "--date", "2026-10-24", "--bed", "8"])
     assert res.exit_code == 0, res.output
     names = [p.name for p in tmp_path.iterdir()]
-    assert names == [f"checklist-night-2026-10-24-{safe_filename(HOSTILE)}.pdf"]
+    assert names == [f"checklist-night-2026-10-24-{ref_file_part(HOSTILE)[0]}.pdf"]
 
 
 @pytest.mark.parametrize(

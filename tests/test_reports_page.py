@@ -115,6 +115,8 @@ def test_failed_rename_leaves_no_temporary(tmp_path, monkeypatch):
         raise OSError("rename refused")
 
     monkeypatch.setattr(os, "replace", broken_replace)
-    with pytest.raises(OSError):
+    from vascplan.errors import InputError
+
+    with pytest.raises(InputError, match="cannot write here"):  # one line, issue 18
         write_pdf(tmp_path / "x.pdf", _doc("a4", 1))
     assert list(tmp_path.iterdir()) == []

@@ -33,7 +33,8 @@ class InputError(VascplanError):
 
     def __str__(self) -> str:
         where = f"{self.source}: {self.field}" if self.field else self.source
-        return f"{where}: {self.message}"
+        # One line whatever user text the message quotes (a CSV cell holding a newline).
+        return f"{where}: {self.message}".replace("\r", "\\r").replace("\n", "\\n")
 
 
 class StoreError(VascplanError):

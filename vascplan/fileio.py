@@ -12,9 +12,9 @@ import json
 import os
 import re
 import tempfile
-from collections.abc import Iterable
+from collections.abc import Iterable, Iterator
 from pathlib import Path
-from typing import Any, TypeVar
+from typing import IO, Any, TypeVar
 
 import yaml
 from pydantic import BaseModel, ValidationError
@@ -61,6 +61,28 @@ _UniqueKeyLoader.add_implicit_resolver(
     re.compile(r"^[-+]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)[eE][-+]?[0-9]+$"),
     list("-+0123456789."),
 )
+
+
+def _plain_number(tag: str):
+    base = yaml.SafeLoader.yaml_constructors[tag]
+
+    def construct(loader: yaml.SafeLoader, node: yaml.Node) -> Any:
+        # YAML reads 6_4 as 64; a number with an underscore in a file is a typo.
+        if isinstance(node, yaml.ScalarNode) and "_" in node.value:
+            raise yaml.constructor.ConstructorError(
+                None,
+                None,
+                f"{node.value} is not a plain number: write ASCII digits 0-9 without "
+                "underscores (quote it if it is text)",
+                node.start_mark,
+            )
+        return base(loader, node)
+
+    return construct
+
+
+for _tag in ("tag:yaml.org,2002:int", "tag:yaml.org,2002:float"):
+    _UniqueKeyLoader.add_constructor(_tag, _plain_number(_tag))
 
 
 def _json_pairs(pairs: list[tuple[str, Any]]) -> dict:
@@ -174,8 +196,17 @@ def parse_yaml(src: str, text: str) -> Any:
             # "expected a single document in the stream, but found another document"
             problem = f"{exc.context}, {problem}"
         raise InputError(src, line, f"YAML error: {problem}") from None
+    except yaml.reader.ReaderError as exc:  # a control character YAML does not allow
+        from vascplan.textsafety import describe
+
+        row = text[: exc.position].count("\n") + 1
+        code = exc.character
+        char = chr(code) if isinstance(code, int) else str(code)
+        raise InputError(
+            src, f"line {row}", f"the control character {describe(char)} is not allowed"
+        ) from None
     except yaml.YAMLError as exc:
-        raise InputError(src, "", f"YAML error: {exc}") from None
+        raise InputError(src, "", f"YAML error: {' '.join(str(exc).split())}") from None
 
 
 def _parse_json(src: str, text: str) -> Any:
@@ -223,7 +254,12 @@ def input_error_from_validation(source: str, exc: ValidationError) -> InputError
     if err.get("type") not in ("missing", "extra_forbidden") and isinstance(
         value, str | int | float | bool
     ):
-        msg = f"{msg} (got {value!r})"
+        shown = (
+            f"{len(value):,} characters"
+            if isinstance(value, str) and len(value) > 60
+            else repr(value)
+        )
+        msg = f"{msg} (got {shown})"
     return InputError(source, field_path(loc), msg)
 
 
@@ -239,6 +275,9 @@ def validate_data(source: str, data: Any, model: type[M], **context: Any) -> M:
         raise InputError(
             source, "", f"expected a mapping of fields at the top, got {type(data).__name__}"
         )
+    from vascplan.textsafety import check_document
+
+    check_document(source, data)
     try:
         return model.model_validate(data, context={"source": source, **context})
     except ValidationError as exc:
@@ -257,29 +296,76 @@ def did_you_mean(word: str, choices: Iterable[str]) -> str:
 # Output
 
 
-def atomic_write_bytes(path: str | os.PathLike[str], data: bytes, mode: int = 0o644) -> Path:
-    """Write ``data`` to ``path`` through a temporary file renamed into place.
+def current_umask() -> int:
+    """The process's umask (read by setting it and putting it back)."""
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
 
-    A failure part-way leaves the previous file (or none), never a half-written one.
+
+@contextlib.contextmanager
+def atomic_output(
+    path: str | os.PathLike[str], mode: int = 0o640, *, binary: bool = False
+) -> Iterator[IO[Any]]:
+    """A file written in place of ``path`` only when the block ends without error.
+
+    Text (UTF-8, ``\n`` kept as written) unless ``binary``. The file goes through a
+    temporary file renamed into place: a failure part-way leaves the previous file (or
+    none), never a half-written one. The file gets ``mode`` less the umask: 0640 by default
+    (patient outputs are never more open); pass 0o666 for a file with nothing about a
+    patient in it.
+
+    Raises
+    ------
+    InputError
+        The place cannot be written (a folder, a read-only or missing place, ``/proc``):
+        one line naming the path.
     """
     target = Path(path)
-    target.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent)
+    src = str(path)
+    if target.is_dir():
+        raise InputError(src, "", "is a folder; give a file name to write")
     try:
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(data)
+        target.parent.mkdir(parents=True, exist_ok=True)
+        fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent)
+    except OSError as exc:
+        raise InputError(src, "", _cannot_write(exc)) from None
+    done = False
+    try:
+        fh: IO[Any] = (
+            os.fdopen(fd, "wb") if binary else os.fdopen(fd, "w", encoding="utf-8", newline="")
+        )
+        with fh:
+            yield fh
             fh.flush()
             os.fsync(fh.fileno())
-        os.chmod(tmp, mode)
+        done = True  # from here on, an error is about the place, not the content
+        os.chmod(tmp, mode & ~current_umask() & 0o777)
         os.replace(tmp, target)
-    except BaseException:
-        with contextlib.suppress(FileNotFoundError):
+    except BaseException as exc:
+        with contextlib.suppress(OSError):
             os.unlink(tmp)
+        if done and isinstance(exc, OSError):
+            raise InputError(src, "", _cannot_write(exc)) from None
         raise
-    return target
 
 
-def atomic_write_text(path: str | os.PathLike[str], text: str, mode: int = 0o644) -> Path:
+def atomic_write_bytes(path: str | os.PathLike[str], data: bytes, mode: int = 0o640) -> Path:
+    """Write ``data`` to ``path`` atomically (see :func:`atomic_output`)."""
+    try:
+        with atomic_output(path, mode, binary=True) as fh:
+            fh.write(data)
+    except OSError as exc:  # the write itself (a full disk)
+        raise InputError(str(path), "", _cannot_write(exc)) from None
+    return Path(path)
+
+
+def _cannot_write(exc: OSError) -> str:
+    reason = exc.strerror or str(exc) or type(exc).__name__
+    return f"cannot write here ({reason}); choose a folder you can write to"
+
+
+def atomic_write_text(path: str | os.PathLike[str], text: str, mode: int = 0o640) -> Path:
     """Write UTF-8 text atomically (see :func:`atomic_write_bytes`)."""
     return atomic_write_bytes(path, text.encode("utf-8"), mode)
 
@@ -300,6 +386,32 @@ def safe_filename(text: str, default: str = "unnamed") -> str:
     name = _UNSAFE.sub("_", text).strip("._-")
     name = re.sub(r"\.{2,}", ".", name)
     return name[:80] or default
+
+
+def path_inside(
+    name: str,
+    folders: Iterable[str | os.PathLike[str]],
+    source: str,
+    field: str,
+    allowed: str,
+) -> Path:
+    """Resolve ``name`` (a file named inside another file) within one of ``folders``.
+
+    A relative name is taken from the first folder; the result, with every ``..`` and
+    symbolic link resolved, must lie inside one of the folders, else an
+    :class:`InputError` says where files may be (``allowed``). Returns the joined path
+    (not resolved, so that messages show it as the user wrote it).
+    """
+    folders = list(folders)
+    roots = [Path(f).resolve() for f in folders]
+    raw = Path(name)
+    joined = raw if raw.is_absolute() else Path(folders[0]) / raw
+    target = joined.resolve()
+    if not any(target == r or target.is_relative_to(r) for r in roots):
+        raise InputError(
+            source, field, f"{name!r} lies outside {allowed}; a file named here must be inside"
+        )
+    return joined
 
 
 def output_inside(folder: str | os.PathLike[str], name: str) -> Path:

@@ -62,6 +62,9 @@ def validate_case(source: str, data: Any) -> Case:
         raise InputError(
             source, "", f"expected a mapping of case fields at the top, got {_kind(data)}"
         )
+    from vascplan.textsafety import check_document
+
+    check_document(source, data)
     try:
         return Case.model_validate(data, context={"source": source})
     except ValidationError as exc:

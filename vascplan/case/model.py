@@ -18,6 +18,7 @@ from pydantic_core import PydanticCustomError
 
 from vascplan.anatomy.reference import load_reference, suggest_segment
 from vascplan.errors import InputError
+from vascplan.textsafety import FREE_TEXT_MAX, FreeText, Identifier
 
 CASE_FORMAT = "vascplan-case/1"
 Calcification = Literal["none", "mild", "moderate", "severe"]
@@ -56,7 +57,7 @@ class _Strict(BaseModel):
 class Patient(_Strict):
     """Who the case is about (pseudonymously)."""
 
-    ref: str = Field(
+    ref: Identifier = Field(
         min_length=1, max_length=64, description="pseudonymous reference, never a real identifier"
     )
     sex: Sex = Field(description="female | male | unspecified (chooses the reference diameters)")
@@ -181,7 +182,7 @@ class Avoid(_Strict):
     """A site not to be punctured, with the reason."""
 
     site: str = Field(description="segment id")
-    reason: str = Field(min_length=1)
+    reason: FreeText = Field(min_length=1, max_length=FREE_TEXT_MAX)
 
 
 class Target(_Strict):

@@ -85,10 +85,18 @@ class LazyGroup(click.Group):
             formatter.write_dl(rows)
 
     def invoke(self, ctx: click.Context) -> Any:
+        from vascplan.textsafety import safe_terminal
+
         try:
             return super().invoke(ctx)
         except VascplanError as exc:
-            click.echo(f"error: {exc}", err=True)
+            click.echo(f"error: {safe_terminal(str(exc))}", err=True)
+            ctx.exit(2)
+        except Exception as exc:  # the last guard: one line, never a traceback (issue 18)
+            line = _unexpected(exc)
+            if line is None:
+                raise
+            click.echo(f"error: {safe_terminal(line)}", err=True)
             ctx.exit(2)
 
     def main(self, *args: Any, standalone_mode: bool = True, **kwargs: Any) -> Any:
@@ -100,6 +108,11 @@ class LazyGroup(click.Group):
         """
         if not standalone_mode:
             return super().main(*args, standalone_mode=False, **kwargs)  # type: ignore[call-overload]
+        argv = kwargs.get("args", args[0] if args else None)
+        problem = _argument_problem(sys.argv[1:] if argv is None else list(argv))
+        if problem:
+            click.echo(f"error: {problem}", err=True)
+            sys.exit(2)
         try:
             rv = super().main(*args, standalone_mode=False, **kwargs)  # type: ignore[call-overload]
         except _NO_ARGS_IS_HELP as exc:
@@ -119,6 +132,64 @@ class LazyGroup(click.Group):
             click.echo("Aborted.", err=True)
             sys.exit(1)
         sys.exit(rv if isinstance(rv, int) else 0)
+
+
+def _argument_problem(argv: list[str]) -> str | None:
+    """The first command-line value holding a control character, as one line, or None.
+
+    Newlines and tabs are allowed (a ``--reason`` may hold them); the value's own checks
+    refuse them where an identifier is expected.
+    """
+    import re
+
+    from vascplan.textsafety import describe, find_control
+
+    # A value that reads as a number to Python (int(), float()) but is not one in ASCII
+    # digits: 1_2, Arabic-Indic or fullwidth digits (issue 18).
+    odd_number = re.compile(r"[-+]?(?=.*\d)[\d_]*\.?[\d_]*(?:[eE][-+]?[\d_]+)?")
+    for i, arg in enumerate(argv):
+        text = str(arg)
+        name, sep, value = text.partition("=")
+        if text.startswith("-") and sep:
+            where = name
+        elif i > 0 and str(argv[i - 1]).startswith("-"):
+            where, value = str(argv[i - 1]), text
+        else:
+            where, value = f"argument {i + 1}", text
+        hit = find_control(text, allow_newline=True)
+        if hit is not None:
+            return (
+                f"{where}: holds the control character {describe(hit[1])}; "
+                "use printable text only"
+            )
+        plain = value.strip()
+        if odd_number.fullmatch(plain) and not re.fullmatch(r"[-+0-9.eE]+", plain):
+            return (
+                f"{where}: {plain!r} is not a plain number: write ASCII digits 0-9 "
+                "without underscores"
+            )
+    return None
+
+
+def _unexpected(exc: Exception) -> str | None:
+    """One line for an error that escaped the commands' own checks, or None to re-raise.
+
+    A file that cannot be written or read names its path; a database error names its
+    kind only, never the SQL, its parameters (patient data) or a password.
+    """
+    module = type(exc).__module__
+    if module.startswith(("sqlalchemy", "psycopg")):
+        return (
+            f"the observation store refused the operation ({type(exc).__name__}); "
+            "nothing was stored by this command"
+        )
+    if isinstance(exc, OSError):
+        where = exc.filename if exc.filename is not None else "file"
+        reason = (exc.strerror or type(exc).__name__).lower()
+        return f"{where}: cannot read or write ({reason})"
+    if isinstance(exc, OverflowError):
+        return "a date or number is out of range; check the years and sizes given"
+    return None
 
 
 @click.group(

@@ -9,6 +9,7 @@ import click
 from vascplan.errors import InputError
 from vascplan.fileio import atomic_write_text
 from vascplan.safety import CAUTION
+from vascplan.textsafety import safe_terminal
 
 
 @click.command(epilog="Example: vascplan validate examples/case-*.yaml")
@@ -84,7 +85,7 @@ def tree(case: str, fmt: str, out: str | None, every_assumption: bool) -> None:
     if out:
         click.echo(f"wrote {atomic_write_text(out, text)}")
     else:
-        click.echo(text, nl=False)
+        click.echo(safe_terminal(text), nl=False)
 
 
 @click.command(
@@ -105,7 +106,7 @@ def schema(out: str | None) -> None:
     from vascplan.case.schema import case_json_schema
 
     text = json.dumps(case_json_schema(), indent=2, ensure_ascii=False) + "\n"
-    if out:
-        click.echo(f"wrote {atomic_write_text(out, text)}")
+    if out:  # nothing about a patient in it: 0666 less the umask
+        click.echo(f"wrote {atomic_write_text(out, text, mode=0o666)}")
     else:
-        click.echo(text, nl=False)
+        click.echo(safe_terminal(text), nl=False)

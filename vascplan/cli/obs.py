@@ -8,10 +8,12 @@ from __future__ import annotations
 import json
 import sys
 from datetime import UTC, datetime
+from typing import TextIO, cast
 
 import click
 
 from vascplan.errors import InputError
+from vascplan.plausibility import STORE_ID_MAX, AsciiInt
 from vascplan.safety import CAUTION
 
 DB_HELP = (
@@ -31,7 +33,34 @@ def _db_option(f):
         envvar=DB_ENVVAR,
         show_envvar=True,
         help=DB_HELP,
+        callback=_check_db,
     )(f)
+
+
+def _check_db(ctx: click.Context, param: click.Parameter, value: str | None) -> str | None:
+    from vascplan.storeurl import check_db
+
+    return check_db(value)
+
+
+def _identifier(ctx: click.Context, param: click.Parameter, value: str) -> str:
+    """``--by``: a staff id, required, printable, at most 60 characters."""
+    from vascplan.textsafety import check_identifier
+
+    name = f"--{param.name}"
+    if not value.strip():
+        who = "who makes the correction" if ctx.command.name == "correct" else "who made the check"
+        raise InputError(name, "", f"{who} is required (a staff id, e.g. RN-A)")
+    return check_identifier(value, name, max_len=60)
+
+
+def _free_text(ctx: click.Context, param: click.Parameter, value: str) -> str:
+    """``--reason``: printable free text within the stated maximum."""
+    from vascplan.textsafety import check_free_text
+
+    if not value.strip():
+        raise InputError(f"--{param.name}", "", "a correction needs a reason")
+    return check_free_text(value, f"--{param.name}")
 
 
 def _stderr_is_terminal() -> bool:
@@ -151,14 +180,16 @@ def _item_options(f):
 @click.option(
     "--unit", "unit_path", required=True, type=click.Path(dir_okay=False), help="Unit file."
 )
-@click.option("--bed", type=int, required=True, help="Bed number.")
+@click.option("--bed", type=AsciiInt(1, 999), required=True, help="Bed number.")
 @click.option(
     "--time",
     "time_text",
     required=True,
     help="When the check was made (ISO 8601; local to the unit without an offset).",
 )
-@click.option("--by", "by", required=True, help="Who made the check (staff id).")
+@click.option(
+    "--by", "by", required=True, callback=_identifier, help="Who made the check (staff id)."
+)
 @_item_options
 @_db_option
 def add(
@@ -167,11 +198,13 @@ def add(
     """Record one check: each item option is one finding (repeat an option for each site)."""
     from vascplan.observations.findings import check_time, make_finding, split_option
     from vascplan.observations.store import open_store
+    from vascplan.plausibility import check_check_time
 
     unit = _unit(unit_path)
     by = _check_author(unit, by)
     patient = unit.patient_at_bed(bed)
     moment = check_time(time_text, unit.unit.tz, "--time")
+    check_check_time(moment, patient.device.inserted, "--time")
     findings = []
     for name, _, _ in _ITEM_OPTIONS:
         for text in items[name]:
@@ -266,7 +299,7 @@ def template(output: str | None, guide: bool, db: str | None) -> None:
         return
     text = template_text()
     if output:
-        atomic_write_text(output, text)
+        atomic_write_text(output, text, mode=0o666)  # a blank template: no patient data
         click.echo(f"wrote {output}")
         click.echo(template_guide(), nl=False)
     else:
@@ -283,16 +316,20 @@ def template(output: str | None, guide: bool, db: str | None) -> None:
 @click.option(
     "--entry",
     "entry_id",
-    type=int,
+    type=AsciiInt(1, STORE_ID_MAX),
     required=True,
     help="Entry id to correct (see `obs export --format csv`).",
 )
 @click.option("--value", default=None, help="The right value (same vocabulary as the item).")
 @click.option("--withdraw", is_flag=True, help="Mark the finding as entered in error instead.")
 @click.option(
-    "--by", "by", required=True, help="Who makes the correction (one of the unit's staff)."
+    "--by",
+    "by",
+    required=True,
+    callback=_identifier,
+    help="Who makes the correction (one of the unit's staff).",
 )
-@click.option("--reason", required=True, help="Why.")
+@click.option("--reason", required=True, callback=_free_text, help="Why.")
 @click.option(
     "--unit",
     "unit_path",
@@ -342,6 +379,7 @@ def correct(
 def review(unit_path: str, at_text: str | None, fmt: str, db: str | None) -> None:
     """Overdue checks and deterioration per patient, with the rule, source and whom to call."""
     from vascplan.observations.review import render_table, review_unit, to_json
+    from vascplan.textsafety import safe_terminal
 
     unit = _unit(unit_path)
     at = _at(at_text, unit)
@@ -349,16 +387,20 @@ def review(unit_path: str, at_text: str | None, fmt: str, db: str | None) -> Non
         _unit_notes(unit, unit_path, store)
         result = review_unit(unit, store, at, base_dir=_base_dir(unit_path))
     if fmt == "json":
-        click.echo(json.dumps(to_json(result), indent=2, ensure_ascii=False))
+        click.echo(safe_terminal(json.dumps(to_json(result), indent=2, ensure_ascii=False)))
     else:
-        click.echo(render_table(result))
+        click.echo(safe_terminal(render_table(result)))
     sys.exit(1 if result.open_alerts else 0)
 
 
 @obs.command("trend", epilog="Example: vascplan obs trend unit.yaml --bed 1 -o bed1-trend.pdf")
 @click.argument("unit_path", metavar="UNIT", type=click.Path(dir_okay=False))
 @click.option(
-    "--bed", "beds", type=int, multiple=True, help="Bed (repeat for several; default every bed)."
+    "--bed",
+    "beds",
+    type=AsciiInt(1, 999),
+    multiple=True,
+    help="Bed (repeat for several; default every bed).",
 )
 @click.option(
     "-o", "--output", type=click.Path(dir_okay=False), required=True, help="PDF file to write."
@@ -433,7 +475,8 @@ def export(
 
     Written as it is read: memory does not grow with the record.
     """
-    from vascplan.observations.export import atomic_text_output, write_export
+    from vascplan.fileio import atomic_output
+    from vascplan.observations.export import write_export
     from vascplan.surveillance.unit import parse_local_time
 
     unit = _unit(unit_path)
@@ -448,9 +491,10 @@ def export(
     with _open_for_reading(db) as store:
         _unit_notes(unit, unit_path, store)
         if output:
-            with atomic_text_output(output, mode=0o600) as fh:
+            with atomic_output(output, mode=0o600) as fh:
                 n = write_export(
-                    fh, store, unit, fmt, generated=generated, since=since, until=until
+                    cast(TextIO, fh), store, unit, fmt, generated=generated, since=since,
+                    until=until,
                 )
             click.echo(f"wrote {output} ({n} stored rows)")
             click.echo(f"Caution: {CAUTION}")

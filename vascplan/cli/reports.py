@@ -42,6 +42,7 @@ def report(case_file: str, output: str | None, paper: str, top: int | None) -> N
     case, data = case_report_pdf(case_file, paper=paper.lower(), top=top)
     path = write_output(data, output, ".", default_report_name(case.patient.ref))
     click.echo(f"wrote {path}")
+    _note_renamed(case.patient.ref, output)
 
 
 @click.command(
@@ -97,3 +98,18 @@ def checklist(
     name = default_checklist_name(shift, day, [s.ref for s in sheets] if beds else ())
     path = write_output(data, output, ".", name)
     click.echo(f"wrote {path} ({len(sheets)} patient{'s' if len(sheets) != 1 else ''})")
+    if beds and len(sheets) == 1:
+        _note_renamed(sheets[0].ref, output)
+
+
+def _note_renamed(ref: str, output: str | None) -> None:
+    """Say when a ref was not a safe file name and the default name got a hash of it."""
+    from vascplan.textsafety import ref_file_part, safe_terminal
+
+    if output is None and ref_file_part(ref)[1]:
+        click.echo(
+            safe_terminal(
+                f"note: the ref {ref!r} is not a safe file name; the file name carries a short "
+                "hash of it, so that no other patient's file is replaced"
+            )
+        )

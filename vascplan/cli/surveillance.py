@@ -10,6 +10,7 @@ import click
 from vascplan.errors import InputError
 from vascplan.fileio import atomic_write_bytes, atomic_write_text
 from vascplan.safety import CAUTION
+from vascplan.textsafety import safe_terminal
 
 MAX_HOURS = 24 * 31
 """The longest rota window [h] a command will build (a month)."""
@@ -23,9 +24,9 @@ def _emit(text: str | bytes, output: str | None) -> None:
             atomic_write_text(output, text)
         click.echo(f"wrote {output}", err=True)
     elif isinstance(text, bytes):
-        click.echo(text.decode("utf-8"), nl=False)
+        click.echo(text.decode("utf-8"), nl=False)  # iCalendar: cleaned by ical_text
     else:
-        click.echo(text, nl=False)
+        click.echo(safe_terminal(text), nl=False)
 
 
 @click.command(

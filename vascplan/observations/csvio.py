@@ -18,7 +18,9 @@ from typing import Any, TextIO
 from vascplan.errors import InputError
 from vascplan.fileio import read_text_file
 from vascplan.observations.findings import ITEMS, Finding, check_time, make_finding
+from vascplan.plausibility import check_check_time, number_problem
 from vascplan.surveillance.unit import Unit
+from vascplan.textsafety import check_row, neutralise_cell
 
 COLUMNS = ("time", "bed", "ref", "by", "item", "site", "value")
 EXPORT_COLUMNS = (*COLUMNS, "entry", "corrects", "reason", "superseded_by")
@@ -134,6 +136,7 @@ def parse_csv(path: str | os.PathLike[str], unit: Unit) -> tuple[list[Finding], 
                     src, f"line {n}", f"expected {len(COLUMNS)} columns, got {len(row)}"
                 )
             cells = dict(zip(COLUMNS, (c.strip() for c in row), strict=True))
+            check_row(src, n, cells)
             findings.append(_row_finding(cells, unit, tz, src, n))
             lines.append(n)
             f = findings[-1]
@@ -164,6 +167,8 @@ def _row_finding(cells: dict[str, str], unit: Unit, tz, src: str, n: int) -> Fin
     except InputError as exc:
         raise InputError(src, f"{where}time", exc.message) from None
     try:
+        if number_problem(cells["bed"], integer=True):  # 1_0, Arabic-Indic digits
+            raise ValueError(cells["bed"])
         bed = int(cells["bed"])
     except ValueError:
         raise InputError(
@@ -173,6 +178,7 @@ def _row_finding(cells: dict[str, str], unit: Unit, tz, src: str, n: int) -> Fin
         patient = unit.patient_at_bed(bed, src)
     except InputError as exc:
         raise InputError(src, f"{where}bed", exc.message) from None
+    check_check_time(moment, patient.device.inserted, src, f"{where}time")
     if cells["ref"] != patient.ref:
         raise InputError(
             src,
@@ -255,4 +261,4 @@ def _superseded_by(e, latest: dict[int, int]) -> int | str:  # e: Entry
 
 def _safe_cell(text: str) -> str:
     """Keep a spreadsheet from reading user text as a formula (OWASP CSV injection advice)."""
-    return "'" + text if text[:1] in ("=", "+", "-", "@", "\t", "\r") else text
+    return neutralise_cell(text)

@@ -8,12 +8,8 @@ into place: a failure part-way leaves the previous file (or none), never half of
 
 from __future__ import annotations
 
-import contextlib
-import os
-import tempfile
 from collections.abc import Iterable, Iterator
 from datetime import datetime
-from pathlib import Path
 from typing import TextIO
 
 from vascplan.observations.store import Entry, ObservationStore, stream_current
@@ -81,25 +77,3 @@ def write_export(
     else:
         write_bundle(out, unit, findings, generated)
     return rows.n
-
-
-@contextlib.contextmanager
-def atomic_text_output(path: str | os.PathLike[str], mode: int = 0o600) -> Iterator[TextIO]:
-    """A UTF-8 text file written in place of ``path`` only when the block ends without error.
-
-    The file is made with ``mode`` (default owner-only: an export holds patient refs).
-    """
-    target = Path(path)
-    target.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
-            yield fh
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.chmod(tmp, mode)
-        os.replace(tmp, target)
-    except BaseException:
-        with contextlib.suppress(FileNotFoundError):
-            os.unlink(tmp)
-        raise

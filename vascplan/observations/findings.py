@@ -238,8 +238,10 @@ def check_value(item: str, value: str) -> str:
     text = value.strip()
     if spec.numeric:
         lo, hi = spec.number_range  # type: ignore[misc]
+        from vascplan.plausibility import ascii_float
+
         try:
-            number = float(text)
+            number = ascii_float(text)
         except ValueError:
             raise ValueError(f"{item} must be a number {lo:g}-{hi:g}, got {text!r}") from None
         if number != number or not lo <= number <= hi:

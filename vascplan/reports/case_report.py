@@ -21,7 +21,7 @@ from vascplan.reports.arterial_map import LEGEND_ROWS, PT_PER_MM, draw_map, lege
 from vascplan.reports.map_input import chosen_and_runner_up, map_data
 from vascplan.reports.page import PageSetup, build_pdf, frame_box, styles
 from vascplan.reports.text import para, rich_para
-from vascplan.safety import REFERENCE_MARK
+from vascplan.safety import REFERENCE_MARK, REFERENCE_VALUES_NOTE
 
 GREY = colors.Color(0.92, 0.92, 0.92)
 LEGEND_WIDTH_PT = 150.0
@@ -633,7 +633,10 @@ def _segment_sar(s: Mapping[str, Any]) -> str:
 
 def _assumptions(items: Sequence[str]) -> list[Any]:
     st = styles()
-    out: list[Any] = [para("Assumptions: reference values used instead of measurements", st["h2"])]
+    out: list[Any] = [
+        para("Assumptions: reference values used instead of measurements", st["h2"]),
+        para(REFERENCE_VALUES_NOTE, st["cell"]),
+    ]
     if not items:
         out.append(para("None: every value used was measured.", st["cell"]))
     seen: set[str] = set()

@@ -61,12 +61,18 @@ def parse_day(text: str, source: str = "--date") -> date:
     >>> parse_day("2026-12-02")
     datetime.date(2026, 12, 2)
     """
-    if not re.fullmatch(r"\d{4}-\d{2}-\d{2}", text or ""):
+    if not re.fullmatch(r"[0-9]{4}-[0-9]{2}-[0-9]{2}", text or ""):
         raise InputError(source, "", f"{text!r} is not a date as YYYY-MM-DD, e.g. 2026-12-02")
     try:
-        return date.fromisoformat(text)
+        day = date.fromisoformat(text)
     except ValueError:
         raise InputError(source, "", f"{text!r} is not a calendar date") from None
+    from datetime import UTC, datetime, time
+
+    from vascplan.plausibility import check_review_time
+
+    check_review_time(datetime.combine(day, time(12), tzinfo=UTC), source)  # issue 18
+    return day
 
 
 def parse_bed(text: str, source: str = "--bed") -> int:
@@ -75,7 +81,11 @@ def parse_bed(text: str, source: str = "--bed") -> int:
     >>> parse_bed(" 3")
     3
     """
+    from vascplan.plausibility import number_problem
+
     try:
+        if number_problem(text, integer=True):  # only ASCII digits 0-9
+            raise ValueError(text)
         return int(text.strip())
     except ValueError:
         raise InputError(
@@ -111,21 +121,25 @@ def checklist_pdf(
 
 
 def default_report_name(ref: str) -> str:
-    """``<ref>-case-report.pdf``, the ref made safe for a file name.
+    """``<ref>-case-report.pdf``, the ref made safe and unique for a file name.
 
-    >>> default_report_name("../<b>x")
-    'b_x-case-report.pdf'
+    A ref that is not already a safe name gets a short hash of itself, so that two refs
+    never share a file (see :func:`vascplan.textsafety.ref_file_part`).
+
+    >>> default_report_name("../<b>x"), default_report_name("DEMO-07")
+    ('b_x-9f4a08e0-case-report.pdf', 'DEMO-07-case-report.pdf')
     """
-    from vascplan.fileio import safe_filename
+    from vascplan.textsafety import ref_file_part
 
-    return f"{safe_filename(ref)}-case-report.pdf"
+    return f"{ref_file_part(ref)[0]}-case-report.pdf"
 
 
 def default_checklist_name(shift: str, day: date, refs: Sequence[str] = ()) -> str:
     """``checklist-<shift>-<date>[-<ref>].pdf`` (one ref when a single bed is printed)."""
     from vascplan.fileio import safe_filename
+    from vascplan.textsafety import ref_file_part
 
-    tail = f"-{safe_filename(refs[0])}" if len(refs) == 1 else ""
+    tail = f"-{ref_file_part(refs[0])[0]}" if len(refs) == 1 else ""
     return f"checklist-{safe_filename(shift)}-{day.isoformat()}{tail}.pdf"
 
 

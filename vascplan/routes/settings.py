@@ -17,6 +17,7 @@ from functools import cache
 from vascplan.errors import InputError
 from vascplan.fileio import did_you_mean, read_document
 from vascplan.paths import data_dir
+from vascplan.plausibility import ascii_float, check_override
 
 LIMITS_FILE = "limits.yaml"
 WEIGHTS_FILE = "weights.yaml"
@@ -122,7 +123,7 @@ def parse_assignments(pairs: Iterable[str], option: str) -> dict[str, float]:
             example = "sar_max=1.0" if option == "--limit" else "crossover=2.5"
             raise InputError(option, pair, f"expected NAME=VALUE, for example {example}")
         try:
-            value = float(raw)
+            value = ascii_float(raw)  # no 6_4, no Arabic-Indic digits (issue 18)
         except ValueError:
             raise InputError(option, name, f"value must be a number (got {raw!r})") from None
         if not math.isfinite(value):
@@ -176,6 +177,9 @@ def resolve(
             value = float(value)
             if not math.isfinite(value) or value < 0:
                 raise InputError(source, where, f"must be a number at least 0 (got {value!r})")
+            kind = {"--weight": "weights", "--limit": "limits"}.get(source, field)
+            if kind in ("weights", "limits"):  # plausibility range, data/access/bounds.yaml
+                check_override(kind, name, value, source, where)
             old = out[name]
             default = table[name]
             basis = f"set to {value:g} by {source} (default {default.value:g}: {default.basis})"

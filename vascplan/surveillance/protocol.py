@@ -29,7 +29,10 @@ _NAME = r"^[A-Za-z0-9][A-Za-z0-9_-]*$"
 
 
 class _Strict(BaseModel):
-    model_config = ConfigDict(extra="forbid", frozen=True, str_strip_whitespace=True)
+    # strict: "15" is not a number of minutes, "yes" not true (issue 18)
+    model_config = ConfigDict(
+        extra="forbid", frozen=True, str_strip_whitespace=True, strict=True, allow_inf_nan=False
+    )
 
 
 Source = Field(
@@ -374,7 +377,9 @@ def load_protocol(name_or_path: str, source: str, base_dir: Path | None = None) 
     source : str
         Where the name came from (the unit file), for the error when it resolves to nothing.
     base_dir : Path, optional
-        The folder relative paths start from; the current folder when omitted.
+        The unit file's folder: relative paths start from it, and a path must stay inside
+        it or the bundled protocols (``../../etc/passwd`` is refused). Without it (a
+        library call, not a unit file) the path is taken as given.
 
     Raises
     ------
@@ -396,10 +401,20 @@ def load_protocol(name_or_path: str, source: str, base_dir: Path | None = None) 
                 f"unknown protocol {name_or_path!r}{did_you_mean(name_or_path, names)}; bundled: "
                 f"{', '.join(names)}, or give a path to a protocol file",
             )
+    elif base_dir is not None:  # named in a unit file: stays in its folder (issue 18)
+        from vascplan.fileio import path_inside
+
+        path = path_inside(
+            name_or_path,
+            [base_dir, data_dir() / "protocols"],
+            source,
+            "protocol",
+            "the unit file's folder or the bundled protocols",
+        )
     else:
         path = Path(name_or_path)
-        if not path.is_absolute() and base_dir is not None:
-            path = base_dir / path
-        if not path.is_file():
-            raise InputError(source, "protocol", f"protocol file {str(path)!r} not found")
+    if path.is_dir():
+        raise InputError(source, "protocol", f"{name_or_path!r} is a folder; give a protocol file")
+    if not path.is_file():
+        raise InputError(source, "protocol", f"protocol file {str(path)!r} not found")
     return load_model(path, Protocol)

@@ -18,6 +18,7 @@ from vascplan.safety import CAUTION, REFERENCE_MARK
 from vascplan.surveillance.protocol import Protocol
 from vascplan.surveillance.risk import RiskAssessment, load_rules
 from vascplan.surveillance.rota import UNASSIGNED, Rota, RotaCheck
+from vascplan.textsafety import ical_text, neutralise_cell
 
 PRODID = "-//vascplan//limb-check rota//EN"
 ALARM_BEFORE_MIN = 5
@@ -263,7 +264,7 @@ def rota_csv(rota: Rota) -> str:
         d = _check_dict(c)
         d["items"] = ";".join(c.items)
         d["caution"] = CAUTION
-        writer.writerow([d[name] for name in CSV_COLUMNS])
+        writer.writerow([neutralise_cell(d[name]) for name in CSV_COLUMNS])  # no formula
     text = buffer.getvalue()
     return text if rota.checks else text + f"# {CAUTION}\n"
 
@@ -311,7 +312,10 @@ def rota_ics(
     cal.add("prodid", PRODID)
     cal.add("version", "2.0")
     cal.add("calscale", "GREGORIAN")
-    cal.add("x-wr-calname", f"Limb checks, {rota.unit}" + (f", {rota.nurse}" if rota.nurse else ""))
+    cal.add(
+        "x-wr-calname",
+        ical_text(f"Limb checks, {rota.unit}" + (f", {rota.nurse}" if rota.nurse else "")),
+    )
     cal.add("x-wr-caldesc", CAUTION)
     cal.add("x-wr-timezone", rota.timezone)
     if rota.timezone not in _UTC_NAMES:  # UTC times are written with Z, no VTIMEZONE needed
@@ -336,24 +340,25 @@ def rota_ics(
             texts[items] = "\n".join(f"- {protocol.item_text(i)}" for i in items)
         ev = icalendar.Event()
         due_utc = c.due.astimezone(UTC)
-        ev.add("uid", f"{unit_key}-bed{c.bed}-{c.ref}-{due_utc:%Y%m%dT%H%M%SZ}@vascplan")
+        ref, nurse = ical_text(c.ref), ical_text(str(c.nurse))  # RFC 5545: no control chars
+        ev.add("uid", f"{unit_key}-bed{c.bed}-{ref}-{due_utc:%Y%m%dT%H%M%SZ}@vascplan")
         ev.add("dtstamp", dtstamp, encode=False)
         start = _ics_time(c.time)
         ev.add("dtstart", start)
         ev.add("dtend", (start.astimezone(UTC) + length).astimezone(start.tzinfo))
-        ev.add("summary", f"Limb check bed {c.bed} {c.ref} ({c.phase})")
+        ev.add("summary", f"Limb check bed {c.bed} {ref} ({c.phase})")
         late = "" if not c.late_min else f"\nDue {iso(c.due)}; staggered to {iso(c.time)}."
         if not c.within_window:
             late += "\nOUTSIDE its tolerance window: see the rota's unmet list."
         ev.add(
             "description",
-            f"Nurse: {c.nurse}. Tier: {c.tier}. Every {c.interval_min} min.{late}\n"
+            f"Nurse: {nurse}. Tier: {c.tier}. Every {c.interval_min} min.{late}\n"
             f"{texts[items]}\n\n{CAUTION}",
         )
         ev.add("categories", categories, encode=False)
         alarm = icalendar.Alarm()
         alarm.add("action", action, encode=False)
-        alarm.add("description", f"Limb check bed {c.bed} {c.ref}")
+        alarm.add("description", f"Limb check bed {c.bed} {ref}")
         alarm.add("trigger", trigger, encode=False)
         ev.add_component(alarm)
         cal.add_component(ev)

@@ -18,6 +18,8 @@ from pydantic import BaseModel, ConfigDict, Field, ValidationInfo, field_validat
 
 from vascplan.errors import InputError
 from vascplan.fileio import did_you_mean, load_model
+from vascplan.plausibility import TimeText, check_insertion, check_review_time
+from vascplan.textsafety import FreeText, Identifier
 
 UNIT_FORMAT = "vascplan-unit/1"
 
@@ -46,7 +48,11 @@ clinical limit; outside it the figure is almost surely a typing error (common pr
 
 
 class _Strict(BaseModel):
-    model_config = ConfigDict(extra="forbid", frozen=True, str_strip_whitespace=True)
+    # strict: "1" is not a bed number, "17" not a size, "yes" not true (issue 18); times
+    # are parsed by their own validators (TimeText, the shift's HH:MM).
+    model_config = ConfigDict(
+        extra="forbid", frozen=True, str_strip_whitespace=True, strict=True, allow_inf_nan=False
+    )
 
 
 UNIT_ID_PATTERN = r"^[a-z0-9](?:[a-z0-9-]{0,62}[a-z0-9])?$"
@@ -70,7 +76,7 @@ def unit_slug(name: str) -> str:
 
 
 class UnitInfo(_Strict):
-    name: str = Field(min_length=1, max_length=200)
+    name: Identifier = Field(min_length=1, max_length=200)
     timezone: str
     id: str | None = None
     """The unit's stable id, the key of its record in the store: renaming ``name`` keeps
@@ -119,11 +125,16 @@ class Shift(_Strict):
             value = f"{value // 60:02d}:{value % 60:02d}"
         if isinstance(value, str) and not re.fullmatch(r"\d{2}:\d{2}", value):
             raise ValueError('shift start must be HH:MM in local time, e.g. "07:30"')
+        if isinstance(value, str):
+            try:
+                return time.fromisoformat(value)
+            except ValueError:
+                raise ValueError(f"{value!r} is not a time of day (00:00-23:59)") from None
         return value
 
 
 class StaffAssignment(_Strict):
-    nurse: str = Field(min_length=1, max_length=60)
+    nurse: Identifier = Field(min_length=1, max_length=60)
     beds: list[int] = Field(min_length=1)
     shifts: list[str] = Field(min_length=1)
 
@@ -135,8 +146,8 @@ class Device(_Strict):
     size_fr: float = Field(gt=0, le=30)
     label: Literal["outer", "inner"]
     outer_mm: float | None = Field(default=None, gt=0, le=12)
-    inserted: datetime
-    removed: datetime | None = None
+    inserted: TimeText
+    removed: TimeText | None = None
 
     @property
     def limb(self) -> Literal["leg", "arm"]:
@@ -156,8 +167,8 @@ class Device(_Strict):
 
 class DistalCannula(_Strict):
     size_fr: float = Field(gt=0, le=12)
-    inserted: datetime
-    removed: datetime | None = None
+    inserted: TimeText
+    removed: TimeText | None = None
 
 
 class Baseline(_Strict):
@@ -192,13 +203,13 @@ class PatientEvent(_Strict):
     event; the check schedule re-plans from that moment.
     """
 
-    at: datetime
+    at: TimeText
     tier: Literal["standard", "raised", "high"]
-    note: str = Field(default="", max_length=300)
+    note: FreeText = Field(default="", max_length=300)
 
 
 class Patient(_Strict):
-    ref: str = Field(min_length=1, max_length=60)
+    ref: Identifier = Field(min_length=1, max_length=60)
     bed: int = Field(ge=1, le=999)
     sex: Sex = "unspecified"
     height_cm: float | None = None
@@ -287,7 +298,10 @@ class Unit(_Strict):
             base = f"patients.{i}"
             inserted = _localise(p.device.inserted, tz, source, f"{base}.device.inserted")
             assert inserted is not None  # a required field
+            check_insertion(inserted, source, f"{base}.device.inserted")
             removed = _localise(p.device.removed, tz, source, f"{base}.device.removed")
+            if removed is not None:
+                check_insertion(removed, source, f"{base}.device.removed", what="a removal")
             if removed is not None and _utc(removed) <= _utc(inserted):
                 raise InputError(
                     source, f"{base}.device.removed", "removal must come after insertion"
@@ -297,6 +311,7 @@ class Unit(_Strict):
             if p.dpc is not None:
                 d_in = _localise(p.dpc.inserted, tz, source, f"{base}.dpc.inserted")
                 assert d_in is not None  # a required field
+                check_insertion(d_in, source, f"{base}.dpc.inserted")
                 d_out = _localise(p.dpc.removed, tz, source, f"{base}.dpc.removed")
                 if _utc(d_in) < _utc(inserted):
                     raise InputError(
@@ -315,6 +330,7 @@ class Unit(_Strict):
                 field = f"{base}.events.{k}.at"
                 at = _localise(ev.at, tz, source, field)
                 assert at is not None
+                check_insertion(at, source, field, what="an event")
                 if _utc(at) < _utc(previous):
                     raise InputError(
                         source, field, "events must be in time order, at or after the insertion"
@@ -400,6 +416,7 @@ def parse_local_time(text: str, tz: ZoneInfo, source: str) -> datetime:
         ) from None
     out = _localise(value, tz, source, "")
     assert out is not None
+    check_review_time(out, source)
     return out
 
 
