@@ -56,16 +56,26 @@ def test_pg_start_serves_on_loopback_and_pg_stop_removes_it():
         pytest.skip(f"pg-start could not start a server here: {r.stderr.strip()}")
     out = dict(line.split("=", 1) for line in r.stdout.splitlines())
     url, folder = out["VASCPLAN_TEST_PG_URL"], out["VASCPLAN_PG_DIR"]
+    owner = out["VASCPLAN_TEST_PG_OWNER_URL"]
     try:
-        assert url.startswith("postgresql://vascplan:") and "@127.0.0.1:" in url
+        assert url.startswith("postgresql://vascplan_tool:") and "@127.0.0.1:" in url
+        assert owner.startswith("postgresql://vascplan_owner:") and "@127.0.0.1:" in owner
         import sqlalchemy as sa
 
         from vascplan.observations.store import resolve_db
 
-        engine = sa.create_engine(resolve_db(url)[0])
-        with engine.connect() as conn:
-            assert conn.exec_driver_sql("SELECT current_database()").scalar() == "vascplan_test"
-        engine.dispose()
+        for u in (url, owner):
+            engine = sa.create_engine(resolve_db(u)[0])
+            with engine.connect() as conn:
+                assert conn.exec_driver_sql("SELECT current_database()").scalar() == (
+                    "vascplan_test"
+                )
+                # Only the owner may change the schema (PostgreSQL has_database_privilege).
+                may_create = conn.exec_driver_sql(
+                    "SELECT has_database_privilege(current_database(), 'CREATE')"
+                ).scalar()
+                assert may_create is (u == owner)
+            engine.dispose()
     finally:
         stop = _run("pg-stop", folder, env=dict(os.environ))
     assert stop.returncode == 0

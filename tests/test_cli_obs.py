@@ -158,7 +158,7 @@ def test_add_then_correct_then_export_csv(tmp_path, db_url):  # noqa: F811
     with open_store(db_url) as store:
         nirs_r = next(
             e.id
-            for e in store.entries("Cardiac critical care (demo)")
+            for e in store.entries("cardiac-critical-care-demo")  # the id from its name
             if (e.item, e.site) == ("nirs", "R")
         )
     r = run(
@@ -168,8 +168,10 @@ def test_add_then_correct_then_export_csv(tmp_path, db_url):  # noqa: F811
         nirs_r,
         "--value",
         "66",
+        "--unit",
+        U,
         "--by",
-        "RN-B",
+        "RN-A",
         "--reason",
         "misread",
         "--db",
@@ -187,7 +189,7 @@ def test_add_then_correct_then_export_csv(tmp_path, db_url):  # noqa: F811
     assert (orig["value"], orig["by"], orig["superseded_by"]) == ("60", "RN-A", fix["entry"])
     assert (fix["value"], fix["by"], fix["reason"], fix["item"], fix["site"]) == (
         "66",
-        "RN-B",
+        "RN-A",  # the unit file's one nurse corrects her own entry
         "misread",
         "nirs",
         "R",
@@ -248,8 +250,9 @@ def test_add_wrong_bed(tmp_path):
 
 def test_correct_needs_value_or_withdraw(tmp_path):
     r = run(
-        "obs", "correct", "--entry", 1, "--by", "RN-B", "--reason", "x", "--db", tmp_path / "o.db"
-    )
+        "obs", "correct", "--entry", 1, "--by", "RN-A", "--reason", "x", "--unit", U,
+        "--db", tmp_path / "o.db",
+    )  # fmt: skip
     assert (r.exit_code, r.output) == (2, "error: --value: give either --value or --withdraw\n")
 
 
@@ -394,7 +397,8 @@ def test_export_marks_every_superseded_row(tmp_path):
     p = _csv(tmp_path, ["2026-12-01T16:00,1,DEMO-11,RN-A,nirs,L,60"])
     assert run("obs", "import", p, "--unit", U, "--db", db).exit_code == 0
     for args in (["--value", "62"], ["--withdraw"]):
-        r = run("obs", "correct", "--entry", 1, *args, "--by", "RN-B", "--reason", "r", "--db", db)
+        r = run("obs", "correct", "--entry", 1, *args, "--unit", U, "--by", "RN-A", "--reason",
+                "r", "--db", db)  # fmt: skip
         assert r.exit_code == 0, r.output
     r = run("obs", "export", "--unit", U, "--format", "csv", "--db", db)
     rows = list(csv.DictReader(io.StringIO(r.output)))

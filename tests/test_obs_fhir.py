@@ -47,8 +47,10 @@ def test_fhir_bundle_validates_and_carries_codes(tmp_path, db_url):  # noqa: F81
             1,
             "--value",
             "61",
+            "--unit",
+            UNIT,
             "--by",
-            "RN-B",
+            "RN-A",
             "--reason",
             "misread",
             "--db",
@@ -63,8 +65,10 @@ def test_fhir_bundle_validates_and_carries_codes(tmp_path, db_url):  # noqa: F81
             "--entry",
             3,
             "--withdraw",
+            "--unit",
+            UNIT,
             "--by",
-            "RN-B",
+            "RN-A",
             "--reason",
             "wrong bed",
             "--db",
@@ -182,8 +186,8 @@ def _store_with_three_times(tmp_path, db_url):  # noqa: F811
     p = tmp_path / "c.csv"
     p.write_text(THREE_TIMES)
     assert run("obs", "import", p, "--unit", UNIT, "--db", db_url).exit_code == 0
-    r = run("obs", "correct", "--entry", 2, "--value", "60", "--by", "RN-B", "--reason", "misread",
-            "--db", db_url)  # fmt: skip
+    r = run("obs", "correct", "--entry", 2, "--value", "60", "--unit", UNIT, "--by", "RN-A",
+            "--reason", "misread", "--db", db_url)  # fmt: skip
     assert r.exit_code == 0, r.output
 
 

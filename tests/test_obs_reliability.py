@@ -15,7 +15,7 @@ from tests.obs_fixtures import UNIT, db_url  # noqa: F401 - fixture
 from vascplan.observations.store import SCHEMA_VERSION, open_store
 
 ROOT = Path(__file__).resolve().parent.parent
-UNIT_NAME = "Cardiac critical care (demo)"
+UNIT_NAME = "cardiac-critical-care-demo"  # the unit id its file gets from its name
 BIG_ROWS = 6000
 
 
@@ -50,7 +50,7 @@ PAUSING_IMPORT = textwrap.dedent("""
             Path(marker).write_text(str(sent))
             time.sleep(60)
     with open_store(db) as store:
-        store.record(findings, unit=unit.unit.name, kind="import", source=csv_path,
+        store.record(findings, unit=unit.unit.key, kind="import", source=csv_path,
                      progress=progress)
 """)
 

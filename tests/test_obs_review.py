@@ -34,7 +34,7 @@ def _store(tmp_path, rows, name="o.db"):
         )
         for m, i, s, v in rows
     ]
-    store.record(findings, unit=unit.unit.name, kind="add", source="t")
+    store.record(findings, unit=unit.unit.key, kind="add", source="t")
     return store
 
 
@@ -130,11 +130,11 @@ def test_a_correction_changes_the_review(tmp_path):
     store = _store(tmp_path, [(0, "calf", "R", "tense")])
     _, alerts = _alerts(store)
     assert ("calf-tense", "R") in alerts
-    entry = store.entries(unit.unit.name)[0].id
+    entry = store.entries(unit.unit.key)[0].id
     store.correct(entry, "soft", by="RN-B", reason="wrong leg ticked")
     _, alerts = _alerts(store)
     assert ("calf-tense", "R") not in alerts
-    assert [e.value for e in store.entries(unit.unit.name)] == ["tense", "soft"]
+    assert [e.value for e in store.entries(unit.unit.key)] == ["tense", "soft"]
 
 
 # Everything the standard protocol asks at a check of bed 1 (femoral VA-ECMO, NIRS baseline,

@@ -54,8 +54,8 @@ def test_import_then_export_gives_the_same_findings(rows):
         )
         findings, lines = parse_csv(path, unit)
         with open_store(str(Path(tmp) / "o.db")) as store:
-            store.record(findings, unit=unit.unit.name, kind="import", source="c.csv", lines=lines)
-            out = list(csv.DictReader(io.StringIO(export_rows(store.entries(unit.unit.name)))))
+            store.record(findings, unit=unit.unit.key, kind="import", source="c.csv", lines=lines)
+            out = list(csv.DictReader(io.StringIO(export_rows(store.entries(unit.unit.key)))))
     got = sorted((r["time"][:16], r["item"], r["site"], r["value"]) for r in out)
     assert got == sorted(rows)
 

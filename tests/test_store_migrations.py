@@ -13,7 +13,7 @@ import pytest
 import sqlalchemy as sa
 from click.testing import CliRunner
 
-from tests.obs_fixtures import UNIT, db_url  # noqa: F401 - fixture
+from tests.obs_fixtures import UNIT, db_urls  # noqa: F401 - fixture
 from vascplan.cli import cli
 from vascplan.errors import InputError, StoreError
 from vascplan.observations import migrations
@@ -24,7 +24,10 @@ from vascplan.observations.store import open_store, resolve_db
 
 RELEASED = UNIT.parent / "data" / "store_v3_d11926a.sql"
 T0 = datetime(2026, 12, 1, 16, 0, tzinfo=UTC)
-QUERY_INDEXES = {"obs_entry_unit_time", "obs_entry_batch"}
+QUERY_INDEXES = {"obs_entry_unit_id_time", "obs_entry_batch", "obs_entry_unit_ref_time"}
+"""Batch id (migration 4); unit id and instant, unit id, ref and instant (5, which moved the
+keys from the unit's display name to its stable id)."""
+OLD_QUERY_INDEXES = {"obs_entry_unit_time", "obs_entry_batch"}
 """Made by migration 4: unit and instant; batch id (the duplicate key's index is from 3)."""
 
 
@@ -63,6 +66,13 @@ def _old_store(db: str, version: int) -> None:
                     "(SELECT id FROM obs_entry WHERE site = 'R'), 'misread', "
                     "'2026-12-01T22:05:00+00:00')",
                 ):
+                    if version >= 5:  # a store at 5 keys its rows by unit id, as its vascplan did
+                        sql = sql.replace("(kind, ", "(unit_id, kind, ").replace(
+                            "(batch_id, ", "(unit_id, batch_id, "
+                        )
+                        sql = sql.replace("VALUES ('", "VALUES ('u', '").replace(
+                            "VALUES ((", "VALUES ('u', ("
+                        )
                     conn.exec_driver_sql(sql)
     finally:
         engine.dispose()
@@ -78,9 +88,7 @@ def _assert_latest_and_guarded(store) -> None:  # type: ignore[no-untyped-def]
     with store.engine.connect() as conn:
         versions = conn.exec_driver_sql("SELECT version FROM schema_version ORDER BY version")
         assert versions.scalars().all() == list(range(1, SCHEMA_VERSION + 1))
-    assert QUERY_INDEXES | {"obs_entry_patient_time", "obs_entry_one_original"} <= _index_names(
-        store
-    )
+    assert QUERY_INDEXES | {"obs_entry_one_original"} <= _index_names(store)
     # A row-level trigger fires only on a row: make sure there is one.
     guard = make_finding(
         time=T0.replace(hour=18), bed=2, ref="DEMO-12", by="RN-A", item="nirs", site="L",
@@ -128,45 +136,49 @@ def test_released_store_upgrades_in_place(tmp_path):
     with open_store(str(path)) as store:
         _assert_latest_and_guarded(store)
         # The record is untouched: two findings, the right one corrected 61 -> 59.
-        now = {(f.site, f.value) for f in store.current("DEMO ward")}
+        # Migration 5 keys them by the id of a unit file named "DEMO ward" without `id`.
+        now = {(f.site, f.value) for f in store.current("demo-ward")}
         assert now == {("L", "64"), ("R", "59")}
-        assert [e.id for e in store.entries("DEMO ward")] == [1, 2, 3]
+        assert [e.id for e in store.entries("demo-ward")] == [1, 2, 3]
         # Writes work on the upgraded store, and the duplicate key still holds.
         later = make_finding(
             time=T0.replace(hour=17), bed=1, ref="DEMO-11", by="RN-A", item="nirs",
             site="L", value="63", source="t",
         )  # fmt: skip
-        assert store.record([later], unit="DEMO ward", kind="add", source="t") == [5]
+        assert store.record([later], unit="demo-ward", kind="add", source="t") == [5]
         with pytest.raises(InputError, match="already stored"):
-            store.record([later], unit="DEMO ward", kind="add", source="t")
+            store.record([later], unit="demo-ward", kind="add", source="t")
 
 
 @pytest.mark.parametrize("version", range(SCHEMA_VERSION))
-def test_upgrade_from_every_earlier_version(db_url, version):  # noqa: F811
-    _old_store(db_url, version)
-    with open_store(db_url) as store:
+def test_upgrade_from_every_earlier_version(db_urls, version):  # noqa: F811
+    _tool_url, owner_url = db_urls  # migrations run as the tables' owner
+    _old_store(owner_url, version)
+    with open_store(owner_url) as store:
         _assert_latest_and_guarded(store)
+        # Migration 5 keys the old rows by the id a unit file named "U" defaults to: "u".
         if version >= 1:
-            assert {(f.site, f.value) for f in store.current("U")} == {("L", "64"), ("R", "59")}
-            assert store.count("U") == 3
+            assert {(f.site, f.value) for f in store.current("u")} == {("L", "64"), ("R", "59")}
+            assert store.count("u") == 3
         else:
-            assert store.count("U") == 0
+            assert store.count("u") == 0
 
 
 def test_one_transaction_per_migration(tmp_path, monkeypatch):
-    # A failing migration 5 rolls back alone: 1-4 stay applied and the store stays usable.
+    # A failing migration rolls back alone: the earlier stay applied and the store is usable.
     def broken(conn):  # type: ignore[no-untyped-def]
         conn.exec_driver_sql("CREATE INDEX obs_entry_extra ON obs_entry (item)")
         conn.exec_driver_sql("CREATE INDEX broken ON no_such_table (x)")
 
-    monkeypatch.setattr(migrations, "MIGRATIONS", [*MIGRATIONS, (5, "broken", broken)])
-    monkeypatch.setattr(migrations, "SCHEMA_VERSION", 5)
+    broken_at = SCHEMA_VERSION + 1
+    monkeypatch.setattr(migrations, "MIGRATIONS", [*MIGRATIONS, (broken_at, "broken", broken)])
+    monkeypatch.setattr(migrations, "SCHEMA_VERSION", broken_at)
     db = str(tmp_path / "o.db")
     with pytest.raises(StoreError):
         open_store(db)
     monkeypatch.undo()
     with open_store(db) as store:
-        assert store.version() == 4
+        assert store.version() == SCHEMA_VERSION
         assert "obs_entry_extra" not in _index_names(store)
 
 
@@ -190,7 +202,7 @@ def test_newer_store_is_refused_and_left_alone(tmp_path):
     conn = sqlite3.connect(db)
     names = {r[0] for r in conn.execute("SELECT name FROM sqlite_master WHERE type = 'index'")}
     conn.close()
-    assert not QUERY_INDEXES & names
+    assert not OLD_QUERY_INDEXES & names
     # The command line: one line, exit 2 (the project's rule for an input it cannot use).
     r = CliRunner().invoke(
         cli, ["obs", "export", "--unit", str(UNIT), "--format", "csv", "--db", db]
@@ -230,20 +242,21 @@ def test_writes_and_windows_search_indexes_instead_of_scanning(tmp_path):
             source="t",
         )  # fmt: skip
         plans = _plans(store, lambda: store.record([f], unit="U", kind="add", source="t"))
-        assert len(plans) == 2  # the duplicate check and the ids of the new batch
-        assert "USING INDEX obs_entry_unit_time (unit=? AND time_utc=?)" in plans[0]
+        # the duplicate check, the chain's last entry (by primary key), the new batch's ids
+        assert len(plans) == 3
+        assert "SEARCH obs_entry USING INTEGER PRIMARY KEY (rowid=?)" in plans[1]
+        del plans[1]
+        assert "USING INDEX obs_entry_unit_id_time (unit_id=? AND time_utc=?)" in plans[0]
         assert "INDEX obs_entry_batch (batch_id=?)" in plans[1]
         plans += _plans(store, lambda: store.entries("U", since=T0, until=T0))
         plans += _plans(store, lambda: store.current_by_ref("U", {"DEMO-11": T0}, until=T0))
-        assert "obs_entry_unit_time (unit=? AND time_utc>? AND time_utc<?)" in plans[2]
-        assert (
-            "USING INDEX obs_entry_patient_time (unit=? AND ref=? AND time_utc>? AND" in (plans[3])
-        )
+        assert "obs_entry_unit_id_time (unit_id=? AND time_utc>? AND time_utc<?)" in plans[2]
+        assert "INDEX obs_entry_unit_ref_time (unit_id=? AND ref=? AND time_utc>? AND" in plans[3]
         # The export's keyset pages: the second page starts inside the index on unit and time.
         store.record([later_finding(f)], unit="U", kind="add", source="t")
         pages = _plans(store, lambda: list(store.iter_entries("U", chunk=1)))
         assert len(pages) == 3  # two rows, one a page, then an empty page
-        assert "USING INDEX obs_entry_unit_time (unit=? AND time_utc>?)" in pages[1]
+        assert "USING INDEX obs_entry_unit_id_time (unit_id=? AND time_utc>?)" in pages[1]
         for plan in plans + pages:
             assert "SCAN obs_entry" not in plan, plan
 

@@ -138,7 +138,7 @@ def _store_with(tmp_path, unit, times: list[datetime], name: str = "o.db"):
         for t in times
         for item, site, value in SHEATH_CHECK
     ]
-    store.record(findings, unit=unit.unit.name, kind="add", source="t")
+    store.record(findings, unit=unit.unit.key, kind="add", source="t")
     return store
 
 
@@ -456,8 +456,8 @@ def test_csv_import_keeps_both_readings_of_the_repeated_half_hour(tmp_path):
         _z("2026-10-25T01:30+00:00"),
     ]
     store = open_store(str(tmp_path / "o.db"))
-    store.record(findings, unit=unit.unit.name, kind="import", source="c.csv")
-    stored = store.entries(unit.unit.name)
+    store.record(findings, unit=unit.unit.key, kind="import", source="c.csv")
+    stored = store.entries(unit.unit.key)
     assert [e.time_local for e in stored] == [
         "2026-10-25T01:30:00+01:00",
         "2026-10-25T01:30:00+00:00",

@@ -101,6 +101,47 @@ def _unit(path: str):
     return load_unit(path)
 
 
+def _note(text: str) -> None:
+    """A note on standard error, at a terminal only (captured output stays the data alone)."""
+    if _stderr_is_terminal():
+        click.echo(f"note: {text}", err=True)
+
+
+def _unit_notes(unit, unit_path: str, store) -> None:
+    """Say when the unit file has no ``id``, or names a unit the store does not know."""
+    from vascplan.observations.integrity import units_on_record
+
+    key = unit.unit.key
+    if unit.unit.id is None:
+        _note(
+            f"{unit_path}: the unit has no `id`; its record is kept under {key!r} (from its "
+            f"name): add `id: {key}` under `unit:` so that renaming the unit keeps its record"
+        )
+    known = units_on_record(store)
+    if known and key not in known:
+        same = [uid for uid, name in known.items() if name.casefold() == unit.unit.name.casefold()]
+        hint = f"; {unit.unit.name!r} is on record as unit id {same[0]!r}" if same else ""
+        _note(
+            f"the store {store.shown} has no record of unit id {key!r} (it holds "
+            f"{', '.join(sorted(known))}){hint}: check the unit file's `id`"
+        )
+
+
+def _check_author(unit, by: str, source: str = "--by", field: str = "") -> str:
+    """``by`` must be one of the unit's staff (its unit file), until a sign-in supplies it."""
+    staff = sorted({a.nurse for a in unit.staff})
+    name = by.strip()
+    if not staff:
+        raise InputError(
+            source, field, "the unit file lists no staff: add them under `staff:` to record checks"
+        )
+    if name not in staff:
+        raise InputError(
+            source, field, f"{name!r} is not on the unit's staff; allowed: {', '.join(staff)}"
+        )
+    return name
+
+
 _ITEM_OPTIONS = [
     (
         "pulse",
@@ -190,6 +231,7 @@ def add(
     from vascplan.plausibility import now as plausible_now
 
     unit = _unit(unit_path)
+    by = _check_author(unit, by)
     patient = unit.patient_at_bed(bed)
     said = ""
     if time_text is None or time_text.strip().lower() == "now":
@@ -221,7 +263,10 @@ def add(
         if keys.index(key) != i:
             raise InputError(f"--{key[0]}", "", f"site {key[1] or '(none)'} is given twice")
     with open_store(db) as store:
-        ids = store.record(findings, unit=unit.unit.name, kind="add", source="obs add")
+        _unit_notes(unit, unit_path, store)
+        ids = store.record(
+            findings, unit=unit.unit.key, unit_name=unit.unit.name, kind="add", source="obs add"
+        )
     click.echo(
         f"stored {len(ids)} findings for bed {bed} ({patient.ref}) at "
         f"{moment.isoformat()}{said}: entries {ids[0]}-{ids[-1]} in {store.shown}"
@@ -262,9 +307,17 @@ def import_(csv_path: str, unit_path: str, db: str | None) -> None:
 
     unit = _unit(unit_path)
     findings, lines = parse_csv(csv_path, unit)
+    for f, line in zip(findings, lines, strict=True):
+        _check_author(unit, f.by, csv_path, f"line {line}, column by")
     with open_store(db) as store:
+        _unit_notes(unit, unit_path, store)
         ids = store.record(
-            findings, unit=unit.unit.name, kind="import", source=csv_path, lines=lines
+            findings,
+            unit=unit.unit.key,
+            unit_name=unit.unit.name,
+            kind="import",
+            source=csv_path,
+            lines=lines,
         )
     click.echo(f"stored {len(ids)} findings from {csv_path} in {store.shown}")
 
@@ -312,7 +365,7 @@ def template(output: str | None, guide: bool, db: str | None) -> None:
 @obs.command(
     "correct",
     epilog=(
-        "Example: vascplan obs correct --entry 42 --value 61 --by RN-B "
+        "Example: vascplan obs correct --unit unit.yaml --entry 42 --value 61 --by RN-B "
         '--reason "misread the monitor"'
     ),
 )
@@ -326,20 +379,41 @@ def template(output: str | None, guide: bool, db: str | None) -> None:
 @click.option("--value", default=None, help="The right value (same vocabulary as the item).")
 @click.option("--withdraw", is_flag=True, help="Mark the finding as entered in error instead.")
 @click.option(
-    "--by", "by", required=True, callback=_identifier, help="Who makes the correction."
+    "--by",
+    "by",
+    required=True,
+    callback=_identifier,
+    help="Who makes the correction (one of the unit's staff).",
 )
 @click.option("--reason", required=True, callback=_free_text, help="Why.")
+@click.option(
+    "--unit",
+    "unit_path",
+    required=True,
+    type=click.Path(dir_okay=False),
+    help="Unit file: the entry must be this unit's and --by one of its staff.",
+)
 @_db_option
 def correct(
-    entry_id: int, value: str | None, withdraw: bool, by: str, reason: str, db: str | None
+    entry_id: int,
+    value: str | None,
+    withdraw: bool,
+    by: str,
+    reason: str,
+    unit_path: str,
+    db: str | None,
 ) -> None:
     """Correct a stored finding: a new entry pointing to it; the original is kept."""
     from vascplan.observations.store import open_store
 
     if withdraw == (value is not None):
         raise InputError("--value", "", "give either --value or --withdraw")
+    unit = _unit(unit_path)
+    by = _check_author(unit, by)
     with open_store(db) as store:
-        new_id = store.correct(entry_id, value or "", by=by, reason=reason, withdraw=withdraw)
+        new_id = store.correct(
+            entry_id, value or "", by=by, reason=reason, withdraw=withdraw, unit=unit.unit.key
+        )
     click.echo(f"stored correction {new_id} of entry {entry_id} in {store.shown}")
 
 
@@ -366,6 +440,7 @@ def review(unit_path: str, at_text: str | None, fmt: str, db: str | None) -> Non
     unit = _unit(unit_path)
     at = _at(at_text, unit)
     with _open_for_reading(db) as store:
+        _unit_notes(unit, unit_path, store)
         result = review_unit(unit, store, at, base_dir=_base_dir(unit_path))
     if fmt == "json":
         click.echo(safe_terminal(json.dumps(to_json(result), indent=2, ensure_ascii=False)))
@@ -400,6 +475,7 @@ def trend(
         raise InputError(unit_path, "patients", "the unit file has no patients")
     at = _at(at_text, unit)
     with _open_for_reading(db) as store:
+        _unit_notes(unit, unit_path, store)
         write_trend_pdf(unit, store, patients, at, output, base_dir=_base_dir(unit_path))
     click.echo(f"wrote {output} ({len(patients)} pages)")
 
@@ -469,6 +545,7 @@ def export(
         )
     generated = datetime.now(UTC)
     with _open_for_reading(db) as store:
+        _unit_notes(unit, unit_path, store)
         if output:
             with atomic_output(output, mode=0o600) as fh:
                 n = write_export(
@@ -491,6 +568,52 @@ def export(
     # on stderr, never into a captured stream that a script parses.
     if fmt == "csv" and sys.stderr.isatty():
         click.echo(f"Caution: {CAUTION}", err=True)
+
+
+@obs.command(
+    "verify",
+    epilog=(
+        "Exit status: 0 the record is intact, 1 it is not (the line names the first altered "
+        "entry or the missing guard), 2 bad input.\n\nExample: vascplan obs verify --db obs.db"
+    ),
+)
+@click.option(
+    "--head",
+    default=None,
+    metavar="SHA256",
+    help="A chain head noted from an earlier verify: it must still be in the record.",
+)
+@_db_option
+def verify(head: str | None, db: str | None) -> None:
+    """Prove the record unbroken (hash chain, guard triggers, batch sizes) or name the break."""
+    import re
+
+    from vascplan.observations.integrity import verify as verify_record
+
+    if head is not None and not re.fullmatch(r"[0-9a-f]{64}", head):
+        raise InputError("--head", "", "give the 64 hexadecimal digits printed by obs verify")
+    with _open_for_reading(db) as store:
+        verdict = verify_record(store, head)
+    click.echo(verdict.line)
+    sys.exit(0 if verdict.intact else 1)
+
+
+@obs.command(
+    "migrate",
+    epilog=(
+        "Example: vascplan obs migrate --db postgresql://vascplan_owner@db.example/obs\n\n"
+        "On PostgreSQL run it as the role that owns the tables; the everyday role may "
+        "only add and read records."
+    ),
+)
+@_db_option
+def migrate(db: str | None) -> None:
+    """Create or upgrade the store's schema to this vascplan's version (as its owner)."""
+    from vascplan.observations.store import SCHEMA_VERSION, open_store
+
+    with open_store(db) as store:
+        version = store.version()
+    click.echo(f"{store.shown} is at schema version {version} (this vascplan: {SCHEMA_VERSION})")
 
 
 def _at(text: str | None, unit) -> datetime:

@@ -36,7 +36,14 @@ def step_observations(ctx: DemoContext) -> None:
     findings, lines = parse_csv(ctx.examples / DEMO_CHECKS, unit)
     protocol = unit_protocol(unit, unit_path.parent)
     with tempfile.TemporaryDirectory() as tmp, open_store(str(Path(tmp) / "demo.db")) as store:
-        store.record(findings, unit=unit.unit.name, kind="import", source=DEMO_CHECKS, lines=lines)
+        store.record(
+            findings,
+            unit=unit.unit.key,
+            unit_name=unit.unit.name,
+            kind="import",
+            source=DEMO_CHECKS,
+            lines=lines,
+        )
         ctx.say(f"  imported {len(findings)} invented findings from {DEMO_CHECKS}")
         result = review_unit(unit, store, at, protocol=protocol)
         ctx.write_text("observations-review.txt", render_table(result) + "\n")
@@ -44,14 +51,14 @@ def step_observations(ctx: DemoContext) -> None:
             "observations-review.json",
             json.dumps(to_json(result), indent=2, ensure_ascii=False) + "\n",
         )
-        current = store.current(unit.unit.name, until=at)
+        current = store.current(unit.unit.key, until=at)
         beds = sorted({f.entry.bed for f in current})
         trends = [
             patient_trend(unit, p, protocol, [f for f in current if f.entry.ref == p.ref], at)
             for p in (unit.patient_at_bed(b) for b in beds)
         ]
         ctx.write_bytes("observations-trend.pdf", render_trend_pdf(unit, protocol, trends, at))
-        rows = store.entries(unit.unit.name)
+        rows = store.entries(unit.unit.key)
         doc = bundle(unit, rows, generated=datetime.now(UTC))
         ctx.write_text(
             "observations-fhir.json", json.dumps(doc, indent=2, ensure_ascii=False) + "\n"

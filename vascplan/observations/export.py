@@ -63,7 +63,7 @@ def write_export(
     int
         The stored rows read (originals and corrections).
     """
-    rows = _Counted(store.iter_entries(unit.unit.name, since=since, until=until))
+    rows = _Counted(store.iter_entries(unit.unit.key, since=since, until=until))
     if fmt == "csv":
         from vascplan.observations.csvio import write_export as write_csv
 

@@ -9,7 +9,10 @@ vascplan knows is refused before anything is touched.
 
 from __future__ import annotations
 
-from collections.abc import Callable
+import contextlib
+import re
+import unicodedata
+from collections.abc import Callable, Iterator
 from datetime import UTC, datetime
 
 import sqlalchemy as sa
@@ -36,6 +39,7 @@ batches = sa.Table(
     sa.Column("unit", sa.Text, nullable=False),
     sa.Column("entered_at", sa.Text, nullable=False),
     sa.Column("rows", sa.Integer, nullable=False),
+    sa.Column("unit_id", sa.Text, nullable=True),  # migration 5; set on every new batch
 )
 
 entries = sa.Table(
@@ -55,11 +59,15 @@ entries = sa.Table(
     sa.Column("corrects", sa.Integer, sa.ForeignKey("obs_entry.id"), nullable=True),
     sa.Column("reason", sa.Text, nullable=True),
     sa.Column("entered_at", sa.Text, nullable=False),
+    sa.Column("unit_id", sa.Text, nullable=True),  # the unit's stable id (migration 5)
+    sa.Column("prev_hash", sa.Text, nullable=True),  # the hash chain (migration 6)
+    sa.Column("entry_hash", sa.Text, nullable=True),
 )
 """The entry table as the queries see it. Its indexes are made by the migrations only:
-``obs_entry_patient_time`` (unit, ref, time; migration 1), ``obs_entry_one_original`` (the
-duplicate key; 3), ``obs_entry_unit_time`` (unit, time) and ``obs_entry_batch`` (batch
-id; 4)."""
+``obs_entry_batch`` (batch id; migration 4), and since migration 5, which moved the keys
+from the unit's display name to its stable id: ``obs_entry_one_original`` (the duplicate
+key), ``obs_entry_unit_ref_time`` (unit id, ref, time) and ``obs_entry_unit_id_time``
+(unit id, time)."""
 
 
 # ---------------------------------------------------------------------------
@@ -147,12 +155,135 @@ def _m4_query_indexes(conn: Connection) -> None:
     conn.exec_driver_sql("CREATE INDEX obs_entry_batch ON obs_entry (batch_id)")
 
 
+@contextlib.contextmanager
+def _guards_lifted(conn: Connection, tables: tuple[str, ...]) -> Iterator[None]:
+    """Let a migration fill a new column of existing rows, inside its own transaction.
+
+    The update guards of ``tables`` are dropped (SQLite) or disabled (PostgreSQL, which
+    only the tables' owner may do) and put back before the migration commits.
+    """
+    pg = conn.dialect.name == "postgresql"
+    for table in tables:
+        if pg:
+            conn.exec_driver_sql(f"ALTER TABLE {table} DISABLE TRIGGER {table}_append_only")
+        else:
+            conn.exec_driver_sql(f"DROP TRIGGER {table}_no_update")
+    yield
+    for table in tables:
+        if pg:
+            conn.exec_driver_sql(f"ALTER TABLE {table} ENABLE TRIGGER {table}_append_only")
+        else:
+            conn.exec_driver_sql(
+                next(
+                    g for g in _SQLITE_GUARDS if g.startswith(f"CREATE TRIGGER {table}_no_update ")
+                )
+            )
+
+
+def _m5_slug(name: str) -> str:
+    # Frozen copy of vascplan.surveillance.unit.unit_slug as released with migration 5
+    # (tests check that the two agree): old records get the id an old unit file defaults to.
+    folded = unicodedata.normalize("NFKD", name).encode("ascii", "ignore").decode("ascii")
+    slug = re.sub(r"[^a-z0-9]+", "-", folded.lower()).strip("-")[:64].strip("-")
+    return slug or "unit"
+
+
+def _m5_unit_ids(conn: Connection) -> None:
+    # Records are keyed by the unit's stable id, not its display name: a new column on
+    # batches and entries, filled for old rows from the name (the id a unit file without
+    # ``id`` gets), and the duplicate key and the query indexes moved onto it.
+    for table in ("obs_batch", "obs_entry"):
+        conn.exec_driver_sql(f"ALTER TABLE {table} ADD COLUMN unit_id TEXT")
+    with _guards_lifted(conn, ("obs_batch", "obs_entry")):
+        for table in ("obs_batch", "obs_entry"):
+            names = conn.exec_driver_sql(f"SELECT DISTINCT unit FROM {table}").scalars().all()
+            for name in names:
+                conn.execute(
+                    sa.text(f"UPDATE {table} SET unit_id = :id WHERE unit = :name"),
+                    {"id": _m5_slug(name), "name": name},
+                )
+    for index in ("obs_entry_one_original", "obs_entry_patient_time", "obs_entry_unit_time"):
+        conn.exec_driver_sql(f"DROP INDEX {index}")
+    conn.exec_driver_sql(
+        "CREATE UNIQUE INDEX obs_entry_one_original ON obs_entry "
+        "(unit_id, bed, time_utc, item, site) WHERE corrects IS NULL"
+    )
+    conn.exec_driver_sql(
+        "CREATE INDEX obs_entry_unit_ref_time ON obs_entry (unit_id, ref, time_utc)"
+    )
+    conn.exec_driver_sql("CREATE INDEX obs_entry_unit_id_time ON obs_entry (unit_id, time_utc)")
+
+
+_SQLITE_INSERT_GUARDS = [
+    # REPLACE conflict resolution (INSERT OR REPLACE, REPLACE INTO) deletes the colliding
+    # row without firing its DELETE trigger: refuse any insert that would collide instead.
+    "CREATE TRIGGER obs_entry_no_replace BEFORE INSERT ON obs_entry "
+    "WHEN EXISTS (SELECT 1 FROM obs_entry WHERE id = NEW.id) "
+    "OR (NEW.corrects IS NULL AND EXISTS (SELECT 1 FROM obs_entry WHERE corrects IS NULL "
+    "AND unit_id = NEW.unit_id AND bed = NEW.bed AND time_utc = NEW.time_utc "
+    "AND item = NEW.item AND site = NEW.site)) "
+    "BEGIN SELECT RAISE(ABORT, 'observation record is append-only'); END",
+    "CREATE TRIGGER obs_entry_chained BEFORE INSERT ON obs_entry "
+    "WHEN NEW.unit_id IS NULL OR NEW.prev_hash IS NULL OR NEW.entry_hash IS NULL "
+    "BEGIN SELECT RAISE(ABORT, 'an entry needs its unit id and chain hashes'); END",
+    "CREATE TRIGGER obs_batch_no_replace BEFORE INSERT ON obs_batch "
+    "WHEN EXISTS (SELECT 1 FROM obs_batch WHERE id = NEW.id) "
+    "BEGIN SELECT RAISE(ABORT, 'observation record is append-only'); END",
+    "CREATE TRIGGER schema_version_no_replace BEFORE INSERT ON schema_version "
+    "WHEN EXISTS (SELECT 1 FROM schema_version WHERE version = NEW.version) "
+    "BEGIN SELECT RAISE(ABORT, 'observation record is append-only'); END",
+]
+
+_PG_CHAIN_CHECKS = [
+    "ALTER TABLE obs_entry ADD CONSTRAINT obs_entry_chained CHECK "
+    "(unit_id IS NOT NULL AND prev_hash IS NOT NULL AND entry_hash IS NOT NULL)",
+    "ALTER TABLE obs_batch ADD CONSTRAINT obs_batch_unit_id CHECK (unit_id IS NOT NULL)",
+]
+
+
+def _m6_hash_chain(conn: Connection) -> None:
+    # Every entry carries the hash of the one before it (vascplan.observations.chain):
+    # two new columns, filled for old rows in id order; and on SQLite, inserts that would
+    # replace a stored row refused.
+    from vascplan.observations.chain import GENESIS, link
+
+    for column in ("prev_hash", "entry_hash"):
+        conn.exec_driver_sql(f"ALTER TABLE obs_entry ADD COLUMN {column} TEXT")
+    rows = [dict(r._mapping) for r in conn.exec_driver_sql("SELECT * FROM obs_entry ORDER BY id")]
+    with _guards_lifted(conn, ("obs_entry",)):
+        prev = GENESIS
+        for row in rows:
+            prev = link([row], row["id"], prev)
+            conn.execute(
+                sa.text("UPDATE obs_entry SET prev_hash = :p, entry_hash = :h WHERE id = :id"),
+                {"p": row["prev_hash"], "h": row["entry_hash"], "id": row["id"]},
+            )
+    guards = _PG_CHAIN_CHECKS if conn.dialect.name == "postgresql" else _SQLITE_INSERT_GUARDS
+    for ddl in guards:
+        conn.exec_driver_sql(ddl)
+
+
 MIGRATIONS: list[tuple[int, str, Callable[[Connection], None]]] = [
     (1, "batches and entries", _m1_tables),
     (2, "append-only triggers", _m2_append_only),
     (3, "one original finding per item, site and time", _m3_one_finding_per_time),
     (4, "indexes on unit and time, and on batch", _m4_query_indexes),
+    (5, "records keyed by the unit's stable id", _m5_unit_ids),
+    (6, "hash chain of entries; inserts that replace refused", _m6_hash_chain),
 ]
+
+
+def guard_triggers(dialect: str) -> list[str]:
+    """The triggers that keep the record append-only, by name (``obs verify`` checks them)."""
+    if dialect == "postgresql":
+        return [
+            f"{table}_{what}"
+            for table in ("obs_entry", "obs_batch", "schema_version")
+            for what in ("append_only", "no_truncate")
+        ]
+    return [g.split()[2] for g in _SQLITE_GUARDS + _SQLITE_INSERT_GUARDS]
+
+
 SCHEMA_VERSION = MIGRATIONS[-1][0]
 
 
@@ -188,24 +319,39 @@ def migrate(engine: Engine, shown: str, upto: int | None = None) -> int:
     for version, description, step in MIGRATIONS:
         if version <= current or version > target:
             continue
-        with engine.begin() as conn:
-            if conn.dialect.name == "postgresql":
-                conn.exec_driver_sql("SELECT pg_advisory_xact_lock(7261997)")  # one migrator
-            if not sa.inspect(conn).has_table("schema_version"):
-                metadata.create_all(conn, tables=[schema_version])
-            now_at = conn.execute(sa.select(sa.func.max(schema_version.c.version))).scalar() or 0
-            _refuse_newer(shown, now_at)
-            if now_at >= version:  # another process got here first
-                current = now_at
-                continue
-            step(conn)
-            conn.execute(
-                sa.insert(schema_version).values(
-                    version=version, description=description, applied_at=_now_text()
+        try:
+            with engine.begin() as conn:
+                if conn.dialect.name == "postgresql":
+                    conn.exec_driver_sql("SELECT pg_advisory_xact_lock(7261997)")  # one migrator
+                if not sa.inspect(conn).has_table("schema_version"):
+                    metadata.create_all(conn, tables=[schema_version])
+                now_at = (
+                    conn.execute(sa.select(sa.func.max(schema_version.c.version))).scalar() or 0
                 )
-            )
+                _refuse_newer(shown, now_at)
+                if now_at >= version:  # another process got here first
+                    current = now_at
+                    continue
+                step(conn)
+                conn.execute(
+                    sa.insert(schema_version).values(
+                        version=version, description=description, applied_at=_now_text()
+                    )
+                )
+        except sa.exc.DBAPIError as exc:
+            if getattr(exc.orig, "sqlstate", None) == INSUFFICIENT_PRIVILEGE:
+                raise StoreError(
+                    f"{shown}: the store is at schema version {current} and this vascplan needs "
+                    f"{target}, but this database user may only add and read records: run "
+                    "`vascplan obs migrate --db OWNER-URL` as the store's owner first"
+                ) from None
+            raise
         current = version
     return current
+
+
+INSUFFICIENT_PRIVILEGE = "42501"
+"""PostgreSQL's SQLSTATE for an action the role may not take."""
 
 
 def stored_version(engine: Engine) -> int:

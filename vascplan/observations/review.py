@@ -17,7 +17,7 @@ prints: :func:`render_table` and :func:`to_json` are the renderers.
 from __future__ import annotations
 
 from dataclasses import dataclass, field, replace
-from datetime import UTC, datetime, timedelta
+from datetime import UTC, datetime, timedelta, tzinfo
 from pathlib import Path
 from typing import Any
 
@@ -25,7 +25,12 @@ from vascplan.localtime import day_hm, hm, utc
 from vascplan.observations.abi import AbiResult, ankle_brachial_index, arm_sites
 from vascplan.observations.alerts import group_alerts, group_key
 from vascplan.observations.ali import AliResult, classify_leg, worst
-from vascplan.observations.findings import PEDAL_ARTERIES, SIDES, WRIST_ARTERIES
+from vascplan.observations.findings import (
+    ENTERED_IN_ERROR,
+    PEDAL_ARTERIES,
+    SIDES,
+    WRIST_ARTERIES,
+)
 from vascplan.observations.store import CurrentFinding, ObservationStore
 from vascplan.safety import CAUTION
 from vascplan.surveillance.protocol import Protocol, load_protocol
@@ -719,6 +724,16 @@ def _venous(latest: dict, side: str) -> str | None:
     return "audible" if "present" in values else "inaudible"
 
 
+def withdrawal_notes(findings: list[CurrentFinding], tz: tzinfo) -> list[str]:
+    """One line per finding withdrawn as entered in error: what, when, by whom and why."""
+    return [
+        f"withdrawn: {f.item} {f.site or ''} of {day_hm(f.time, tz)} ({f.entry.value}) by "
+        f"{f.correction.by} at {day_hm(f.correction.entered_at, tz)}: {f.correction.reason}"
+        for f in findings
+        if f.value == ENTERED_IN_ERROR and f.correction is not None
+    ]
+
+
 def unit_protocol(unit: Unit, base_dir: Path | None = None, source: str = "unit file") -> Protocol:
     """The protocol the unit file names (bundled name or a path relative to ``base_dir``)."""
     return load_protocol(unit.protocol, source, base_dir)
@@ -744,11 +759,14 @@ def review_unit(
         when it is above 0).
     """
     protocol = protocol or unit_protocol(unit, base_dir)
-    every = store.current(unit.unit.name, until=at)  # the store compares UTC text
+    # the store compares UTC text; withdrawn findings are read to be shown, never reviewed
+    every = store.current(unit.unit.key, until=at, include_withdrawn=True)
     patients = []
     for p in sorted(unit.patients, key=lambda p: p.bed):
         mine = [f for f in every if f.entry.ref == p.ref]
-        patients.append(review_patient(unit, p, protocol, mine, at))
+        kept = [f for f in mine if f.value != ENTERED_IN_ERROR]
+        patients.append(review_patient(unit, p, protocol, kept, at))
+        patients[-1].notes.extend(withdrawal_notes(mine, at.tzinfo or UTC))
     return UnitReview(unit.unit.name, at, protocol.name, protocol.review.note, patients)
 
 
@@ -823,6 +841,7 @@ def to_json(result: UnitReview) -> dict[str, Any]:
                     for s, r in p.ali.items()
                 },
                 "abi": {s: r.index for s, r in p.abi.items()},
+                "notes": p.notes,
                 "abi_detail": {
                     s: {"index": r.index, "band": r.band, "basis": r.basis}
                     for s, r in p.abi.items()
@@ -885,6 +904,7 @@ def render_table(result: UnitReview) -> str:
                 lines.append(f"            source: {source}")
         if not p.alerts:
             lines.append("  no alert open")
+        lines.extend(f"  {note}" for note in p.notes)
         lines.append("")
     lines.append(f"{result.open_alerts} alert(s) open.")
     lines.append(f"Caution: {CAUTION}")

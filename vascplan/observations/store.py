@@ -26,6 +26,7 @@ import sqlalchemy as sa
 from sqlalchemy.engine import Connection, Engine
 
 from vascplan.errors import InputError, StoreError
+from vascplan.observations.chain import GENESIS, link
 from vascplan.observations.findings import ENTERED_IN_ERROR, Finding, check_value
 from vascplan.observations.migrations import (
     MIGRATIONS,
@@ -138,6 +139,8 @@ def _sqlite_engine(url: sa.URL) -> Engine:
         cur = dbapi_conn.cursor()
         cur.execute("PRAGMA foreign_keys = ON")
         cur.execute("PRAGMA synchronous = FULL")
+        # A REPLACE conflict then fires the DELETE guard of the row it would remove.
+        cur.execute("PRAGMA recursive_triggers = ON")
         cur.close()
 
     @sa.event.listens_for(engine, "begin")
@@ -226,6 +229,8 @@ class Entry:
     corrects: int | None
     reason: str | None
     entered_at: datetime
+    unit_id: str = ""
+    """The unit's stable id (``unit`` is its display name when the row was written)."""
 
 
 @dataclass(frozen=True)
@@ -296,6 +301,7 @@ def _entry(row: sa.Row) -> Entry:
         corrects=row.corrects,
         reason=row.reason,
         entered_at=datetime.fromisoformat(row.entered_at),
+        unit_id=row.unit_id,
     )
 
 
@@ -358,6 +364,7 @@ class ObservationStore:
         unit: str,
         kind: str,
         source: str,
+        unit_name: str | None = None,
         progress: Callable[[int], None] | None = None,
         lines: Sequence[int] | None = None,
     ) -> list[int]:
@@ -368,11 +375,13 @@ class ObservationStore:
         findings : sequence of Finding
             Already validated (see :func:`~vascplan.observations.findings.make_finding`).
         unit : str
-            The unit's name (from its unit file).
+            The unit's stable id (``unit.key`` of its unit file): the key of the record.
         kind : str
             ``add`` or ``import``.
         source : str
             The file or command the batch came from (kept with the batch).
+        unit_name : str, optional
+            The unit's display name, kept with each row (default: the id).
         progress : callable, optional
             Called with the number of rows sent so far, inside the transaction (tests use
             it to kill the process part-way).
@@ -388,9 +397,11 @@ class ObservationStore:
         if not findings:
             return []
         now = _now_text()
+        name = unit if unit_name is None else unit_name
         rows = [
             {
-                "unit": unit,
+                "unit": name,
+                "unit_id": unit,
                 "bed": f.bed,
                 "ref": f.ref,
                 "time_utc": _utc_text(f.time),
@@ -409,11 +420,17 @@ class ObservationStore:
             self._refuse_stored(conn, unit, rows, source, lines)
             batch_id = conn.execute(
                 sa.insert(batches).values(
-                    kind=kind, source=source, unit=unit, entered_at=now, rows=len(rows)
+                    kind=kind,
+                    source=source,
+                    unit=name,
+                    unit_id=unit,
+                    entered_at=now,
+                    rows=len(rows),
                 )
             ).inserted_primary_key[0]  # type: ignore[index]
             for row in rows:
                 row["batch_id"] = batch_id
+            link(rows, *_chain_tail(conn))
             for start in range(0, len(rows), CHUNK_ROWS):
                 conn.execute(sa.insert(entries), rows[start : start + CHUNK_ROWS])
                 if progress is not None:
@@ -446,7 +463,7 @@ class ObservationStore:
                 sa.select(
                     entries.c.id, entries.c.bed, entries.c.time_utc, entries.c.item, entries.c.site
                 )
-                .where(entries.c.unit == unit, entries.c.corrects.is_(None))
+                .where(entries.c.unit_id == unit, entries.c.corrects.is_(None))
                 .where(entries.c.time_utc.in_(times[start : start + CHUNK_ROWS]))
             )
             for found in conn.execute(q):
@@ -465,13 +482,21 @@ class ObservationStore:
                 )
 
     def correct(
-        self, entry_id: int, value: str, *, by: str, reason: str, withdraw: bool = False
+        self,
+        entry_id: int,
+        value: str,
+        *,
+        by: str,
+        reason: str,
+        withdraw: bool = False,
+        unit: str | None = None,
     ) -> int:
         """Store a correction of entry ``entry_id``; return the new entry's id.
 
         The correction keeps the original's patient, time, item and site, points to the
         original (a correction of a correction points to the same original) and carries
-        who and why. ``withdraw`` marks the finding as entered in error.
+        who and why. ``withdraw`` marks the finding as entered in error. ``unit``, when
+        given, is the unit id the entry must belong to.
 
         Raises
         ------
@@ -484,8 +509,14 @@ class ObservationStore:
             raise InputError("--by", "", "a correction needs who made it")
         with self._writing() as conn:
             row = conn.execute(sa.select(entries).where(entries.c.id == entry_id)).first()
-            if row is None:
-                raise InputError("--entry", "", f"no entry {entry_id} in {self.shown}")
+            if row is None or (unit is not None and row.unit_id != unit):
+                raise InputError(
+                    "--entry",
+                    "",
+                    f"no entry {entry_id} of unit {unit} in {self.shown}"
+                    if unit is not None and row is not None
+                    else f"no entry {entry_id} in {self.shown}",
+                )
             if withdraw:
                 new_value = ENTERED_IN_ERROR
             else:
@@ -500,28 +531,30 @@ class ObservationStore:
                     kind="correct",
                     source=f"correct {entry_id}",
                     unit=row.unit,
+                    unit_id=row.unit_id,
                     entered_at=now,
                     rows=1,
                 )
             ).inserted_primary_key[0]  # type: ignore[index]
-            new_id = conn.execute(
-                sa.insert(entries).values(
-                    batch_id=batch_id,
-                    unit=row.unit,
-                    bed=row.bed,
-                    ref=row.ref,
-                    time_utc=row.time_utc,
-                    time_local=row.time_local,
-                    recorded_by=by.strip(),
-                    item=row.item,
-                    site=row.site,
-                    value=new_value,
-                    corrects=root,
-                    reason=reason.strip(),
-                    entered_at=now,
-                )
-            ).inserted_primary_key[0]  # type: ignore[index]
-        return int(new_id)
+            new = {
+                "batch_id": batch_id,
+                "unit": row.unit,
+                "unit_id": row.unit_id,
+                "bed": row.bed,
+                "ref": row.ref,
+                "time_utc": row.time_utc,
+                "time_local": row.time_local,
+                "recorded_by": by.strip(),
+                "item": row.item,
+                "site": row.site,
+                "value": new_value,
+                "corrects": root,
+                "reason": reason.strip(),
+                "entered_at": now,
+            }
+            link([new], *_chain_tail(conn))
+            conn.execute(sa.insert(entries).values(**new))
+        return int(new["id"])
 
     # -- reading
 
@@ -536,7 +569,7 @@ class ObservationStore:
         for name, bound in (("since", since), ("until", until)):
             if bound is not None and bound.utcoffset() is None:
                 raise ValueError(f"{name} must be time-zone aware, got {bound.isoformat()}")
-        q = sa.select(entries).where(entries.c.unit == unit)
+        q = sa.select(entries).where(entries.c.unit_id == unit)
         if ref is not None:
             q = q.where(entries.c.ref == ref)
         if since is not None:
@@ -680,9 +713,30 @@ class ObservationStore:
     def count(self, unit: str | None = None) -> int:
         q = sa.select(sa.func.count()).select_from(entries)
         if unit is not None:
-            q = q.where(entries.c.unit == unit)
+            q = q.where(entries.c.unit_id == unit)
         with self.engine.connect() as conn:
             return int(conn.execute(q).scalar() or 0)
+
+
+CHAIN_LOCK = 7261998
+"""PostgreSQL advisory lock key held by every write: one writer extends the chain at a time."""
+
+
+def _chain_tail(conn: Connection) -> tuple[int, str]:
+    """The next entry id and the hash the next entry must carry, under the write lock.
+
+    SQLite holds its write lock from ``BEGIN IMMEDIATE``; PostgreSQL takes an advisory
+    lock for the rest of the transaction, so concurrent writers extend the chain in turn.
+    """
+    if conn.dialect.name == "postgresql":
+        conn.exec_driver_sql(f"SELECT pg_advisory_xact_lock({CHAIN_LOCK})")
+    newest = sa.select(sa.func.max(entries.c.id)).scalar_subquery()  # the primary key's end
+    last = conn.execute(
+        sa.select(entries.c.id, entries.c.entry_hash).where(entries.c.id == newest)
+    ).first()
+    if last is None:
+        return 1, GENESIS
+    return int(last.id) + 1, str(last.entry_hash)
 
 
 def stream_current(

@@ -195,7 +195,7 @@ def write_trend_pdf(
 ) -> Path:
     """Write the trend PDF for ``patients`` (one page each) to ``path`` atomically."""
     protocol = protocol or unit_protocol(unit, base_dir)
-    every = store.current(unit.unit.name, until=at)
+    every = store.current(unit.unit.key, until=at)
     trends = [
         patient_trend(
             unit,

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import os
 import re
+import unicodedata
 from datetime import datetime, time, timedelta
 from typing import Any, Literal
 from zoneinfo import ZoneInfo, ZoneInfoNotFoundError, available_timezones
@@ -54,9 +55,47 @@ class _Strict(BaseModel):
     )
 
 
+UNIT_ID_PATTERN = r"^[a-z0-9](?:[a-z0-9-]{0,62}[a-z0-9])?$"
+"""A unit's stable id: lower-case letters, digits and inner hyphens, at most 64 characters."""
+
+
+def unit_slug(name: str) -> str:
+    """The id a unit file without ``id`` gets: its name in lower case, hyphenated.
+
+    Letters lose their accents, anything other than a letter or a digit becomes one
+    hyphen. Frozen: stores upgraded by migration 5 hold these ids for old records.
+
+    >>> unit_slug("Cardiac critical care (demo)")
+    'cardiac-critical-care-demo'
+    >>> unit_slug("Réa Médicale 2")
+    'rea-medicale-2'
+    """
+    folded = unicodedata.normalize("NFKD", name).encode("ascii", "ignore").decode("ascii")
+    slug = re.sub(r"[^a-z0-9]+", "-", folded.lower()).strip("-")[:64].strip("-")
+    return slug or "unit"
+
+
 class UnitInfo(_Strict):
     name: Identifier = Field(min_length=1, max_length=200)
     timezone: str
+    id: str | None = None
+    """The unit's stable id, the key of its record in the store: renaming ``name`` keeps
+    the history. A file without one gets :func:`unit_slug` of the name (and a notice)."""
+
+    @field_validator("id")
+    @classmethod
+    def _id(cls, value: str | None) -> str | None:
+        if value is not None and not re.fullmatch(UNIT_ID_PATTERN, value):
+            raise ValueError(
+                f"a unit id is lower-case letters, digits and inner hyphens, at most 64 "
+                f"characters, e.g. {unit_slug(value)!r}"
+            )
+        return value
+
+    @property
+    def key(self) -> str:
+        """The id the store knows the unit by: ``id``, or the slug of ``name``."""
+        return self.id if self.id is not None else unit_slug(self.name)
 
     @field_validator("timezone")
     @classmethod
