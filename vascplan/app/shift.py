@@ -129,7 +129,7 @@ def due_now(
     if within_min < 0:
         raise ValueError("within_min must be 0 or more")
     protocol = protocol or unit_protocol(unit, base_dir)
-    every = store.current(unit.unit.name, until=at)
+    every = store.current(unit.unit.key, until=at)
     beds = tuple(
         _bed_due(unit, p, protocol, [f for f in every if f.entry.ref == p.ref], at, within_min)
         for p in sorted(unit.patients, key=lambda p: p.bed)
