@@ -16,6 +16,8 @@ prints: :func:`render_table` and :func:`to_json` are the renderers.
 
 from __future__ import annotations
 
+from bisect import bisect_right
+from collections.abc import Sequence
 from dataclasses import dataclass, field, replace
 from datetime import UTC, datetime, timedelta
 from pathlib import Path
@@ -28,7 +30,7 @@ from vascplan.observations.findings import PEDAL_ARTERIES, SIDES, WRIST_ARTERIES
 from vascplan.observations.store import CurrentFinding, ObservationStore
 from vascplan.safety import CAUTION
 from vascplan.surveillance.protocol import Protocol, load_protocol
-from vascplan.surveillance.schedule import patient_schedule
+from vascplan.surveillance.schedule import ScheduledCheck, patient_schedule
 from vascplan.surveillance.unit import Patient, Unit
 
 NO_CALL = "the protocol names no one for this finding; follow local policy"
@@ -256,7 +258,12 @@ def _hm(moment: datetime, tz) -> str:
 
 
 def overdue_checks(
-    unit: Unit, patient: Patient, protocol: Protocol, check_times: list[datetime], at: datetime
+    unit: Unit,
+    patient: Patient,
+    protocol: Protocol,
+    check_times: list[datetime],
+    at: datetime,
+    schedule: Sequence[ScheduledCheck] | None = None,
 ) -> list[Overdue]:
     """Scheduled checks overdue at ``at``.
 
@@ -264,16 +271,28 @@ def overdue_checks(
     before ``at``) and no check of the patient was recorded at or after ``due -
     tolerance_min``: a check counts for every scheduled check whose window had opened
     by then (the leg has been seen since).
+
+    ``schedule``, when given, is the patient's schedule from insertion to any moment at
+    or after ``at`` (in time order), computed once by a caller reviewing many moments
+    (the trend); checks due at or after ``at`` are never overdue, so the result is that
+    of the schedule up to ``at``.
     """
-    schedule = patient_schedule(unit, patient, protocol, patient.device.inserted, at)
+    if schedule is None:
+        schedule = patient_schedule(unit, patient, protocol, patient.device.inserted, at)
     # Instants only: same-zone aware datetimes compare by wall time (PEP 495), which
     # would lose or invent overdue checks in the hour repeated when the clocks go back.
     at_utc = utc(at)
     out = []
     latest = max(utc(t) for t in check_times) if check_times else None
-    for s in schedule:
+    # The schedule is in time order: a check due at or before the latest recorded one was
+    # seen (its window had opened), and one due at or after ``at`` is not late yet.
+    begin = 0 if latest is None else bisect_right(schedule, latest, key=lambda s: utc(s.due))
+    for i in range(begin, len(schedule)):
+        s = schedule[i]
         tol = timedelta(minutes=s.tolerance_min)
         due = utc(s.due)
+        if due >= at_utc:
+            break
         if due + tol >= at_utc:
             continue
         if latest is not None and latest >= due - tol:
@@ -291,9 +310,18 @@ def _latest(findings: list[CurrentFinding]) -> dict[tuple[str, str], CurrentFind
 
 
 def review_patient(
-    unit: Unit, patient: Patient, protocol: Protocol, findings: list[CurrentFinding], at: datetime
+    unit: Unit,
+    patient: Patient,
+    protocol: Protocol,
+    findings: list[CurrentFinding],
+    at: datetime,
+    *,
+    schedule: Sequence[ScheduledCheck] | None = None,
 ) -> PatientReview:
-    """Review one patient from their findings (already limited to times up to ``at``)."""
+    """Review one patient from their findings (already limited to times up to ``at``).
+
+    ``schedule``: the patient's schedule computed once (see :func:`overdue_checks`).
+    """
     tz = unit.unit.tz
     # Time order by instant (later wins in _latest), never by wall clock.
     at_utc = utc(at)
@@ -302,7 +330,7 @@ def review_patient(
     )
     times = sorted({utc(f.time) for f in findings})
     out = PatientReview(patient.ref, patient.bed, times[-1] if times else None)
-    out.overdue = overdue_checks(unit, patient, protocol, times, at)
+    out.overdue = overdue_checks(unit, patient, protocol, times, at, schedule)
     if out.overdue:
         first = out.overdue[0]
         out.alerts.append(
@@ -619,6 +647,17 @@ def unit_protocol(unit: Unit, base_dir: Path | None = None, source: str = "unit 
     return load_protocol(unit.protocol, source, base_dir)
 
 
+def _read_findings(
+    unit: Unit, store: ObservationStore, at: datetime
+) -> dict[str, list[CurrentFinding]]:
+    """The data-reading part of the review: each patient's window only
+    (:func:`vascplan.observations.reads.episode_findings`; what the window means for the
+    NIRS baseline fallback is said there)."""
+    from vascplan.observations.reads import episode_findings
+
+    return episode_findings(store, unit, unit.patients, at)
+
+
 def review_unit(
     unit: Unit,
     store: ObservationStore,
@@ -630,7 +669,8 @@ def review_unit(
     """Review every patient of ``unit`` from the store, as at ``at`` (aware).
 
     A patient's findings are found by ref, so that checks made before a move to another
-    bed still count.
+    bed still count; only the patients on the unit are read, each from the look-back
+    before their device's insertion (:mod:`vascplan.observations.reads`).
 
     Returns
     -------
@@ -639,11 +679,10 @@ def review_unit(
         when it is above 0).
     """
     protocol = protocol or unit_protocol(unit, base_dir)
-    every = store.current(unit.unit.name, until=at)  # the store compares UTC text
+    by_ref = _read_findings(unit, store, at)
     patients = []
     for p in sorted(unit.patients, key=lambda p: p.bed):
-        mine = [f for f in every if f.entry.ref == p.ref]
-        patients.append(review_patient(unit, p, protocol, mine, at))
+        patients.append(review_patient(unit, p, protocol, by_ref[p.ref], at))
     return UnitReview(unit.unit.name, at, protocol.name, protocol.review.note, patients)
 
 
