@@ -1,9 +1,9 @@
 """Review and trend on windowed reads, trend in one walk: the same results as before.
 
-The old algorithms are kept here only, as the reference: the review read the unit's whole
-history and kept each patient's rows; the trend re-ran the review (and its schedule) on
-every check's history. The expected results are theirs, computed in the test from the
-same store, never copied from the new code's output.
+The old algorithms are kept in ``tests/old_review_trend.py`` only, as the reference: the
+review read the unit's whole history and kept each patient's rows; the trend re-ran the
+review (and its schedule) on every check's history. The expected results are theirs,
+computed in the test from the same store, never copied from the new code's output.
 """
 
 from __future__ import annotations
@@ -14,16 +14,11 @@ from pathlib import Path
 
 import pytest
 
+from tests.old_review_trend import old_patient_trend, old_review_unit
 from vascplan.localtime import utc
 from vascplan.observations.findings import Finding
 from vascplan.observations.reads import episode_findings, pre_insertion_lookback, window_start
-from vascplan.observations.review import (
-    UnitReview,
-    review_patient,
-    review_unit,
-    to_json,
-    unit_protocol,
-)
+from vascplan.observations.review import review_unit, to_json, unit_protocol
 from vascplan.observations.store import open_store
 from vascplan.observations.trend import check_summaries, patient_trend
 from vascplan.surveillance.unit import load_unit
@@ -31,36 +26,11 @@ from vascplan.surveillance.unit import load_unit
 ROOT = Path(__file__).resolve().parents[1]
 
 
-def _old_review_unit(unit, store, at, protocol):  # type: ignore[no-untyped-def]
-    """The review before issue 16: the whole unit's history, filtered by ref."""
-    every = store.current(unit.unit.name, until=at)
-    patients = [
-        review_patient(unit, p, protocol, [f for f in every if f.entry.ref == p.ref], at)
-        for p in sorted(unit.patients, key=lambda p: p.bed)
-    ]
-    return UnitReview(unit.unit.name, at, protocol.name, protocol.review.note, patients)
-
-
-def _old_onsets(unit, patient, protocol, findings, at):  # type: ignore[no-untyped-def]
-    """The trend's onsets before issue 16: a whole review (and schedule) at every check."""
-    mine = sorted(
-        (f for f in findings if utc(f.time) <= utc(at)), key=lambda f: (utc(f.time), f.entry.id)
-    )
-    onsets, before = [], set()
-    for t in sorted({utc(f.time) for f in mine}):
-        upto = [f for f in mine if utc(f.time) <= t]
-        alerts = review_patient(unit, patient, protocol, upto, t).alerts
-        onsets += [(t, a) for a in alerts if (a.rule, a.side) not in before]
-        before = {(a.rule, a.side) for a in alerts}
-    final = review_patient(unit, patient, protocol, mine, at)
-    return onsets, final.alerts, [utc(o.due) for o in final.overdue]
-
-
 def _compare(unit, store, at) -> int:  # type: ignore[no-untyped-def]
     """Assert old == new for the review and every patient's trend; return the onsets seen."""
     protocol = unit_protocol(unit, ROOT / "tests")
     assert to_json(review_unit(unit, store, at, protocol=protocol)) == to_json(
-        _old_review_unit(unit, store, at, protocol)
+        old_review_unit(unit, store, at, protocol)
     )
     every = store.current(unit.unit.name, until=at)
     windowed = episode_findings(store, unit, unit.patients, at)
@@ -68,12 +38,14 @@ def _compare(unit, store, at) -> int:  # type: ignore[no-untyped-def]
     for p in unit.patients:
         whole = [f for f in every if f.entry.ref == p.ref]
         new = patient_trend(unit, p, protocol, windowed[p.ref], at)
-        onsets, final, overdue = _old_onsets(unit, p, protocol, whole, at)
-        assert new.onsets == onsets, p.ref
-        assert new.open_alerts == final, p.ref
-        assert new.overdue == overdue, p.ref
-        assert new.check_times == sorted({utc(f.time) for f in whole}), p.ref
-        seen += len(onsets)
+        old = old_patient_trend(unit, p, protocol, whole, at)
+        assert new.onsets == old.onsets, p.ref
+        assert new.open_alerts == old.open_alerts, p.ref
+        assert new.overdue == old.overdue, p.ref
+        assert new.check_times == old.check_times, p.ref
+        assert new.findings == old.findings, p.ref
+        assert new.nirs_baseline == old.nirs_baseline, p.ref
+        seen += len(old.onsets)
     return seen
 
 
