@@ -330,7 +330,8 @@ def ics_fold(line: str) -> str:
             i = j
         parts.append(line[i:])
         return "\r\n ".join(parts)
-    parts, current, size = [], [], 0
+    parts, size = [], 0
+    current: list[str] = []
     for ch in line:
         width = len(ch.encode("utf-8"))
         if current and size + width > limit:
