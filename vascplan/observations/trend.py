@@ -191,45 +191,63 @@ def patient_trend(
     return PatientTrend(patient, mine, times, onsets, final, base, overdue)
 
 
+def _is_number(value: str) -> bool:
+    try:
+        float(value)
+    except ValueError:
+        return False
+    return True
+
+
 def check_summaries(
     findings: list[CurrentFinding],
 ) -> Iterator[tuple[datetime, list[CurrentFinding]]]:
-    """Walk findings (in time order) once; at each check instant (UTC) yield a summary.
+    """Walk findings once; at each check instant (UTC) yield a summary of the history.
+
+    ``findings`` are in time (UTC) then entry order, as :func:`patient_trend` sorts them.
 
     The summary of the history up to a check holds, for every item and site: the first
-    finding; the findings at the latest instant it was recorded; and, for each value it
-    has taken, the last finding with that value before that instant. Every review rule
-    reads only these: the latest value of an item (later wins), the first recorded value
-    (the NIRS baseline fallback), the last earlier finding with a given value (a pedal
-    signal that was present, skin that was normal), the latest check time. The summary's
-    size is bounded by the items, sites and values, not by the length of the record.
+    finding; the findings at the latest instant it was recorded; and, for each word value
+    it has taken (``palpable``, ``normal``...), the last finding with that value before
+    that instant. Every review rule reads only these: the latest value of an item (later
+    wins), the first recorded value (the NIRS baseline fallback), the last earlier finding
+    with a given word value (a pedal signal that was present, skin that was normal), the
+    latest check time; no rule looks for an earlier number (a NIRS or a pressure is
+    compared with the first or the latest). The summary's size is bounded by the items,
+    sites and word values, not by the length of the record.
     """
-    first: dict[tuple[str, str], CurrentFinding] = {}
+    numeric: dict[str, bool] = {}
+    # Positions in ``findings`` (which is in time then entry order), per item and site.
+    first: dict[tuple[str, str], int] = {}
     last_instant: dict[tuple[str, str], datetime] = {}
-    at_last: dict[tuple[str, str], list[CurrentFinding]] = {}
-    earlier: dict[tuple[str, str], dict[str, CurrentFinding]] = {}
+    at_last: dict[tuple[str, str], list[int]] = {}
+    earlier: dict[tuple[str, str], dict[str, int]] = {}
     i, n = 0, len(findings)
     while i < n:
         t = utc(findings[i].time)
         while i < n and utc(findings[i].time) == t:
             f = findings[i]
             key = (f.item, f.site)
-            first.setdefault(key, f)
+            first.setdefault(key, i)
             if last_instant.get(key) != t:
                 by_value = earlier.setdefault(key, {})
                 for g in at_last.get(key, ()):  # now strictly before the latest instant
-                    by_value[g.value] = g
-                at_last[key] = [f]
+                    value = findings[g].value
+                    if value not in numeric:
+                        numeric[value] = _is_number(value)
+                    if not numeric[value]:
+                        by_value[value] = g
+                at_last[key] = [i]
                 last_instant[key] = t
             else:
-                at_last[key].append(f)
+                at_last[key].append(i)
             i += 1
-        kept: dict[int, CurrentFinding] = {f.entry.id: f for f in first.values()}
+        kept = set(first.values())
         for by_value in earlier.values():
-            kept.update((g.entry.id, g) for g in by_value.values())
+            kept.update(by_value.values())
         for group in at_last.values():
-            kept.update((g.entry.id, g) for g in group)
-        yield t, sorted(kept.values(), key=lambda f: (utc(f.time), f.entry.id))
+            kept.update(group)
+        yield t, [findings[k] for k in sorted(kept)]
 
 
 def write_trend_pdf(
