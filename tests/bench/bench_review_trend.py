@@ -143,7 +143,10 @@ def report(rows: list[dict[str, float]]) -> str:
     else:  # quadratic: extrapolated from the smallest size as the square of the size
         scale = (n1 / n0) ** 2
         old, old_data = f["old_trend"] * scale, f["old_trend_data"] * scale
-        how = f"extrapolated from {n0} as (size ratio)^2 = {scale:g}x"
+        how = (
+            f"extrapolated from {n0} as (size ratio)^2 = {scale:g}x, an upper estimate: the "
+            "old read and drawing grow only linearly"
+        )
     speed = old / top["trend"]
     lines.append(
         f"goal: trend at {n1} at least 20x faster than the old code ({how}): {speed:.1f}x "
