@@ -81,8 +81,13 @@ def _value(rng: random.Random, item: str) -> str:
     raise AssertionError(item)
 
 
-def generate_store(folder: Path, findings: int, *, seed: int = SEED) -> tuple[Path, Path, datetime]:
+def generate_store(
+    folder: Path, findings: int, *, seed: int = SEED, long_stays: bool = False
+) -> tuple[Path, Path, datetime]:
     """Make ``folder/unit.yaml`` and ``folder/obs.db`` with ``findings`` invented findings.
+
+    ``long_stays``: the 40 first patients stay for the whole record (no one discharged),
+    so each patient's history grows with the record (the shape of issue 16's measurement).
 
     Returns the unit file, the store file and the time of the last check.
     """
@@ -99,7 +104,12 @@ def generate_store(folder: Path, findings: int, *, seed: int = SEED) -> tuple[Pa
     def admit(bed: int, at: datetime) -> None:
         nonlocal serial
         serial += 1
-        stays[bed] = (f"DEMO-B{serial:04d}", at, at + timedelta(hours=rng.randint(48, 144)))
+        stay = timedelta(hours=rng.randint(48, 144))
+        stays[bed] = (
+            f"DEMO-B{serial:04d}",
+            at,
+            at + (timedelta(days=3650) if long_stays else stay),
+        )
 
     for bed in range(1, BEDS + 1):
         admit(bed, START - timedelta(hours=rng.randint(0, 96)))

@@ -16,6 +16,8 @@ prints: :func:`render_table` and :func:`to_json` are the renderers.
 
 from __future__ import annotations
 
+from bisect import bisect_right
+from collections.abc import Sequence
 from dataclasses import dataclass, field, replace
 from datetime import UTC, datetime, timedelta, tzinfo
 from pathlib import Path
@@ -34,7 +36,7 @@ from vascplan.observations.findings import (
 from vascplan.observations.store import CurrentFinding, ObservationStore
 from vascplan.safety import CAUTION
 from vascplan.surveillance.protocol import Protocol, load_protocol
-from vascplan.surveillance.schedule import patient_schedule
+from vascplan.surveillance.schedule import ScheduledCheck, patient_schedule
 from vascplan.surveillance.unit import Patient, Unit
 
 NO_CALL = "the protocol names no one for this finding; follow local policy"
@@ -304,6 +306,7 @@ def overdue_checks(
     check_times: list[datetime],
     at: datetime,
     findings: list[CurrentFinding] | None = None,
+    schedule: Sequence[ScheduledCheck] | None = None,
 ) -> list[Overdue]:
     """Scheduled checks overdue at ``at``.
 
@@ -314,28 +317,44 @@ def overdue_checks(
     it records (:mod:`~vascplan.observations.coverage`); without, any check of the
     patient counts for the whole check. Nothing is due before the patient's monitoring
     start (:func:`~vascplan.surveillance.schedule.monitoring_start`).
+
+    ``schedule``, when given, is the patient's schedule from insertion to any moment at
+    or after ``at`` (in time order), computed once by a caller reviewing many moments
+    (the trend); checks due at or after ``at`` are never overdue, so the result is that
+    of the schedule up to ``at``.
     """
     from vascplan.observations.coverage import latest_by_need, missing, needs
     from vascplan.observations.findings import ENTERED_IN_ERROR
 
-    schedule = patient_schedule(unit, patient, protocol, patient.device.inserted, at)
+    if schedule is None:
+        schedule = patient_schedule(unit, patient, protocol, patient.device.inserted, at)
     # Instants only: same-zone aware datetimes compare by wall time (PEP 495), which
     # would lose or invent overdue checks in the hour repeated when the clocks go back.
     at_utc = utc(at)
     out = []
     latest = max(utc(t) for t in check_times) if check_times else None
-    wanted = {tuple(s.items): needs(protocol, s.items) for s in schedule}
+    wanted: dict[tuple[str, ...], Any] = {}
     seen = (
         latest_by_need(
-            {n for ns in wanted.values() for n in ns},
+            {n for s in schedule for n in wanted.setdefault(tuple(s.items),
+                                                            needs(protocol, s.items))},
             ((f.time, f.item, f.site) for f in findings if f.value != ENTERED_IN_ERROR),
         )
         if findings is not None
         else {}
     )
-    for s in schedule:
+    # The schedule is in time order. Without findings, a check due at or before the latest
+    # recorded one was seen (its window had opened); with them, each item is looked at.
+    begin = 0
+    if findings is None and latest is not None:
+        begin = bisect_right(schedule, latest, key=lambda s: utc(s.due))
+    for i in range(begin, len(schedule)):
+        s = schedule[i]
+        wanted.setdefault(tuple(s.items), needs(protocol, s.items))
         tol = timedelta(minutes=s.tolerance_min)
         due = utc(s.due)
+        if due >= at_utc:
+            break
         if due + tol >= at_utc:
             continue
         labels = tuple(n.label for n in wanted[tuple(s.items)])
@@ -360,9 +379,18 @@ def _latest(findings: list[CurrentFinding]) -> dict[tuple[str, str], CurrentFind
 
 
 def review_patient(
-    unit: Unit, patient: Patient, protocol: Protocol, findings: list[CurrentFinding], at: datetime
+    unit: Unit,
+    patient: Patient,
+    protocol: Protocol,
+    findings: list[CurrentFinding],
+    at: datetime,
+    *,
+    schedule: Sequence[ScheduledCheck] | None = None,
 ) -> PatientReview:
-    """Review one patient from their findings (already limited to times up to ``at``)."""
+    """Review one patient from their findings (already limited to times up to ``at``).
+
+    ``schedule``: the patient's schedule computed once (see :func:`overdue_checks`).
+    """
     tz = unit.unit.tz
     # Time order by instant (later wins in _latest), never by wall clock.
     at_utc = utc(at)
@@ -371,7 +399,7 @@ def review_patient(
     )
     times = sorted({utc(f.time) for f in findings})
     out = PatientReview(patient.ref, patient.bed, times[-1] if times else None)
-    out.overdue = overdue_checks(unit, patient, protocol, times, at, findings)
+    out.overdue = overdue_checks(unit, patient, protocol, times, at, findings, schedule)
     if out.overdue:
         first = out.overdue[0]
         out.alerts.append(
@@ -739,6 +767,17 @@ def unit_protocol(unit: Unit, base_dir: Path | None = None, source: str = "unit 
     return load_protocol(unit.protocol, source, base_dir)
 
 
+def _read_findings(
+    unit: Unit, store: ObservationStore, at: datetime
+) -> dict[str, list[CurrentFinding]]:
+    """The data-reading part of the review: each patient's window only
+    (:func:`vascplan.observations.reads.episode_findings`; what the window means for the
+    NIRS baseline fallback is said there)."""
+    from vascplan.observations.reads import episode_findings
+
+    return episode_findings(store, unit, unit.patients, at, include_withdrawn=True)
+
+
 def review_unit(
     unit: Unit,
     store: ObservationStore,
@@ -750,7 +789,8 @@ def review_unit(
     """Review every patient of ``unit`` from the store, as at ``at`` (aware).
 
     A patient's findings are found by ref, so that checks made before a move to another
-    bed still count.
+    bed still count; only the patients on the unit are read, each from the look-back
+    before their device's insertion (:mod:`vascplan.observations.reads`).
 
     Returns
     -------
@@ -759,11 +799,11 @@ def review_unit(
         when it is above 0).
     """
     protocol = protocol or unit_protocol(unit, base_dir)
-    # the store compares UTC text; withdrawn findings are read to be shown, never reviewed
-    every = store.current(unit.unit.key, until=at, include_withdrawn=True)
+    # withdrawn findings are read to be shown, never reviewed
+    by_ref = _read_findings(unit, store, at)
     patients = []
     for p in sorted(unit.patients, key=lambda p: p.bed):
-        mine = [f for f in every if f.entry.ref == p.ref]
+        mine = by_ref[p.ref]
         kept = [f for f in mine if f.value != ENTERED_IN_ERROR]
         patients.append(review_patient(unit, p, protocol, kept, at))
         patients[-1].notes.extend(withdrawal_notes(mine, at.tzinfo or UTC))

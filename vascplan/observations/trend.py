@@ -14,6 +14,7 @@ from __future__ import annotations
 import io
 import math
 import os
+from collections.abc import Iterator
 from dataclasses import dataclass, field
 from datetime import datetime, timedelta
 from pathlib import Path
@@ -25,6 +26,7 @@ from vascplan.observations.review import Alert, review_patient, unit_protocol
 from vascplan.observations.store import CurrentFinding, ObservationStore
 from vascplan.safety import CAUTION
 from vascplan.surveillance.protocol import Protocol
+from vascplan.surveillance.schedule import patient_schedule
 from vascplan.surveillance.unit import Patient, Unit
 
 LEG_DASH: dict[str, list[float]] = {"L": [], "R": [4, 2]}
@@ -157,21 +159,27 @@ class PatientTrend:
 def patient_trend(
     unit: Unit, patient: Patient, protocol: Protocol, findings: list[CurrentFinding], at: datetime
 ) -> PatientTrend:
-    """Alerts at each check (their onsets) and at ``at``, for one patient's page."""
+    """Alerts at each check (their onsets) and at ``at``, for one patient's page.
+
+    The schedule is computed once (insertion to ``at``) and the findings are walked once:
+    at each check the review sees :func:`check_summaries`' few findings, which give every
+    rule what the whole history up to that check gives it, so the cost grows with the
+    number of findings, not with their square.
+    """
     at_utc = utc(at)
     mine = sorted(
         (f for f in findings if utc(f.time) <= at_utc), key=lambda f: (utc(f.time), f.entry.id)
     )
     times = sorted({utc(f.time) for f in mine})
+    schedule = patient_schedule(unit, patient, protocol, patient.device.inserted, at)
     onsets: list[tuple[datetime, Alert]] = []
     before: set[tuple[str, str | None]] = set()
-    for t in times:
-        upto = [f for f in mine if utc(f.time) <= t]
-        alerts = review_patient(unit, patient, protocol, upto, t).alerts
+    for t, summary in check_summaries(mine):
+        alerts = review_patient(unit, patient, protocol, summary, t, schedule=schedule).alerts
         now = {(a.rule, a.side) for a in alerts}
         onsets += [(t, a) for a in alerts if (a.rule, a.side) not in before]
         before = now
-    final_review = review_patient(unit, patient, protocol, mine, at)
+    final_review = review_patient(unit, patient, protocol, mine, at, schedule=schedule)
     final = final_review.alerts
     base: dict[str, float] = {s: float(v) for s, v in patient.baseline.nirs.items()}
     for side in SIDES:
@@ -181,6 +189,65 @@ def patient_trend(
                 base[side] = float(first.value)
     overdue = [utc(o.due) for o in final_review.overdue]
     return PatientTrend(patient, mine, times, onsets, final, base, overdue)
+
+
+def _is_number(value: str) -> bool:
+    try:
+        float(value)
+    except ValueError:
+        return False
+    return True
+
+
+def check_summaries(
+    findings: list[CurrentFinding],
+) -> Iterator[tuple[datetime, list[CurrentFinding]]]:
+    """Walk findings once; at each check instant (UTC) yield a summary of the history.
+
+    ``findings`` are in time (UTC) then entry order, as :func:`patient_trend` sorts them.
+
+    The summary of the history up to a check holds, for every item and site: the first
+    finding; the findings at the latest instant it was recorded; and, for each word value
+    it has taken (``palpable``, ``normal``...), the last finding with that value before
+    that instant. Every review rule reads only these: the latest value of an item (later
+    wins), the first recorded value (the NIRS baseline fallback), the last earlier finding
+    with a given word value (a pedal signal that was present, skin that was normal), the
+    latest check time; no rule looks for an earlier number (a NIRS or a pressure is
+    compared with the first or the latest). The summary's size is bounded by the items,
+    sites and word values, not by the length of the record.
+    """
+    numeric: dict[str, bool] = {}
+    # Positions in ``findings`` (which is in time then entry order), per item and site.
+    first: dict[tuple[str, str], int] = {}
+    last_instant: dict[tuple[str, str], datetime] = {}
+    at_last: dict[tuple[str, str], list[int]] = {}
+    earlier: dict[tuple[str, str], dict[str, int]] = {}
+    i, n = 0, len(findings)
+    while i < n:
+        t = utc(findings[i].time)
+        while i < n and utc(findings[i].time) == t:
+            f = findings[i]
+            key = (f.item, f.site)
+            first.setdefault(key, i)
+            if last_instant.get(key) != t:
+                by_value = earlier.setdefault(key, {})
+                for g in at_last.get(key, ()):  # now strictly before the latest instant
+                    value = findings[g].value
+                    if value not in numeric:
+                        numeric[value] = _is_number(value)
+                    if not numeric[value]:
+                        by_value[value] = g
+                at_last[key] = [i]
+                last_instant[key] = t
+            else:
+                at_last[key].append(i)
+            i += 1
+        kept = set(first.values())
+        for by_value in earlier.values():
+            kept.update(by_value.values())
+        for group in at_last.values():
+            kept.update(group)
+        yield t, [findings[k] for k in sorted(kept)]
 
 
 def write_trend_pdf(
@@ -193,19 +260,16 @@ def write_trend_pdf(
     protocol: Protocol | None = None,
     base_dir: Path | None = None,
 ) -> Path:
-    """Write the trend PDF for ``patients`` (one page each) to ``path`` atomically."""
+    """Write the trend PDF for ``patients`` (one page each) to ``path`` atomically.
+
+    Each patient is read from the look-back before their device's insertion up to ``at``
+    (:mod:`vascplan.observations.reads`).
+    """
+    from vascplan.observations.reads import episode_findings
+
     protocol = protocol or unit_protocol(unit, base_dir)
-    every = store.current(unit.unit.key, until=at)
-    trends = [
-        patient_trend(
-            unit,
-            p,
-            protocol,
-            [f for f in every if f.entry.ref == p.ref],
-            at,
-        )
-        for p in patients
-    ]
+    by_ref = episode_findings(store, unit, patients, at)
+    trends = [patient_trend(unit, p, protocol, by_ref[p.ref], at) for p in patients]
     return atomic_write_bytes(path, render_trend_pdf(unit, protocol, trends, at))
 
 
