@@ -8,19 +8,24 @@ history (quadratic in the checks).
 
 from __future__ import annotations
 
+from datetime import UTC
+
 from vascplan.localtime import utc
-from vascplan.observations.findings import SIDES
-from vascplan.observations.review import UnitReview, review_patient
+from vascplan.observations.findings import ENTERED_IN_ERROR, SIDES
+from vascplan.observations.review import UnitReview, review_patient, withdrawal_notes
 from vascplan.observations.trend import PatientTrend
 
 
 def old_review_unit(unit, store, at, protocol):  # type: ignore[no-untyped-def]
     """The review before issue 16: the whole unit's history, filtered by ref."""
-    every = store.current(unit.unit.name, until=at)
-    patients = [
-        review_patient(unit, p, protocol, [f for f in every if f.entry.ref == p.ref], at)
-        for p in sorted(unit.patients, key=lambda p: p.bed)
-    ]
+    every = store.current(unit.unit.key, until=at, include_withdrawn=True)
+    patients = []
+    for p in sorted(unit.patients, key=lambda p: p.bed):
+        mine = [f for f in every if f.entry.ref == p.ref]
+        kept = [f for f in mine if f.value != ENTERED_IN_ERROR]
+        patients.append(review_patient(unit, p, protocol, kept, at))
+        # shown, never reviewed (a withdrawal's note came with the tamper-proof record)
+        patients[-1].notes.extend(withdrawal_notes(mine, at.tzinfo or UTC))
     return UnitReview(unit.unit.name, at, protocol.name, protocol.review.note, patients)
 
 
@@ -51,7 +56,7 @@ def old_trend_pdf(unit, store, patients, at, protocol) -> bytes:  # type: ignore
     """``obs trend`` before issue 16 (PDF bytes): the whole unit read, then the old walk."""
     from vascplan.observations.trend import render_trend_pdf
 
-    every = store.current(unit.unit.name, until=at)
+    every = store.current(unit.unit.key, until=at)
     trends = [
         old_patient_trend(unit, p, protocol, [f for f in every if f.entry.ref == p.ref], at)
         for p in patients

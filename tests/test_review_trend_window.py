@@ -32,7 +32,7 @@ def _compare(unit, store, at) -> int:  # type: ignore[no-untyped-def]
     assert to_json(review_unit(unit, store, at, protocol=protocol)) == to_json(
         old_review_unit(unit, store, at, protocol)
     )
-    every = store.current(unit.unit.name, until=at)
+    every = store.current(unit.unit.key, until=at)
     windowed = episode_findings(store, unit, unit.patients, at)
     seen = 0
     for p in unit.patients:
@@ -64,7 +64,7 @@ def test_generated_store_same_review_and_trend(generated):  # type: ignore[no-un
     unit = load_unit(unit_path)
     with open_store(str(db)) as store:
         # Discharged patients are in the store: the window must leave them out.
-        assert len({e.ref for e in store.entries(unit.unit.name)}) > len(unit.patients)
+        assert len({e.ref for e in store.entries(unit.unit.key)}) > len(unit.patients)
         for at in (last, last - timedelta(hours=7), last + timedelta(hours=5)):
             assert _compare(unit, store, at) > 0
 
@@ -129,9 +129,10 @@ def test_hand_record_corrections_and_look_back(tmp_path):  # type: ignore[no-unt
         add(hhmm, "temperature", "R", "warm")
         add(hhmm, "nirs", "L", "67", ref="DEMO-99")
     with open_store(str(tmp_path / "o.db")) as store:
-        ids = store.record(rows, unit=unit.unit.name, kind="import", source="test")
-        store.correct(ids[0], "", by="RN-B", reason="wrong leg", withdraw=True)  # 13:00 NIRS
-        store.correct(ids[12], "palpable", by="RN-B", reason="re-checked")  # 15:35 R-DPA
+        ids = store.record(rows, unit=unit.unit.key, unit_name=unit.unit.name, kind="import",
+                           source="test")
+        store.correct(ids[0], "", by="RN-B", reason="wrong leg", withdraw=True, unit=unit.unit.key)  # 13:00 NIRS
+        store.correct(ids[12], "palpable", by="RN-B", reason="re-checked", unit=unit.unit.key)  # 15:35 R-DPA
         at = _at("2026-12-01T17:50", unit)
         assert _compare(unit, store, at) >= 3
         # The withdrawn 13:00 value is not the baseline: the first recorded is 14:35's 69 %.
@@ -164,7 +165,7 @@ def test_earlier_stay_under_the_same_ref_is_not_read(tmp_path):  # type: ignore[
                 Finding(old, 1, "DEMO-11", "RN-A", "nirs", "R", "80"),
                 Finding(new, 1, "DEMO-11", "RN-A", "nirs", "R", "60"),
             ],
-            unit=unit.unit.name,
+            unit=unit.unit.key,
             kind="import",
             source="test",
         )

@@ -71,7 +71,8 @@ def run() -> dict[str, float]:
 
         with open_store(str(Path(tmp) / "obs.db")) as store:
             t = time.perf_counter()
-            store.record(findings, unit=unit.unit.name, kind="import", source="bench", lines=lines)
+            store.record(findings, unit=unit.unit.key, unit_name=unit.unit.name, kind="import",
+                         source="bench", lines=lines)
             out["ObservationStore.record"] = time.perf_counter() - t
             t = time.perf_counter()
             review_unit(unit, store, datetime.fromisoformat("2026-11-15T00:00+00:00"))

@@ -90,7 +90,7 @@ def measure(folder: Path, n: int, old_trend: bool) -> dict[str, float]:
     pdf = folder / "trend.pdf"
     out: dict[str, float] = {"findings": n}
     with open_store(str(db)) as store:
-        at = _last_check(store, unit.unit.name)
+        at = _last_check(store, unit.unit.key)
         review_unit(unit, store, at, protocol=protocol)  # warm caches (protocol, rules)
 
         def trend_data() -> None:
@@ -99,7 +99,7 @@ def measure(folder: Path, n: int, old_trend: bool) -> dict[str, float]:
                 patient_trend(unit, p, protocol, by_ref[p.ref], at)
 
         def old_trend_data() -> None:
-            every = store.current(unit.unit.name, until=at)
+            every = store.current(unit.unit.key, until=at)
             for p in patients:
                 old_patient_trend(unit, p, protocol, [f for f in every if f.entry.ref == p.ref], at)
 

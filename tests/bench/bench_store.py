@@ -45,6 +45,7 @@ BEDS = 40
 STEP = timedelta(hours=2)
 START = datetime(2026, 1, 5, 8, 0, tzinfo=UTC)
 UNIT_NAME = "Bench critical care (invented)"
+UNIT_ID = "bench-critical-care-invented"  # the unit file's id (the store's key)
 TZ = "Europe/London"
 SIZES = [int(x) for x in os.environ.get("VASCPLAN_BENCH_SIZES", "20000,200000").split(",")]
 ADD_REPEATS = 40
@@ -134,7 +135,8 @@ def generate_store(
             t += STEP
             if len(rows) >= 20_000 or stored + len(rows) >= findings:
                 batch = rows[: findings - stored]
-                ids = store.record(batch, unit=UNIT_NAME, kind="import", source="generator")
+                ids = store.record(batch, unit=UNIT_ID, unit_name=UNIT_NAME, kind="import",
+                                   source="generator")
                 stored += len(ids)
                 for entry_id in rng.sample(ids, max(1, len(ids) // 1000)):
                     store.correct(entry_id, "", by="RN-99", reason="invented", withdraw=True)
@@ -151,7 +153,7 @@ def _unit_text(stays: dict[int, tuple[str, datetime, datetime]], last: datetime)
     tz = ZoneInfo(TZ)
     lines = [
         "format: vascplan-unit/1",
-        f"unit: {{name: {UNIT_NAME}, timezone: {TZ}}}",
+        f"unit: {{name: {UNIT_NAME}, id: {UNIT_ID}, timezone: {TZ}}}",
         "shifts:",
         '  - {name: day, start: "07:30"}',
         '  - {name: night, start: "19:30"}',
@@ -185,7 +187,7 @@ def _add_once(store, at: datetime) -> tuple[float, float]:  # type: ignore[no-un
 
     f = Finding(at, 1, "DEMO-X", "RN-01", "nirs", "L", "64")
     t, c = time.perf_counter(), time.process_time()
-    store.record([f], unit=UNIT_NAME, kind="add", source="bench")
+    store.record([f], unit=UNIT_ID, unit_name=UNIT_NAME, kind="add", source="bench")
     return time.perf_counter() - t, time.process_time() - c
 
 
@@ -202,11 +204,11 @@ def _without_migration_4(db: Path, folder: Path) -> Path:
 
 def _review_reads(store, unit, at: datetime) -> tuple[float, float, int, int]:  # type: ignore[no-untyped-def]
     t = time.perf_counter()
-    whole = store.current(unit.unit.name, until=at)
+    whole = store.current(unit.unit.key, until=at)
     t_whole = time.perf_counter() - t
     t = time.perf_counter()
     windows = {p.ref: p.device.inserted for p in unit.patients}
-    mine = store.current_by_ref(unit.unit.name, windows, until=at)
+    mine = store.current_by_ref(unit.unit.key, windows, until=at)
     t_window = time.perf_counter() - t
     return t_whole, t_window, len(whole), sum(len(v) for v in mine.values())
 
