@@ -131,8 +131,9 @@ def test_hand_record_corrections_and_look_back(tmp_path):  # type: ignore[no-unt
     with open_store(str(tmp_path / "o.db")) as store:
         ids = store.record(rows, unit=unit.unit.key, unit_name=unit.unit.name, kind="import",
                            source="test")
-        store.correct(ids[0], "", by="RN-B", reason="wrong leg", withdraw=True, unit=unit.unit.key)  # 13:00 NIRS
-        store.correct(ids[12], "palpable", by="RN-B", reason="re-checked", unit=unit.unit.key)  # 15:35 R-DPA
+        key = unit.unit.key
+        store.correct(ids[0], "", by="RN-B", reason="wrong leg", withdraw=True, unit=key)  # 13:00
+        store.correct(ids[12], "palpable", by="RN-B", reason="re-checked", unit=key)  # 15:35 DPA
         at = _at("2026-12-01T17:50", unit)
         assert _compare(unit, store, at) >= 3
         # The withdrawn 13:00 value is not the baseline: the first recorded is 14:35's 69 %.
