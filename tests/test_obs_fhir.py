@@ -7,6 +7,8 @@ Bundle, so the R4B models validate our R4 Observations (said in the README).
 
 from __future__ import annotations
 
+import csv
+import io
 import json
 
 import pytest
@@ -164,3 +166,146 @@ def test_fhir_abi_from_brachial_pressures_validates(tmp_path):
     ]
     assert [(a["bodySite"]["text"], a["valueQuantity"]["value"]) for a in abi] == [("L", 0.75)]
     assert len(abi[0]["derivedFrom"]) == 4  # both ankle and both arm pressures were read
+
+
+THREE_TIMES = (
+    "time,bed,ref,by,item,site,value\n"
+    "2026-12-01T08:00,1,DEMO-11,RN-A,nirs,R,66\n"
+    "2026-12-01T12:00,1,DEMO-11,RN-A,nirs,R,64\n"
+    "2026-12-01T12:00,1,DEMO-11,RN-A,pressure,R-PTA,110\n"
+    "2026-12-01T12:00,1,DEMO-11,RN-A,pressure,R-ARM,130\n"
+    "2026-12-01T16:00,1,DEMO-11,RN-A,nirs,R,63\n"
+)
+
+
+def _store_with_three_times(tmp_path, db_url):  # noqa: F811
+    p = tmp_path / "c.csv"
+    p.write_text(THREE_TIMES)
+    assert run("obs", "import", p, "--unit", UNIT, "--db", db_url).exit_code == 0
+    r = run("obs", "correct", "--entry", 2, "--value", "60", "--by", "RN-B", "--reason", "misread",
+            "--db", db_url)  # fmt: skip
+    assert r.exit_code == 0, r.output
+
+
+def test_ndjson_one_valid_observation_a_line(tmp_path, db_url):  # noqa: F811
+    Observation = pytest.importorskip("fhir.resources.R4B.observation").Observation
+    _store_with_three_times(tmp_path, db_url)
+    out = tmp_path / "o.ndjson"
+    r = run("obs", "export", "--unit", UNIT, "--format", "ndjson", "-o", out, "--db", db_url)
+    assert r.exit_code == 0, r.output
+    lines = out.read_text().splitlines()
+    # FHIR bulk data (NDJSON): one resource a line; 5 findings and the right leg's ABI
+    # (110 / 130 = 0.85, Aboyans 2012: ankle over the higher arm pressure).
+    assert len(lines) == 5 + 1
+    docs = [json.loads(line) for line in lines]
+    for doc in docs:
+        Observation.model_validate(doc)  # raises on any invalid element
+        assert doc["meta"]["tag"][0]["display"] == CAUTION
+    ids = {d["id"] for d in docs}
+    assert len(ids) == len(docs)
+    (abi,) = [d for d in docs if d["code"]["coding"][0]["code"] == "446841001"]
+    assert abi["valueQuantity"]["value"] == 0.85
+    # Outside a Bundle a reference names the resource by type and id, and resolves here.
+    refs = [x["reference"] for x in abi["derivedFrom"]]
+    assert len(refs) == 2 and all(x.startswith("Observation/") for x in refs)
+    assert {x.removeprefix("Observation/") for x in refs} <= ids
+    (corrected,) = [d for d in docs if d["status"] == "corrected"]
+    assert corrected["valueQuantity"]["value"] == 60.0
+
+
+@pytest.mark.parametrize(
+    ("since", "until", "nirs"),
+    [
+        ("2026-12-01T10:00", None, [60.0, 63.0]),  # 12:00 (corrected 64 -> 60) and 16:00
+        (None, "2026-12-01T12:00", [66.0, 60.0]),  # bounds included
+        ("2026-12-01T12:00", "2026-12-01T12:00", [60.0]),
+        ("2026-12-01T13:00+01:00", "2026-12-01T12:00:00Z", [60.0]),  # offsets honoured
+        ("2026-12-01T17:00", None, []),
+    ],
+)
+def test_export_window(tmp_path, db_url, since, until, nirs):  # noqa: F811
+    _store_with_three_times(tmp_path, db_url)
+    args = ["obs", "export", "--unit", UNIT, "--format", "fhir", "--db", db_url]
+    args += ["--since", since] if since else []
+    args += ["--until", until] if until else []
+    r = run(*args)
+    assert r.exit_code == 0, r.output
+    doc = json.loads(r.stdout)
+    Bundle.model_validate(doc)
+    obs = [e["resource"] for e in doc.get("entry", [])]
+    got = [o["valueQuantity"]["value"] for o in obs if o["code"]["coding"][0]["code"] == "nirs"]
+    assert got == nirs
+    # The CSV takes the same window: the same originals, and the correction with its original.
+    r = run(*[a if a != "fhir" else "csv" for a in args])
+    assert r.exit_code == 0, r.output
+    rows = list(csv.DictReader(io.StringIO(r.stdout)))
+    originals = [float(x["value"]) for x in rows if x["item"] == "nirs" and not x["corrects"]]
+    assert len(originals) == len(nirs)
+    assert all(x["time"] for x in rows)
+
+
+@pytest.mark.parametrize(
+    ("args", "message"),
+    [
+        (["--since", "yesterday"], "error: --since: 'yesterday' is not an ISO 8601 time"),
+        (["--until", "2026-13-01T00:00"], "error: --until: '2026-13-01T00:00' is not an ISO"),
+        (
+            ["--since", "2026-12-02T00:00", "--until", "2026-12-01T00:00"],
+            "error: --since: 2026-12-02T00:00 is after --until 2026-12-01T00:00",
+        ),
+    ],
+)
+def test_export_bad_window_is_one_line(tmp_path, args, message):
+    r = run("obs", "export", "--unit", UNIT, "--format", "ndjson", "--db", tmp_path / "o.db",
+            *args)  # fmt: skip
+    assert r.exit_code == 2
+    assert r.stderr.startswith(message) and r.stderr.count("\n") == 1
+    assert "Traceback" not in r.output
+
+
+def test_empty_record_is_a_valid_bundle(tmp_path):
+    r = run("obs", "export", "--unit", UNIT, "--format", "fhir", "--db", tmp_path / "o.db")
+    assert r.exit_code == 0, r.output
+    doc = json.loads(r.stdout)
+    Bundle.model_validate(doc)
+    assert "entry" not in doc  # FHIR JSON allows no empty array
+    r = run("obs", "export", "--unit", UNIT, "--format", "ndjson", "--db", tmp_path / "o.db")
+    assert r.exit_code == 0 and r.stdout == ""
+
+
+def test_bundle_writer_holds_no_more_than_one_entry(tmp_path):
+    # 5,000 findings as a whole Bundle would be several MB of dicts (about 3 KB of JSON
+    # each); written as a stream the traced peak stays under 1 MB and does not grow with N.
+    import tracemalloc
+    from datetime import UTC, datetime, timedelta
+
+    from vascplan.observations.fhir import write_bundle
+    from vascplan.observations.store import CurrentFinding, Entry
+    from vascplan.surveillance.unit import load_unit
+
+    unit = load_unit(UNIT)
+    t0 = datetime(2026, 12, 1, tzinfo=UTC)
+
+    def findings(n):  # type: ignore[no-untyped-def]
+        for i in range(n):
+            t = t0 + timedelta(minutes=i)
+            e = Entry(i + 1, 1, "U", 1, "DEMO-11", t, t.isoformat(), "RN-A", "nirs", "R", "64",
+                      None, None, t)  # fmt: skip
+            yield CurrentFinding(e, "64", None)
+
+    class Sink:
+        size = 0
+
+        def write(self, text: str) -> None:
+            self.size += len(text)
+
+    peaks = []
+    for n in (500, 5000):
+        sink = Sink()
+        tracemalloc.start()
+        assert write_bundle(sink, unit, findings(n), t0) == n  # type: ignore[arg-type]
+        peaks.append(tracemalloc.get_traced_memory()[1])
+        tracemalloc.stop()
+        assert sink.size > n * 500
+    assert peaks[1] < 1_000_000
+    assert peaks[1] < 2 * peaks[0]

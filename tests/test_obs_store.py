@@ -142,7 +142,11 @@ def test_newer_schema_is_refused(tmp_path):
         )
     with pytest.raises(StoreError) as exc:
         open_store(str(path))
-    assert "has schema version 99, newer than this vascplan knows" in str(exc.value)
+    # The wording promised by issue 16 (store part): version found, version known, what to do.
+    assert str(exc.value).endswith(
+        f"this store is at schema version 99; this vascplan knows up to {SCHEMA_VERSION}: "
+        "upgrade vascplan"
+    )
 
 
 @pytest.mark.parametrize("umask", [0o000, 0o022, 0o077, 0o277])
@@ -242,3 +246,93 @@ def test_concurrent_duplicate_is_refused_by_the_index(db_url):  # noqa: F811
         assert store.count("U") == 1
         with store.engine.connect() as conn:
             assert conn.execute(sa.text("SELECT count(*) FROM obs_batch")).scalar() == 1
+
+
+def _three_checks(store) -> list[int]:  # type: ignore[no-untyped-def]
+    """Two patients; checks at T0, T0+1h, T0+2h; the 1 h NIRS of DEMO-11 corrected."""
+    ids = store.record(
+        [
+            _f(minutes=0),
+            _f(minutes=60, value="60"),
+            _f(minutes=120, value="58"),
+            _f(minutes=60, bed=2, ref="DEMO-12", value="70"),
+        ],
+        unit="U",
+        kind="import",
+        source="t",
+    )
+    store.correct(ids[1], "62", by="RN-B", reason="misread")
+    return ids
+
+
+def test_window_bounds_are_inclusive_and_carry_corrections(db_url):  # noqa: F811
+    with open_store(db_url) as store:
+        _three_checks(store)
+        hour = timedelta(hours=1)
+        # since T0+1h, until T0+1h: the two 1 h originals and the correction (which carries
+        # its original's check time), nothing else.
+        rows = store.entries("U", since=T0 + hour, until=T0 + hour)
+        assert [(r.ref, r.value, r.corrects is not None) for r in rows] == [
+            ("DEMO-11", "60", False),
+            ("DEMO-12", "70", False),
+            ("DEMO-11", "62", True),
+        ]
+        # A lower bound within a second rounds up: stored times are whole seconds.
+        assert [r.value for r in store.entries("U", since=T0 + timedelta(microseconds=1))][
+            0
+        ] == "60"
+        cur = store.current("U", ref="DEMO-11", since=T0 + hour)
+        assert [f.value for f in cur] == ["62", "58"]
+        # The streamed current view equals the listed one.
+        assert [(f.entry.id, f.value) for f in store.iter_current("U")] == [
+            (f.entry.id, f.value) for f in store.current("U")
+        ]
+
+
+def test_current_by_ref_reads_each_patient_from_their_own_start(db_url):  # noqa: F811
+    with open_store(db_url) as store:
+        _three_checks(store)
+        got = store.current_by_ref(
+            "U",
+            {"DEMO-11": T0 + timedelta(minutes=90), "DEMO-12": None, "DEMO-99": None},
+            until=T0 + timedelta(minutes=120),
+        )
+        assert {ref: [f.value for f in fs] for ref, fs in got.items()} == {
+            "DEMO-11": ["58"],
+            "DEMO-12": ["70"],
+            "DEMO-99": [],
+        }
+
+
+def test_stream_current_holds_one_instant_and_matches_the_list():
+    from vascplan.observations.store import Entry, current_findings, stream_current
+
+    def row(i, minutes, value, corrects=None):  # type: ignore[no-untyped-def]
+        t = T0 + timedelta(minutes=minutes)
+        return Entry(i, 1, "U", 1, "DEMO-11", t, t.isoformat(), "RN-A", "nirs", "L", value,
+                     corrects, None, t)  # fmt: skip
+
+    rows = [row(1, 0, "64"), row(2, 0, "61", 1), row(4, 0, ENTERED_IN_ERROR, 1),
+            row(3, 30, "60"), row(5, 30, "59", 3), row(6, 30, "57", 3)]  # fmt: skip
+    streamed = [(f.entry.id, f.value) for f in stream_current(iter(rows), True)]
+    assert streamed == [(f.entry.id, f.value) for f in current_findings(rows, True)]
+    assert streamed == [(1, ENTERED_IN_ERROR), (3, "57")]  # the latest correction wins
+
+
+def test_streamed_rows_come_in_pages_and_let_writers_in(db_url, monkeypatch):  # noqa: F811
+    from vascplan.observations import store as store_module
+
+    monkeypatch.setattr(store_module, "BUSY_TIMEOUT_S", 0.2)  # a held lock fails fast
+    with open_store(db_url) as store:
+        _three_checks(store)  # 5 rows: 4 originals and 1 correction
+        expected = [e.id for e in store.entries("U")]
+        rows = store.iter_entries("U", chunk=2)
+        first = [next(rows).id for _ in range(3)]
+        # Between pages no read is open: another writer gets in at once.
+        with open_store(db_url) as other:
+            (late,) = other.record([_f(minutes=180)], unit="U", kind="add", source="t")
+        rest = [e.id for e in rows]
+        assert first + rest == [*expected, late]  # every row once, in order, the late one last
+        assert [e.id for e in store.iter_entries("U", chunk=1, since=T0 + timedelta(hours=2))] == [
+            e.id for e in store.entries("U", since=T0 + timedelta(hours=2))
+        ]

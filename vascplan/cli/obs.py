@@ -309,12 +309,36 @@ def trend(
 
 
 @obs.command(
-    "export", epilog="Example: vascplan obs export --unit unit.yaml --format fhir -o obs.json"
+    "export",
+    epilog=(
+        "Example: vascplan obs export --unit unit.yaml --format fhir -o obs.json\n\n"
+        "Example: vascplan obs export --unit unit.yaml --format ndjson "
+        "--since 2026-12-01T00:00 --until 2026-12-01T23:59 -o obs.ndjson"
+    ),
 )
 @click.option(
     "--unit", "unit_path", required=True, type=click.Path(dir_okay=False), help="Unit file."
 )
-@click.option("--format", "fmt", type=click.Choice(["fhir", "csv"]), required=True)
+@click.option(
+    "--format",
+    "fmt",
+    type=click.Choice(["fhir", "ndjson", "csv"]),
+    required=True,
+    help="fhir: one HL7 FHIR R4 Bundle; ndjson: one FHIR Observation a line (bulk data); "
+    "csv: the long-form CSV with corrections.",
+)
+@click.option(
+    "--since",
+    "since_text",
+    default=None,
+    help="Only checks made at or after this time (ISO 8601; local to the unit without an offset).",
+)
+@click.option(
+    "--until",
+    "until_text",
+    default=None,
+    help="Only checks made at or before this time (ISO 8601; local to the unit without an offset).",
+)
 @click.option(
     "-o",
     "--output",
@@ -323,36 +347,52 @@ def trend(
     help="Write here instead of standard output.",
 )
 @_db_option
-def export(unit_path: str, fmt: str, output: str | None, db: str | None) -> None:
-    """Export the unit's findings: an HL7 FHIR R4 Bundle, or the long-form CSV with corrections."""
-    from vascplan.fileio import atomic_write_text
+def export(
+    unit_path: str,
+    fmt: str,
+    since_text: str | None,
+    until_text: str | None,
+    output: str | None,
+    db: str | None,
+) -> None:
+    """Export the unit's findings as FHIR (a Bundle or NDJSON) or the long-form CSV.
+
+    Written as it is read: memory does not grow with the record.
+    """
+    from vascplan.observations.export import atomic_text_output, write_export
+    from vascplan.surveillance.unit import parse_local_time
 
     unit = _unit(unit_path)
-    with _open_for_reading(db) as store:
-        rows = store.entries(unit.unit.name)
-    if fmt == "csv":
-        from vascplan.observations.csvio import export_rows
-
-        text = export_rows(rows)
-    else:
-        from vascplan.observations.fhir import bundle
-
-        text = (
-            json.dumps(
-                bundle(unit, rows, generated=datetime.now(UTC)), indent=2, ensure_ascii=False
-            )
-            + "\n"
+    tz = unit.unit.tz
+    since = parse_local_time(since_text, tz, "--since") if since_text is not None else None
+    until = parse_local_time(until_text, tz, "--until") if until_text is not None else None
+    if since is not None and until is not None and since > until:
+        raise InputError(
+            "--since", "", f"{since_text} is after --until {until_text}; give since <= until"
         )
-    if output:
-        atomic_write_text(output, text, mode=0o600)
-        click.echo(f"wrote {output} ({len(rows)} stored rows)")
-        click.echo(f"Caution: {CAUTION}")
-    else:
-        click.echo(text, nl=False)
-        # The FHIR Bundle carries the caution in meta.tag. A CSV has no place for it: it goes
-        # to a terminal on stderr, never into a captured stream that a script parses.
-        if fmt == "csv" and sys.stderr.isatty():
-            click.echo(f"Caution: {CAUTION}", err=True)
+    generated = datetime.now(UTC)
+    with _open_for_reading(db) as store:
+        if output:
+            with atomic_text_output(output, mode=0o600) as fh:
+                n = write_export(
+                    fh, store, unit, fmt, generated=generated, since=since, until=until
+                )
+            click.echo(f"wrote {output} ({n} stored rows)")
+            click.echo(f"Caution: {CAUTION}")
+            return
+        write_export(
+            sys.stdout,
+            store,
+            unit,
+            fmt,
+            generated=generated,
+            since=since,
+            until=until,
+        )
+    # FHIR carries the caution in meta.tag. A CSV has no place for it: it goes to a terminal
+    # on stderr, never into a captured stream that a script parses.
+    if fmt == "csv" and sys.stderr.isatty():
+        click.echo(f"Caution: {CAUTION}", err=True)
 
 
 def _at(text: str | None, unit) -> datetime:

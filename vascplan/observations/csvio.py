@@ -11,7 +11,8 @@ from __future__ import annotations
 import csv
 import io
 import os
-from collections.abc import Sequence
+from collections.abc import Iterable, Sequence
+from typing import Any, TextIO
 
 from vascplan.errors import InputError
 from vascplan.fileio import read_text_file
@@ -196,13 +197,35 @@ def export_rows(rows: Sequence) -> str:  # Sequence[Entry]
     on every earlier correction of it (empty on the row that stands).
     Times are written in the unit's local time with their UTC offset.
     """
+    out = io.StringIO()
+    write_export(out, rows)
+    return out.getvalue()
+
+
+def write_export(out: TextIO, rows: Iterable) -> int:  # Iterable[Entry]
+    """Write the rows of :func:`export_rows` to ``out`` as they come; return the rows written.
+
+    ``rows`` must come in check-time order (as the store gives them). A correction carries
+    its original's check time, so ``superseded_by`` is settled within one instant: only
+    one instant's rows are held at a time, whatever the record's length.
+    """
+    w = csv.writer(out, lineterminator="\n")
+    w.writerow(EXPORT_COLUMNS)
+    n = 0
+    group: list = []
+    for e in rows:
+        if group and e.time != group[0].time:
+            n += _write_instant(w, group)
+            group = []
+        group.append(e)
+    return n + _write_instant(w, group)
+
+
+def _write_instant(w: Any, rows: list) -> int:  # rows: list[Entry] of one instant
     latest: dict[int, int] = {}
     for e in rows:
         if e.corrects is not None:
             latest[e.corrects] = max(latest.get(e.corrects, 0), e.id)
-    out = io.StringIO()
-    w = csv.writer(out, lineterminator="\n")
-    w.writerow(EXPORT_COLUMNS)
     for e in rows:
         w.writerow(
             (
@@ -219,7 +242,7 @@ def export_rows(rows: Sequence) -> str:  # Sequence[Entry]
                 _superseded_by(e, latest),
             )
         )
-    return out.getvalue()
+    return len(rows)
 
 
 def _superseded_by(e, latest: dict[int, int]) -> int | str:  # e: Entry

@@ -13,10 +13,11 @@ below, and the README says which is which. Units are UCUM.
 
 from __future__ import annotations
 
+import json
 import uuid
-from collections.abc import Sequence
+from collections.abc import Callable, Iterable, Iterator, Sequence
 from datetime import datetime
-from typing import Any
+from typing import Any, TextIO
 
 from vascplan.observations.abi import ankle_brachial_index, arm_sites
 from vascplan.observations.findings import ENTERED_IN_ERROR, ITEMS, SIDES
@@ -120,16 +121,24 @@ def _observation(unit: str, f: CurrentFinding) -> dict[str, Any]:
     return res
 
 
-def _abi_observations(
-    unit: Unit, findings: list[CurrentFinding], urls: dict[int, str]
-) -> list[dict[str, Any]]:
-    out = []
-    by_ref: dict[str, list[CurrentFinding]] = {}
-    for f in findings:
+class _Pressures:
+    """The latest pressure per patient and site, kept while findings stream past.
+
+    Memory grows with patients and sites, never with the number of findings.
+    """
+
+    def __init__(self) -> None:
+        self.by_ref: dict[str, dict[str, CurrentFinding]] = {}
+
+    def see(self, f: CurrentFinding) -> None:
         if f.item == "pressure" and f.value != ENTERED_IN_ERROR:
-            by_ref.setdefault(f.entry.ref, []).append(f)
-    for ref, rows in by_ref.items():
-        latest = {f.site: f for f in rows}  # time order: the latest per site wins
+            self.by_ref.setdefault(f.entry.ref, {})[f.site] = f  # time order: the latest wins
+
+
+def _abi_observations(
+    unit: Unit, pressures: _Pressures, reference: Callable[[int], str]
+) -> Iterator[dict[str, Any]]:
+    for ref, latest in pressures.by_ref.items():
         arms_at = arm_sites(latest)
         arms = {s: float(latest[a].value) for s, a in arms_at.items()}
         for side in SIDES:
@@ -142,33 +151,86 @@ def _abi_observations(
             used = list(ankle_rows.values()) + [latest[a] for a in arms_at.values()]
             when = max(f.time for f in used)
             system, code, display = ABI_CODE
-            out.append(
-                {
-                    "resourceType": "Observation",
-                    "status": "final",
-                    "category": [{"coding": [{"system": CATEGORY_SYSTEM, "code": "exam"}]}],
-                    "code": {
-                        "coding": [{"system": system, "code": code, "display": display}],
-                        "text": "ankle-brachial index",
-                    },
-                    "subject": {
-                        "identifier": {"system": PATIENT_REF, "value": ref},
-                        "display": ref,
-                    },
-                    "effectiveDateTime": when.astimezone(unit.unit.tz).isoformat(),
-                    "bodySite": {"coding": [{"system": LOCAL_SITE, "code": side}], "text": side},
-                    "valueQuantity": {"value": r.index, "unit": "1", "system": UCUM, "code": "1"},
-                    "interpretation": [{"text": f"{r.band} (2016 AHA/ACC bands)"}],
-                    "derivedFrom": [{"reference": urls[f.entry.id]} for f in used],
-                    "note": [
-                        {
-                            "text": "Computed per Aboyans et al., Circulation 2012;126:2890: "
-                            f"{r.basis}."
-                        }
-                    ],
-                }
-            )
-    return out
+            yield {
+                "resourceType": "Observation",
+                "status": "final",
+                "category": [{"coding": [{"system": CATEGORY_SYSTEM, "code": "exam"}]}],
+                "code": {
+                    "coding": [{"system": system, "code": code, "display": display}],
+                    "text": "ankle-brachial index",
+                },
+                "subject": {
+                    "identifier": {"system": PATIENT_REF, "value": ref},
+                    "display": ref,
+                },
+                "effectiveDateTime": when.astimezone(unit.unit.tz).isoformat(),
+                "bodySite": {"coding": [{"system": LOCAL_SITE, "code": side}], "text": side},
+                "valueQuantity": {"value": r.index, "unit": "1", "system": UCUM, "code": "1"},
+                "interpretation": [{"text": f"{r.band} (2016 AHA/ACC bands)"}],
+                "derivedFrom": [{"reference": reference(f.entry.id)} for f in used],
+                "note": [
+                    {"text": f"Computed per Aboyans et al., Circulation 2012;126:2890: {r.basis}."}
+                ],
+            }
+
+
+def entries(
+    unit: Unit, findings: Iterable[CurrentFinding], *, standalone: bool = False
+) -> Iterator[dict[str, Any]]:
+    """Bundle entries (``fullUrl`` and ``resource``), one finding at a time.
+
+    One Observation per finding in the order given, then the derived ankle-brachial
+    indices (from each patient's latest pressures among ``findings``). Memory holds the
+    latest pressures per patient, never the findings.
+
+    Parameters
+    ----------
+    unit : Unit
+        The unit file (its name and time zone).
+    findings : iterable of CurrentFinding
+        The findings as they stand, withdrawn ones included, in time order (as
+        :meth:`~vascplan.observations.store.ObservationStore.iter_current` yields them).
+    standalone : bool
+        Resources to stand outside a Bundle (NDJSON): each gets a logical ``id`` (the
+        UUID of its ``fullUrl``), the caution in ``meta.tag``, and ``derivedFrom`` refers
+        to ``Observation/<id>``.
+    """
+    name = unit.unit.name
+
+    def reference(entry_id: int) -> str:
+        url = _full_url(name, str(entry_id))
+        return f"Observation/{url.removeprefix('urn:uuid:')}" if standalone else url
+
+    def wrap(url: str, resource: dict[str, Any]) -> dict[str, Any]:
+        if standalone:
+            resource = {
+                "resourceType": resource["resourceType"],
+                "id": url.removeprefix("urn:uuid:"),
+                "meta": {"tag": [_NOTICE]},
+                **resource,
+            }
+        return {"fullUrl": url, "resource": resource}
+
+    pressures = _Pressures()
+    for f in findings:
+        pressures.see(f)
+        yield wrap(_full_url(name, str(f.entry.id)), _observation(name, f))
+    for i, obs in enumerate(_abi_observations(unit, pressures, reference)):
+        key = f"abi:{obs['subject']['identifier']['value']}:{obs['bodySite']['text']}:{i}"
+        yield wrap(_full_url(name, key), obs)
+
+
+_NOTICE = {"system": "urn:vascplan:notice", "code": "decision-support", "display": CAUTION}
+"""The caution as a FHIR tag (a Bundle or an Observation has no place for free text)."""
+
+
+def _header(generated: datetime) -> dict[str, Any]:
+    return {
+        "resourceType": "Bundle",
+        "meta": {"tag": [_NOTICE]},
+        "type": "collection",
+        "timestamp": generated.replace(microsecond=0).isoformat(),
+    }
 
 
 def bundle(unit: Unit, rows: Sequence[Entry], generated: datetime) -> dict[str, Any]:
@@ -187,27 +249,50 @@ def bundle(unit: Unit, rows: Sequence[Entry], generated: datetime) -> dict[str, 
     Returns
     -------
     dict
-        JSON-ready. The caution is carried in ``meta.tag`` (a Bundle has no note element).
+        JSON-ready, whole in memory (see :func:`write_bundle` for a long record). The
+        caution is carried in ``meta.tag`` (a Bundle has no note element).
     """
-    name = unit.unit.name
-    findings = current_findings(rows, include_withdrawn=True)
-    entries = []
-    urls: dict[int, str] = {}
-    for f in findings:
-        url = _full_url(name, str(f.entry.id))
-        urls[f.entry.id] = url
-        entries.append({"fullUrl": url, "resource": _observation(name, f)})
-    for i, obs in enumerate(_abi_observations(unit, findings, urls)):
-        key = f"abi:{obs['subject']['identifier']['value']}:{obs['bodySite']['text']}:{i}"
-        entries.append({"fullUrl": _full_url(name, key), "resource": obs})
-    return {
-        "resourceType": "Bundle",
-        "meta": {
-            "tag": [
-                {"system": "urn:vascplan:notice", "code": "decision-support", "display": CAUTION}
-            ]
-        },
-        "type": "collection",
-        "timestamp": generated.replace(microsecond=0).isoformat(),
-        "entry": entries,
-    }
+    out = _header(generated)
+    found = list(entries(unit, current_findings(rows, include_withdrawn=True)))
+    if found:  # FHIR JSON has no empty arrays
+        out["entry"] = found
+    return out
+
+
+def write_bundle(
+    out: TextIO, unit: Unit, findings: Iterable[CurrentFinding], generated: datetime
+) -> int:
+    """Write the Bundle of :func:`bundle` to ``out`` as it goes; return the entries written.
+
+    The JSON is written entry by entry (one entry a line), so memory does not grow with
+    the record; the text parses to the same document as :func:`bundle` gives.
+    """
+    head = json.dumps(_header(generated), indent=2, ensure_ascii=False)
+    stream = entries(unit, findings)
+    first = next(stream, None)
+    if first is None:
+        out.write(head + "\n")
+        return 0
+    out.write(head[: -len("\n}")] + ',\n  "entry": [\n    ')
+    out.write(json.dumps(first, ensure_ascii=False))
+    n = 1
+    for entry in stream:
+        out.write(",\n    ")
+        out.write(json.dumps(entry, ensure_ascii=False))
+        n += 1
+    out.write("\n  ]\n}\n")
+    return n
+
+
+def write_ndjson(out: TextIO, unit: Unit, findings: Iterable[CurrentFinding]) -> int:
+    """Write one Observation a line (FHIR bulk data's NDJSON); return the lines written.
+
+    Each resource stands alone: a logical id, the caution in ``meta.tag``, and
+    ``derivedFrom`` as ``Observation/<id>`` (see :func:`entries`).
+    """
+    n = 0
+    for entry in entries(unit, findings, standalone=True):
+        out.write(json.dumps(entry["resource"], ensure_ascii=False))
+        out.write("\n")
+        n += 1
+    return n

@@ -1,7 +1,10 @@
 """The append-only observation store: SQLite by default, PostgreSQL for a shared record.
 
 One schema through SQLAlchemy Core, versioned by ordered migration functions recorded in
-a ``schema_version`` table. Nothing is ever updated or deleted: a correction is a new
+a ``schema_version`` table: each migration is frozen once released (migration 1 builds the
+tables exactly as first released), later changes are new numbered migrations, applied in
+order, one transaction each, so an existing store upgrades in place; a store made by a
+newer vascplan is refused with one line. Nothing is ever updated or deleted: a correction is a new
 entry pointing to the entry it corrects, with who and why, and triggers on both backends
 refuse ``UPDATE`` and ``DELETE``. Every write is one transaction, so a batch lands whole
 or not at all. A new SQLite file is created readable and writable by its owner only.
@@ -14,9 +17,9 @@ from __future__ import annotations
 import contextlib
 import os
 import stat
-from collections.abc import Callable, Iterable, Iterator, Sequence
+from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass
-from datetime import UTC, datetime
+from datetime import UTC, datetime, timedelta
 from pathlib import Path
 
 import sqlalchemy as sa
@@ -24,106 +27,39 @@ from sqlalchemy.engine import Connection, Engine
 
 from vascplan.errors import InputError, StoreError
 from vascplan.observations.findings import ENTERED_IN_ERROR, Finding, check_value
+from vascplan.observations.migrations import (
+    MIGRATIONS,
+    SCHEMA_VERSION,
+    batches,
+    entries,
+    metadata,
+    migrate,
+    schema_version,
+    stored_version,
+)
+
+__all__ = [
+    "MIGRATIONS",
+    "SCHEMA_VERSION",
+    "CurrentFinding",
+    "Entry",
+    "ObservationStore",
+    "batches",
+    "current_findings",
+    "default_db_path",
+    "entries",
+    "metadata",
+    "open_store",
+    "resolve_db",
+    "schema_version",
+    "stream_current",
+]
 
 DB_FILE_NAME = "observations.db"
 BUSY_TIMEOUT_S = 60.0
 """How long an SQLite writer waits for another writer before giving up [s] (common practice)."""
 CHUNK_ROWS = 500
 """Rows sent to the database per statement inside one import transaction."""
-
-metadata = sa.MetaData()
-
-schema_version = sa.Table(
-    "schema_version",
-    metadata,
-    sa.Column("version", sa.Integer, primary_key=True, autoincrement=False),
-    sa.Column("description", sa.Text, nullable=False),
-    sa.Column("applied_at", sa.Text, nullable=False),
-)
-
-batches = sa.Table(
-    "obs_batch",
-    metadata,
-    sa.Column("id", sa.Integer, primary_key=True),
-    sa.Column("kind", sa.Text, nullable=False),  # add | import | correct
-    sa.Column("source", sa.Text, nullable=False),
-    sa.Column("unit", sa.Text, nullable=False),
-    sa.Column("entered_at", sa.Text, nullable=False),
-    sa.Column("rows", sa.Integer, nullable=False),
-)
-
-entries = sa.Table(
-    "obs_entry",
-    metadata,
-    sa.Column("id", sa.Integer, primary_key=True),
-    sa.Column("batch_id", sa.Integer, sa.ForeignKey("obs_batch.id"), nullable=False),
-    sa.Column("unit", sa.Text, nullable=False),
-    sa.Column("bed", sa.Integer, nullable=False),
-    sa.Column("ref", sa.Text, nullable=False),
-    sa.Column("time_utc", sa.Text, nullable=False),  # 2026-12-01T14:20:00+00:00
-    sa.Column("time_local", sa.Text, nullable=False),  # as the unit's clock showed it
-    sa.Column("recorded_by", sa.Text, nullable=False),
-    sa.Column("item", sa.Text, nullable=False),
-    sa.Column("site", sa.Text, nullable=False),
-    sa.Column("value", sa.Text, nullable=False),
-    sa.Column("corrects", sa.Integer, sa.ForeignKey("obs_entry.id"), nullable=True),
-    sa.Column("reason", sa.Text, nullable=True),
-    sa.Column("entered_at", sa.Text, nullable=False),
-    sa.Index("obs_entry_patient_time", "unit", "ref", "time_utc"),
-)
-
-
-# ---------------------------------------------------------------------------
-# Migrations: append new ones at the end; never edit one that has shipped.
-
-
-def _m1_tables(conn: Connection) -> None:
-    metadata.create_all(conn, tables=[batches, entries])
-
-
-_SQLITE_GUARDS = [
-    f"CREATE TRIGGER {table}_no_{verb.lower()} BEFORE {verb} ON {table} "
-    "BEGIN SELECT RAISE(ABORT, 'observation record is append-only'); END"
-    for table in ("obs_entry", "obs_batch", "schema_version")
-    for verb in ("UPDATE", "DELETE")
-]
-
-_PG_GUARDS = [
-    "CREATE FUNCTION vascplan_refuse_change() RETURNS trigger LANGUAGE plpgsql AS "
-    "$$ BEGIN RAISE EXCEPTION 'observation record is append-only'; END $$",
-    *[
-        f"CREATE TRIGGER {table}_append_only BEFORE UPDATE OR DELETE ON {table} "
-        "FOR EACH ROW EXECUTE FUNCTION vascplan_refuse_change()"
-        for table in ("obs_entry", "obs_batch", "schema_version")
-    ],
-    *[
-        f"CREATE TRIGGER {table}_no_truncate BEFORE TRUNCATE ON {table} "
-        "FOR EACH STATEMENT EXECUTE FUNCTION vascplan_refuse_change()"
-        for table in ("obs_entry", "obs_batch", "schema_version")
-    ],
-]
-
-
-def _m2_append_only(conn: Connection) -> None:
-    for ddl in _PG_GUARDS if conn.dialect.name == "postgresql" else _SQLITE_GUARDS:
-        conn.exec_driver_sql(ddl)
-
-
-def _m3_one_finding_per_time(conn: Connection) -> None:
-    # The same item at the same site and moment is stored once; a second value is a correction.
-    conn.exec_driver_sql(
-        "CREATE UNIQUE INDEX obs_entry_one_original ON obs_entry "
-        "(unit, bed, time_utc, item, site) WHERE corrects IS NULL"
-    )
-
-
-MIGRATIONS: list[tuple[int, str, Callable[[Connection], None]]] = [
-    (1, "batches and entries", _m1_tables),
-    (2, "append-only triggers", _m2_append_only),
-    (3, "one original finding per item, site and time", _m3_one_finding_per_time),
-]
-SCHEMA_VERSION = MIGRATIONS[-1][0]
-
 
 # ---------------------------------------------------------------------------
 # Opening
@@ -329,6 +265,14 @@ def _utc_text(moment: datetime) -> str:
     return moment.astimezone(UTC).replace(microsecond=0).isoformat()
 
 
+def _since_text(moment: datetime) -> str:
+    """A lower bound as stored text: stored times are whole seconds, so round up."""
+    moment = moment.astimezone(UTC)
+    if moment.microsecond:
+        moment = moment.replace(microsecond=0) + timedelta(seconds=1)
+    return moment.isoformat()
+
+
 def _now_text() -> str:
     return _utc_text(datetime.now(UTC))
 
@@ -391,36 +335,16 @@ class ObservationStore:
 
     # -- schema
 
-    def migrate(self) -> int:
-        """Apply the migrations not yet applied, all in one transaction; return the version."""
-        with self.engine.begin() as conn:
-            if conn.dialect.name == "postgresql":
-                conn.exec_driver_sql("SELECT pg_advisory_xact_lock(7261997)")  # one migrator
-            if not sa.inspect(conn).has_table("schema_version"):
-                metadata.create_all(conn, tables=[schema_version])
-                current = 0
-            else:
-                current = (
-                    conn.execute(sa.select(sa.func.max(schema_version.c.version))).scalar() or 0
-                )
-            if current > SCHEMA_VERSION:
-                raise StoreError(
-                    f"the observation store {self.shown} has schema version {current}, newer than "
-                    f"this vascplan knows ({SCHEMA_VERSION}); upgrade vascplan"
-                )
-            for version, description, step in MIGRATIONS:
-                if version > current:
-                    step(conn)
-                    conn.execute(
-                        sa.insert(schema_version).values(
-                            version=version, description=description, applied_at=_now_text()
-                        )
-                    )
-        return SCHEMA_VERSION
+    def migrate(self, upto: int | None = None) -> int:
+        """Apply the migrations not yet applied, in order, one transaction each.
+
+        See :func:`vascplan.observations.migrations.migrate` (``upto`` stops at that version).
+        """
+        return migrate(self.engine, self.shown, upto)
 
     def version(self) -> int:
-        with self.engine.connect() as conn:
-            return int(conn.execute(sa.select(sa.func.max(schema_version.c.version))).scalar() or 0)
+        """The store's schema version (the highest migration applied)."""
+        return stored_version(self.engine)
 
     # -- writing
 
@@ -510,17 +434,20 @@ class ObservationStore:
         source: str,
         lines: Sequence[int] | None,
     ) -> None:
+        # Only the batch's own instants are read (an index search each on unit and time),
+        # never the unit's whole history nor everything between the batch's first and last.
         times = sorted({r["time_utc"] for r in rows})
-        stored = {
-            (r.bed, r.time_utc, r.item, r.site): r.id
-            for r in conn.execute(
+        stored: dict[tuple, int] = {}
+        for start in range(0, len(times), CHUNK_ROWS):
+            q = (
                 sa.select(
                     entries.c.id, entries.c.bed, entries.c.time_utc, entries.c.item, entries.c.site
                 )
                 .where(entries.c.unit == unit, entries.c.corrects.is_(None))
-                .where(entries.c.time_utc >= times[0], entries.c.time_utc <= times[-1])
+                .where(entries.c.time_utc.in_(times[start : start + CHUNK_ROWS]))
             )
-        }
+            for found in conn.execute(q):
+                stored[(found.bed, found.time_utc, found.item, found.site)] = found.id
         for i, r in enumerate(rows):
             hit = stored.get((r["bed"], r["time_utc"], r["item"], r["site"]))
             if hit is not None:
@@ -595,32 +522,154 @@ class ObservationStore:
 
     # -- reading
 
-    def entries(
-        self, unit: str, *, ref: str | None = None, until: datetime | None = None
-    ) -> list[Entry]:
-        """Every row of ``unit`` (originals and corrections), in time then entry order."""
+    def _query(
+        self,
+        unit: str,
+        *,
+        ref: str | None = None,
+        since: datetime | None = None,
+        until: datetime | None = None,
+    ) -> sa.Select:
         q = sa.select(entries).where(entries.c.unit == unit)
         if ref is not None:
             q = q.where(entries.c.ref == ref)
+        if since is not None:
+            q = q.where(entries.c.time_utc >= _since_text(since))
         if until is not None:
             q = q.where(entries.c.time_utc <= _utc_text(until))
-        q = q.order_by(entries.c.time_utc, entries.c.id)
+        return q.order_by(entries.c.time_utc, entries.c.id)
+
+    def entries(
+        self,
+        unit: str,
+        *,
+        ref: str | None = None,
+        since: datetime | None = None,
+        until: datetime | None = None,
+    ) -> list[Entry]:
+        """Rows of ``unit`` (originals and corrections), in time then entry order.
+
+        Parameters
+        ----------
+        unit : str
+        ref : str, optional
+            Only this patient's rows.
+        since, until : datetime, optional
+            Only checks made at or after ``since`` and at or before ``until`` (aware; both
+            bounds included). A correction carries its original's check time, so a window
+            holds every correction of the findings in it and nothing else.
+        """
         with self.engine.connect() as conn:
-            return [_entry(r) for r in conn.execute(q)]
+            return [
+                _entry(r)
+                for r in conn.execute(self._query(unit, ref=ref, since=since, until=until))
+            ]
+
+    def iter_entries(
+        self,
+        unit: str,
+        *,
+        since: datetime | None = None,
+        until: datetime | None = None,
+        chunk: int = 2000,
+    ) -> Iterator[Entry]:
+        """Like :meth:`entries`, one row at a time: memory does not grow with the record.
+
+        Rows are read ``chunk`` at a time, each chunk in its own short read (keyset pages
+        on check time and entry id), so that a long export never holds the database: on
+        SQLite a writer waits for one chunk at most, not for the whole export. A row
+        written during the export is included when it sorts after the rows already read.
+        """
+        q = self._query(unit, since=since, until=until).limit(chunk)
+        after: tuple[str, int] | None = None
+        while True:
+            page = q
+            if after is not None:
+                t, i = after
+                page = q.where(
+                    entries.c.time_utc >= t,
+                    sa.not_(sa.and_(entries.c.time_utc == t, entries.c.id <= i)),
+                )
+            with self.engine.connect() as conn:
+                rows = conn.execute(page).all()
+            for r in rows:
+                yield _entry(r)
+            if len(rows) < chunk:
+                return
+            after = (rows[-1].time_utc, rows[-1].id)
 
     def current(
         self,
         unit: str,
         *,
         ref: str | None = None,
+        since: datetime | None = None,
         until: datetime | None = None,
         include_withdrawn: bool = False,
     ) -> list[CurrentFinding]:
         """The findings as they stand after corrections, in time order.
 
         A finding withdrawn as entered in error is left out unless ``include_withdrawn``.
+        ``since`` and ``until`` bound the check time as in :meth:`entries`.
         """
-        return current_findings(self.entries(unit, ref=ref, until=until), include_withdrawn)
+        return current_findings(
+            self.entries(unit, ref=ref, since=since, until=until), include_withdrawn
+        )
+
+    def current_by_ref(
+        self,
+        unit: str,
+        windows: Mapping[str, datetime | None],
+        *,
+        until: datetime | None = None,
+        include_withdrawn: bool = False,
+    ) -> dict[str, list[CurrentFinding]]:
+        """Each named patient's findings from their own lower bound up to ``until``.
+
+        The read a review needs: only the patients now on the unit (a discharged patient's
+        history is not read), each from the start of the window the review looks at (for
+        example the start of the open phase, or ``at`` minus the alert look-back, whichever
+        is earlier). One index search per patient on (unit, ref, time).
+
+        Parameters
+        ----------
+        unit : str
+        windows : mapping of str to datetime or None
+            Patient ref -> the earliest check time wanted (aware; included), or None for
+            the patient's whole history.
+        until : datetime, optional
+            The latest check time wanted (included), typically the review's ``at``.
+        include_withdrawn : bool
+            Keep findings withdrawn as entered in error.
+
+        Returns
+        -------
+        dict of str to list of CurrentFinding
+            Every ref of ``windows``, each with its findings in time order (possibly none).
+        """
+        out: dict[str, list[CurrentFinding]] = {}
+        with self.engine.connect() as conn:
+            for ref, since in windows.items():
+                q = self._query(unit, ref=ref, since=since, until=until)
+                rows = [_entry(r) for r in conn.execute(q)]
+                out[ref] = current_findings(rows, include_withdrawn)
+        return out
+
+    def iter_current(
+        self,
+        unit: str,
+        *,
+        since: datetime | None = None,
+        until: datetime | None = None,
+        include_withdrawn: bool = False,
+    ) -> Iterator[CurrentFinding]:
+        """Like :meth:`current` for the whole unit, one finding at a time (for exports).
+
+        Memory holds one instant's rows at a time (see :func:`stream_current`).
+        """
+        yield from stream_current(
+            self.iter_entries(unit, since=since, until=until), include_withdrawn
+        )
 
     def count(self, unit: str | None = None) -> int:
         q = sa.select(sa.func.count()).select_from(entries)
@@ -628,6 +677,25 @@ class ObservationStore:
             q = q.where(entries.c.unit == unit)
         with self.engine.connect() as conn:
             return int(conn.execute(q).scalar() or 0)
+
+
+def stream_current(
+    rows: Iterable[Entry], include_withdrawn: bool = False
+) -> Iterator[CurrentFinding]:
+    """Apply corrections to rows that come in check-time order, yielding as it goes.
+
+    A correction carries its original's check time, so an original and all its
+    corrections fall in one instant: only one instant's rows are held at a time. The
+    output is that of :func:`current_findings` on the same rows.
+    """
+    group: list[Entry] = []
+    for e in rows:
+        if group and e.time != group[0].time:
+            yield from current_findings(group, include_withdrawn)
+            group = []
+        group.append(e)
+    if group:
+        yield from current_findings(group, include_withdrawn)
 
 
 def current_findings(

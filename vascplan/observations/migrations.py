@@ -1,0 +1,228 @@
+"""The observation store's schema: the tables and the numbered migrations that build them.
+
+A migration is frozen once released: migration 1 builds the tables exactly as first
+released, every later change is a new migration appended to :data:`MIGRATIONS`. Each is
+applied in its own transaction and recorded in ``schema_version``, so an existing store
+upgrades in place (SQLite and PostgreSQL alike); a store at a higher version than this
+vascplan knows is refused before anything is touched.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from datetime import UTC, datetime
+
+import sqlalchemy as sa
+from sqlalchemy.engine import Connection, Engine
+
+from vascplan.errors import StoreError
+
+metadata = sa.MetaData()
+
+schema_version = sa.Table(
+    "schema_version",
+    metadata,
+    sa.Column("version", sa.Integer, primary_key=True, autoincrement=False),
+    sa.Column("description", sa.Text, nullable=False),
+    sa.Column("applied_at", sa.Text, nullable=False),
+)
+
+batches = sa.Table(
+    "obs_batch",
+    metadata,
+    sa.Column("id", sa.Integer, primary_key=True),
+    sa.Column("kind", sa.Text, nullable=False),  # add | import | correct
+    sa.Column("source", sa.Text, nullable=False),
+    sa.Column("unit", sa.Text, nullable=False),
+    sa.Column("entered_at", sa.Text, nullable=False),
+    sa.Column("rows", sa.Integer, nullable=False),
+)
+
+entries = sa.Table(
+    "obs_entry",
+    metadata,
+    sa.Column("id", sa.Integer, primary_key=True),
+    sa.Column("batch_id", sa.Integer, sa.ForeignKey("obs_batch.id"), nullable=False),
+    sa.Column("unit", sa.Text, nullable=False),
+    sa.Column("bed", sa.Integer, nullable=False),
+    sa.Column("ref", sa.Text, nullable=False),
+    sa.Column("time_utc", sa.Text, nullable=False),  # 2026-12-01T14:20:00+00:00
+    sa.Column("time_local", sa.Text, nullable=False),  # as the unit's clock showed it
+    sa.Column("recorded_by", sa.Text, nullable=False),
+    sa.Column("item", sa.Text, nullable=False),
+    sa.Column("site", sa.Text, nullable=False),
+    sa.Column("value", sa.Text, nullable=False),
+    sa.Column("corrects", sa.Integer, sa.ForeignKey("obs_entry.id"), nullable=True),
+    sa.Column("reason", sa.Text, nullable=True),
+    sa.Column("entered_at", sa.Text, nullable=False),
+)
+"""The entry table as the queries see it. Its indexes are made by the migrations only:
+``obs_entry_patient_time`` (unit, ref, time; migration 1), ``obs_entry_one_original`` (the
+duplicate key; 3), ``obs_entry_unit_time`` (unit, time) and ``obs_entry_batch`` (batch
+id; 4)."""
+
+
+# ---------------------------------------------------------------------------
+# Migrations: append new ones at the end; never edit one that has shipped.
+
+
+def _m1_tables(conn: Connection) -> None:
+    # Frozen: the tables exactly as first released (commit d11926a), declared here and not
+    # taken from the live ``batches`` / ``entries`` so that a later change to those can
+    # never alter what migration 1 builds. Never edit; add a migration instead.
+    v1 = sa.MetaData()
+    sa.Table(
+        "obs_batch",
+        v1,
+        sa.Column("id", sa.Integer, primary_key=True),
+        sa.Column("kind", sa.Text, nullable=False),
+        sa.Column("source", sa.Text, nullable=False),
+        sa.Column("unit", sa.Text, nullable=False),
+        sa.Column("entered_at", sa.Text, nullable=False),
+        sa.Column("rows", sa.Integer, nullable=False),
+    )
+    sa.Table(
+        "obs_entry",
+        v1,
+        sa.Column("id", sa.Integer, primary_key=True),
+        sa.Column("batch_id", sa.Integer, sa.ForeignKey("obs_batch.id"), nullable=False),
+        sa.Column("unit", sa.Text, nullable=False),
+        sa.Column("bed", sa.Integer, nullable=False),
+        sa.Column("ref", sa.Text, nullable=False),
+        sa.Column("time_utc", sa.Text, nullable=False),
+        sa.Column("time_local", sa.Text, nullable=False),
+        sa.Column("recorded_by", sa.Text, nullable=False),
+        sa.Column("item", sa.Text, nullable=False),
+        sa.Column("site", sa.Text, nullable=False),
+        sa.Column("value", sa.Text, nullable=False),
+        sa.Column("corrects", sa.Integer, sa.ForeignKey("obs_entry.id"), nullable=True),
+        sa.Column("reason", sa.Text, nullable=True),
+        sa.Column("entered_at", sa.Text, nullable=False),
+        sa.Index("obs_entry_patient_time", "unit", "ref", "time_utc"),
+    )
+    v1.create_all(conn)
+
+
+_SQLITE_GUARDS = [
+    f"CREATE TRIGGER {table}_no_{verb.lower()} BEFORE {verb} ON {table} "
+    "BEGIN SELECT RAISE(ABORT, 'observation record is append-only'); END"
+    for table in ("obs_entry", "obs_batch", "schema_version")
+    for verb in ("UPDATE", "DELETE")
+]
+
+_PG_GUARDS = [
+    "CREATE FUNCTION vascplan_refuse_change() RETURNS trigger LANGUAGE plpgsql AS "
+    "$$ BEGIN RAISE EXCEPTION 'observation record is append-only'; END $$",
+    *[
+        f"CREATE TRIGGER {table}_append_only BEFORE UPDATE OR DELETE ON {table} "
+        "FOR EACH ROW EXECUTE FUNCTION vascplan_refuse_change()"
+        for table in ("obs_entry", "obs_batch", "schema_version")
+    ],
+    *[
+        f"CREATE TRIGGER {table}_no_truncate BEFORE TRUNCATE ON {table} "
+        "FOR EACH STATEMENT EXECUTE FUNCTION vascplan_refuse_change()"
+        for table in ("obs_entry", "obs_batch", "schema_version")
+    ],
+]
+
+
+def _m2_append_only(conn: Connection) -> None:
+    for ddl in _PG_GUARDS if conn.dialect.name == "postgresql" else _SQLITE_GUARDS:
+        conn.exec_driver_sql(ddl)
+
+
+def _m3_one_finding_per_time(conn: Connection) -> None:
+    # The same item at the same site and moment is stored once; a second value is a correction.
+    conn.exec_driver_sql(
+        "CREATE UNIQUE INDEX obs_entry_one_original ON obs_entry "
+        "(unit, bed, time_utc, item, site) WHERE corrects IS NULL"
+    )
+
+
+def _m4_query_indexes(conn: Connection) -> None:
+    # A unit's findings by time (review windows, exports, the duplicate check of a new
+    # batch: one index search per instant instead of a scan of the unit), and a batch's
+    # rows by batch id (the ids returned by a write).
+    conn.exec_driver_sql("CREATE INDEX obs_entry_unit_time ON obs_entry (unit, time_utc)")
+    conn.exec_driver_sql("CREATE INDEX obs_entry_batch ON obs_entry (batch_id)")
+
+
+MIGRATIONS: list[tuple[int, str, Callable[[Connection], None]]] = [
+    (1, "batches and entries", _m1_tables),
+    (2, "append-only triggers", _m2_append_only),
+    (3, "one original finding per item, site and time", _m3_one_finding_per_time),
+    (4, "indexes on unit and time, and on batch", _m4_query_indexes),
+]
+SCHEMA_VERSION = MIGRATIONS[-1][0]
+
+
+# ---------------------------------------------------------------------------
+# Applying
+
+
+def migrate(engine: Engine, shown: str, upto: int | None = None) -> int:
+    """Apply the migrations not yet applied, in order, one transaction each.
+
+    Parameters
+    ----------
+    engine : Engine
+        The database.
+    shown : str
+        The database as shown to a user (password hidden), for the messages.
+    upto : int, optional
+        Stop after this version (tests build older stores with it); default the latest.
+
+    Returns
+    -------
+    int
+        The store's schema version afterwards.
+
+    Raises
+    ------
+    StoreError
+        The store was made by a newer vascplan (nothing is changed).
+    """
+    target = SCHEMA_VERSION if upto is None else upto
+    current = stored_version(engine)
+    _refuse_newer(shown, current)
+    for version, description, step in MIGRATIONS:
+        if version <= current or version > target:
+            continue
+        with engine.begin() as conn:
+            if conn.dialect.name == "postgresql":
+                conn.exec_driver_sql("SELECT pg_advisory_xact_lock(7261997)")  # one migrator
+            if not sa.inspect(conn).has_table("schema_version"):
+                metadata.create_all(conn, tables=[schema_version])
+            now_at = conn.execute(sa.select(sa.func.max(schema_version.c.version))).scalar() or 0
+            _refuse_newer(shown, now_at)
+            if now_at >= version:  # another process got here first
+                current = now_at
+                continue
+            step(conn)
+            conn.execute(
+                sa.insert(schema_version).values(
+                    version=version, description=description, applied_at=_now_text()
+                )
+            )
+        current = version
+    return current
+
+
+def stored_version(engine: Engine) -> int:
+    """The highest migration applied to the database (0 for an empty one)."""
+    with engine.connect() as conn:
+        if not sa.inspect(conn).has_table("schema_version"):
+            return 0
+        return int(conn.execute(sa.select(sa.func.max(schema_version.c.version))).scalar() or 0)
+
+
+def _refuse_newer(shown: str, current: int) -> None:
+    if current > SCHEMA_VERSION:
+        raise StoreError(
+            f"{shown}: this store is at schema version {current}; this vascplan "
+            f"knows up to {SCHEMA_VERSION}: upgrade vascplan"
+        )
+
+
+def _now_text() -> str:
+    return datetime.now(UTC).replace(microsecond=0).isoformat()
