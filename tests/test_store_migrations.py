@@ -154,19 +154,22 @@ def test_upgrade_from_every_earlier_version(db_url, version):  # noqa: F811
 
 
 def test_one_transaction_per_migration(tmp_path, monkeypatch):
-    # A failing migration 5 rolls back alone: 1-4 stay applied and the store stays usable.
+    # A failing next migration rolls back alone: the earlier ones stay applied and the
+    # store stays usable.
+    nxt = SCHEMA_VERSION + 1
+
     def broken(conn):  # type: ignore[no-untyped-def]
         conn.exec_driver_sql("CREATE INDEX obs_entry_extra ON obs_entry (item)")
         conn.exec_driver_sql("CREATE INDEX broken ON no_such_table (x)")
 
-    monkeypatch.setattr(migrations, "MIGRATIONS", [*MIGRATIONS, (5, "broken", broken)])
-    monkeypatch.setattr(migrations, "SCHEMA_VERSION", 5)
+    monkeypatch.setattr(migrations, "MIGRATIONS", [*MIGRATIONS, (nxt, "broken", broken)])
+    monkeypatch.setattr(migrations, "SCHEMA_VERSION", nxt)
     db = str(tmp_path / "o.db")
     with pytest.raises(StoreError):
         open_store(db)
     monkeypatch.undo()
     with open_store(db) as store:
-        assert store.version() == 4
+        assert store.version() == SCHEMA_VERSION
         assert "obs_entry_extra" not in _index_names(store)
 
 
