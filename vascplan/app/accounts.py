@@ -7,6 +7,7 @@ stays light.
 
 from __future__ import annotations
 
+import contextlib
 import re
 from datetime import datetime
 
@@ -14,7 +15,7 @@ from vascplan.app.ward import FormErrors
 from vascplan.errors import InputError
 from vascplan.ward.store import ROLES, USERNAME_MAX, AuditRow, User, WardStore
 
-USERNAME = re.compile(r"^[A-Za-z0-9][A-Za-z0-9._-]{0,%d}$" % (USERNAME_MAX - 1))
+USERNAME = re.compile(rf"^[A-Za-z0-9][A-Za-z0-9._-]{{0,{USERNAME_MAX - 1}}}$")
 PASSWORD_MIN = 10
 """Shortest password accepted (unit policy; NIST SP 800-63B asks for at least 8)."""
 PASSWORD_MAX = 200
@@ -22,7 +23,7 @@ PASSWORD_MAX = 200
 _DUMMY_HASH: str | None = None
 
 
-def _hasher():  # type: ignore[no-untyped-def]
+def _hasher():
     from argon2 import PasswordHasher
 
     return PasswordHasher()
@@ -87,10 +88,8 @@ def authenticate(store: WardStore, username: str, password: str) -> User | None:
     if user is None or user.disabled:
         if _DUMMY_HASH is None:
             _DUMMY_HASH = hasher.hash("not a password of anyone")
-        try:
+        with contextlib.suppress(VerificationError):
             hasher.verify(_DUMMY_HASH, password or "-")
-        except VerificationError:
-            pass
         return None
     try:
         hasher.verify(user.pw_hash, password)

@@ -189,9 +189,7 @@ def record_event(
         field = exc.field.rsplit(".", 1)[-1] if exc.field else "form"
         raise FormErrors({_form_field(field): exc.message}) from None
     store.add_event(name, ref, kind, at, data, by=author, now=now)
-    what = f"{kind} {ref} at {at.astimezone(tz).isoformat()}" + (
-        f": {data}" if data else ""
-    )
+    what = f"{kind} {ref} at {at.astimezone(tz).isoformat()}" + (f": {data}" if data else "")
     if token:
         store.claim_form(token, "event", what, now)
     return Recorded(what)
@@ -219,7 +217,9 @@ def import_unit_file(
     events = events_from_unit(unit, now)
     with store.writing() as conn:
         for e in events:
-            store.add_event(unit.unit.name, e.ref, e.kind, e.at, e.data, by=author, now=now, conn=conn)
+            store.add_event(
+                unit.unit.name, e.ref, e.kind, e.at, e.data, by=author, now=now, conn=conn
+            )
     return unit, len(events)
 
 

@@ -11,7 +11,7 @@ the risk, schedule and review functions the CLI uses are called on it.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from datetime import UTC, datetime, timedelta
 from typing import Any
 
@@ -200,9 +200,7 @@ def _alert_views(review_alerts: list[Any], protocol: Protocol) -> list[LimbAlert
             else "Whole patient"
         )
         groups.setdefault(limb, []).append(
-            AlertView(
-                a.rule, a.detail, meaning, a.call or _NO_CALL, a.within_min, a.source, a.time
-            )
+            AlertView(a.rule, a.detail, meaning, a.call or _NO_CALL, a.within_min, a.source, a.time)
         )
     out = []
     for limb in sorted(groups):
@@ -401,9 +399,7 @@ def correct_entry(
     if errors:
         raise FormErrors(errors)
     try:
-        new_id = store.obs.correct(
-            entry_id, value, by=author, reason=reason, withdraw=withdraw
-        )
+        new_id = store.obs.correct(entry_id, value, by=author, reason=reason, withdraw=withdraw)
     except InputError as exc:
         if exc.source == "--entry":
             raise NotFound(exc.message) from None

@@ -165,7 +165,9 @@ def events_from_unit(unit: Unit, now: datetime) -> list[EventIn]:
             unit_at,
             {
                 "timezone": unit.unit.timezone,
-                "shifts": [{"name": s.name, "start": s.start.strftime("%H:%M")} for s in unit.shifts],
+                "shifts": [
+                    {"name": s.name, "start": s.start.strftime("%H:%M")} for s in unit.shifts
+                ],
                 "protocol": unit.protocol,
                 "staff": [a.model_dump(mode="json") for a in unit.staff],
             },

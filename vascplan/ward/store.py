@@ -150,7 +150,7 @@ class WardStore:
     def __exit__(self, *exc: object) -> None:
         self.close()
 
-    def _writing(self):  # type: ignore[no-untyped-def]
+    def _writing(self):
         return self.obs._writing()
 
     # -- accounts
@@ -221,11 +221,11 @@ class WardStore:
             "entered_at": utc_text(now),
         }
         if conn is not None:
-            return int(conn.execute(sa.insert(events_t).values(**values)).inserted_primary_key[0])  # type: ignore[index]
+            return _inserted(conn.execute(sa.insert(events_t).values(**values)))
         with self._writing() as c:
-            return int(c.execute(sa.insert(events_t).values(**values)).inserted_primary_key[0])  # type: ignore[index]
+            return _inserted(c.execute(sa.insert(events_t).values(**values)))
 
-    def writing(self):  # type: ignore[no-untyped-def]
+    def writing(self):
         """One write transaction for several events (an import lands whole or not at all)."""
         return self._writing()
 
@@ -334,6 +334,12 @@ class WardStore:
                 )
             )
         return value
+
+
+def _inserted(result: sa.CursorResult[Any]) -> int:
+    key = result.inserted_primary_key
+    assert key is not None
+    return int(key[0])
 
 
 def _apply_user(current: User | None, r: sa.Row) -> User:
