@@ -22,11 +22,16 @@ PASSWORD_MAX = 200
 
 _DUMMY_HASH: str | None = None
 
+HASHER_OPTIONS: dict[str, int] = {}
+"""argon2 cost parameters for new hashes; empty means argon2-cffi's defaults (RFC 9106 low
+memory profile). Tests lower them to keep the suite fast; a hash carries its own parameters,
+so verifying never depends on this."""
+
 
 def _hasher():
     from argon2 import PasswordHasher
 
-    return PasswordHasher()
+    return PasswordHasher(**HASHER_OPTIONS)
 
 
 def check_new_user(username: str, role: str, password: str) -> dict[str, str]:

@@ -184,7 +184,7 @@ def record_event(
     new = EventIn(ref, kind, at.astimezone(UTC), data, 0, author)
     trial = sorted([*stored, new], key=lambda e: (e.at.astimezone(UTC), e.id or 1 << 60))
     try:
-        replay(name, trial, None)
+        replay(name, trial, None, strict=True)
     except InputError as exc:
         field = exc.field.rsplit(".", 1)[-1] if exc.field else "form"
         raise FormErrors({_form_field(field): exc.message}) from None

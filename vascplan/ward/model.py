@@ -54,7 +54,9 @@ def _iso(moment: datetime) -> str:
     return moment.isoformat()
 
 
-def replay(name: str, events: Iterable[EventIn], at: datetime | None = None) -> WardState:
+def replay(
+    name: str, events: Iterable[EventIn], at: datetime | None = None, *, strict: bool = False
+) -> WardState:
     """Replay a unit's events (time order) up to ``at`` into the unit file's model.
 
     Parameters
@@ -65,6 +67,10 @@ def replay(name: str, events: Iterable[EventIn], at: datetime | None = None) -> 
         The unit's events in time order.
     at : datetime, optional
         Leave out events after this aware moment; default every event.
+    strict : bool
+        Refuse an event that finds nothing to act on (a patient not on the unit, a device or
+        distal cannula not in); a new event is checked so. Stored events are replayed
+        leniently, such an event then only shows in the patient's history.
 
     Raises
     ------
@@ -92,7 +98,18 @@ def replay(name: str, events: Iterable[EventIn], at: datetime | None = None) -> 
             }
             continue
         if p is None:
+            if strict:
+                _refuse(name, ev, f"{ev.ref} is not on the unit at that time")
             continue  # an event for a patient not admitted (or discharged): kept in history only
+        needs = {
+            "device-repositioned": "device",
+            "device-removed": "device",
+            "dpc-in": "device",
+            "dpc-out": "dpc",
+        }.get(ev.kind)
+        if strict and needs is not None and (needs not in p or "removed" in p[needs]):
+            thing = "device" if needs == "device" else "distal perfusion cannula"
+            _refuse(name, ev, f"{ev.ref} has no {thing} in at that time")
         if ev.kind == "device-inserted":
             p["device"] = {**{k: v for k, v in d.items() if v is not None}, "inserted": _iso(ev.at)}
             p.pop("dpc", None)
@@ -118,6 +135,12 @@ def replay(name: str, events: Iterable[EventIn], at: datetime | None = None) -> 
     doc = unit_document(name, settings, with_device)
     unit = validate_data(f"store {name}", doc, Unit)
     return WardState(unit, waiting, history)
+
+
+def _refuse(name: str, ev: EventIn, message: str) -> None:
+    from vascplan.errors import InputError
+
+    raise InputError(f"store {name}", "time", f"{message} ({ev.at.isoformat()})")
 
 
 def unit_document(
@@ -175,29 +198,33 @@ def events_from_unit(unit: Unit, now: datetime) -> list[EventIn]:
     ]
     for p in unit.patients:
         dev = p.device
-        admit = {
-            "bed": p.bed,
-            "sex": p.sex,
-            "height_cm": p.height_cm,
-            "pad": p.pad,
-            "diabetes": p.diabetes,
-            "vessel_mm": p.vessel_mm,
-            "baseline": p.baseline.model_dump(mode="json", exclude_defaults=True),
-        }
+        admit = _present(
+            {
+                "bed": p.bed,
+                "sex": p.sex,
+                "height_cm": p.height_cm,
+                "pad": p.pad,
+                "diabetes": p.diabetes,
+                "vessel_mm": p.vessel_mm,
+                "baseline": p.baseline.model_dump(mode="json", exclude_defaults=True),
+            }
+        )
         mine = [
             EventIn(p.ref, "admit", dev.inserted, admit),
             EventIn(
                 p.ref,
                 "device-inserted",
                 dev.inserted,
-                {
-                    "kind": dev.kind,
-                    "side": dev.side,
-                    "vessel": dev.vessel,
-                    "size_fr": dev.size_fr,
-                    "label": dev.label,
-                    "outer_mm": dev.outer_mm,
-                },
+                _present(
+                    {
+                        "kind": dev.kind,
+                        "side": dev.side,
+                        "vessel": dev.vessel,
+                        "size_fr": dev.size_fr,
+                        "label": dev.label,
+                        "outer_mm": dev.outer_mm,
+                    }
+                ),
             ),
         ]
         if p.dpc is not None:
@@ -213,3 +240,8 @@ def events_from_unit(unit: Unit, now: datetime) -> list[EventIn]:
     order = {id(e): i for i, e in enumerate(out)}
     out.sort(key=lambda e: (e.at.astimezone(UTC), order[id(e)]))
     return out
+
+
+def _present(data: dict[str, Any]) -> dict[str, Any]:
+    """Leave out fields with no value (None, an empty baseline)."""
+    return {k: v for k, v in data.items() if v is not None and v != {}}
