@@ -283,7 +283,7 @@ def test_the_board_shows_an_overdue_check_at_the_right_minute(ward):
     # DEMO-32's device went in at 10:00: first check due 10:15 (every 15 min), 5 min grace.
     clock.at = local("2026-12-01T10:20")
     bed2 = client.get("/board").text.split('id="bed-2"')[1].split("</li>")[0]
-    assert "overdue" not in bed2.lower().replace("⏰ overdue · ⚠ alert", "")
+    assert "overdue" not in bed2.lower().replace("⚑ overdue · ⚠ alert", "")
     assert "10:30 (+00:00)" in bed2 and "in 10 min" in bed2
     clock.at = local("2026-12-01T10:21")
     bed2 = client.get("/board").text.split('id="bed-2"')[1].split("</li>")[0]

@@ -136,7 +136,7 @@ TEMPLATES = _templates()
 TIER_MARK = {"standard": "●", "raised": "▲", "high": "▲▲"}
 STATUS_TEXT = {
     "alert": ("⚠", "Alert"),
-    "overdue": ("⏰", "Check overdue"),
+    "overdue": ("⚑", "Check overdue"),
     "due-soon": ("◔", "Check due soon"),
     "ok": ("✓", "On time"),
 }
