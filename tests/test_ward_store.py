@@ -30,7 +30,8 @@ def test_ward_tables_refuse_update_and_delete(db_url):  # noqa: F811
         store.secret()
         for table in WARD_TABLES:
             for sql in (f"UPDATE {table} SET at_utc = 'x'", f"DELETE FROM {table}"):
-                with pytest.raises(sa.exc.DatabaseError, match="append-only"), store.engine.begin() as conn:
+                refused = pytest.raises(sa.exc.DatabaseError, match="append-only")
+                with refused, store.engine.begin() as conn:
                     conn.exec_driver_sql(sql)
             with store.engine.connect() as conn:
                 assert conn.exec_driver_sql(f"SELECT count(*) FROM {table}").scalar() == 1, table
@@ -122,9 +123,8 @@ def test_risk_from_the_store_is_the_risk_from_the_file(tmp_path):
 def test_users_cli_reads_the_password_from_stdin_and_never_prints_it(tmp_path):
     db = str(tmp_path / "w.db")
     runner = CliRunner()
-    r = runner.invoke(
-        cli, ["users", "add", "ward-admin", "--role", "admin", "--db", db], input="a long secret 1\n"
-    )
+    add = ["users", "add", "ward-admin", "--role", "admin", "--db", db]
+    r = runner.invoke(cli, add, input="a long secret 1\n")
     assert r.exit_code == 0, r.output
     listed = runner.invoke(cli, ["users", "list", "--db", db])
     assert listed.stdout.split() == ["ward-admin", "admin", "active"]
