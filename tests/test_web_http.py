@@ -167,6 +167,7 @@ def test_security_headers_and_cookie(ward):
     assert r.headers["referrer-policy"] == "no-referrer"
     cookie = r.headers["set-cookie"].lower()
     assert "httponly" in cookie and "samesite=strict" in cookie
+    assert "max-age=1800" in cookie  # the idle time-out: 30 min without a request (unit policy)
     assert "<script>" not in r.text  # no inline script anywhere on the page
 
 
