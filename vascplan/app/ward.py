@@ -10,6 +10,7 @@ the risk, schedule and review functions the CLI uses are called on it.
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 from datetime import UTC, datetime, timedelta
@@ -105,12 +106,19 @@ def unit_name(store: WardStore, name: str | None = None) -> str:
     return names[0]
 
 
+@functools.lru_cache(maxsize=16)
+def _protocol(protocol: str, name: str) -> Protocol:
+    """The unit's protocol, read once per process (a bundled protocol is package data and
+    does not change while the server runs; restart the server after editing a protocol)."""
+    return load_protocol(protocol, f"store {name}")
+
+
 def snapshot(store: WardStore, name: str, at: datetime) -> Snapshot:
     """The unit as at ``at``, from its events (the same model a unit file gives)."""
     state = replay(name, (_event_in(e) for e in store.events(name)), at)
     if state.unit is None:
         raise NotFound(f"no unit {name!r} in {store.shown} at {at.isoformat()}")
-    protocol = load_protocol(state.unit.protocol, f"store {name}")
+    protocol = _protocol(state.unit.protocol, name)
     return Snapshot(name, at.astimezone(state.unit.unit.tz), state, protocol)
 
 
