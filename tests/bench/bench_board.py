@@ -39,9 +39,9 @@ def run() -> dict[str, float]:
     from vascplan.app import accounts
     from vascplan.app.events import import_unit_file
     from vascplan.app.ward import board
+    from vascplan.ward.store import open_ward
     from vascplan.web.app import create_app
     from vascplan.web.common import CAUTION, STATUS_TEXT, TEMPLATES, TIER_MARK
-    from vascplan.ward.store import open_ward
 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
@@ -120,10 +120,10 @@ def report(r: dict[str, float]) -> str:
         [
             f"board of {int(r['beds'])} beds, {int(r['findings'])} findings in the store "
             f"(generated in {r['generate_s']:.0f} s):",
-            f"  floor: the board template rendered from data in memory  {r['floor_s'] * 1e3:8.1f} ms",
-            f"  GET /board (median of {REPEATS})                         {r['board_s'] * 1e3:8.1f} ms"
+            f"  floor: the board template from data in memory {r['floor_s'] * 1e3:8.1f} ms",
+            f"  GET /board (median of {REPEATS})               {r['board_s'] * 1e3:8.1f} ms"
             f"  {r['board_s'] / r['floor_s']:6.1f}x the floor",
-            f"  POST one check (median of {REPEATS})                     {r['check_s'] * 1e3:8.1f} ms"
+            f"  POST one check (median of {REPEATS})           {r['check_s'] * 1e3:8.1f} ms"
             f"  {r['check_s'] / r['floor_s']:6.1f}x the floor",
         ]
     )
