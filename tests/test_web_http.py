@@ -593,3 +593,123 @@ def test_the_audit_page_lists_what_happened(ward):
     sign_in(client, "admin-cy")
     html = client.get("/audit").text
     assert "sign-in" in html and "check of DEMO-31 (bed 1)" in html and "rn-ada" in html
+
+
+# --- every POST checks its token; slowed failures; arm devices; redirects -----------------
+
+
+@pytest.mark.parametrize(
+    ("path", "fields"),
+    [
+        ("/logout", {}),
+        ("/patients/DEMO-31/check", {"time": "2026-12-01T10:05", "nirs:L": "64"}),
+        ("/patients/DEMO-31/events/device-repositioned", {"time": "2026-12-01T10:05", "note": "x"}),
+        ("/admit", {"time": "2026-12-01T10:05", "ref": "DEMO-40", "bed": "9", "sex": "male"}),
+        ("/entries/1/correct", {"value": "1", "reason": "x"}),
+        ("/users", {"username": "rn-new", "role": "nurse", "password": "p" * 12}),
+        ("/users/rn-ada/disable", {}),
+    ],
+)
+def test_every_post_without_its_token_is_refused(ward, path, fields):
+    client, _, db = ward
+    sign_in(client, "admin-cy")
+    before = (_count(db), _events(db), len(_store(db).users()))
+    r = client.post(path, data={**fields, "csrf": "forged"})
+    assert r.status_code == 403 and "security token" in r.text
+    assert (_count(db), _events(db), len(_store(db).users())) == before
+    assert client.get("/board", follow_redirects=False).status_code == 200  # still signed in
+
+
+def test_a_failed_sign_in_is_slowed(tmp_path, seeded):
+    import time
+
+    from vascplan.web.app import create_app
+
+    db = str(tmp_path / "ward.db")
+    shutil.copyfile(seeded, db)
+    with TestClient(create_app(db, login_delay_s=0.4)) as client:
+        page = client.get("/login")
+        t = time.perf_counter()
+        r = client.post(
+            "/login", data={"username": "rn-ada", "password": "guess 1", "csrf": csrf(page.text)}
+        )
+        assert r.status_code == 401 and time.perf_counter() - t >= 0.4
+
+
+def test_an_event_is_audited_with_its_author(ward):
+    client, _, db = ward
+    sign_in(client, "rn-ada")
+    token, form_token = _event_tokens(client, "/patients/DEMO-32/events/device-repositioned")
+    client.post(
+        "/patients/DEMO-32/events/device-repositioned",
+        data={
+            "csrf": token,
+            "form_token": form_token,
+            "time": "2026-12-01T10:05",
+            "note": "pulled back 2 cm",
+        },
+    )
+    row = [a for a in _audit(db) if a.action == "event"][0]
+    assert row.author == "rn-ada" and "device-repositioned DEMO-32" in row.what
+
+
+def test_an_arm_device_gets_the_arm_items(ward):
+    client, _, _ = ward
+    sign_in(client, "rn-ada")
+    token, form_token = _event_tokens(client, "/admit")
+    client.post(
+        "/admit",
+        data={
+            "csrf": token,
+            "form_token": form_token,
+            "time": "2026-12-01T10:01",
+            "ref": "DEMO-34",
+            "bed": "4",
+            "sex": "male",
+        },
+    )
+    token, form_token = _event_tokens(client, "/patients/DEMO-34/events/device-inserted")
+    client.post(
+        "/patients/DEMO-34/events/device-inserted",
+        data={
+            "csrf": token,
+            "form_token": form_token,
+            "time": "2026-12-01T10:02",
+            "kind": "microaxial-pump",
+            "side": "R",
+            "vessel": "AXA",
+            "size_fr": "14",
+            "label": "inner",
+        },
+    )
+    html = client.get("/patients/DEMO-34/check").text
+    # The protocol's arm items (limb: arm) for an axillary device: wrist pulses per side;
+    # no leg items (calf, pedal pulses); the access site on the device's side.
+    for name in ("pulse:L-RAD", "pulse:L-ULN", "pulse:R-RAD", "pulse:R-ULN", "access:R-AXA"):
+        assert f'name="{name}"' in html, name
+    assert 'name="calf:L"' not in html and 'name="pulse:R-DPA"' not in html
+    assert "Colour and temperature of both hands" in html  # shown as a reminder
+
+
+@pytest.mark.parametrize("nxt", ["//evil.example/", "/\\evil.example/", "https://evil.example/"])
+def test_sign_in_never_sends_the_browser_elsewhere(ward, nxt):
+    client, _, _ = ward
+    page = client.get(f"/login?next={nxt}")
+    r = client.post(
+        "/login",
+        data={
+            "username": "rn-ada",
+            "password": "nurse password 1",
+            "csrf": csrf(page.text),
+            "next": nxt,
+        },
+        follow_redirects=False,
+    )
+    assert r.status_code == 303 and r.headers["location"] == "/board"
+
+
+def test_exports_of_a_patient_not_on_the_unit_are_404(ward):
+    client, _, _ = ward
+    sign_in(client, "rn-ada")
+    for suffix in ("export.csv", "export.fhir.json", "checklist.pdf"):
+        assert client.get(f"/patients/NOBODY/{suffix}").status_code == 404

@@ -26,7 +26,9 @@ MAX_FIELD = 200
 
 def _next(request: Request, value: str | None) -> str:
     nxt = value or request.query_params.get("next") or "/board"
-    return nxt if nxt.startswith("/") and not nxt.startswith("//") else "/board"
+    # Only a path on this server: never "//host" or "/\\host" (read as another host).
+    safe = nxt.startswith("/") and not nxt.startswith(("//", "/\\")) and "\\" not in nxt
+    return nxt if safe else "/board"
 
 
 async def login_form(request: Request) -> Response:
