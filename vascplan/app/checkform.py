@@ -85,10 +85,11 @@ def _per_side(item: str, label: str) -> list[FormField]:
 
 
 def _arteries(arteries: tuple[str, ...]) -> list[FormField]:
+    # Artery by artery, left then right: the form's two columns are the two limbs.
     return [
         _field("pulse", f"{s}-{a}", f"{a} pulse, {SIDE_NAMES[s]}", s)
-        for s in SIDES
         for a in arteries
+        for s in SIDES
     ]
 
 
