@@ -713,3 +713,27 @@ def test_exports_of_a_patient_not_on_the_unit_are_404(ward):
     sign_in(client, "rn-ada")
     for suffix in ("export.csv", "export.fhir.json", "checklist.pdf"):
         assert client.get(f"/patients/NOBODY/{suffix}").status_code == 404
+
+
+def test_alerts_per_limb_are_sorted_by_urgency(ward):
+    client, _, _ = ward
+    sign_in(client, "rn-ada")
+    token, form_token = _check_page(client, "DEMO-32")
+    client.post(
+        "/patients/DEMO-32/check",
+        data={
+            "csrf": token,
+            "form_token": form_token,
+            "time": "2026-12-01T10:05",
+            "refill:L": "5",
+            "calf:L": "tense",
+            "colour:R": "normal",
+        },
+    )
+    bed2 = client.get("/board").text.split('id="bed-2"')[1].split("</li>\n{%")[0]
+    # The protocol: a tense calf -> surgeon within 5 min (compartment); refill above 3 s ->
+    # doctor within 30 min (perfusion-reduced). The 5-min call comes first, both under the
+    # left leg; nothing under the right leg.
+    left = bed2.split("Left leg")[1]
+    assert left.index("L calf tense") < left.index("L capillary refill 5 s")
+    assert "Right leg" not in bed2

@@ -212,7 +212,12 @@ def _alert_views(review_alerts: list[Any], protocol: Protocol) -> list[LimbAlert
         )
     out = []
     for limb in sorted(groups):
-        alerts = sorted(groups[limb], key=lambda v: (v.within_min is None, v.within_min or 0))
+        # Most urgent first; alerts with the same call side by side (the board says the
+        # meaning and whom to call once under them).
+        alerts = sorted(
+            groups[limb],
+            key=lambda v: (v.within_min is None, v.within_min or 0, v.call, v.meaning),
+        )
         out.append(LimbAlerts(limb, alerts))
     return out
 

@@ -13,13 +13,15 @@ from typing import Any
 
 from markupsafe import Markup
 
-from vascplan.observations.trend import PatientTrend, value_ticks
+from vascplan.observations.trend import PatientTrend, floor_to_step, value_ticks
 
 WINDOW_H = 24
 """Hours of history the charts show, ending at the page's moment."""
 
-W, H = 640, 200
-LEFT, RIGHT, TOP, BOTTOM = 48, 12, 14, 30
+W, H = 640, 220
+LEFT, RIGHT, TOP, BOTTOM = 48, 12, 30, 30
+TICK_H = 6
+"""Hours between time marks, on round hours of the unit's clock."""
 
 SERIES = {
     "L": {"stroke": "#1f5fa8", "dash": "", "marker": "circle", "name": "left leg"},
@@ -74,8 +76,9 @@ def _chart(trend: PatientTrend, item: str, title: str, unit: str, at: datetime, 
             f'<text x="{LEFT - 6}" y="{y(v) + 4:.1f}" text-anchor="end" font-size="11">'
             f"{v:g}</text>"
         )
-    for h in range(0, WINDOW_H + 1, 6):
-        t = t0 + timedelta(hours=h)
+    first = floor_to_step(t0, tz, TICK_H * 60)
+    marks = [first + timedelta(hours=TICK_H * k) for k in range(1, WINDOW_H // TICK_H + 2)]
+    for t in (m for m in marks if t0 <= m <= t1):
         x = _x(t, t0, t1)
         parts.append(
             f'<line x1="{x:.1f}" x2="{x:.1f}" y1="{TOP}" y2="{H - BOTTOM}" stroke="#eee"/>'
@@ -93,12 +96,11 @@ def _chart(trend: PatientTrend, item: str, title: str, unit: str, at: datetime, 
             )
         for t, v in pts:
             parts.append(_marker(style["marker"], _x(t, t0, t1), y(v), style["stroke"]))
-    legend_x = LEFT + 8
-    for i, (side, style) in enumerate(SERIES.items()):
-        lx = legend_x + i * 120
-        parts.append(_marker(style["marker"], lx, TOP + 10, style["stroke"]))
+    for i, (side, style) in enumerate(SERIES.items()):  # the legend, above the plot
+        lx = LEFT + 8 + i * 130
+        parts.append(_marker(style["marker"], lx, TOP - 14, style["stroke"]))
         parts.append(
-            f'<text x="{lx + 8}" y="{TOP + 14}" font-size="11">{side}: {style["name"]}</text>'
+            f'<text x="{lx + 8}" y="{TOP - 10}" font-size="12">{side}: {style["name"]}</text>'
         )
     if not values:
         parts.append(
