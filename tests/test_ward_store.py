@@ -165,3 +165,11 @@ def test_serve_insecure_http_warns_on_every_start(tmp_path, monkeypatch):
 def test_serve_on_an_empty_store_says_to_import_a_unit(tmp_path):
     r = CliRunner().invoke(cli, ["serve", "--db", str(tmp_path / "w.db")])
     assert r.exit_code == 2 and "vascplan unit import UNIT.yaml" in r.stderr
+
+
+def test_every_process_gets_the_same_session_key(db_url):  # noqa: F811
+    from vascplan.ward.store import open_ward
+
+    with open_ward(db_url) as one, open_ward(db_url) as two:
+        first = one.secret()
+        assert len(first) >= 64 and two.secret() == first == one.secret()

@@ -327,13 +327,17 @@ class WardStore:
             found = conn.execute(q).scalar()  # another process may have made it meanwhile
             if found:
                 return str(found)
-            value = secrets.token_urlsafe(48)
             conn.execute(
                 sa.insert(settings_t).values(
-                    key="session-secret", value=value, at_utc=utc_text(datetime.now(UTC))
+                    key="session-secret",
+                    value=secrets.token_urlsafe(48),
+                    at_utc=utc_text(datetime.now(UTC)),
                 )
             )
-        return value
+        # Two processes starting at once on PostgreSQL may both have written one: every
+        # process uses the first written, so all agree.
+        with self.engine.connect() as conn:
+            return str(conn.execute(q).scalar())
 
 
 def _inserted(result: sa.CursorResult[Any]) -> int:
