@@ -737,3 +737,13 @@ def test_alerts_per_limb_are_sorted_by_urgency(ward):
     left = bed2.split("Left leg")[1]
     assert left.index("L calf tense") < left.index("L capillary refill 5 s")
     assert "Right leg" not in bed2
+
+
+def test_unknown_pages_and_methods_answer_in_the_house_style(ward):
+    client, _, _ = ward
+    r = client.get("/nowhere")
+    assert r.status_code == 404 and "no page /nowhere" in r.text and CAUTION in r.text
+    assert client.get("/entries/abc/correct").status_code == 404
+    r = client.delete("/board")
+    assert r.status_code == 405 and "DELETE is not used on this page" in r.text
+    assert r.headers["x-frame-options"] == "DENY"

@@ -111,7 +111,18 @@ async def _input(request: Request, exc: Exception) -> Response:
     return _message(request, 400, "Not recorded", f"{exc}; nothing was recorded.")
 
 
+async def _http(request: Request, exc: Exception) -> Response:
+    from starlette.exceptions import HTTPException
+
+    code = exc.status_code if isinstance(exc, HTTPException) else 500
+    if code == 405:
+        return _message(request, 405, "Not allowed", f"{request.method} is not used on this page")
+    return _message(request, code, "Not found", f"no page {request.url.path}")
+
+
 EXCEPTION_HANDLERS = {
+    404: _http,
+    405: _http,
     NotSignedIn: _not_signed_in,
     CsrfRefused: _csrf,
     Forbidden: _forbidden,
