@@ -35,6 +35,7 @@ if not CHROMIUM or not DRIVER:
 webdriver = pytest.importorskip(
     "selenium.webdriver", reason="browser tests skipped: selenium is not installed"
 )
+from selenium.common.exceptions import WebDriverException  # noqa: E402
 from selenium.webdriver.common.by import By  # noqa: E402
 from selenium.webdriver.common.keys import Keys  # noqa: E402
 
@@ -111,14 +112,27 @@ def browser():
     shutil.rmtree(profile, ignore_errors=True)
 
 
-def _submit(b, el) -> None:
-    """Click (or press Enter on) ``el`` and wait for the next page to load."""
-    from selenium.webdriver.support import expected_conditions as ec
+def _new_page(b) -> bool:
+    try:
+        return bool(
+            b.execute_script(
+                "return window.__oldPage === undefined && document.readyState === 'complete'"
+            )
+        )
+    except WebDriverException:  # between two pages
+        return False
+
+
+def _submit(b, el, key: str | None = None) -> None:
+    """Click ``el`` (or type ``key`` into it) and wait until the next page has loaded."""
     from selenium.webdriver.support.ui import WebDriverWait
 
-    old = b.find_element(By.TAG_NAME, "html")
-    el.click()
-    WebDriverWait(b, 10).until(ec.staleness_of(old))
+    b.execute_script("window.__oldPage = true")
+    if key is None:
+        el.click()
+    else:
+        el.send_keys(key)
+    WebDriverWait(b, 10).until(_new_page)
 
 
 def _sign_in(b, base: str, name: str, password: str | None = None) -> None:
@@ -186,12 +200,7 @@ def test_keyboard_only_check_changes_the_board(server, browser, shots):
             el.send_keys(plan[name])
             filled.add(name)
         if el.tag_name == "button" and el.text == "Record check" and filled == set(plan):
-            from selenium.webdriver.support import expected_conditions as ec
-            from selenium.webdriver.support.ui import WebDriverWait
-
-            old = browser.find_element(By.TAG_NAME, "html")
-            el.send_keys(Keys.ENTER)
-            WebDriverWait(browser, 10).until(ec.staleness_of(old))
+            _submit(browser, el, Keys.ENTER)
             break
         el.send_keys(Keys.TAB)
     else:
@@ -261,6 +270,45 @@ def test_nurse_refused_then_physician_overrides_the_tier(server, browser):
     assert "tier ▲▲ high" in browser.find_element(By.CSS_SELECTOR, ".summary").text
     browser.get(f"{base}/board")
     assert "Tier ▲▲ high" in _bed(browser, 2)
+
+
+def test_a_form_sent_twice_is_recorded_once(server, browser):
+    base, clock, db, _ = server
+    clock.at = local("2026-12-01T10:40")
+    _sign_in(browser, base, "rn-ada")
+    browser.get(f"{base}/patients/DEMO-31/check")
+    browser.find_element(By.NAME, "nirs:L").send_keys("63")
+    # The same filled form sent twice at once (a double tap, a resend after a slow network).
+    statuses = browser.execute_async_script(
+        """
+        const done = arguments[arguments.length - 1];
+        const form = document.querySelector("form.check");
+        const send = () => fetch(form.action, {method: "POST", body: new FormData(form),
+                                              redirect: "manual"}).then(r => r.type);
+        Promise.all([send(), send()]).then(done);
+        """
+    )
+    # Both answered by the redirect to the patient page (no error page for the second).
+    assert statuses == ["opaqueredirect", "opaqueredirect"]
+    from vascplan.ward.store import open_ward
+
+    with open_ward(db) as store:
+        mine = [e for e in store.obs.entries(UNIT_NAME, ref="DEMO-31") if e.item == "nirs"]
+    assert [(e.site, e.value) for e in mine] == [("L", "63")]
+
+
+def test_a_form_without_its_token_is_refused(server, browser):
+    base, clock, db, _ = server
+    _sign_in(browser, base, "rn-ada")
+    browser.get(f"{base}/patients/DEMO-31/check")
+    browser.find_element(By.NAME, "nirs:R").send_keys("59")
+    browser.execute_script('document.querySelector("form.check input[name=csrf]").remove()')
+    _submit(browser, browser.find_element(By.CSS_SELECTOR, "button.primary"))
+    assert "Form refused" in browser.find_element(By.TAG_NAME, "h1").text
+    from vascplan.ward.store import open_ward
+
+    with open_ward(db) as store:
+        assert not [e for e in store.obs.entries(UNIT_NAME, ref="DEMO-31") if e.site == "R"]
 
 
 @pytest.mark.parametrize(("width", "label"), [(768, "tablet"), (390, "phone")])

@@ -188,10 +188,11 @@ def record_event(
     except InputError as exc:
         field = exc.field.rsplit(".", 1)[-1] if exc.field else "form"
         raise FormErrors({_form_field(field): exc.message}) from None
-    store.add_event(name, ref, kind, at, data, by=author, now=now)
     what = f"{kind} {ref} at {at.astimezone(tz).isoformat()}" + (f": {data}" if data else "")
-    if token:
-        store.claim_form(token, "event", what, now)
+    # Claimed before the write, so that of two sends of one form exactly one records.
+    if token and not store.claim_form(token, "event", what, now):
+        return Recorded(store.form_result(token) or what, again=True)
+    store.add_event(name, ref, kind, at, data, by=author, now=now)
     return Recorded(what)
 
 

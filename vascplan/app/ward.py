@@ -379,18 +379,13 @@ def record_check(
         errors["form"] = "fill in at least one finding"
     if errors:
         raise FormErrors(errors)
-    try:
-        ids = store.obs.record(findings, unit=name, kind="add", source=f"web {author}")
-    except InputError:
-        if token and (done := store.form_result(token)) is not None:
-            return Recorded(done, again=True)  # the same form, sent twice at once
-        raise
-    what = (
-        f"check of {ref} (bed {p.bed}) at {moment.isoformat()}: "
-        f"{len(ids)} findings, entries {ids[0]}-{ids[-1]}"
-    )
-    if token:
-        store.claim_form(token, "check", what, now)
+    what = f"check of {ref} (bed {p.bed}) at {moment.isoformat()}"
+    # The token is claimed before the write: of two sends of one form (even at the same
+    # instant) exactly one claims it and records; the other is told it was recorded.
+    if token and not store.claim_form(token, "check", what, now):
+        return Recorded(store.form_result(token) or what, again=True)
+    ids = store.obs.record(findings, unit=name, kind="add", source=f"web {author}")
+    what = f"{what}: {len(ids)} findings, entries {ids[0]}-{ids[-1]}"
     return Recorded(what)
 
 
