@@ -15,6 +15,7 @@ from typing import Any
 from vascplan.app.ward import FUTURE_SLACK, Forbidden, FormErrors, NotFound, Recorded
 from vascplan.errors import InputError
 from vascplan.observations.findings import check_time
+from vascplan.safety import CAUTION
 from vascplan.surveillance.unit import Unit, load_unit
 from vascplan.ward.model import EventIn, events_from_unit, replay
 from vascplan.ward.store import WardStore
@@ -238,5 +239,6 @@ def export_unit_text(store: WardStore, name: str, at: datetime | None = None) ->
     head = (
         f"# Unit {name!r} exported from the store {store.shown}; edit the store through\n"
         "# events (vascplan serve), not this file.\n"
+        f"# Caution: {CAUTION}\n"
     )
     return head + yaml.safe_dump(doc, sort_keys=False, allow_unicode=True)
