@@ -68,6 +68,7 @@ def run() -> dict[str, float]:
             "title": "Board",
             "board": data,
             "refresh_s": 30,
+            "due_soon_min": 15,
             "request": None,
         }
         template = TEMPLATES.get_template("board.html")

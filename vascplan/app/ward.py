@@ -34,6 +34,9 @@ PAGE_SCHEDULE_H = 12
 """How far ahead the patient page lists the schedule [h] (the issue's twelve hours)."""
 BOARD_LOOKAHEAD_H = 24
 """How far ahead the board looks for the next check [h]."""
+DUE_SOON_MIN = 15
+"""A bed whose next check is this close [min] is shown as due soon (unit policy: the
+length of the shortest check interval of the bundled protocol)."""
 FUTURE_SLACK = timedelta(minutes=2)
 """A check time a little ahead of the server's clock is accepted (clocks differ by a
 minute or so between a tablet and the server); a later time is refused."""
@@ -160,13 +163,13 @@ class BoardRow:
 
     @property
     def status(self) -> str:
-        """``alert``, ``overdue``, ``due-soon`` (within 15 min) or ``ok``: one word the page
-        shows as text and an icon, the colour only repeating it."""
+        """``alert``, ``overdue``, ``due-soon`` (within :data:`DUE_SOON_MIN`) or ``ok``: one
+        word the page shows as text and an icon, the colour only repeating it."""
         if any(g.alerts for g in self.alert_groups):
             return "alert"
         if self.overdue:
             return "overdue"
-        if self.minutes_to_go is not None and self.minutes_to_go <= 15:
+        if self.minutes_to_go is not None and self.minutes_to_go <= DUE_SOON_MIN:
             return "due-soon"
         return "ok"
 

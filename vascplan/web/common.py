@@ -15,6 +15,7 @@ from starlette.responses import RedirectResponse, Response
 from starlette.templating import Jinja2Templates
 from starlette.types import ASGIApp, Message, Receive, Scope, Send
 
+from vascplan.app.ward import DUE_SOON_MIN
 from vascplan.errors import VascplanError
 from vascplan.safety import CAUTION
 from vascplan.ward.store import WardStore
@@ -157,6 +158,7 @@ def page(
         "tier_mark": TIER_MARK,
         "status_text": STATUS_TEXT,
         "title": "",
+        "due_soon_min": DUE_SOON_MIN,
     }
     return TEMPLATES.TemplateResponse(request, name, {**base, **context}, status_code=status_code)
 
