@@ -747,3 +747,41 @@ def test_unknown_pages_and_methods_answer_in_the_house_style(ward):
     r = client.delete("/board")
     assert r.status_code == 405 and "DELETE is not used on this page" in r.text
     assert r.headers["x-frame-options"] == "DENY"
+
+
+def test_withdrawing_a_finding_keeps_the_original(ward):
+    client, _, db = ward
+    token = sign_in(client, "rn-ada")
+    _one_check(client)
+    r = client.post(
+        "/entries/1/correct",
+        data={"csrf": token, "withdraw": "on", "reason": "wrong patient"},
+        follow_redirects=False,
+    )
+    assert r.status_code == 303
+    with _store(db) as s:
+        rows = s.obs.entries(UNIT_NAME, ref="DEMO-31")
+        assert [(e.value, e.corrects) for e in rows] == [("64", None), ("entered-in-error", 1)]
+        assert s.obs.current(UNIT_NAME, ref="DEMO-31") == []
+
+
+def test_the_trend_chart_is_drawn_on_the_server(ward):
+    client, _, _ = ward
+    token = sign_in(client, "rn-ada")
+    for when, left in (("10:00", "66"), ("10:05", "62")):
+        _, form_token = _check_page(client)
+        client.post(
+            "/patients/DEMO-31/check",
+            data={
+                "csrf": token,
+                "form_token": form_token,
+                "time": f"2026-12-01T{when}",
+                "nirs:L": left,
+            },
+        )
+    page = client.get("/patients/DEMO-31").text
+    nirs = page.split("<figcaption>Calf NIRS (%)</figcaption>")[1].split("</svg>")[0]
+    assert nirs.startswith('<svg xmlns="http://www.w3.org/2000/svg"')
+    # Left leg: a circle per finding (2) and one in the legend; one line joining them.
+    assert nirs.count("<circle") == 3 and nirs.count("<polyline") == 1
+    assert "<script" not in page.split("</head>")[1]
