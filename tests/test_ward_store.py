@@ -173,3 +173,11 @@ def test_every_process_gets_the_same_session_key(db_url):  # noqa: F811
     with open_ward(db_url) as one, open_ward(db_url) as two:
         first = one.secret()
         assert len(first) >= 64 and two.secret() == first == one.secret()
+
+
+def test_serve_needs_both_tls_files(tmp_path):
+    cert = tmp_path / "ward.crt"
+    cert.write_text("not really a certificate")
+    r = CliRunner().invoke(cli, ["serve", "--db", str(tmp_path / "w.db"), "--tls-cert", str(cert)])
+    assert r.exit_code == 2
+    assert r.stderr.strip() == "error: --tls-cert: give both --tls-cert and --tls-key, or neither"

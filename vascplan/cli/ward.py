@@ -12,12 +12,25 @@ from datetime import UTC, datetime
 
 import click
 
-from vascplan.cli.obs import _db_option
+from vascplan.cli.obs import DB_ENVVAR, DB_HELP
 from vascplan.errors import InputError
 from vascplan.safety import CAUTION
 
 CLI_AUTHOR = "cli:{user}"
 """How a command-line change is signed in the audit trail (the operating-system user)."""
+
+
+def _db_option(f):
+    """``--db`` as every store command takes it (``VASCPLAN_DB`` when not given)."""
+    return click.option(
+        "--db",
+        "db",
+        metavar="PATH-OR-URL",
+        default=None,
+        envvar=DB_ENVVAR,
+        show_envvar=True,
+        help=DB_HELP,
+    )(f)
 
 
 def _author() -> str:
