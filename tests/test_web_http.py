@@ -785,3 +785,25 @@ def test_the_trend_chart_is_drawn_on_the_server(ward):
     # Left leg: a circle per finding (2) and one in the legend; one line joining them.
     assert nirs.count("<circle") == 3 and nirs.count("<polyline") == 1
     assert "<script" not in page.split("</head>")[1]
+
+
+def test_monitoring_started_brings_the_nirs_items(ward):
+    client, _, _ = ward
+    sign_in(client, "rn-ada")
+    assert 'name="nirs:L"' not in client.get("/patients/DEMO-32/check").text
+    token, form_token = _event_tokens(client, "/patients/DEMO-32/events/monitoring-started")
+    r = client.post(
+        "/patients/DEMO-32/events/monitoring-started",
+        data={
+            "csrf": token,
+            "form_token": form_token,
+            "time": "2026-12-01T10:06",
+            "nirs_L": "70",
+            "nirs_R": "69",
+        },
+        follow_redirects=False,
+    )
+    assert r.status_code == 303
+    # The protocol's NIRS item is asked for when NIRS is monitored (when: nirs-monitored).
+    html = client.get("/patients/DEMO-32/check").text
+    assert 'name="nirs:L"' in html and 'name="nirs:R"' in html

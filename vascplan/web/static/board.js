@@ -17,6 +17,8 @@
   function refresh() {
     fetch(url, { credentials: "same-origin", cache: "no-store", redirect: "manual" })
       .then(function (r) {
+        // Signed out (the session timed out): reload, which shows the sign-in page.
+        if (r.type === "opaqueredirect") { window.location.reload(); throw new Error("signed out"); }
         if (!r.ok || !r.headers.get("x-vascplan-board")) { throw new Error("no board"); }
         return r.text();
       })
