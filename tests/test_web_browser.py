@@ -333,6 +333,24 @@ def test_board_fits_tablet_and_phone(server, browser, shots, width, label):
         browser.set_window_size(1280, 900)
 
 
+def test_the_board_refreshes_itself_and_a_timed_out_session_goes_to_sign_in(server, browser):
+    from selenium.webdriver.support.ui import WebDriverWait
+
+    base, clock, _, _ = server
+    clock.at = local("2026-12-01T10:50")
+    _sign_in(browser, base, "rn-ada")
+    browser.get(f"{base}/board")
+    assert browser.find_element(By.ID, "board-at").text == "2026-12-01 10:50+00:00"
+    clock.at = local("2026-12-01T10:52")
+    browser.execute_script("window.vascplanRefreshBoard()")
+    shown = 'return document.getElementById("board-at").textContent'
+    WebDriverWait(browser, 5).until(lambda b: b.execute_script(shown) == "2026-12-01 10:52+00:00")
+    browser.delete_all_cookies()  # as when the idle time-out has ended the session
+    browser.execute_script("window.vascplanRefreshBoard()")
+    WebDriverWait(browser, 5).until(lambda b: "/login" in b.current_url)
+    assert not browser.find_element(By.ID, "conn-lost").is_displayed()
+
+
 def test_lost_connection_greys_the_board(server, browser, shots):
     # Last in the module: it stops the server.
     base, _, _, srv = server

@@ -18,11 +18,12 @@
     fetch(url, { credentials: "same-origin", cache: "no-store", redirect: "manual" })
       .then(function (r) {
         // Signed out (the session timed out): reload, which shows the sign-in page.
-        if (r.type === "opaqueredirect") { window.location.reload(); throw new Error("signed out"); }
+        if (r.type === "opaqueredirect") { window.location.reload(); return null; }
         if (!r.ok || !r.headers.get("x-vascplan-board")) { throw new Error("no board"); }
         return r.text();
       })
       .then(function (html) {
+        if (html === null) { return; }
         board.innerHTML = html;
         lastGood = document.getElementById("board-at");
         document.body.classList.remove("stale");
