@@ -807,3 +807,13 @@ def test_monitoring_started_brings_the_nirs_items(ward):
     # The protocol's NIRS item is asked for when NIRS is monitored (when: nirs-monitored).
     html = client.get("/patients/DEMO-32/check").text
     assert 'name="nirs:L"' in html and 'name="nirs:R"' in html
+
+
+def test_the_check_form_shows_the_last_value_of_each_field(ward):
+    client, _, _ = ward
+    sign_in(client, "rn-ada")
+    _one_check(client, "64")
+    html = client.get("/patients/DEMO-31/check").text
+    field = html.split('name="nirs:L"')[1].split("</div>")[0]
+    assert "last: 64 at 10:05 (+00:00)" in field
+    assert "last:" not in html.split('name="nirs:R"')[1].split("</div>")[0]

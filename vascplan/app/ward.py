@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import functools
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from datetime import UTC, datetime, timedelta
 from typing import Any
 
@@ -309,20 +309,31 @@ def patient_view(store: WardStore, name: str, ref: str, at: datetime) -> Patient
 
 @dataclass
 class CheckForm:
+    """The form, with the last value recorded for each field (``last``: field name ->
+    (value, when)) so that the nurse compares with it."""
+
     unit: str
     at: datetime
     patient: Patient
     sections: list[FormSection]
+    last: dict[str, tuple[str, datetime]] = field(default_factory=dict)
     caution: str = CAUTION
 
 
-def check_form(store: WardStore, name: str, ref: str, at: datetime) -> CheckForm:
+def check_form(
+    store: WardStore, name: str, ref: str, at: datetime, *, with_last: bool = True
+) -> CheckForm:
     """The check form for ``ref``: the protocol's items for the check due next (or now)."""
     snap = snapshot(store, name, at)
     p = snap.patient(ref)
     dpc_in = p.dpc_in_at(at)
     items = snap.protocol.items_for(p.device.kind, bool(p.baseline.nirs), dpc_in, p.device.limb)
-    return CheckForm(name, snap.at, p, check_sections(snap.protocol, p, items))
+    last: dict[str, tuple[str, datetime]] = {}
+    if with_last:
+        tz = snap.unit.unit.tz
+        for f in _findings(store, name, ref, at):  # time order: the latest wins
+            last[f"{f.item}:{f.site}"] = (f.value, f.time.astimezone(tz))
+    return CheckForm(name, snap.at, p, check_sections(snap.protocol, p, items), last)
 
 
 def record_check(
@@ -345,7 +356,7 @@ def record_check(
         return Recorded(done, again=True)
     snap = snapshot(store, name, now)
     p = snap.patient(ref)
-    form = check_form(store, name, ref, now)
+    form = check_form(store, name, ref, now, with_last=False)
     known = {f.name: f for s in form.sections for f in s.fields}
     errors: dict[str, str] = {}
     try:
