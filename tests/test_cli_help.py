@@ -72,9 +72,9 @@ def test_unknown_command_exits_2():
         ),
         (
             ["plna"],
-            "error: vascplan: no command 'plna' (did you mean 'plan'?); commands are checklist, "
-            "demo, due, obs, plan, report, risk, rota, schema, sheath-flow, tree, validate "
-            "(see vascplan --help)",
+            "error: vascplan: no command 'plna' (did you mean 'plan'?); commands are audit, "
+            "checklist, demo, due, obs, plan, report, risk, rota, schema, serve, sheath-flow, "
+            "tree, unit, users, validate (see vascplan --help)",
         ),
     ],
 )
@@ -146,8 +146,20 @@ def test_vascplan_db_is_the_store_when_db_is_not_given(tmp_path):
     unit = str(Path(__file__).parent / "unit_minimal.yaml")
     from_env, from_option = tmp_path / "env.db", tmp_path / "option.db"
     env = {"VASCPLAN_DB": str(from_env), "XDG_DATA_HOME": str(tmp_path / "xdg")}
-    add = ["obs", "add", "--unit", unit, "--bed", "1", "--time", "2026-12-01T16:00",
-           "--by", "RN-A", "--pain", "3"]
+    add = [
+        "obs",
+        "add",
+        "--unit",
+        unit,
+        "--bed",
+        "1",
+        "--time",
+        "2026-12-01T16:00",
+        "--by",
+        "RN-A",
+        "--pain",
+        "3",
+    ]
     runner = CliRunner()
     r = runner.invoke(cli, add, env=env)
     assert r.exit_code == 0, r.output

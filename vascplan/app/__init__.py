@@ -1,2 +1,2 @@
-"""Application services: one function per request a face (terminal, web) makes; each
-returns a typed result that the face renders."""
+"""The application layer: one function per thing a person asks for; each returns a typed
+result that a face (terminal, web) renders. The CLI and the web pages both call it."""

@@ -39,6 +39,10 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "obs": ("vascplan.cli.obs:obs", "Record, review, plot and export limb checks."),
     "due": ("vascplan.cli.shift:due", "The checks overdue and due soon, bed by bed."),
     "demo": ("vascplan.cli.demo:demo", "Run every job on the bundled invented examples."),
+    "unit": ("vascplan.cli.ward:unit", "Seed the store from a unit file, or export it as one."),
+    "users": ("vascplan.cli.ward:users", "Accounts for the ward pages: add, disable, list."),
+    "audit": ("vascplan.cli.ward:audit", "Print the ward's audit trail."),
+    "serve": ("vascplan.cli.ward:serve", "Serve the ward pages: board, bedside checks, events."),
 }
 
 

@@ -263,6 +263,88 @@ def _m6_hash_chain(conn: Connection) -> None:
         conn.exec_driver_sql(ddl)
 
 
+# The ward (``vascplan serve``, ``vascplan users``, ``vascplan unit``): accounts, unit and
+# patient events, the audit trail, one-time form tokens and the server's own settings.
+# Every table is append-only like the observation record: a user's current role or a
+# patient's current device is derived from the events, never updated in place.
+_WARD_TABLES = ("ward_user", "ward_event", "ward_audit", "ward_form", "ward_setting")
+
+
+def _m7_ward(conn: Connection) -> None:
+    # Frozen once released, like migration 1: the tables declared here, not taken from
+    # vascplan.ward.store, so that a later change there can never alter what this builds.
+    v7 = sa.MetaData()
+    sa.Table(
+        "ward_user",
+        v7,
+        sa.Column("id", sa.Integer, primary_key=True),
+        sa.Column("username", sa.Text, nullable=False),
+        sa.Column("kind", sa.Text, nullable=False),  # add | disable | enable | password
+        sa.Column("role", sa.Text, nullable=True),
+        sa.Column("pw_hash", sa.Text, nullable=True),
+        sa.Column("by", sa.Text, nullable=False),
+        sa.Column("at_utc", sa.Text, nullable=False),
+        sa.Index("ward_user_name", "username", "id"),
+    )
+    sa.Table(
+        "ward_event",
+        v7,
+        sa.Column("id", sa.Integer, primary_key=True),
+        sa.Column("unit", sa.Text, nullable=False),
+        sa.Column("ref", sa.Text, nullable=False),  # empty for a unit-wide event
+        sa.Column("kind", sa.Text, nullable=False),
+        sa.Column("at_utc", sa.Text, nullable=False),
+        sa.Column("data", sa.Text, nullable=False),  # JSON object
+        sa.Column("recorded_by", sa.Text, nullable=False),
+        sa.Column("entered_at", sa.Text, nullable=False),
+        sa.Index("ward_event_unit_time", "unit", "at_utc"),
+    )
+    sa.Table(
+        "ward_audit",
+        v7,
+        sa.Column("id", sa.Integer, primary_key=True),
+        sa.Column("at_utc", sa.Text, nullable=False),
+        sa.Column("author", sa.Text, nullable=False),
+        sa.Column("address", sa.Text, nullable=False),
+        sa.Column("action", sa.Text, nullable=False),
+        sa.Column("what", sa.Text, nullable=False),
+    )
+    sa.Table(
+        "ward_form",
+        v7,
+        sa.Column("token", sa.Text, primary_key=True),
+        sa.Column("kind", sa.Text, nullable=False),
+        sa.Column("result", sa.Text, nullable=False),
+        sa.Column("at_utc", sa.Text, nullable=False),
+    )
+    sa.Table(
+        "ward_setting",
+        v7,
+        sa.Column("id", sa.Integer, primary_key=True),
+        sa.Column("key", sa.Text, nullable=False),
+        sa.Column("value", sa.Text, nullable=False),
+        sa.Column("at_utc", sa.Text, nullable=False),
+    )
+    v7.create_all(conn)
+    if conn.dialect.name == "postgresql":
+        for table in _WARD_TABLES:
+            conn.exec_driver_sql(
+                f"CREATE TRIGGER {table}_append_only BEFORE UPDATE OR DELETE ON {table} "
+                "FOR EACH ROW EXECUTE FUNCTION vascplan_refuse_change()"
+            )
+            conn.exec_driver_sql(
+                f"CREATE TRIGGER {table}_no_truncate BEFORE TRUNCATE ON {table} "
+                "FOR EACH STATEMENT EXECUTE FUNCTION vascplan_refuse_change()"
+            )
+    else:
+        for table in _WARD_TABLES:
+            for verb in ("UPDATE", "DELETE"):
+                conn.exec_driver_sql(
+                    f"CREATE TRIGGER {table}_no_{verb.lower()} BEFORE {verb} ON {table} "
+                    "BEGIN SELECT RAISE(ABORT, 'ward record is append-only'); END"
+                )
+
+
 MIGRATIONS: list[tuple[int, str, Callable[[Connection], None]]] = [
     (1, "batches and entries", _m1_tables),
     (2, "append-only triggers", _m2_append_only),
@@ -270,6 +352,7 @@ MIGRATIONS: list[tuple[int, str, Callable[[Connection], None]]] = [
     (4, "indexes on unit and time, and on batch", _m4_query_indexes),
     (5, "records keyed by the unit's stable id", _m5_unit_ids),
     (6, "hash chain of entries; inserts that replace refused", _m6_hash_chain),
+    (7, "ward: users, events, audit trail, form tokens, settings", _m7_ward),
 ]
 
 
