@@ -41,8 +41,11 @@ def _engine(db: str) -> sa.Engine:
 def _old_store(db: str, version: int) -> None:
     """A store at ``version``, with two findings and one correction when it has tables."""
     engine = _engine(db)
+    # From version 6 on an entry carries chain hashes: the rows are written at 5 and the
+    # later migrations bring them up, as an upgraded store of that version holds them.
+    rows_at = min(version, 5)
     try:
-        assert migrate(engine, db, upto=version) == version
+        assert migrate(engine, db, upto=rows_at) == rows_at
         if version >= 1:
             # No explicit ids: PostgreSQL's serial must stay in step for later writes.
             values = "'U', 1, 'DEMO-11', '2026-12-01T16:00:00+00:00', '2026-12-01T16:00:00+00:00'"
@@ -74,6 +77,8 @@ def _old_store(db: str, version: int) -> None:
                             "VALUES ((", "VALUES ('u', ("
                         )
                     conn.exec_driver_sql(sql)
+        if version > rows_at:
+            assert migrate(engine, db, upto=version) == version
     finally:
         engine.dispose()
 

@@ -20,7 +20,7 @@ from pathlib import Path
 
 import pytest
 
-from tests.ward_fixtures import PASSWORDS, UNIT_NAME, Clock, local, seed
+from tests.ward_fixtures import PASSWORDS, UNIT_KEY, Clock, local, seed
 
 pytestmark = pytest.mark.browser
 
@@ -190,10 +190,29 @@ def test_keyboard_only_check_changes_the_board(server, browser, shots):
         "calf:L": "soft",
         "motor:L": "normal",
     }
+    # A whole check (issue 13: a check counts only for what it records): the fields above
+    # with the values planned, every other field of the form with its first choice or the
+    # middle of its range, each reached with the Tab key alone.
+    fields = {
+        el.get_attribute("name"): el
+        for el in browser.find_elements(By.CSS_SELECTOR, "form select, form input")
+        if el.get_attribute("name") not in (None, "", "csrf", "form_token", "time")
+    }
+    for name, el in fields.items():
+        if name in plan:
+            continue
+        if el.tag_name == "select":
+            options = [
+                o.text for o in el.find_elements(By.TAG_NAME, "option") if o.get_attribute("value")
+            ]
+            plan[name] = options[0]
+        else:
+            low, high = (float(x) for x in el.get_attribute("placeholder").split("\u2013"))
+            plan[name] = str(int((low + high) / 2))
     filled = set()
     body = browser.find_element(By.TAG_NAME, "body")
     body.send_keys(Keys.TAB)
-    for _ in range(120):
+    for _ in range(400):
         el = browser.switch_to.active_element
         name = el.get_attribute("name")
         if name in plan and name not in filled:
@@ -209,14 +228,16 @@ def test_keyboard_only_check_changes_the_board(server, browser, shots):
     from vascplan.ward.store import open_ward
 
     with open_ward(db) as store:
-        rows = store.obs.entries(UNIT_NAME, ref="DEMO-32")
-    assert {(e.item, e.site, e.value, e.by) for e in rows} == {
+        rows = store.obs.entries(UNIT_KEY, ref="DEMO-32")
+    got = {(e.item, e.site, e.value, e.by) for e in rows}
+    assert {
         ("pulse", "L-DPA", "doppler", "rn-ada"),
         ("pulse", "L-PTA", "palpable", "rn-ada"),
         ("refill", "L", "2", "rn-ada"),
         ("calf", "L", "soft", "rn-ada"),
         ("motor", "L", "normal", "rn-ada"),
-    }
+    } <= got
+    assert {f"{item}:{site}" for item, site, _, _ in got} == set(plan)  # one row a field
     browser.get(f"{base}/board")
     bed2 = _bed(browser, 2)
     assert "overdue" not in bed2.lower().replace("⚑ overdue · ⚠ alert", "")
@@ -244,7 +265,8 @@ def test_a_correction_through_the_patient_page(server, browser, shots):
     from vascplan.ward.store import open_ward
 
     with open_ward(db) as store:
-        wrong = [e for e in store.obs.entries(UNIT_NAME, ref="DEMO-32") if e.site == "R"][0]
+        rows = store.obs.entries(UNIT_KEY, ref="DEMO-32")
+        wrong = [e for e in rows if (e.item, e.site) == ("refill", "R")][0]
     browser.get(f"{base}/entries/{wrong.id}/correct")
     browser.find_element(By.NAME, "value").send_keys("3")
     browser.find_element(By.NAME, "reason").send_keys("wrong leg read")
@@ -293,7 +315,7 @@ def test_a_form_sent_twice_is_recorded_once(server, browser):
     from vascplan.ward.store import open_ward
 
     with open_ward(db) as store:
-        mine = [e for e in store.obs.entries(UNIT_NAME, ref="DEMO-31") if e.item == "nirs"]
+        mine = [e for e in store.obs.entries(UNIT_KEY, ref="DEMO-31") if e.item == "nirs"]
     assert [(e.site, e.value) for e in mine] == [("L", "63")]
 
 
@@ -308,7 +330,7 @@ def test_a_form_without_its_token_is_refused(server, browser):
     from vascplan.ward.store import open_ward
 
     with open_ward(db) as store:
-        assert not [e for e in store.obs.entries(UNIT_NAME, ref="DEMO-31") if e.site == "R"]
+        assert not [e for e in store.obs.entries(UNIT_KEY, ref="DEMO-31") if e.site == "R"]
 
 
 @pytest.mark.parametrize(("width", "label"), [(768, "tablet"), (390, "phone")])

@@ -18,6 +18,7 @@ import pytest
 
 from tests.ward_fixtures import (
     FORM_TOKEN,
+    UNIT_KEY,
     UNIT_NAME,
     Clock,
     csrf,
@@ -63,7 +64,7 @@ def _store(db):
 
 def _count(db) -> int:
     with _store(db) as s:
-        return s.obs.count(UNIT_NAME)
+        return s.obs.count(UNIT_KEY)
 
 
 def _events(db) -> int:
@@ -214,7 +215,7 @@ def test_a_check_takes_its_author_from_the_login(ward):
     )
     assert r.status_code == 303
     with _store(db) as s:
-        rows = s.obs.entries(UNIT_NAME, ref="DEMO-31")
+        rows = s.obs.entries(UNIT_KEY, ref="DEMO-31")
     assert {(e.item, e.site, e.value, e.by) for e in rows} == {
         ("nirs", "L", "64", "rn-ada"),
         ("nirs", "R", "61", "rn-ada"),
@@ -291,7 +292,7 @@ def test_the_board_shows_an_overdue_check_at_the_right_minute(ward):
     assert "1 overdue" in bed2 and "first due 10:15 (+00:00), 6 min late" in bed2
 
 
-def test_a_check_clears_the_overdue_and_shows_its_alert(ward):
+def test_a_partial_check_shows_its_alert_and_leaves_the_rest_due(ward):
     client, clock, _ = ward
     sign_in(client, "rn-ada")
     clock.at = local("2026-12-01T10:21")
@@ -306,7 +307,9 @@ def test_a_check_clears_the_overdue_and_shows_its_alert(ward):
         },
     )
     bed2 = client.get("/board").text.split('id="bed-2"')[1].split("</li>")[0]
-    assert "overdue" not in bed2.split("</div>", 3)[-1].lower()
+    # A check counts only for the items it records (issue 13): one calf finding leaves the
+    # rest of the 10:15 check due.
+    assert "1 overdue" in bed2
     # calf-tense raises the protocol's compartment criterion: surgeon within 5 min.
     assert "Left leg" in bed2 and "L calf tense at 10:21" in bed2
     assert "Vascular surgeon and doctor in charge, immediately (within 5 min)" in bed2
@@ -354,7 +357,7 @@ def test_a_correction_is_a_new_entry_with_author_and_reason(ward):
     )
     assert r.status_code == 303
     with _store(db) as s:
-        rows = s.obs.entries(UNIT_NAME, ref="DEMO-31")
+        rows = s.obs.entries(UNIT_KEY, ref="DEMO-31")
     original, fix = rows
     assert (original.value, original.by, original.corrects) == ("64", "rn-ada", None)
     assert (fix.value, fix.by, fix.corrects, fix.reason) == (
@@ -688,7 +691,9 @@ def test_an_arm_device_gets_the_arm_items(ward):
     for name in ("pulse:L-RAD", "pulse:L-ULN", "pulse:R-RAD", "pulse:R-ULN", "access:R-AXA"):
         assert f'name="{name}"' in html, name
     assert 'name="calf:L"' not in html and 'name="pulse:R-DPA"' not in html
-    assert "Colour and temperature of both hands" in html  # shown as a reminder
+    # The hand items are recorded per arm (the protocol's records/per_side, issue 13).
+    for name in ("hand-colour:L", "hand-colour:R", "finger-refill:R", "forearm:R"):
+        assert f'name="{name}"' in html, name
 
 
 @pytest.mark.parametrize("nxt", ["//evil.example/", "/\\evil.example/", "https://evil.example/"])
@@ -760,9 +765,9 @@ def test_withdrawing_a_finding_keeps_the_original(ward):
     )
     assert r.status_code == 303
     with _store(db) as s:
-        rows = s.obs.entries(UNIT_NAME, ref="DEMO-31")
+        rows = s.obs.entries(UNIT_KEY, ref="DEMO-31")
         assert [(e.value, e.corrects) for e in rows] == [("64", None), ("entered-in-error", 1)]
-        assert s.obs.current(UNIT_NAME, ref="DEMO-31") == []
+        assert s.obs.current(UNIT_KEY, ref="DEMO-31") == []
 
 
 def test_the_trend_chart_is_drawn_on_the_server(ward):

@@ -9,6 +9,7 @@ from zoneinfo import ZoneInfo
 
 UNIT = Path(__file__).parent / "data" / "ward_unit.yaml"
 UNIT_NAME = "Ward test unit"
+UNIT_KEY = "ward-test-unit"  # the unit's stable id (the file gives none: its name, slugged)
 LONDON = ZoneInfo("Europe/London")
 PASSWORDS = {
     "rn-ada": ("nurse", "nurse password 1"),

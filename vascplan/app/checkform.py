@@ -4,8 +4,8 @@ The protocol (``data/protocols/*.yaml``) says which items a device kind and limb
 finding vocabulary (:mod:`vascplan.observations.findings`) says what each finding allows.
 This module only joins the two: each protocol item becomes the findings that record it,
 one per limb (left, right) for leg items, the wrist arteries for arm items, the access
-site on the device's side. A protocol item with no finding in the vocabulary (circuit
-flow, pump position, the hand's colour) is shown as a reminder, not recorded.
+site on the device's side. A protocol item that names no finding (``records``) is shown as
+a reminder, not recorded.
 """
 
 from __future__ import annotations
@@ -93,37 +93,45 @@ def _arteries(arteries: tuple[str, ...]) -> list[FormField]:
     ]
 
 
-def fields_for(item_id: str, patient: Patient) -> list[FormField]:
-    """The finding fields that record protocol item ``item_id`` for ``patient``."""
+def _label(item: str) -> str:
+    meaning = ITEMS[item].meaning
+    return meaning[:1].upper() + meaning[1:]
+
+
+def fields_for(protocol: Protocol, item_id: str, patient: Patient) -> list[FormField]:
+    """The finding fields that record protocol item ``item_id`` for ``patient``.
+
+    The protocol says which observation item records it (``records``) and whether each
+    limb is checked on its own (``per_side``), as the review's coverage reads it
+    (:mod:`vascplan.observations.coverage`); this only lays out the sites: a pulse at
+    each artery of the limb (pedal arteries for a leg, wrist arteries for an arm), the
+    access site and the distal cannula on the device's side.
+    """
     dev = patient.device
     side = dev.side
-    if item_id == "pulses":
-        return _arteries(("DPA", "PTA"))
-    if item_id == "arm-pulses":
-        return _arteries(("RAD", "ULN"))
-    simple = {
-        "nirs": ("nirs", "Calf NIRS"),
-        "colour": ("colour", "Colour"),
-        "temperature": ("temperature", "Temperature"),
-        "capillary-refill": ("refill", "Capillary refill"),
-        "sensation": ("sensation", "Sensation"),
-        "movement": ("motor", "Movement"),
-    }
-    if item_id in simple:
-        return _per_side(*simple[item_id])
-    if item_id == "calf":
-        return [*_per_side("calf", "Calf"), _field("pain", "", "Pain score", "")]
-    if item_id == "access-site":
+    spec = protocol.item(item_id)
+    item = spec.records
+    if item is None or item not in ITEMS:
+        return []  # shown as a reminder: nothing in the record's vocabulary records it
+    if item == "pulse":
+        arm = spec.limb == "arm" or (spec.limb == "any" and dev.limb == "arm")
+        return _arteries(("RAD", "ULN") if arm else ("DPA", "PTA"))
+    if item == "access":
         site = f"{side}-{dev.vessel}"
         return [_field("access", site, f"Access site {site}", side)]
-    if item_id == "dpc":
-        return [_field("dpc", side, f"Distal perfusion cannula, {SIDE_NAMES[side]}", side)]
-    return []
+    if item in ("dpc", "position"):
+        return [_field(item, side, f"{_label(item)}, {SIDE_NAMES[side]}", side)]
+    fields = _per_side(item, _label(item)) if spec.per_side else [
+        _field(item, "", _label(item), "")
+    ]
+    if item == "calf":  # the pain score goes with the calf (same protocol item)
+        fields.append(_field("pain", "", "Pain score", ""))
+    return fields
 
 
 def check_sections(protocol: Protocol, patient: Patient, items: list[str]) -> list[FormSection]:
     """The form's sections for the protocol items ``items`` (from the patient's schedule)."""
     return [
-        FormSection(item_id, protocol.item_text(item_id), fields_for(item_id, patient))
+        FormSection(item_id, protocol.item_text(item_id), fields_for(protocol, item_id, patient))
         for item_id in items
     ]
