@@ -16,8 +16,8 @@ from typing import Any, Literal
 from pydantic import BaseModel, ConfigDict, Field, ValidationInfo, model_validator
 from pydantic_core import PydanticCustomError
 
-from vascplan.anatomy.reference import load_reference, suggest_segment
 from vascplan.errors import InputError
+from vascplan.refdata.anatomy import load_reference, suggest_segment
 
 CASE_FORMAT = "vascplan-case/1"
 Calcification = Literal["none", "mild", "moderate", "severe"]

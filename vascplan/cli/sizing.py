@@ -34,7 +34,7 @@ class _Positive(click.ParamType):
         if not math.isfinite(number) or number <= 0.0:
             raise InputError(option, "", f"must be a positive number of {self.unit}, got {value!r}")
         if self.range_name is not None:
-            from vascplan.sizing._tables import input_range
+            from vascplan.sizing.tables import input_range
 
             low, high, unit = input_range(self.range_name)
             if not low <= number <= high:
@@ -208,8 +208,8 @@ def sheath_flow(
     is advised (the same rule as plan and risk) and, given --dpc-fr, --dpc-cm and
     --driving-mmhg, the cannula's flow. Every assumption is listed.
     """
-    from vascplan.sizing._tables import SizingValueError
     from vascplan.sizing.assess import assess_sheath_flow
+    from vascplan.sizing.tables import SizingValueError
 
     for option, value, allowed in (
         ("--vessel-mm", vessel_mm, "the artery's minimal lumen diameter in mm"),

@@ -10,11 +10,11 @@ from dataclasses import dataclass, field
 from typing import Any, Literal, cast
 
 from vascplan.safety import CAUTION, REFERENCE_MARK
-from vascplan.sizing._tables import SizingValueError, check_range, threshold
 from vascplan.sizing.advice import CannulaAdvice, cannula_advice
 from vascplan.sizing.cannula import CannulaFlow, cannula_flow
 from vascplan.sizing.french import OuterDiameter, device_outer_mm, sar
 from vascplan.sizing.limb import LimbFlowEstimate, limb_flow_with_device
+from vascplan.sizing.tables import SizingValueError, check_range, threshold
 
 
 @dataclass(frozen=True)

@@ -32,8 +32,8 @@ from typing import Literal
 import numpy as np
 
 from vascplan.sizing import flow
-from vascplan.sizing._tables import ReferenceValue, positive, read_csv, read_values
 from vascplan.sizing.french import MM_PER_FR
+from vascplan.sizing.tables import ReferenceValue, positive, read_csv, read_values
 
 CANNULA_WALLS = "cannula_walls.csv"
 CANNULA_DEFAULTS = "cannula_defaults.yaml"

@@ -15,7 +15,7 @@ from typing import Literal
 
 import numpy as np
 
-from vascplan.sizing._tables import read_csv
+from vascplan.sizing.tables import read_csv
 
 MM_PER_FR = 1.0 / 3.0
 """Outer diameter per French [mm] (French scale, exact; REFERENCES.md)."""
