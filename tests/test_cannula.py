@@ -168,7 +168,8 @@ def test_expansion_against_fluids_borda_carnot(d1, d2):
 def test_the_solver_gives_numbers_and_the_wording_is_apart():
     from vascplan.sizing.cannula import cannula_assumptions, inner_diameter, solve_cannula
 
-    # A sheath's label is its inner size: 6 Fr = 6/3 = 2.0 mm (French gauge: 1 Fr = 1/3 mm, common practice).
+    # A sheath's label is its inner size: 6 Fr = 6/3 = 2.0 mm
+    # (French gauge: 1 Fr = 1/3 mm, common practice).
     assert inner_diameter(6, "inner").mm == pytest.approx(2.0)
     assert inner_diameter(6, "inner").source == "sheath-label"
     sol = solve_cannula(7, 15, 150, viscosity_pa_s=MU, density_kg_m3=RHO)
