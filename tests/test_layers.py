@@ -19,8 +19,8 @@ LAYERS: list[set[str]] = [
     {"vascplan", "errors", "safety", "localtime", "nearlimit", "textsafety"},
     # 1: files and paths, plain-text helpers
     {"paths", "fileio", "texttable"},
-    # 2: reference data read from the bundled tables
-    {"refdata"},
+    # 2: reference data read from the bundled tables; the page stack every PDF goes through
+    {"refdata", "pdf"},
     # 3: the case model
     {"case"},
     # 4: the patient's arterial tree

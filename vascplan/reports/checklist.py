@@ -31,8 +31,8 @@ from reportlab.platypus import (
 )
 
 from vascplan.localtime import offset_text
-from vascplan.reports.page import PageLabel, PageSetup, build_pdf, fonts, frame_box, styles
-from vascplan.reports.text import clean, para, rich, rich_para
+from vascplan.pdf.page import PageLabel, PageSetup, build_pdf, fonts, frame_box, styles
+from vascplan.pdf.text import clean, para, rich, rich_para
 
 DEVICE_NAMES = {
     "va-ecmo-arterial": "VA-ECMO arterial return cannula",

@@ -31,7 +31,7 @@ from reportlab.platypus import BaseDocTemplate, Flowable, Frame, PageTemplate
 
 from vascplan.errors import InputError
 from vascplan.fileio import atomic_write_bytes
-from vascplan.reports.text import clean
+from vascplan.pdf.text import clean
 from vascplan.safety import CAUTION
 
 PAPERS: dict[str, tuple[float, float]] = {"a4": A4, "letter": LETTER}
