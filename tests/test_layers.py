@@ -44,10 +44,6 @@ LAYERS: list[set[str]] = [
 ]
 """Top-level packages and modules of ``vascplan`` from the bottom up."""
 
-DEPRECATED = {"vascplan.anatomy.reference", "vascplan.sizing._tables"}
-"""Old names kept for one release; nothing inside the package may import them."""
-
-
 def _modules() -> dict[str, Path]:
     mods = {}
     for path in PACKAGE.rglob("*.py"):
@@ -210,21 +206,12 @@ def test_private_modules_are_imported_only_inside_their_package():
     assert wrong == []
 
 
-def test_nothing_in_the_package_imports_an_old_name():
-    hits = [
-        f"{m} -> {t}" for m, ts in _graph().items() for t in ts if t in DEPRECATED and m != t
-    ]
-    assert hits == []
-
-
-def test_the_old_names_still_import_for_one_release():
-    from vascplan.anatomy.reference import load_reference
-    from vascplan.refdata.anatomy import load_reference as new_load_reference
-    from vascplan.sizing._tables import SizingValueError
-    from vascplan.sizing.tables import SizingValueError as NewSizingValueError
-
-    assert load_reference is new_load_reference
-    assert SizingValueError is NewSizingValueError
+def test_the_moved_modules_are_gone_under_their_old_names():
+    # One name per thing: the reference table is vascplan.refdata.anatomy and the sizing
+    # tables vascplan.sizing.tables; the old names must not come back beside them.
+    mods = _modules()
+    assert "vascplan.refdata.anatomy" in mods and "vascplan.anatomy.reference" not in mods
+    assert "vascplan.sizing.tables" in mods and "vascplan.sizing._tables" not in mods
 
 
 def test_developers_md_states_the_same_layers():
