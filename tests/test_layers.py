@@ -16,33 +16,36 @@ PACKAGE = Path(__file__).resolve().parent.parent / "vascplan"
 
 LAYERS: list[set[str]] = [
     # 0: foundation, imports nothing of the house
-    {"vascplan", "errors", "safety", "localtime", "nearlimit", "textsafety"},
-    # 1: files and paths, plain-text helpers
+    {"vascplan", "errors", "safety", "localtime", "nearlimit"},
+    # 1: text made safe for files and terminals
+    {"textsafety"},
+    # 2: files and paths, plain-text tables
     {"paths", "fileio", "texttable"},
-    # 2: reference data read from the bundled tables; the page stack every PDF goes through
+    # 3: reference data read from the bundled tables; the page stack every PDF goes through
     {"refdata", "pdf"},
-    # 3: the case model
+    # 4: the case model
     {"case"},
-    # 4: the patient's arterial tree
+    # 5: the patient's arterial tree
     {"anatomy"},
-    # 5: sizing and flow
+    # 6: sizing and flow
     {"sizing"},
-    # 6: access routes and the ward's surveillance, side by side (neither imports the other)
+    # 7: access routes and the ward's surveillance, side by side (neither imports the other)
     {"routes", "surveillance"},
-    # 7: the observation record
+    # 8: the observation record
     {"observations"},
-    # 8: printed outputs
+    # 9: printed outputs
     {"reports"},
-    # 9: the application layer
+    # 10: the application layer
     {"app"},
-    # 10: the demo, an application that runs every capability
+    # 11: the demo, an application that runs every capability
     {"demo"},
-    # 11: the faces
+    # 12: the faces
     {"cli", "web"},
-    # 12: the entry point
+    # 13: the entry point
     {"__main__"},
 ]
 """Top-level packages and modules of ``vascplan`` from the bottom up."""
+
 
 def _modules() -> dict[str, Path]:
     mods = {}
