@@ -182,8 +182,9 @@ def test_arrows_only_run_down_the_layers():
     assert wrong == []
 
 
-@pytest.mark.parametrize("package", ["routes", "surveillance", "observations", "reports",
-                                     "sizing", "anatomy", "case"])
+@pytest.mark.parametrize(
+    "package", ["routes", "surveillance", "observations", "reports", "sizing", "anatomy", "case"]
+)
 def test_no_domain_package_imports_the_demo_or_the_faces(package):
     graph = _graph()
     above = {"demo", "cli", "web", "app", "__main__"}
@@ -202,8 +203,10 @@ def test_private_modules_are_imported_only_inside_their_package():
     for module, targets in sorted(_graph().items()):
         for target in targets:
             package, _, leaf = target.rpartition(".")
-            if leaf.startswith("_") and not leaf.startswith("__") and not (
-                module == package or module.startswith(package + ".")
+            if (
+                leaf.startswith("_")
+                and not leaf.startswith("__")
+                and not (module == package or module.startswith(package + "."))
             ):
                 wrong.append(f"{module} -> {target}")
     assert wrong == []

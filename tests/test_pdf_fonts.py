@@ -95,8 +95,19 @@ def test_trend_pdf_prints_a_polish_greek_cyrillic_unit_name(tmp_path):
     out = tmp_path / "t.pdf"
     res = CliRunner().invoke(
         cli,
-        ["obs", "trend", str(_unit(tmp_path)), "--bed", "1", "-o", str(out), "--at",
-         "2026-12-01T18:00", "--db", str(tmp_path / "o.db")],
+        [
+            "obs",
+            "trend",
+            str(_unit(tmp_path)),
+            "--bed",
+            "1",
+            "-o",
+            str(out),
+            "--at",
+            "2026-12-01T18:00",
+            "--db",
+            str(tmp_path / "o.db"),
+        ],
     )
     assert res.exit_code == 0, res.output
     data = out.read_bytes()
@@ -126,8 +137,12 @@ def test_a_latin_only_fallback_says_so(monkeypatch):
         page,
         "_font_candidates",
         lambda: [
-            ("/nonexistent/DejaVuSans.ttf", "/nonexistent/DejaVuSans-Bold.ttf", "x",
-             page.WIDE_SCRIPTS),
+            (
+                "/nonexistent/DejaVuSans.ttf",
+                "/nonexistent/DejaVuSans-Bold.ttf",
+                "x",
+                page.WIDE_SCRIPTS,
+            ),
             (rl + "Vera.ttf", rl + "VeraBd.ttf", "Vera (reportlab, Latin only)", ("Latin",)),
         ],
     )

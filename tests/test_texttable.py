@@ -16,11 +16,7 @@ def test_a_small_table_exactly():
         [Column("bed", "right"), Column("ref"), Column("tier")],
         [["1", "DEMO-01", "raised"], ["12", "DEMO-2", "standard"]],
     )
-    assert text == (
-        "bed  ref      tier\n"
-        "  1  DEMO-01  raised\n"
-        " 12  DEMO-2   standard"
-    )
+    assert text == ("bed  ref      tier\n  1  DEMO-01  raised\n 12  DEMO-2   standard")
 
 
 def test_a_long_cell_folds_at_spaces_and_keeps_every_word():
@@ -87,8 +83,9 @@ def test_risk_table_keeps_its_columns_with_a_long_ref(tmp_path):
     from vascplan.surveillance.service import risk_for_unit
 
     long_ref = "WARD7-PATIENT-0042"  # 18 characters, over the old 10-wide column
-    unit, assessments, at = risk_for_unit(_unit_with_a_long_ref(tmp_path, long_ref),
-                                          "2026-12-02T13:00")
+    unit, assessments, at = risk_for_unit(
+        _unit_with_a_long_ref(tmp_path, long_ref), "2026-12-02T13:00"
+    )
     table = risk_table(assessments, at, unit.unit.name).splitlines()
     head = next(i for i, line in enumerate(table) if line.lstrip().startswith("bed "))
     rows = table[head : head + 1 + len(assessments)]
@@ -108,8 +105,7 @@ def test_rota_table_keeps_its_columns_with_a_long_ref(tmp_path):
     from vascplan.surveillance.service import rota_for_unit
 
     long_ref = "WARD7-PATIENT-0042"
-    _, _, rota = rota_for_unit(_unit_with_a_long_ref(tmp_path, long_ref),
-                               "2026-12-02T07:30", 4.0)
+    _, _, rota = rota_for_unit(_unit_with_a_long_ref(tmp_path, long_ref), "2026-12-02T07:30", 4.0)
     lines = rota_table(rota).splitlines()
     assert any(long_ref in line for line in lines)
     checked = 0

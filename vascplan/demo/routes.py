@@ -17,8 +17,9 @@ from vascplan.fileio import atomic_write_text, output_inside
 from vascplan.paths import examples_dir
 
 
-def demo_plans(out_dir: Path, examples: Path | None = None,
-               echo: Callable[[str], None] | None = None) -> list[Path]:
+def demo_plans(
+    out_dir: Path, examples: Path | None = None, echo: Callable[[str], None] | None = None
+) -> list[Path]:
     """Plan every example case and write the plans.
 
     Parameters

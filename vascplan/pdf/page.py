@@ -110,8 +110,12 @@ def _font_candidates() -> list[tuple[str, str, str, tuple[str, ...]]]:
     out += [(r, b, "DejaVu Sans (installed)", WIDE_SCRIPTS) for r, b in _SYSTEM_DEJAVU]
     rl_fonts = Path(reportlab.__file__).parent / "fonts"
     out.append(
-        (str(rl_fonts / "Vera.ttf"), str(rl_fonts / "VeraBd.ttf"), "Vera (reportlab, Latin only)",
-         ("Latin",))
+        (
+            str(rl_fonts / "Vera.ttf"),
+            str(rl_fonts / "VeraBd.ttf"),
+            "Vera (reportlab, Latin only)",
+            ("Latin",),
+        )
     )
     return out
 
