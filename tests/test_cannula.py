@@ -163,3 +163,26 @@ def test_expansion_against_fluids_borda_carnot(d1, d2):
     # the downstream velocity: multiply by (A2/A1)^2 = (d2/d1)^4.
     ref = fluids.fittings.diffuser_sharp(Di1=d1 / 1000, Di2=d2 / 1000, method="Rennels")
     assert junction_k(d1, d2) == pytest.approx(ref * (d2 / d1) ** 4, rel=1e-9)
+
+
+def test_the_solver_gives_numbers_and_the_wording_is_apart():
+    from vascplan.sizing.cannula import cannula_assumptions, inner_diameter, solve_cannula
+
+    # A sheath's label is its inner size: 6 Fr = 6/3 = 2.0 mm
+    # (French gauge: 1 Fr = 1/3 mm, common practice).
+    assert inner_diameter(6, "inner").mm == pytest.approx(2.0)
+    assert inner_diameter(6, "inner").source == "sheath-label"
+    sol = solve_cannula(7, 15, 150, viscosity_pa_s=MU, density_kg_m3=RHO)
+    # Blood properties given: only the wall roughness is a reference default.
+    assert sorted(sol.defaults) == ["roughness_mm"]
+    words = cannula_assumptions(sol)
+    assert not any(w.startswith("Blood viscosity") for w in words)
+    assert any(w.startswith("Wall roughness") for w in words)
+    # The wrapper is the two together: the same flow, the same sentences.
+    res = cannula_flow(7, 15, 150, viscosity_pa_s=MU, density_kg_m3=RHO)
+    assert res.flow_ml_min == sol.flow_ml_min
+    assert res.assumptions == words
+    # Hagen-Poiseuille check of the solver's own numbers: Re = rho v D / mu (hand formula).
+    d = sol.inner.mm / 1000
+    assert sol.reynolds == pytest.approx(RHO * sol.velocity_m_s * d / MU, rel=1e-12)
+    assert sol.flow_ml_min == pytest.approx(sol.velocity_m_s * math.pi * d * d / 4 * 60e6)

@@ -5,9 +5,9 @@ from __future__ import annotations
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from vascplan.anatomy.reference import load_reference
 from vascplan.case.load import validate_case
 from vascplan.errors import InputError
+from vascplan.refdata.anatomy import load_reference
 
 REF = load_reference()
 IDS = sorted(REF)

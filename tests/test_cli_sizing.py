@@ -58,7 +58,9 @@ def test_table_shows_figures_units_threshold_and_caution():
     assert res.exit_code == 0, res.output
     out = res.output
     # 17 Fr = 17/3 mm over 6.5 mm = 0.872 (French scale, exact); flow well above the floor.
-    assert "SAR                    0.872  (under the 1.05 limit: Hayashida et al. 2011)" in out
+    # The label column is as wide as its longest label, "distal perfusion cannula" (24),
+    # and two spaces part the columns (vascplan.texttable).
+    assert "  SAR" + " " * 23 + "0.872  (under the 1.05 limit: Hayashida et al. 2011)" in out
     assert "mm2" in out and "% of the open" in out
     assert "% of the resting flow" in out and "mL/min" in out
     assert "perfusion cannula" in out and "Re " in out

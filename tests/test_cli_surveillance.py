@@ -130,7 +130,7 @@ def test_help_has_examples():
 
 
 def test_demo_surveillance(tmp_path):
-    from vascplan.surveillance.demo import demo_surveillance
+    from vascplan.demo.surveillance import demo_surveillance
 
     paths = demo_surveillance(tmp_path)
     assert {p.name for p in paths} >= {"surveillance-risk.json", "surveillance-rota.ics"}
@@ -174,7 +174,7 @@ def test_unit_protocol_path_relative_to_unit_file(tmp_path):
 
 def test_demo_step_with_the_demo_runner(tmp_path):
     from vascplan.demo import run_demo
-    from vascplan.surveillance.demo import step_surveillance
+    from vascplan.demo.surveillance import step_surveillance
 
     lines: list[str] = []
     written = run_demo(

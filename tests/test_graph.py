@@ -6,9 +6,9 @@ import networkx as nx
 import pytest
 
 from vascplan.anatomy.graph import build_tree
-from vascplan.anatomy.reference import load_reference
 from vascplan.case.model import Case
 from vascplan.paths import examples_dir
+from vascplan.refdata.anatomy import load_reference
 
 
 def make_case(**extra) -> Case:

@@ -7,8 +7,8 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from vascplan.anatomy.graph import build_tree
-from vascplan.anatomy.reference import ROOT_ID, load_reference
 from vascplan.case.model import Case
+from vascplan.refdata.anatomy import ROOT_ID, load_reference
 
 REF = load_reference()
 IDS = list(REF)

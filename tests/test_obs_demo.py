@@ -5,7 +5,7 @@ from __future__ import annotations
 import json
 
 from vascplan.demo import run_demo
-from vascplan.observations.demo import step_observations
+from vascplan.demo.observations import step_observations
 
 
 def test_demo_step_writes_review_trend_and_exports(tmp_path):

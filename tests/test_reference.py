@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import pytest
 
-from vascplan.anatomy.reference import ROOT_ID, load_body_segments, load_reference, suggest_segment
+from vascplan.refdata.anatomy import ROOT_ID, load_body_segments, load_reference, suggest_segment
 
 # Drillis and Contini 1966, as tabulated in Winter, Biomechanics and Motor Control of Human
 # Movement, 4th ed., 2009, Fig. 4.1 (values as in the team's shared REFERENCES.md, seen

@@ -13,8 +13,8 @@ from pathlib import Path
 import pytest
 
 from vascplan.anatomy.graph import build_tree
-from vascplan.anatomy.reference import DIAMETER_KINDS, load_body_segments, load_reference
 from vascplan.case.model import Case
+from vascplan.refdata.anatomy import DIAMETER_KINDS, load_body_segments, load_reference
 
 DATA = Path(__file__).parent / "data"
 

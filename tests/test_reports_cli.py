@@ -192,7 +192,7 @@ def test_help_does_not_import_reportlab():
 
 
 def test_demo_pdfs(tmp_path):
-    from vascplan.reports.demo import demo_pdfs
+    from vascplan.demo.reports import demo_pdfs
 
     written = demo_pdfs(tmp_path / "out")
     cases = sorted(examples_dir().glob("case-*.yaml"))

@@ -6,7 +6,7 @@ import math
 
 import pytest
 
-from vascplan.anatomy.reference import load_reference
+from vascplan.refdata.anatomy import load_reference
 from vascplan.reports.layout import Polyline, connection, map_layout, offset_points
 
 

@@ -146,8 +146,8 @@ def test_short_labels():
 
 
 def test_labels_moved_clear_of_each_other():
+    from vascplan.pdf.page import fonts
     from vascplan.reports.arterial_map import _label_box, place_labels
-    from vascplan.reports.page import fonts
 
     f = fonts().regular
     labels = [

@@ -10,7 +10,7 @@ from reportlab.platypus import PageBreak, Paragraph
 
 from tests.reports_helpers import page_sizes, pdf_pages
 from vascplan.errors import InputError
-from vascplan.reports.page import (
+from vascplan.pdf.page import (
     PageSetup,
     build_pdf,
     paper_size,

@@ -8,8 +8,8 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from tests.reports_helpers import HOSTILE, pdf_text, squash
-from vascplan.reports.page import PageSetup, build_pdf, styles
-from vascplan.reports.text import clean, literal, para, rich, rich_para
+from vascplan.pdf.page import PageSetup, build_pdf, styles
+from vascplan.pdf.text import clean, literal, para, rich, rich_para
 
 AT = datetime(2026, 12, 1, 12, 0, tzinfo=UTC)
 

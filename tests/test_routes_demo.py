@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import json
 
+from vascplan.demo.routes import demo_plans
 from vascplan.paths import examples_dir
-from vascplan.routes.demo import demo_plans
 from vascplan.safety import CAUTION
 
 

@@ -183,7 +183,7 @@ def test_support_axis_outside_the_flow_model_still_plans(monkeypatch):
     # SizingValueError, e.g. a long stretch too narrow to carry the resting flow). The
     # plan must still come out, that axis without a flow estimate and with the reason.
     from vascplan.sizing import limb
-    from vascplan.sizing._tables import SizingValueError
+    from vascplan.sizing.tables import SizingValueError
 
     def refuse(*_args, **_kw):
         raise SizingValueError("vessel_mm", "outside the model")

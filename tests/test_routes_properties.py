@@ -10,8 +10,8 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from tests.routes_cases import VESSELS, case_data
-from vascplan.anatomy.reference import load_reference
 from vascplan.case.load import validate_case
+from vascplan.refdata.anatomy import load_reference
 from vascplan.routes.plan import plan_case
 
 SETTINGS = settings(max_examples=20, deadline=None,

@@ -55,3 +55,14 @@ def examples_dir() -> Path:
     True
     """
     return _package_root() / "examples"
+
+
+def fonts_dir() -> Path:
+    """Return the folder of the bundled PDF fonts (``vascplan/data/fonts``).
+
+    Not moved by ``VASCPLAN_DATA``: a unit's own tables do not carry fonts.
+
+    >>> (fonts_dir() / "DejaVuSans.ttf").is_file()
+    True
+    """
+    return _package_root() / "data" / "fonts"

@@ -29,8 +29,8 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING, Any
 
-from vascplan.anatomy.reference import SegmentReference, load_reference
 from vascplan.case.model import Case, Graft
+from vascplan.refdata.anatomy import SegmentReference, load_reference
 
 if TYPE_CHECKING:
     import networkx as nx

@@ -13,8 +13,11 @@ from typing import Any
 
 from vascplan.anatomy.graph import MEASURED, REFERENCE, ArterialTree
 from vascplan.safety import CAUTION, REFERENCE_MARK
+from vascplan.texttable import Column, table_lines
 
 TREE_FORMAT = "vascplan-tree/1"
+FINDINGS_FOLD = 48
+"""Terminal columns of the tree table's findings before a cell folds (layout only)."""
 LEGEND = (
     f"{REFERENCE_MARK} = reference value from the adult anatomy table, not measured for this "
     "patient (an MLD so marked is worked out from a reference diameter): check against imaging"
@@ -179,8 +182,16 @@ def render_tree_table(summary: dict[str, Any], *, every_assumption: bool = False
             f"{dev['profile_fr']:g} Fr, working length {dev['working_length_cm']:g} cm"
         )
     lines.append("")
-    header = ("segment", "name", "diam mm", "MLD mm", "length cm", "calcium", "findings")
-    rows = [header]
+    columns = [
+        Column("segment"),
+        Column("name"),
+        Column("diam mm", "right"),
+        Column("MLD mm", "right"),
+        Column("length cm", "right"),
+        Column("calcium"),
+        Column("findings", fold=FINDINGS_FOLD),
+    ]
+    rows: list[tuple[str, ...]] = []
     for seg in summary["segments"]:
         rows.append(
             (
@@ -206,14 +217,7 @@ def render_tree_table(summary: dict[str, Any], *, every_assumption: bool = False
                 f"{state}; length estimated (~)",
             )
         )
-    widths = [max(len(r[i]) for r in rows) for i in range(len(header) - 1)]
-    right = {2, 3, 4}
-    for r in rows:
-        cells = [
-            r[i].rjust(widths[i]) if i in right else r[i].ljust(widths[i])
-            for i in range(len(widths))
-        ]
-        lines.append("  ".join(cells + [r[-1]]).rstrip())
+    lines += table_lines(columns, rows)
     lines.append("")
     lines.append(f"Legend: {summary['legend']}; ~ = estimated by a rule.")
     per_segment = sum(1 for a in summary["assumptions"] if " is a reference " in a)

@@ -16,9 +16,9 @@ from typing import Any, Literal
 from pydantic import BaseModel, ConfigDict, Field, ValidationInfo, model_validator
 from pydantic_core import PydanticCustomError
 
-from vascplan.anatomy.reference import load_reference, suggest_segment
 from vascplan.case.access import AccessEquipment, AccessInPlace, AccessTried, check_access_sites
 from vascplan.errors import InputError
+from vascplan.refdata.anatomy import load_reference, suggest_segment
 from vascplan.textsafety import FREE_TEXT_MAX, FreeText, Identifier
 
 CASE_FORMAT = "vascplan-case/1"

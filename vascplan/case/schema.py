@@ -4,8 +4,8 @@ from __future__ import annotations
 
 from typing import Any
 
-from vascplan.anatomy.reference import segment_ids
 from vascplan.case.model import CASE_FORMAT, SECTIONS, Case
+from vascplan.refdata.anatomy import segment_ids
 from vascplan.safety import CAUTION
 
 SCHEMA_ID = "https://vascplan.invalid/schema/vascplan-case-1.json"

@@ -49,8 +49,8 @@ def split_spanning_lesions(data: Any, source: str) -> Any:
         An unknown end segment, an end not downstream of the start, an end before the
         start, or both ``length_cm`` and ``end``.
     """
-    from vascplan.anatomy.reference import load_reference, suggest_segment
     from vascplan.errors import InputError
+    from vascplan.refdata.anatomy import load_reference, suggest_segment
 
     if not isinstance(data, dict) or not isinstance(data.get("lesions"), list):
         return data

@@ -11,7 +11,6 @@ reportlab is imported inside :func:`render_trend_pdf`.
 
 from __future__ import annotations
 
-import io
 import math
 import os
 from collections.abc import Iterator
@@ -24,7 +23,6 @@ from vascplan.localtime import day_hm, hm, offset_text, utc
 from vascplan.observations.findings import PEDAL_ARTERIES, SIDES
 from vascplan.observations.review import Alert, review_patient, unit_protocol
 from vascplan.observations.store import CurrentFinding, ObservationStore
-from vascplan.safety import CAUTION
 from vascplan.surveillance.protocol import Protocol
 from vascplan.surveillance.schedule import patient_schedule
 from vascplan.surveillance.unit import Patient, Unit
@@ -277,31 +275,72 @@ def write_trend_pdf(
 # Drawing
 
 
+TREND_FRAME_SHIFT_X = 6.52
+"""The trend's drawing is laid out from x = 36 pt; the shared frame starts at the 15 mm
+margin (42.52 pt): the drawing moves right by the difference [pt] (layout only)."""
+
+TREND_TOP_PT = 817.0
+"""Height [pt] the trend's drawing takes as its page top, so that its title sits under the
+shared template's head line on A4 (layout only)."""
+
+TREND_FLOOR_PT = 80.0
+"""Lowest baseline [pt] of the alert list, above the shared template's foot (layout only)."""
+
+
 def render_trend_pdf(
     unit: Unit, protocol: Protocol, trends: list[PatientTrend], at: datetime
 ) -> bytes:
-    """The PDF bytes: one page per :class:`PatientTrend`."""
+    """The PDF bytes: one page per :class:`PatientTrend`, on the shared page template
+    (:func:`vascplan.pdf.page.build_pdf`: caution, page N of M, generation time, embedded
+    fonts covering Latin, Greek and Cyrillic)."""
+    from datetime import datetime as _dt
+
     from reportlab.lib.pagesizes import A4
-    from reportlab.pdfgen import canvas
+    from reportlab.platypus import Flowable, PageBreak
 
-    buf = io.BytesIO()
-    c = canvas.Canvas(buf, pagesize=A4, invariant=1)
-    c.setTitle(f"Limb trend - {unit.unit.name}")
-    c.setAuthor("vascplan")
-    width, height = A4
-    for number, trend in enumerate(trends, start=1):
-        _page(c, unit, protocol, trend, at, width, height)
-        _footer(c, width, number, len(trends))
-        c.showPage()
-    c.save()
-    return buf.getvalue()
+    from vascplan.pdf.page import PageLabel, PageSetup, build_pdf, frame_box
+
+    x0, y0, _, _ = frame_box("a4")
+    width, _ = A4
+
+    class TrendPage(Flowable):
+        """One patient's drawing, filling the frame; drawn in page coordinates."""
+
+        def __init__(self, trend: PatientTrend) -> None:
+            super().__init__()
+            self.trend = trend
+
+        def wrap(self, avail_width: float, avail_height: float) -> tuple[float, float]:
+            return avail_width, avail_height
+
+        def draw(self) -> None:
+            c = self.canv
+            c.saveState()
+            c.translate(TREND_FRAME_SHIFT_X - x0, -y0)
+            _page(c, unit, protocol, self.trend, at, width - 2 * TREND_FRAME_SHIFT_X, TREND_TOP_PT)
+            c.restoreState()
+
+    story: list[object] = []
+    for number, trend in enumerate(trends):
+        if number:
+            story.append(PageBreak())
+        story += [PageLabel(f"bed {trend.patient.bed} - {trend.patient.ref}"), TrendPage(trend)]
+    setup = PageSetup(
+        paper="a4", title=f"Limb trend - {unit.unit.name}", generated_at=_dt.now(unit.unit.tz)
+    )
+    return build_pdf(story, setup)
 
 
-def _footer(c, width: float, number: int, total: int) -> None:
-    c.setFont("Helvetica", 7)
-    c.setFillGray(0)
-    c.drawString(36, 26, f"Caution: {CAUTION}")
-    c.drawRightString(width - 36, 14, f"Page {number} of {total}")
+def _regular() -> str:
+    from vascplan.pdf.page import fonts
+
+    return fonts().regular
+
+
+def _bold() -> str:
+    from vascplan.pdf.page import fonts
+
+    return fonts().bold
 
 
 def _fmt(moment: datetime, tz, span: timedelta, offsets: bool = False) -> str:
@@ -324,9 +363,9 @@ def _page(
     p = trend.patient
     dev = p.device
     c.setFillGray(0)
-    c.setFont("Helvetica-Bold", 13)
+    c.setFont(_bold(), 13)
     c.drawString(36, height - 44, f"Limb trend - bed {p.bed} - {p.ref}")
-    c.setFont("Helvetica", 8)
+    c.setFont(_regular(), 8)
     dpc = (
         f"distal perfusion cannula {p.dpc.size_fr:g} Fr" if p.dpc else "no distal perfusion cannula"
     )
@@ -372,7 +411,7 @@ def _page(
         trend,
         "Calf tissue oxygen saturation (NIRS, %)",
         left,
-        top - 185,
+        top - 170,
         right,
         top,
         t0,
@@ -391,13 +430,13 @@ def _page(
     }
     slow = th.capillary_refill_slow_s.value
     rv = [v for pts in refill.values() for _, v in pts]
-    top2 = top - 215
+    top2 = top - 200
     _panel(
         c,
         trend,
         "Capillary refill (s)",
         left,
-        top2 - 140,
+        top2 - 130,
         right,
         top2,
         t0,
@@ -410,7 +449,7 @@ def _page(
         span,
     )
     # Pedal signals strip
-    top3 = top2 - 170
+    top3 = top2 - 160
     _pedal_strip(c, trend, left, top3 - 120, right, top3, t0, t1, tz, span)
     _alert_list(c, trend, tz, top3 - 150, width)
 
@@ -428,9 +467,9 @@ def _axes(c, trend: PatientTrend, title: str, left, bottom, right, top, t0, t1, 
     c.setLineWidth(0.6)
     c.setDash([])
     c.rect(left, bottom, right - left, top - bottom)
-    c.setFont("Helvetica-Bold", 9)
+    c.setFont(_bold(), 9)
     c.drawString(left, top + 4, title)
-    c.setFont("Helvetica", 6.5)
+    c.setFont(_regular(), 6.5)
     _, ticks = time_ticks(t0, t1, tz)
     offsets = len({t.astimezone(tz).utcoffset() for t in (t0, t1, *ticks)}) > 1
     for t in ticks:
@@ -470,7 +509,7 @@ def _axes(c, trend: PatientTrend, title: str, left, bottom, right, top, t0, t1, 
             path.close()
             c.setFillGray(0)
             c.drawPath(path, stroke=1, fill=1)
-            c.setFont("Helvetica", 6)
+            c.setFont(_regular(), 6)
             label = f"{nums[0]}-{nums[-1]}" if len(nums) > 1 else str(nums[0])
             c.drawCentredString(x, top - 16, label)
     c.setLineWidth(0.6)
@@ -499,7 +538,7 @@ def _panel(
     def y(v: float) -> float:
         return bottom + (top - bottom) * (v - lo) / ((hi - lo) or 1.0)
 
-    c.setFont("Helvetica", 6.5)
+    c.setFont(_regular(), 6.5)
     c.setFillGray(0)
     for v in value_ticks(lo, hi)[2]:
         if lo <= v <= hi:
@@ -535,7 +574,7 @@ def _panel(
         c.setDash(LEG_DASH[side])
         c.line(x0, yy, x0 + 22, yy)
         _marker(c, LEG_MARKER[side], x0 + 11, yy)
-        c.setFont("Helvetica", 7)
+        c.setFont(_regular(), 7)
         c.drawString(x0 + 26, yy - 2.5, f"{side} leg")
     c.setDash([])
     c.setLineWidth(0.6)
@@ -568,7 +607,7 @@ def _pedal_strip(c, trend, left, bottom, right, top, t0, t1, tz, span) -> None:
         span,
     )
     row_h = (top - bottom - 12) / max(len(sites), 1)
-    c.setFont("Helvetica", 7)
+    c.setFont(_regular(), 7)
     for i, site in enumerate(sites):
         yy = top - 12 - row_h * (i + 0.5)
         c.setFillGray(0)
@@ -587,9 +626,9 @@ def _alert_list(c, trend: PatientTrend, tz, top: float, width: float) -> None:
     from reportlab.lib.utils import simpleSplit
 
     c.setFillGray(0)
-    c.setFont("Helvetica-Bold", 9)
+    c.setFont(_bold(), 9)
     c.drawString(36, top, "Alerts (filled triangle at the top = the check where each first opened)")
-    c.setFont("Helvetica", 7)
+    c.setFont(_regular(), 7)
     y = top - 12
     rows = [
         f"{i}. {t.astimezone(tz):%d %b} {hm(t, tz)} {a.rule}: {a.detail}"
@@ -604,8 +643,8 @@ def _alert_list(c, trend: PatientTrend, tz, top: float, width: float) -> None:
         )
     rows.append(f"Open now: {', '.join(sorted({a.rule for a in trend.open_alerts})) or 'none'}")
     for row in rows:
-        for line in simpleSplit(row, "Helvetica", 7, width - 72):
-            if y < 44:
+        for line in simpleSplit(row, _regular(), 7, width - 72):
+            if y < TREND_FLOOR_PT:
                 c.drawString(36, y, "... (more in `vascplan obs review`)")
                 return
             c.drawString(36, y, line)

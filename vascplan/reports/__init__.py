@@ -6,11 +6,6 @@ the ``report``, ``checklist`` and ``demo`` commands, never by ``vascplan.cli`` a
 
 Modules
 -------
-text
-    Safe text: every string from a user file becomes a literal paragraph, never markup.
-page
-    The page template: paper sizes, fonts, the caution, page numbers and the timestamp
-    on every page; documents are built into memory and written atomically.
 layout
     The map's anatomical layout table (``data/reports/map_layout.csv``) and geometry.
 arterial_map
@@ -23,6 +18,7 @@ checklist
     The nursing checklist, one patient per page.
 service
     What the commands call: load, plan, render, write atomically.
-demo
-    The demo's PDFs.
+
+The page template and safe text every PDF shares are :mod:`vascplan.pdf` (below this
+package, so that the observation record's trend PDF uses them too).
 """

@@ -27,9 +27,9 @@ from dataclasses import dataclass, field
 from reportlab.graphics.shapes import Circle, Drawing, Group, Line, Polygon, PolyLine, Rect, String
 from reportlab.lib.colors import Color, black, white
 
+from vascplan.pdf.page import fonts
+from vascplan.pdf.text import clean
 from vascplan.reports.layout import Point, Polyline, map_layout, offset_points
-from vascplan.reports.page import fonts
-from vascplan.reports.text import clean
 
 PT_PER_MM = 0.3
 """Drawn vessel width [pt] per mm of diameter (a display choice: a 20 mm aorta is 6 pt)."""

@@ -17,10 +17,10 @@ from reportlab.lib import colors
 from reportlab.platypus import KeepTogether, PageBreak, Spacer, Table, TableStyle
 
 from vascplan.nearlimit import format_limit, format_near_limit
+from vascplan.pdf.page import PageSetup, build_pdf, frame_box, styles
+from vascplan.pdf.text import para, rich_para
 from vascplan.reports.arterial_map import LEGEND_ROWS, PT_PER_MM, draw_map, legend_symbol
 from vascplan.reports.map_input import chosen_and_runner_up, map_data
-from vascplan.reports.page import PageSetup, build_pdf, frame_box, styles
-from vascplan.reports.text import para, rich_para
 from vascplan.safety import REFERENCE_MARK, REFERENCE_VALUES_NOTE
 
 GREY = colors.Color(0.92, 0.92, 0.92)
@@ -698,7 +698,7 @@ def render_case_report(
     generated_at: datetime | None = None,
     top: int | None = DEFAULT_TOP,
 ) -> bytes:
-    """The case report PDF as bytes (write it with :func:`vascplan.reports.page.write_pdf`).
+    """The case report PDF as bytes (write it with :func:`vascplan.pdf.page.write_pdf`).
 
     Parameters
     ----------

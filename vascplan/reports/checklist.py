@@ -30,7 +30,7 @@ from reportlab.platypus import (
 )
 
 from vascplan.localtime import offset_text
-from vascplan.reports.page import (
+from vascplan.pdf.page import (
     NARROW_MARGIN_PT,
     PageLabel,
     PageSetup,
@@ -38,7 +38,7 @@ from vascplan.reports.page import (
     fonts,
     frame_box,
 )
-from vascplan.reports.text import clean, para, rich, rich_para
+from vascplan.pdf.text import clean, para, rich, rich_para
 
 DEVICE_NAMES = {
     "va-ecmo-arterial": "VA-ECMO arterial return cannula",

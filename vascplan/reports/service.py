@@ -15,7 +15,7 @@ from typing import Any
 
 from vascplan.errors import InputError
 from vascplan.fileio import output_inside
-from vascplan.reports.page import paper_size, write_pdf
+from vascplan.pdf.page import paper_size, write_pdf
 
 
 def plan_for(case: Any) -> dict[str, Any] | None:

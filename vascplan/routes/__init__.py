@@ -12,5 +12,4 @@ Modules, one concern each:
 - :mod:`~vascplan.routes.result`: result objects and their JSON contract.
 - :mod:`~vascplan.routes.plan`: :func:`~vascplan.routes.plan.plan_case`, the entry point.
 - :mod:`~vascplan.routes.table`: the table and explanation for people.
-- :mod:`~vascplan.routes.demo`: planning the bundled examples.
 """

@@ -69,9 +69,9 @@ def axis_report(view: VesselView, facts: RouteFacts, blocks: list[Block], device
     table after overrides (sources); without it the bundled one with ``limits`` applied.
     """
     from vascplan.safety import REFERENCE_MARK
-    from vascplan.sizing._tables import SizingValueError
     from vascplan.sizing.advice import cannula_advice
     from vascplan.sizing.limb import limb_flow_with_device
+    from vascplan.sizing.tables import SizingValueError
 
     site = facts.site
     od = devices.sheath_od_mm

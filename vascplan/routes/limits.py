@@ -231,7 +231,7 @@ def pessimistic_mld_mm(view: VesselView, node: str, mld_mm: float) -> float | No
     range does not rest on the patient's unknown diameter (``limits.yaml``
     ``large_bore_fr``).
     """
-    from vascplan.anatomy.reference import load_reference
+    from vascplan.refdata.anatomy import load_reference
 
     attrs = view.node(node)
     sd = attrs.get("diameter_sd_mm")

@@ -6,15 +6,16 @@ mode reports: the same functions, one result object, one JSON shape.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 from typing import Any, Literal, cast
 
 from vascplan.safety import CAUTION, REFERENCE_MARK
-from vascplan.sizing._tables import SizingValueError, check_range, threshold
 from vascplan.sizing.advice import CannulaAdvice, cannula_advice
 from vascplan.sizing.cannula import CannulaFlow, cannula_flow
 from vascplan.sizing.french import OuterDiameter, device_outer_mm, sar
 from vascplan.sizing.limb import LimbFlowEstimate, limb_flow_with_device
+from vascplan.sizing.tables import SizingValueError, check_range, threshold
 
 
 @dataclass(frozen=True)
@@ -72,6 +73,11 @@ class SheathFlowAssessment:
     def sar_at_or_above_threshold(self) -> bool:
         """True when the SAR reaches the threshold."""
         return self.sar >= self.sar_threshold.value
+
+    @property
+    def open_lumen_mm2(self) -> float:
+        """Cross-section of the open artery, ``pi d**2 / 4`` [mm2]."""
+        return math.pi * self.vessel_mm**2 / 4.0
 
     def to_json(self) -> dict[str, Any]:
         """The machine contract of ``vascplan sheath-flow --format json``."""

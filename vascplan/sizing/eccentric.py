@@ -28,6 +28,7 @@ from functools import lru_cache
 from typing import TYPE_CHECKING, Any
 
 from vascplan.paths import data_dir
+from vascplan.sizing.concentric import concentric_annulus_factor
 
 if TYPE_CHECKING:
     import numpy as np
@@ -320,8 +321,6 @@ def eccentric_annulus_factor(kappa: float, eccentricity: float = 1.0) -> float:
         return touching_annulus_factor(kappa)
     if not 0.0 <= kappa <= 1.0:
         raise ValueError(f"kappa must be in [0, 1], got {kappa}")
-    from vascplan.sizing.flow import concentric_annulus_factor
-
     kappa_key = min(round(kappa, 4), 0.9999)  # 1.0 would be no gap at all
     factor = _cached_solve(kappa_key, round(eccentricity, 4))
     if 0.0 < kappa_key < 1.0:

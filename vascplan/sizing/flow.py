@@ -20,8 +20,11 @@ from __future__ import annotations
 import math
 from typing import Literal
 
-from vascplan.sizing._tables import ReferenceValue, positive, read_values
+from vascplan.sizing.concentric import (  # re-exported: flow.concentric_annulus_factor
+    concentric_annulus_factor as concentric_annulus_factor,
+)
 from vascplan.sizing.eccentric import eccentric_annulus_factor, touching_annulus_factor
+from vascplan.sizing.tables import ReferenceValue, positive, read_values
 
 Regime = Literal["laminar", "transitional", "turbulent"]
 
@@ -81,40 +84,6 @@ def tube_resistance(diameter_m: float, length_m: float, viscosity_pa_s: float) -
         * positive("length_m", length_m)
         / (math.pi * d**4)
     )
-
-
-def concentric_annulus_factor(kappa: float) -> float:
-    """Flow factor of a concentric annulus, exact (laminar, fully developed).
-
-    Parameters
-    ----------
-    kappa : float
-        Inner radius over outer radius, ``0 <= kappa <= 1`` [-].
-
-    Returns
-    -------
-    float
-        ``(1 - k**4) - (1 - k**2)**2 / ln(1/k)``: the annulus flow over the open-tube
-        flow (Bird, Stewart and Lightfoot, 2nd ed., eq. 2.4-17). 1 at ``kappa`` 0,
-        0 at 1.
-
-    Examples
-    --------
-    >>> round(concentric_annulus_factor(0.5), 5)
-    0.12598
-    """
-    if not 0.0 <= kappa <= 1.0 or math.isnan(kappa):
-        raise ValueError(f"kappa must be in [0, 1], got {kappa}")
-    if kappa == 0.0:
-        return 1.0
-    if kappa == 1.0:
-        return 0.0
-    if kappa > 0.999:
-        # Series in the gap g = 1 - kappa avoids cancellation: (4/3) g**3 (1 - g/2 + g**2/60).
-        g = 1.0 - kappa
-        return 4.0 / 3.0 * g**3 * (1.0 - g / 2.0 + g * g / 60.0)
-    one_k2 = 1.0 - kappa * kappa
-    return (1.0 - kappa**4) - one_k2 * one_k2 / math.log(1.0 / kappa)
 
 
 def annulus_factor(kappa: float, eccentricity: float) -> float:

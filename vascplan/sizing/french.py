@@ -15,7 +15,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Literal
 
-from vascplan.sizing._tables import read_csv
+from vascplan.sizing.tables import read_csv
 
 MM_PER_FR = 1.0 / 3.0
 """Outer diameter per French [mm] (French scale, exact; REFERENCES.md)."""

@@ -20,7 +20,7 @@ import math
 from dataclasses import dataclass, field
 
 from vascplan.sizing import flow
-from vascplan.sizing._tables import ReferenceValue, SizingValueError, positive, read_values
+from vascplan.sizing.tables import ReferenceValue, SizingValueError, positive, read_values
 
 LIMB_DEFAULTS = "limb_defaults.yaml"
 

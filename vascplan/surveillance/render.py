@@ -20,6 +20,7 @@ from vascplan.surveillance.protocol import Protocol
 from vascplan.surveillance.risk import RiskAssessment, load_rules
 from vascplan.surveillance.rota import UNASSIGNED, Rota, RotaCheck
 from vascplan.textsafety import ical_text, neutralise_cell
+from vascplan.texttable import Column, table_lines
 
 PRODID = "-//vascplan//limb-check rota//EN"
 ALARM_BEFORE_MIN = 5
@@ -98,6 +99,10 @@ def risk_to_dict(assessments: list[RiskAssessment], at: datetime, unit_name: str
     }
 
 
+TABLE_FOLD = 60
+"""Terminal columns of a long cell (cannula advice, check items) before it folds (layout)."""
+
+
 def risk_table(assessments: list[RiskAssessment], at: datetime, unit_name: str) -> str:
     """A readable risk summary; ``*`` marks a figure built on a reference value."""
     lines = [
@@ -106,19 +111,24 @@ def risk_table(assessments: list[RiskAssessment], at: datetime, unit_name: str) 
         load_rules().statement,
         "",
     ]
-    lines.append(
-        f"{'bed':>3}  {'ref':<10} {'tier':<8} {'RR':>6}  {'SAR':>6}  {'flow %':>7}  {'DPC':<22}"
-    )
+    columns = [
+        Column("bed", "right"),
+        Column("ref"),
+        Column("tier"),
+        Column("RR", "right"),
+        Column("SAR", "right"),
+        Column("flow %", "right"),
+        Column("DPC", fold=TABLE_FOLD),
+    ]
+    rows = []
     for a in assessments:
         ref_mark = "" if a.vessel_measured else REFERENCE_MARK
         sar = "-" if a.sar is None else f"{a.sar:.3f}{ref_mark}"
         flow = a.limb.distal_flow_pct_eccentric if a.limb is not None else None
         flow_text = "-" if flow is None else f"{flow:.1f}{REFERENCE_MARK}"
         dpc = a.advice.headline if a.advice is not None else "-"
-        lines.append(
-            f"{a.bed:>3}  {a.ref:<10} {a.tier:<8} {a.total:>6.2f}  {sar:>6}  {flow_text:>7}  "
-            f"{dpc:<22}"
-        )
+        rows.append([str(a.bed), a.ref, a.tier, f"{a.total:.2f}", sar, flow_text, dpc])
+    lines += table_lines(columns, rows)
     lines.append(
         "RR: combined relative risk (product of the factor weights; not a validated score). "
         f"flow %: best-case distal flow, % of resting flow. {REFERENCE_MARK}: rests on a "
@@ -206,14 +216,28 @@ def rota_table(rota: Rota) -> str:
         )
     if rota.unstaffed:
         lines.append("")
+    columns = [
+        Column("time"),
+        Column("bed", "right"),
+        Column("ref"),
+        Column("phase"),
+        Column("items", fold=TABLE_FOLD),
+        Column("window"),
+    ]
     for nurse, checks in rota.worklists().items():
         lines.append(f"== {nurse}: {len(checks)} checks")
-        for c in checks:
-            flag = "" if c.within_window else "  LATE: outside its window"
-            lines.append(
-                f"  {_when(c):<36} bed {c.bed:<3} {c.ref:<10} {c.phase:<16} "
-                f"{', '.join(c.items)}{flag}"
-            )
+        rows = [
+            [
+                _when(c),
+                str(c.bed),
+                c.ref,
+                c.phase,
+                ", ".join(c.items),
+                "" if c.within_window else "LATE: outside its window",
+            ]
+            for c in checks
+        ]
+        lines += table_lines(columns, rows, indent="  ")
         lines.append("")
     if rota.unmet:
         lines.append(f"== Cannot be met within their windows: {len(rota.unmet)}")

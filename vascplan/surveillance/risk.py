@@ -59,9 +59,9 @@ def _reference_table() -> dict[tuple[str, str], ReferenceDiameter]:
 
     The access vessels of the unit file (:data:`~vascplan.surveillance.unit.ACCESS_VESSELS`)
     map to the segment rows of each side (``CFA`` on the right is ``R-CFA``) of
-    ``data/anatomy/segments.csv`` through :func:`vascplan.anatomy.reference.load_reference`.
+    ``data/anatomy/segments.csv`` through :func:`vascplan.refdata.anatomy.load_reference`.
     """
-    from vascplan.anatomy.reference import load_reference
+    from vascplan.refdata.anatomy import load_reference
     from vascplan.surveillance.unit import ACCESS_VESSELS
 
     table: dict[tuple[str, str], ReferenceDiameter] = {}
@@ -205,8 +205,8 @@ class RiskAssessment:
 def _limb_figures(patient: Patient, od_mm: float, vessel_mm: float) -> tuple[LimbFigures, str]:
     """Distal flow past the device at the patient's (or the default) perfusion pressure,
     and the assumption line for the reference values it rests on."""
-    from vascplan.sizing._tables import SizingValueError
     from vascplan.sizing.limb import limb_defaults, limb_flow_with_device, perfusion_pressure
+    from vascplan.sizing.tables import SizingValueError
 
     defaults = limb_defaults()
     occ = defaults["occupied_cm"]

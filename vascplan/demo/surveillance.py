@@ -10,7 +10,7 @@ from vascplan.fileio import atomic_write_bytes, atomic_write_text, output_inside
 from vascplan.paths import examples_dir
 
 if TYPE_CHECKING:
-    from vascplan.demo import DemoContext
+    from vascplan.demo.context import DemoContext
 
 DEMO_UNIT = "unit-demo.yaml"
 DEMO_AT = "2026-12-02T13:00"
@@ -72,7 +72,7 @@ def demo_surveillance(out_dir: Path) -> list[Path]:
 
 
 def step_surveillance(ctx: DemoContext) -> None:
-    """A ``vascplan demo`` step (for ``vascplan.demo.register_step``): risk and rota."""
+    """A ``vascplan demo`` step (for :data:`vascplan.demo.DEMO_STEPS`): risk and rota."""
     for name, content in demo_outputs(ctx.examples):
         if isinstance(content, bytes):
             ctx.write_bytes(name, content)

@@ -13,7 +13,7 @@ import tempfile
 from datetime import UTC, datetime
 from pathlib import Path
 
-from vascplan.demo import DemoContext
+from vascplan.demo.context import DemoContext
 
 DEMO_UNIT = "unit-demo.yaml"
 DEMO_CHECKS = "obs-demo-checks.csv"

@@ -5,9 +5,10 @@ its time zone and the document's title line; the paper is ISO 216 A4 (210 x 297 
 ANSI Letter (8.5 x 11 in). Documents are built into memory and only then written,
 atomically (:func:`write_pdf`), so a failure leaves no half-written PDF.
 
-Fonts: DejaVu Sans where the system has it (wide Unicode coverage), else the Bitstream
-Vera fonts that ship inside reportlab; both are embedded, so the PDF's text can be read
-back (and tested) exactly.
+Fonts: DejaVu Sans, bundled in ``vascplan/data/fonts`` (Latin, Greek and Cyrillic), else an
+installed DejaVu Sans, else the Bitstream Vera fonts inside reportlab (Latin only, with a
+warning that says so). All are embedded TrueType, so the PDF's text can be read back (and
+tested) exactly on any machine.
 """
 
 from __future__ import annotations
@@ -31,7 +32,7 @@ from reportlab.platypus import BaseDocTemplate, Flowable, Frame, PageTemplate
 
 from vascplan.errors import InputError
 from vascplan.fileio import atomic_write_bytes
-from vascplan.reports.text import clean
+from vascplan.pdf.text import clean
 from vascplan.safety import CAUTION
 
 PAPERS: dict[str, tuple[float, float]] = {"a4": A4, "letter": LETTER}
@@ -50,7 +51,7 @@ FOOTER_PT = 30.0
 HEADER_PT = 16.0
 """Height [pt] kept at the head of every page for the title line."""
 
-_FONT_CANDIDATES = (
+_SYSTEM_DEJAVU = (
     (
         "/usr/share/fonts/truetype/dejavu/DejaVuSans.ttf",
         "/usr/share/fonts/truetype/dejavu/DejaVuSans-Bold.ttf",
@@ -59,34 +60,94 @@ _FONT_CANDIDATES = (
     ("/Library/Fonts/DejaVuSans.ttf", "/Library/Fonts/DejaVuSans-Bold.ttf"),
 )
 
+WIDE_SCRIPTS = ("Latin", "Greek", "Cyrillic")
+"""The scripts DejaVu Sans covers that a unit, ward or patient name is likely to use."""
+
+FALLBACK_NOTICE = (
+    "vascplan: no DejaVu Sans font found (neither the one bundled in vascplan/data/fonts nor "
+    "an installed one): PDFs use reportlab's Vera, which has Latin letters only, so Greek "
+    "and Cyrillic text prints as empty boxes; reinstall vascplan or install DejaVu Sans "
+    "(Debian: fonts-dejavu-core)"
+)
+
+
+class FontFallbackWarning(UserWarning):
+    """The PDFs fall back to a Latin-only font (:data:`FALLBACK_NOTICE`)."""
+
 
 @dataclass(frozen=True)
 class Fonts:
+    """The registered report fonts.
+
+    Attributes
+    ----------
+    regular, bold : str
+        reportlab font names (embedded TrueType).
+    family : str
+        What they are, for people: ``DejaVu Sans (bundled)``, ``DejaVu Sans (installed)``
+        or ``Vera (reportlab, Latin only)``.
+    scripts : tuple of str
+        The scripts they cover.
+    """
+
     regular: str
     bold: str
+    family: str = ""
+    scripts: tuple[str, ...] = ("Latin",)
+
+
+def _font_candidates() -> list[tuple[str, str, str, tuple[str, ...]]]:
+    """(regular file, bold file, family, scripts) in order of preference."""
+    import reportlab
+
+    from vascplan.paths import fonts_dir
+
+    bundled = fonts_dir()
+    out: list[tuple[str, str, str, tuple[str, ...]]] = [
+        (
+            str(bundled / "DejaVuSans.ttf"),
+            str(bundled / "DejaVuSans-Bold.ttf"),
+            "DejaVu Sans (bundled)",
+            WIDE_SCRIPTS,
+        )
+    ]
+    out += [(r, b, "DejaVu Sans (installed)", WIDE_SCRIPTS) for r, b in _SYSTEM_DEJAVU]
+    rl_fonts = Path(reportlab.__file__).parent / "fonts"
+    out.append(
+        (
+            str(rl_fonts / "Vera.ttf"),
+            str(rl_fonts / "VeraBd.ttf"),
+            "Vera (reportlab, Latin only)",
+            ("Latin",),
+        )
+    )
+    return out
 
 
 @functools.cache
 def fonts() -> Fonts:
-    """Register and return the report fonts (DejaVu Sans if installed, else Vera)."""
-    import reportlab
+    """Register and return the report fonts, embedded in every PDF.
 
-    pairs = list(_FONT_CANDIDATES)
-    rl_fonts = Path(reportlab.__file__).parent / "fonts"
-    pairs.append((str(rl_fonts / "Vera.ttf"), str(rl_fonts / "VeraBd.ttf")))
-    for regular, bold in pairs:
+    DejaVu Sans bundled with vascplan (Latin, Greek, Cyrillic), else an installed DejaVu
+    Sans, else reportlab's Vera (Latin only) with a :class:`FontFallbackWarning` that says
+    so on standard error.
+    """
+    import warnings
+
+    for regular, bold, family, scripts in _font_candidates():
         if os.path.isfile(regular) and os.path.isfile(bold):
-            pdfmetrics.registerFont(TTFont("VP-Regular", regular))
-            pdfmetrics.registerFont(TTFont("VP-Bold", bold))
+            wide = scripts == WIDE_SCRIPTS
+            name, name_bold = ("VP-Regular", "VP-Bold") if wide else ("VP-Latin", "VP-Latin-Bold")
+            pdfmetrics.registerFont(TTFont(name, regular))
+            pdfmetrics.registerFont(TTFont(name_bold, bold))
             pdfmetrics.registerFontFamily(
-                "VP-Regular",
-                normal="VP-Regular",
-                bold="VP-Bold",
-                italic="VP-Regular",
-                boldItalic="VP-Bold",
+                name, normal=name, bold=name_bold, italic=name, boldItalic=name_bold
             )
-            return Fonts("VP-Regular", "VP-Bold")
-    return Fonts("Helvetica", "Helvetica-Bold")  # pragma: no cover - reportlab always ships Vera
+            if not wide:
+                warnings.warn(FALLBACK_NOTICE, FontFallbackWarning, stacklevel=2)
+            return Fonts(name, name_bold, family, scripts)
+    warnings.warn(FALLBACK_NOTICE, FontFallbackWarning, stacklevel=2)  # pragma: no cover
+    return Fonts("Helvetica", "Helvetica-Bold", "Helvetica (not embedded)")  # pragma: no cover
 
 
 @functools.cache
@@ -165,6 +226,9 @@ def _numbered_canvas(setup: PageSetup) -> type:
 
     class NumberedCanvas(rl_canvas.Canvas):
         def __init__(self, *args: Any, **kwargs: Any) -> None:
+            # Start on the embedded font: else every page names Helvetica, a font the
+            # reader substitutes (and which has no Greek or Cyrillic).
+            kwargs["initialFontName"] = kwargs.get("initialFontName") or f.regular
             super().__init__(*args, **kwargs)
             self._saved: list[dict[str, Any]] = []
 

@@ -44,7 +44,7 @@ def demo_pdfs(
     list of Path
         The PDFs written: case reports in case-file order, then one checklist per shift.
     """
-    from vascplan.reports.page import write_pdf
+    from vascplan.pdf.page import write_pdf
     from vascplan.reports.service import (
         case_report_pdf,
         checklist_pdf,

@@ -3,7 +3,7 @@
 :func:`demo_plans` plans every ``examples/case-*.yaml`` and writes each plan as JSON
 (``<ref>-plan.json``) and as the people's table (``<ref>-plan.txt``), atomically.
 :func:`step_plan` is the same as a step of :mod:`vascplan.demo`
-(``register_step("access route plans", step_plan)``).
+(listed in :data:`vascplan.demo.DEMO_STEPS`).
 """
 
 from __future__ import annotations
@@ -17,8 +17,9 @@ from vascplan.fileio import atomic_write_text, output_inside
 from vascplan.paths import examples_dir
 
 
-def demo_plans(out_dir: Path, examples: Path | None = None,
-               echo: Callable[[str], None] | None = None) -> list[Path]:
+def demo_plans(
+    out_dir: Path, examples: Path | None = None, echo: Callable[[str], None] | None = None
+) -> list[Path]:
     """Plan every example case and write the plans.
 
     Parameters
