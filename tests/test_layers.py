@@ -18,13 +18,13 @@ LAYERS: list[set[str]] = [
     # 0: foundation, imports nothing of the house
     {"vascplan", "errors", "safety", "localtime", "nearlimit"},
     # 1: text made safe for files and terminals
-    {"textsafety"},
+    {"textsafety", "storeurl"},
     # 2: files and paths, plain-text tables
     {"paths", "fileio", "texttable"},
     # 3: reference data read from the bundled tables; the page stack every PDF goes through
-    {"refdata", "pdf"},
-    # 4: the case model
-    {"case"},
+    {"refdata", "pdf", "plausibility"},
+    # 4: the case model; the check-item vocabulary
+    {"case", "vocabulary"},
     # 5: the patient's arterial tree
     {"anatomy"},
     # 6: sizing and flow
@@ -33,8 +33,8 @@ LAYERS: list[set[str]] = [
     {"routes", "surveillance"},
     # 8: the observation record
     {"observations"},
-    # 9: printed outputs
-    {"reports"},
+    # 9: printed outputs; the ward's own record (accounts, events, audit)
+    {"reports", "ward"},
     # 10: the application layer
     {"app"},
     # 11: the demo, an application that runs every capability

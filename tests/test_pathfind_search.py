@@ -19,8 +19,8 @@ from tests.registry_cases import graft_case
 from vascplan.anatomy.graph import build_tree
 from vascplan.case.load import load_case, validate_case
 from vascplan.paths import examples_dir
+from vascplan.refdata.sites import load_sites
 from vascplan.routes.pathfind import PointGraph
-from vascplan.routes.sites import load_sites
 from vascplan.routes.vessels import VesselView
 
 SRC, DST = ("__puncture__", 0.0), ("__target__", 0.0)

@@ -9,8 +9,8 @@ from __future__ import annotations
 import pytest
 
 from tests.routes_cases import codes, make_case, routes_from
+from vascplan.refdata.sites import load_sites
 from vascplan.routes.plan import plan_case
-from vascplan.routes.sites import load_sites
 
 
 def test_crossover_path_and_length():

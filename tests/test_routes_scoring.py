@@ -11,9 +11,9 @@ import pytest
 
 from tests.routes_cases import make_case, routes_from
 from vascplan.errors import InputError
+from vascplan.refdata.sites import load_sites
 from vascplan.routes.plan import plan_case
 from vascplan.routes.settings import WEIGHTS_FILE, load_table, parse_assignments
-from vascplan.routes.sites import load_sites
 
 
 def _points(route, name):

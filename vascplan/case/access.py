@@ -83,7 +83,7 @@ def check_access_sites(case: Any, source: str) -> None:
     """
     from vascplan.errors import InputError
     from vascplan.fileio import did_you_mean
-    from vascplan.routes.sites import load_sites, site_ids_for
+    from vascplan.refdata.sites import load_sites, site_ids_for
 
     fields: list[tuple[str, Any]] = []
     if case.procedure is not None:

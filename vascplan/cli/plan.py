@@ -67,9 +67,9 @@ def plan(cases: tuple[str, ...], files_from: TextIO | None, jobs: int | None, fm
     reference anatomy, not a measurement.
     """
     from vascplan.case.load import load_case
+    from vascplan.refdata.sites import load_sites, site_ids_for
     from vascplan.routes.plan import plan_case
     from vascplan.routes.settings import parse_assignments
-    from vascplan.routes.sites import load_sites, site_ids_for
     from vascplan.routes.table import render_explain, render_plan
 
     w = parse_assignments(weights, "--weight")

@@ -3,7 +3,7 @@
 Modules, one concern each:
 
 - :mod:`~vascplan.routes.settings`: the limits and weights tables, with overrides.
-- :mod:`~vascplan.routes.sites`: the access-site catalogue (``data/access/sites.csv``).
+- :mod:`~vascplan.refdata.sites`: the access-site catalogue (``data/access/sites.csv``).
 - :mod:`~vascplan.routes.pathfind`: catheter paths through the arterial tree.
 - :mod:`~vascplan.routes.limits`: the hard limits (reason codes).
 - :mod:`~vascplan.routes.scoring`: the soft factors and the score.

@@ -13,7 +13,7 @@ from collections.abc import Mapping
 from dataclasses import replace
 from typing import Any
 
-from vascplan.routes.sites import AccessSite
+from vascplan.refdata.sites import AccessSite
 
 FEMORAL_KINDS = ("CFA", "SFA")
 """Segment kinds of the groin and thigh punctures whose depth and risk obesity changes."""

@@ -15,9 +15,9 @@ from typing import Any
 from vascplan.errors import InputError
 from vascplan.fileio import read_document
 from vascplan.paths import data_dir
+from vascplan.refdata.sites import AccessSite
 from vascplan.routes.facts import Devices
 from vascplan.routes.order import segment_kind
-from vascplan.routes.sites import AccessSite
 
 EQUIPMENT_FILE = "equipment.yaml"
 

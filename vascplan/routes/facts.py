@@ -5,9 +5,9 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Any
 
+from vascplan.refdata.sites import AccessSite
 from vascplan.routes.pathfind import CatheterPath, Leg
 from vascplan.routes.sarlimits import LimitUsed, SegmentFit
-from vascplan.routes.sites import AccessSite
 from vascplan.routes.vessels import VesselView
 
 

@@ -12,6 +12,7 @@ from dataclasses import replace
 from typing import Any
 
 from vascplan.errors import InputError
+from vascplan.refdata.sites import AccessSite, load_sites
 from vascplan.routes.body import body_mass_index, femoral_first_lifted, is_femoral, site_for_body
 from vascplan.routes.dual import rank_pairs
 from vascplan.routes.equipment import route_devices
@@ -24,7 +25,6 @@ from vascplan.routes.pathfind import K_PATHS, CatheterPath, PointGraph
 from vascplan.routes.result import PlanResult, Route
 from vascplan.routes.scoring import ScoreContext, soft_factors
 from vascplan.routes.settings import LIMITS_FILE, WEIGHTS_FILE, load_table, resolve, values
-from vascplan.routes.sites import AccessSite, load_sites
 from vascplan.routes.vessels import ARCH_NODE, BIFURCATION_NODE, GRAFT_PREFIX, VesselView
 
 

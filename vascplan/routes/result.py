@@ -277,7 +277,7 @@ class PlanResult:
 
     def route(self, site: str) -> list[Route]:
         """The routes from one site id (or from every site of a segment id)."""
-        from vascplan.routes.sites import site_ids_for
+        from vascplan.refdata.sites import site_ids_for
 
         ids = set(site_ids_for(site)) or {site}
         return [r for r in self.routes if r.site in ids]

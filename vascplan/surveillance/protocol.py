@@ -294,7 +294,7 @@ class Protocol(_Strict):
                         f"unknown device kind {d!r}{did_you_mean(d, DEVICE_KINDS)}; "
                         f"use all or one of {', '.join(DEVICE_KINDS)}",
                     )
-        from vascplan.observations.findings import ITEMS as OBS_ITEMS
+        from vascplan.vocabulary import ITEMS as OBS_ITEMS
 
         for i, it in enumerate(self.items):
             if it.records is not None and it.records not in OBS_ITEMS:
