@@ -9,7 +9,7 @@ import pytest
 import sqlalchemy as sa
 from click.testing import CliRunner
 
-from tests.obs_fixtures import db_url  # noqa: F401 - fixture
+from tests.obs_fixtures import db_url, db_urls  # noqa: F401 - fixtures
 from tests.ward_fixtures import UNIT, UNIT_NAME, local, seed
 from vascplan.cli import cli
 from vascplan.paths import examples_dir
@@ -18,23 +18,31 @@ from vascplan.surveillance.unit import load_unit
 WARD_TABLES = ("ward_user", "ward_event", "ward_audit", "ward_form", "ward_setting")
 
 
-def test_ward_tables_refuse_update_and_delete(db_url):  # noqa: F811
+def test_ward_tables_refuse_update_and_delete(db_urls):  # noqa: F811
+    # The triggers refuse UPDATE and DELETE even for the tables' owner; on PostgreSQL the
+    # tool's own role may not even try (INSERT and SELECT only).
     from vascplan.ward.store import open_ward
 
-    with open_ward(db_url) as store:
+    tool_url, owner_url = db_urls
+    with open_ward(owner_url) as store:
         seed_at = local("2026-12-01T10:10")
         store.user_event("rn-x", "add", by="t", at=seed_at, role="nurse", pw_hash="h")
         store.add_event(UNIT_NAME, "", "unit", seed_at, {"timezone": "UTC"}, by="t", now=seed_at)
         store.audit("t", "-", "sign-in", "x", seed_at)
         store.claim_form("tok", "check", "x", seed_at)
         store.secret()
-        for table in WARD_TABLES:
-            for sql in (f"UPDATE {table} SET at_utc = 'x'", f"DELETE FROM {table}"):
-                refused = pytest.raises(sa.exc.DatabaseError, match="append-only")
-                with refused, store.engine.begin() as conn:
-                    conn.exec_driver_sql(sql)
-            with store.engine.connect() as conn:
-                assert conn.exec_driver_sql(f"SELECT count(*) FROM {table}").scalar() == 1, table
+    urls = [(owner_url, "append-only")]
+    if tool_url != owner_url:
+        urls.append((tool_url, "permission denied"))
+    for url, refusal in urls:
+        with open_ward(url) as store:
+            for table in WARD_TABLES:
+                for sql in (f"UPDATE {table} SET at_utc = 'x'", f"DELETE FROM {table}"):
+                    refused = pytest.raises(sa.exc.DatabaseError, match=refusal)
+                    with refused, store.engine.begin() as conn:
+                        conn.exec_driver_sql(sql)
+                with store.engine.connect() as conn:
+                    assert conn.exec_driver_sql(f"SELECT count(*) FROM {table}").scalar() == 1
 
 
 def test_accounts_are_events_and_the_state_is_derived(tmp_path):
