@@ -7,8 +7,8 @@ where pressures allow it. Plain JSON (dicts): no FHIR library at run time; the t
 validate the output with ``fhir.resources``.
 
 Codes: a standard code only where it was confirmed in a published source
-(:data:`STANDARD_CODES`, see REFERENCES.md); everything else uses the local code systems
-below, and the README says which is which. Units are UCUM.
+(:data:`STANDARD_CODES`: LOINC and SNOMED CT, as cited beside each); everything else uses
+the local code systems below, and the README says which is which. Units are UCUM.
 """
 
 from __future__ import annotations
@@ -40,7 +40,8 @@ STAFF_ID = "urn:vascplan:staff-id"
 ENTRY_ID = "urn:vascplan:obs-entry"
 
 STANDARD_CODES: dict[str, tuple[str, str, str]] = {
-    # item -> (system, code, display as published; confirmed in REFERENCES.md (seen) and in
+    # item -> (system, code, display as published in the LOINC and SNOMED CT browsers (seen)
+    # and in
     # FHIR implementation guides that use the code with this display)
     "refill": (LOINC, "44963-7", "Capillary refill [Time] of Nail bed"),
     # The nail bed is a finger's or a toe's: the same code fits the fingers below an arm device.
@@ -54,7 +55,7 @@ artery is in ``bodySite``. The device and circuit items (``circuit-flow``, ``pos
 ``dpc``) and the hand items other than finger refill have no standard code we could confirm:
 they use the local system :data:`LOCAL_ITEM` with the item's meaning as display and text."""
 ABI_CODE = (SNOMED, "446841001", "Ankle brachial pressure index (observable entity)")
-"""SNOMED CT 446841001 (REFERENCES.md, seen in a draft implementation guide; the same
+"""SNOMED CT 446841001 (seen in a draft FHIR implementation guide; the same
 fully specified name is used by HL7 Lithuania's CVD guide)."""
 
 

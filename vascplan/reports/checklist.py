@@ -55,7 +55,8 @@ NOT_VALIDATED = (
     "The tier combines published risk factors; no validated score of limb-ischaemia risk on "
     "mechanical support exists."
 )
-"""Said beside every tier (REFERENCES.md: no validated risk score exists)."""
+"""Said beside every tier: no validated score of limb-ischaemia risk on large-bore support
+exists (the risk rules' statement)."""
 
 
 @dataclass(frozen=True)

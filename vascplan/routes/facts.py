@@ -178,8 +178,8 @@ def resolve_devices(case: Any) -> Devices:
     """Outer diameters of the case's sheath and device (``vascplan.sizing.french``).
 
     Sheaths are labelled by inner size unless the case says ``label: outer`` (a
-    cannula), devices by outer size (ISO 11070:2014 7.2 via a summary, seen;
-    REFERENCES.md); a given ``outer_mm`` wins.
+    cannula), devices by outer size (ISO 11070:2014 7.2 via a summary, seen); a given
+    ``outer_mm`` wins.
     """
     from vascplan.sizing.french import device_outer_mm
 

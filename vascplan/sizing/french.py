@@ -18,7 +18,7 @@ from typing import Literal
 from vascplan.sizing.tables import read_csv
 
 MM_PER_FR = 1.0 / 3.0
-"""Outer diameter per French [mm] (French scale, exact; REFERENCES.md)."""
+"""Outer diameter per French [mm]: 1 Fr = 1/3 mm (the Charrière scale, exact; common practice)."""
 
 SHEATH_TABLE = "sheath_walls.csv"
 
