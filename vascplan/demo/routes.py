@@ -42,7 +42,7 @@ def demo_plans(
     written: list[Path] = []
     folder = examples if examples is not None else examples_dir()
     for case_path in sorted(folder.glob("case-*.yaml")):
-        data = plan_file(case_path).to_dict()
+        data = plan_file(case_path, all_routes=False).to_dict()  # as `vascplan plan` shows it
         ref = data["case"]
         for name, text in (
             (f"{ref}-plan.json", json.dumps(data, indent=2, ensure_ascii=False) + "\n"),
