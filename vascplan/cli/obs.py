@@ -15,6 +15,7 @@ import click
 from vascplan.errors import InputError
 from vascplan.plausibility import STORE_ID_MAX, AsciiInt
 from vascplan.safety import CAUTION
+from vascplan.vocabulary import ITEMS
 
 DB_HELP = (
     "Observation store: a file path or a postgresql:// URL "
@@ -142,46 +143,33 @@ def _check_author(unit, by: str, source: str = "--by", field: str = "") -> str:
     return name
 
 
-_ITEM_OPTIONS = [
-    (
-        "pulse",
-        "SITE=GRADE",
-        "pulse at a foot or wrist artery, e.g. R-DPA=doppler or L-RAD=palpable "
-        "(palpable | doppler | absent)",
-    ),
-    ("venous", "SITE=SIGNAL", "venous Doppler, e.g. R=present (present | absent)"),
-    ("nirs", "SIDE=PCT", "calf tissue oxygen saturation, e.g. L=64"),
-    ("refill", "SIDE=S", "capillary refill seconds, e.g. R=3"),
-    ("colour", "SIDE=WORD", "skin colour, e.g. R=pale (normal | pale | mottled | blue)"),
-    ("temperature", "SIDE=WORD", "skin temperature, e.g. R=cool (warm | cool | cold)"),
-    ("sensation", "SIDE=WORD", "sensation, e.g. R=toes (normal | toes | beyond-toes | absent)"),
-    ("motor", "SIDE=WORD", "movement, e.g. R=weak (normal | weak | paralysed)"),
-    ("calf", "SIDE=WORD", "calf tension, e.g. R=soft (soft | tense)"),
-    ("pain", "[SIDE=]N", "pain score 0-10, e.g. 3 or R=3"),
-    (
-        "access",
-        "[SITE=]WORD",
-        "access site, e.g. R-CFA=dry or R=dry (dry | ooze | bleeding | haematoma)",
-    ),
-    (
-        "dpc",
-        "[SITE=]WORD",
-        "distal perfusion cannula, e.g. ok or R-SFA=ok (ok | kinked | no-flow | disconnected)",
-    ),
-    ("circuit-flow", "WORD", "ECMO circuit flow against the prescription (ok | low | none)"),
-    ("position", "[SITE=]WORD", "cannula, pump or balloon mark at the skin (unchanged | moved)"),
-    ("hand-colour", "SIDE=WORD", "colour of that hand (normal | pale | mottled | blue)"),
-    ("hand-temperature", "SIDE=WORD", "temperature of that hand (warm | cool | cold)"),
-    ("finger-refill", "SIDE=S", "capillary refill of the fingers, seconds, e.g. L=2"),
-    (
-        "hand-sensation",
-        "SIDE=WORD",
-        "sensation of that hand (normal | fingers | beyond-fingers | absent)",
-    ),
-    ("hand-motor", "SIDE=WORD", "movement of that hand (normal | weak | paralysed)"),
-    ("forearm", "SIDE=WORD", "forearm tension (soft | tense)"),
-    ("pressure", "SITE=MMHG", "systolic pressure, e.g. R-PTA=110 or R-ARM=124"),
-]
+# How each item's site is typed on the command line (the metavar's site part and an
+# example site). The items, their meanings and allowed values come from the one vocabulary.
+_SITE_SYNTAX: dict[str, tuple[str, tuple[str, ...]]] = {
+    "artery": ("SITE=", ("R-DPA", "L-RAD")),
+    "artery-or-side": ("SITE=", ("R", "R-CFA")),
+    "side": ("SIDE=", ("R",)),
+    "optional-side": ("[SIDE=]", ("", "R")),
+    "optional-artery-or-side": ("[SITE=]", ("", "R", "R-CFA")),
+    "artery-or-arm": ("SITE=", ("R-PTA", "R-ARM")),
+    "none": ("", ("",)),
+}
+
+
+def _item_help(name: str) -> tuple[str, str, str]:
+    """(option name, metavar, help) of one check item, from :data:`vascplan.vocabulary.ITEMS`."""
+    spec = ITEMS[name]
+    site_part, sites = _SITE_SYNTAX[spec.sites]
+    if spec.values:
+        kind, value, allowed = "WORD", spec.values[0], " | ".join(spec.values)
+    else:
+        lo, hi = spec.number_range or (0, 0)
+        kind, value, allowed = "N", f"{(lo + hi) / 2:g}", f"{lo:g}-{hi:g}"
+    examples = " or ".join(f"{site}={value}" if site else value for site in sites)
+    return name, f"{site_part}{kind}", f"{spec.meaning}, e.g. {examples} ({allowed})"
+
+
+_ITEM_OPTIONS = [_item_help(name) for name in ITEMS]
 
 
 def _item_options(f):
