@@ -26,18 +26,19 @@ def test_without_a_browser_it_says_so_and_succeeds(tmp_path):
     r = _run(str(tmp_path))  # a PATH with no chromium, no apt-get: nothing to install with
     assert r.returncode == 0
     assert r.stderr.strip() == (
-        "browser-setup: no chromium or chromedriver; the browser tests will be skipped"
+        "browser-setup: chromium, chromedriver or pdftoppm missing; the tests that need them "
+        "will be skipped"
     )
 
 
 def test_with_a_browser_it_finds_it(tmp_path):
-    for name in ("chromium", "chromedriver"):
+    for name in ("chromium", "chromedriver", "pdftoppm"):
         fake = tmp_path / name
         fake.write_text("#!/bin/sh\n")
         fake.chmod(0o755)
     r = _run(str(tmp_path))
     assert r.returncode == 0
-    assert r.stderr.strip() == "browser-setup: chromium and chromedriver found"
+    assert r.stderr.strip() == "browser-setup: chromium, chromedriver and pdftoppm found"
 
 
 def test_ci_run_calls_it():
